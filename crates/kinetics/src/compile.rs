@@ -1,0 +1,209 @@
+//! Mechanism -> flat arrays.
+
+use crate::{CompiledArrhenius, JacobianPattern, Kinetics, OrderTerm, ThirdBodyKind};
+use stoik_mechanism::{Arrhenius, Mechanism, StoichTerm, ThirdBody, GAS_CONSTANT};
+
+fn compile_arrhenius(p: &Arrhenius) -> CompiledArrhenius {
+    CompiledArrhenius {
+        pre_exponential_si: p.pre_exponential_si,
+        temperature_exponent: p.temperature_exponent,
+        activation_temperature_k: p.activation_energy_j_per_mol / GAS_CONSTANT,
+    }
+}
+
+fn order_term(species: usize, order: f64) -> OrderTerm {
+    let integer_order = (order.fract() == 0.0 && order.abs() <= 64.0).then_some(order as i32);
+    OrderTerm {
+        species,
+        order,
+        integer_order,
+    }
+}
+
+/// Sums repeated species (`B + B` is order 2 in B) and drops zero orders.
+fn merge(pairs: impl IntoIterator<Item = (usize, f64)>) -> Vec<(usize, f64)> {
+    let mut merged: Vec<(usize, f64)> = Vec::new();
+    for (s, x) in pairs {
+        match merged.iter_mut().find(|(t, _)| *t == s) {
+            Some(entry) => entry.1 += x,
+            None => merged.push((s, x)),
+        }
+    }
+    merged.retain(|&(_, x)| x != 0.0);
+    merged
+}
+
+fn side(terms: &[StoichTerm]) -> impl Iterator<Item = (usize, f64)> + '_ {
+    terms.iter().map(|t| (t.species, t.coefficient))
+}
+
+pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
+    let n_species = mechanism.species.len();
+    let n_steps = mechanism.steps.len();
+    let mut k = Kinetics {
+        n_species,
+        n_steps,
+        forward: Vec::with_capacity(n_steps),
+        reverse: Vec::with_capacity(n_steps),
+        forward_start: vec![0],
+        forward_terms: Vec::new(),
+        reverse_start: vec![0],
+        reverse_terms: Vec::new(),
+        net_start: vec![0],
+        net_terms: Vec::new(),
+        third_body: Vec::with_capacity(n_steps),
+        third_body_corrections: Vec::new(),
+        any_mixture_third_body: false,
+        column_start: vec![0],
+        columns: Vec::new(),
+        entry_start: vec![0],
+        entry_positions: Vec::new(),
+        pattern: JacobianPattern::from_entries(n_species, Vec::new()),
+    };
+    let mut pattern_entries: Vec<(usize, usize)> = Vec::new();
+    let mut slot_of_species = vec![usize::MAX; n_species];
+
+    for step in &mechanism.steps {
+        k.forward.push(compile_arrhenius(&step.forward));
+        k.reverse.push(step.reverse.as_ref().map(compile_arrhenius));
+
+        let forward_orders = match &step.forward_orders {
+            // Explicit orders replace the coefficient of listed species only.
+            Some(explicit) => {
+                let mut orders = merge(side(&step.reactants));
+                for &(s, order) in explicit {
+                    match orders.iter_mut().find(|(t, _)| *t == s) {
+                        Some(entry) => entry.1 = order,
+                        None => orders.push((s, order)),
+                    }
+                }
+                orders.retain(|&(_, o)| o != 0.0);
+                orders
+            }
+            None => merge(side(&step.reactants)),
+        };
+        k.forward_terms
+            .extend(forward_orders.iter().map(|&(s, o)| order_term(s, o)));
+        k.forward_start.push(k.forward_terms.len());
+        let reverse_orders = if step.reverse.is_some() {
+            merge(side(&step.products))
+        } else {
+            Vec::new()
+        };
+        k.reverse_terms
+            .extend(reverse_orders.iter().map(|&(s, o)| order_term(s, o)));
+        k.reverse_start.push(k.reverse_terms.len());
+
+        let net = merge(
+            side(&step.products).chain(step.reactants.iter().map(|t| (t.species, -t.coefficient))),
+        );
+        k.net_terms.extend(net.iter().copied());
+        k.net_start.push(k.net_terms.len());
+
+        // Jacobian columns: kinetic dependencies, then third-body efficiencies.
+        let mut columns = ColumnSet::new(&mut slot_of_species);
+        for &(s, _) in forward_orders.iter().chain(&reverse_orders) {
+            columns.add(s, 0.0);
+        }
+        let kind = match &step.third_body {
+            None => ThirdBodyKind::None,
+            Some(ThirdBody::Species(s)) => {
+                columns.add(*s, 1.0);
+                ThirdBodyKind::Species(*s)
+            }
+            Some(ThirdBody::Mixture {
+                default_efficiency,
+                efficiencies,
+            }) => {
+                k.any_mixture_third_body = true;
+                let start = k.third_body_corrections.len();
+                for (s, e) in efficiency_by_species(n_species, *default_efficiency, efficiencies) {
+                    if e != *default_efficiency {
+                        k.third_body_corrections.push((s, e - default_efficiency));
+                    }
+                    if e != 0.0 {
+                        columns.add(s, e);
+                    }
+                }
+                let end = k.third_body_corrections.len();
+                ThirdBodyKind::Mixture {
+                    default_efficiency: *default_efficiency,
+                    start,
+                    end,
+                }
+            }
+        };
+        k.third_body.push(kind);
+        let columns = columns.finish();
+        for &(col, _) in &columns {
+            for &(row, _) in &net {
+                pattern_entries.push((row, col));
+            }
+        }
+        k.columns.extend(columns);
+        k.column_start.push(k.columns.len());
+    }
+
+    k.pattern = JacobianPattern::from_entries(n_species, pattern_entries);
+    for j in 0..n_steps {
+        let rows = &k.net_terms[k.net_start[j]..k.net_start[j + 1]];
+        for &(col, _) in &k.columns[k.column_start[j]..k.column_start[j + 1]] {
+            for &(row, _) in rows {
+                // Every (row, col) pushed above is in the pattern by construction.
+                let pos = k.pattern.position(row, col).unwrap_or(usize::MAX);
+                k.entry_positions.push(pos);
+            }
+        }
+        k.entry_start.push(k.entry_positions.len());
+    }
+    k
+}
+
+/// The unique Jacobian columns of one step, in insertion order, with their third-body
+/// efficiency; `slot` maps a species to its place (usize::MAX = absent) and is reset by
+/// `finish`, so building a step costs O(columns), not O(columns^2).
+struct ColumnSet<'a> {
+    slot: &'a mut [usize],
+    columns: Vec<(usize, f64)>,
+}
+
+impl<'a> ColumnSet<'a> {
+    fn new(slot: &'a mut [usize]) -> Self {
+        ColumnSet {
+            slot,
+            columns: Vec::new(),
+        }
+    }
+
+    fn add(&mut self, species: usize, efficiency: f64) {
+        match self.slot[species] {
+            usize::MAX => {
+                self.slot[species] = self.columns.len();
+                self.columns.push((species, efficiency));
+            }
+            at => self.columns[at].1 += efficiency,
+        }
+    }
+
+    fn finish(self) -> Vec<(usize, f64)> {
+        for &(s, _) in &self.columns {
+            self.slot[s] = usize::MAX;
+        }
+        self.columns
+    }
+}
+
+/// Every species' efficiency in a mixture third body (the last listed value wins).
+fn efficiency_by_species(
+    n_species: usize,
+    default_efficiency: f64,
+    efficiencies: &[(usize, f64)],
+) -> Vec<(usize, f64)> {
+    let mut all: Vec<(usize, f64)> = (0..n_species).map(|s| (s, default_efficiency)).collect();
+    for &(s, e) in efficiencies {
+        if let Some(entry) = all.get_mut(s) {
+            entry.1 = e;
+        }
+    }
+    all
+}

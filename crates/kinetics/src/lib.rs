@@ -1,0 +1,344 @@
+//! # stoik-kinetics
+//!
+//! A [`Mechanism`] compiled into flat arrays: rate constants per step, rates of progress,
+//! net production rates and the analytic Jacobian `dw/dc`, dense or on a sparse pattern
+//! fixed at compile time. Nothing here reads text or knows units other than SI, and the
+//! right-hand side and Jacobian routines do not allocate.
+//!
+//! Conventions (mass action, common practice):
+//! - rate of progress `q_j = M_j (kf_j prod_i c_i^a_ij - kr_j prod_i c_i^b_ij)` in mol/(m3 s),
+//!   with `a_ij` the forward orders (the reactant coefficients unless given explicitly),
+//!   `b_ij` the product coefficients, and `M_j` the third-body concentration (1 when the step
+//!   has no third body);
+//! - net production `w_i = sum_j (nu''_ij - nu'_ij) q_j` in mol/(m3 s).
+//!
+//! Non-integer orders are evaluated on `max(c, 0)` (a negative concentration has no real
+//! non-integer power); integer orders use exact integer powers, so the right-hand side stays
+//! smooth through small negative excursions of the integrator.
+
+mod compile;
+mod pattern;
+
+pub use pattern::JacobianPattern;
+use stoik_mechanism::Mechanism;
+
+/// Rate constants of every step at one temperature, in SI units
+/// ((mol/m3)^(1-m)/s for a direction of overall order m).
+#[derive(Debug, Clone, PartialEq)]
+pub struct RateConstants {
+    /// Forward rate constant of each step.
+    pub forward: Vec<f64>,
+    /// Reverse rate constant of each step; 0 for irreversible steps.
+    pub reverse: Vec<f64>,
+}
+
+impl RateConstants {
+    /// Multiplies the forward and reverse rate constants of step `step` by `factor`
+    /// (dimensionless), as a sensitivity or uncertainty study does.
+    pub fn scale_step(&mut self, step: usize, factor: f64) {
+        if let (Some(f), Some(r)) = (self.forward.get_mut(step), self.reverse.get_mut(step)) {
+            *f *= factor;
+            *r *= factor;
+        }
+    }
+}
+
+/// One power-law factor `c_species^order` of a rate expression.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct OrderTerm {
+    pub species: usize,
+    pub order: f64,
+    /// `Some(n)` when `order` is the integer `n` (exact `powi`).
+    pub integer_order: Option<i32>,
+}
+
+impl OrderTerm {
+    #[inline]
+    fn power(&self, c: f64) -> f64 {
+        match self.integer_order {
+            Some(1) => c,
+            Some(2) => c * c,
+            Some(n) => c.powi(n),
+            None => c.max(0.0).powf(self.order),
+        }
+    }
+
+    /// d(c^order)/dc.
+    #[inline]
+    fn derivative(&self, c: f64) -> f64 {
+        match self.integer_order {
+            Some(1) => 1.0,
+            Some(2) => 2.0 * c,
+            Some(n) => n as f64 * c.powi(n - 1),
+            None => {
+                if c > 0.0 {
+                    self.order * c.powf(self.order - 1.0)
+                } else {
+                    0.0
+                }
+            }
+        }
+    }
+}
+
+/// Rate-constant parameters of one direction, flattened.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct CompiledArrhenius {
+    pub pre_exponential_si: f64,
+    pub temperature_exponent: f64,
+    pub activation_temperature_k: f64,
+}
+
+impl CompiledArrhenius {
+    #[inline]
+    fn evaluate(&self, temperature_k: f64) -> f64 {
+        let mut k = self.pre_exponential_si;
+        if self.temperature_exponent != 0.0 {
+            k *= temperature_k.powf(self.temperature_exponent);
+        }
+        if self.activation_temperature_k != 0.0 {
+            k *= (-self.activation_temperature_k / temperature_k).exp();
+        }
+        k
+    }
+}
+
+/// How a step's third-body concentration is formed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum ThirdBodyKind {
+    None,
+    /// `[M] = default * sum(c) + sum corrections`; corrections in
+    /// `third_body_corrections[start..end]`.
+    Mixture {
+        default_efficiency: f64,
+        start: usize,
+        end: usize,
+    },
+    /// `[M] = c_species`.
+    Species(usize),
+}
+
+/// A mechanism compiled for fast evaluation. Build once with [`Kinetics::compile`], then
+/// evaluate as often as needed; every evaluation routine is allocation-free.
+#[derive(Debug, Clone)]
+pub struct Kinetics {
+    pub(crate) n_species: usize,
+    pub(crate) n_steps: usize,
+    pub(crate) forward: Vec<CompiledArrhenius>,
+    /// `None` for irreversible steps.
+    pub(crate) reverse: Vec<Option<CompiledArrhenius>>,
+    /// CSR over steps: forward order terms.
+    pub(crate) forward_start: Vec<usize>,
+    pub(crate) forward_terms: Vec<OrderTerm>,
+    /// CSR over steps: reverse order terms (product coefficients).
+    pub(crate) reverse_start: Vec<usize>,
+    pub(crate) reverse_terms: Vec<OrderTerm>,
+    /// CSR over steps: nonzero net stoichiometric changes (species, nu).
+    pub(crate) net_start: Vec<usize>,
+    pub(crate) net_terms: Vec<(usize, f64)>,
+    pub(crate) third_body: Vec<ThirdBodyKind>,
+    /// (species, efficiency - default) for mixture third bodies.
+    pub(crate) third_body_corrections: Vec<(usize, f64)>,
+    pub(crate) any_mixture_third_body: bool,
+    /// CSR over steps: the species the step's rate depends on (Jacobian columns), unique;
+    /// with their third-body efficiency (0 when only kinetic).
+    pub(crate) column_start: Vec<usize>,
+    pub(crate) columns: Vec<(usize, f64)>,
+    /// For step j, column slot s (global index into `columns`) and net row r (local):
+    /// `entry_positions[entry_start[j] + (s - column_start[j]) * rows_j + r]` is the index
+    /// into the sparse values of J[row, col].
+    pub(crate) entry_start: Vec<usize>,
+    pub(crate) entry_positions: Vec<usize>,
+    pub(crate) pattern: JacobianPattern,
+}
+
+impl Kinetics {
+    /// Compiles `mechanism` (whose indices the loaders have validated).
+    pub fn compile(mechanism: &Mechanism) -> Kinetics {
+        compile::compile(mechanism)
+    }
+
+    /// Number of species (length of concentration vectors).
+    pub fn n_species(&self) -> usize {
+        self.n_species
+    }
+
+    /// Number of steps (length of rate-of-progress vectors).
+    pub fn n_steps(&self) -> usize {
+        self.n_steps
+    }
+
+    /// Rate constants at `temperature_k` (K), freshly allocated.
+    pub fn rate_constants(&self, temperature_k: f64) -> RateConstants {
+        let mut out = RateConstants {
+            forward: vec![0.0; self.n_steps],
+            reverse: vec![0.0; self.n_steps],
+        };
+        self.evaluate_rate_constants(temperature_k, &mut out);
+        out
+    }
+
+    /// Overwrites `out` with the rate constants at `temperature_k` (K); `out` must come from
+    /// [`Kinetics::rate_constants`] of this mechanism (its vectors have `n_steps` entries).
+    pub fn evaluate_rate_constants(&self, temperature_k: f64, out: &mut RateConstants) {
+        for (k, p) in out.forward.iter_mut().zip(&self.forward) {
+            *k = p.evaluate(temperature_k);
+        }
+        for (k, p) in out.reverse.iter_mut().zip(&self.reverse) {
+            *k = p.map_or(0.0, |p| p.evaluate(temperature_k));
+        }
+    }
+
+    #[inline]
+    fn total_concentration(&self, c: &[f64]) -> f64 {
+        if self.any_mixture_third_body {
+            c.iter().sum()
+        } else {
+            0.0
+        }
+    }
+
+    #[inline]
+    fn third_body_concentration(&self, step: usize, c: &[f64], total: f64) -> f64 {
+        match self.third_body[step] {
+            ThirdBodyKind::None => 1.0,
+            ThirdBodyKind::Species(s) => c[s],
+            ThirdBodyKind::Mixture {
+                default_efficiency,
+                start,
+                end,
+            } => {
+                let mut m = default_efficiency * total;
+                for &(s, delta) in &self.third_body_corrections[start..end] {
+                    m += delta * c[s];
+                }
+                m
+            }
+        }
+    }
+
+    /// Forward and reverse rates without the third-body factor, mol/(m3 s) per M.
+    #[inline]
+    fn directional_rates(&self, k: &RateConstants, step: usize, c: &[f64]) -> (f64, f64) {
+        let mut fwd = k.forward[step];
+        for t in &self.forward_terms[self.forward_start[step]..self.forward_start[step + 1]] {
+            fwd *= t.power(c[t.species]);
+        }
+        let mut rev = k.reverse[step];
+        if rev != 0.0 {
+            for t in &self.reverse_terms[self.reverse_start[step]..self.reverse_start[step + 1]] {
+                rev *= t.power(c[t.species]);
+            }
+        }
+        (fwd, rev)
+    }
+
+    /// Writes the rate of progress of every step (mol/(m3 s)) into `q` (length `n_steps`)
+    /// for concentrations `c` (mol/m3, length `n_species`).
+    pub fn rates_of_progress(&self, k: &RateConstants, c: &[f64], q: &mut [f64]) {
+        let total = self.total_concentration(c);
+        for (j, qj) in q.iter_mut().enumerate().take(self.n_steps) {
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            *qj = self.third_body_concentration(j, c, total) * (fwd - rev);
+        }
+    }
+
+    /// Writes the net production rate of every species (mol/(m3 s)) into `w` (length
+    /// `n_species`) for concentrations `c` (mol/m3).
+    pub fn production_rates(&self, k: &RateConstants, c: &[f64], w: &mut [f64]) {
+        w.iter_mut().for_each(|x| *x = 0.0);
+        let total = self.total_concentration(c);
+        for j in 0..self.n_steps {
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            let q = self.third_body_concentration(j, c, total) * (fwd - rev);
+            if q != 0.0 {
+                for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
+                    w[s] += nu * q;
+                }
+            }
+        }
+    }
+
+    /// Calls `sink(position, row, col, value)` for every contribution to `dw/dc`.
+    #[inline]
+    fn for_each_jacobian_term(
+        &self,
+        k: &RateConstants,
+        c: &[f64],
+        mut sink: impl FnMut(usize, usize, usize, f64),
+    ) {
+        let total = self.total_concentration(c);
+        for j in 0..self.n_steps {
+            let rows = &self.net_terms[self.net_start[j]..self.net_start[j + 1]];
+            if rows.is_empty() {
+                continue;
+            }
+            let m = self.third_body_concentration(j, c, total);
+            let has_third_body = !matches!(self.third_body[j], ThirdBodyKind::None);
+            let (fwd_all, rev_all) = if has_third_body {
+                self.directional_rates(k, j, c)
+            } else {
+                (0.0, 0.0)
+            };
+            let fwd_terms = &self.forward_terms[self.forward_start[j]..self.forward_start[j + 1]];
+            let rev_terms = &self.reverse_terms[self.reverse_start[j]..self.reverse_start[j + 1]];
+            let cols = self.column_start[j]..self.column_start[j + 1];
+            let entries = &self.entry_positions[self.entry_start[j]..];
+            for (slot, &(col, efficiency)) in self.columns[cols].iter().enumerate() {
+                // d(kf prod c^a)/dc_col by the product rule (species appear once per side).
+                let mut dq = 0.0;
+                if let Some(pos) = fwd_terms.iter().position(|t| t.species == col) {
+                    let mut d = k.forward[j] * fwd_terms[pos].derivative(c[col]);
+                    for (i, t) in fwd_terms.iter().enumerate() {
+                        if i != pos {
+                            d *= t.power(c[t.species]);
+                        }
+                    }
+                    dq += d;
+                }
+                if k.reverse[j] != 0.0 {
+                    if let Some(pos) = rev_terms.iter().position(|t| t.species == col) {
+                        let mut d = k.reverse[j] * rev_terms[pos].derivative(c[col]);
+                        for (i, t) in rev_terms.iter().enumerate() {
+                            if i != pos {
+                                d *= t.power(c[t.species]);
+                            }
+                        }
+                        dq -= d;
+                    }
+                }
+                dq *= m;
+                dq += efficiency * (fwd_all - rev_all);
+                if dq == 0.0 {
+                    continue;
+                }
+                for (r, &(row, nu)) in rows.iter().enumerate() {
+                    sink(entries[slot * rows.len() + r], row, col, nu * dq);
+                }
+            }
+        }
+    }
+
+    /// Overwrites `jac` (column-major, `n_species * n_species`) with the analytic Jacobian:
+    /// `jac[col * n + row] = d w_row / d c_col` in 1/s (for first-order terms; in general
+    /// (mol/(m3 s)) / (mol/m3)). Third-body terms are included.
+    pub fn jacobian_dense(&self, k: &RateConstants, c: &[f64], jac: &mut [f64]) {
+        let n = self.n_species;
+        jac.iter_mut().for_each(|x| *x = 0.0);
+        self.for_each_jacobian_term(k, c, |_, row, col, v| jac[col * n + row] += v);
+    }
+
+    /// The fixed sparsity pattern of the Jacobian (compressed sparse column, diagonal
+    /// included), computed once at compile time from the stoichiometry and third bodies.
+    pub fn jacobian_pattern(&self) -> &JacobianPattern {
+        &self.pattern
+    }
+
+    /// Overwrites `values` (length `jacobian_pattern().nnz()`) with the Jacobian entries in the
+    /// order of [`Kinetics::jacobian_pattern`]. Same units and terms as
+    /// [`Kinetics::jacobian_dense`].
+    pub fn jacobian_sparse(&self, k: &RateConstants, c: &[f64], values: &mut [f64]) {
+        values.iter_mut().for_each(|x| *x = 0.0);
+        self.for_each_jacobian_term(k, c, |pos, _, _, v| values[pos] += v);
+    }
+}

@@ -65,7 +65,11 @@ impl fmt::Display for Diagnostic {
             Severity::Warning => "warning",
         };
         match self.location {
-            Some(loc) => write!(f, "{}:{}:{}: {kind}: {}", self.file, loc.line, loc.column, self.message)?,
+            Some(loc) => write!(
+                f,
+                "{}:{}:{}: {kind}: {}",
+                self.file, loc.line, loc.column, self.message
+            )?,
             None => write!(f, "{}: {kind}: {}", self.file, self.message)?,
         }
         if let Some(help) = &self.help {
@@ -82,12 +86,18 @@ pub struct Diagnostics(pub Vec<Diagnostic>);
 impl Diagnostics {
     /// Number of errors.
     pub fn error_count(&self) -> usize {
-        self.0.iter().filter(|d| d.severity == Severity::Error).count()
+        self.0
+            .iter()
+            .filter(|d| d.severity == Severity::Error)
+            .count()
     }
 
     /// Number of warnings.
     pub fn warning_count(&self) -> usize {
-        self.0.iter().filter(|d| d.severity == Severity::Warning).count()
+        self.0
+            .iter()
+            .filter(|d| d.severity == Severity::Warning)
+            .count()
     }
 
     /// Whether any diagnostic is an error.

@@ -1,0 +1,312 @@
+//! # stoik-reactor
+//!
+//! Closed batch reactors integrated in time with diffsol's BDF method.
+//!
+//! The reactor implemented so far is **isothermal and at constant volume**: the state is
+//! the vector of molar concentrations `c` (mol/m3, in the species order of the mechanism)
+//! and obeys `dc/dt = w(c)`, with `w` the net production rates of
+//! [`stoik_kinetics::Kinetics::production_rates`] evaluated with rate constants fixed at the
+//! reactor temperature.
+//!
+//! - [`integrate`] runs from an initial state to a list of output times and returns
+//!   [`Profiles`] (concentrations at exactly those times, plus [`SolverStats`]).
+//! - [`BatchIntegrator`] is the stepping interface for process models (operator splitting):
+//!   advance to a time, change the state (e.g. add a feed) or the temperature, continue.
+//! - [`element_balance`] checks the element invariants of a closed reactor on a profile.
+//!
+//! Numerics (see the design notes): the Jacobian is filled analytically from the kinetics in
+//! one pass, into a dense matrix (nalgebra, LU with partial pivoting) for small systems or into
+//! the fixed compressed-sparse-column pattern of the kinetics (faer sparse LU) for large ones;
+//! [`LinearAlgebra::Auto`] chooses. Tolerances are a scalar relative tolerance and one absolute
+//! tolerance per species (mol/m3). Concentrations are never clipped inside the right-hand
+//! side; the most negative value seen is reported in [`SolverStats`].
+//!
+//! Nothing here panics on user data: bad arguments give [`ReactorError`], solver failures give
+//! [`IntegrationFailure`] with the profile computed so far.
+
+mod equations;
+mod integrator;
+
+pub use integrator::BatchIntegrator;
+
+use stoik_kinetics::Kinetics;
+use stoik_mechanism::Mechanism;
+
+/// Largest number of species for which [`LinearAlgebra::Auto`] picks dense linear algebra
+/// regardless of fill. Provisional: a benchmark (dense nalgebra LU against faer sparse LU on
+/// mechanisms of growing size) sets the crossover; measurements so far put it between 200
+/// and 1,000 species for hub-structured mechanisms.
+pub const DENSE_MAX_SPECIES: usize = 100;
+
+/// Jacobian fill fraction (stored entries / n^2) above which [`LinearAlgebra::Auto`] picks
+/// dense linear algebra at any size: a sparse LU gains little on a matrix that full.
+/// Provisional, like [`DENSE_MAX_SPECIES`].
+pub const DENSE_MIN_FILL: f64 = 0.3;
+
+/// Linear algebra for the Newton iterations of the BDF method.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum LinearAlgebra {
+    /// Dense when the mechanism has at most [`DENSE_MAX_SPECIES`] species or its Jacobian
+    /// pattern is fuller than [`DENSE_MIN_FILL`]; sparse otherwise.
+    #[default]
+    Auto,
+    /// Dense matrices (nalgebra) and dense LU with partial pivoting.
+    Dense,
+    /// Compressed-sparse-column matrices on the kinetics' Jacobian pattern and faer's sparse
+    /// LU (symbolic analysis once per solver, numeric factorization per Newton matrix).
+    Sparse,
+}
+
+impl LinearAlgebra {
+    /// The concrete choice ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]) for
+    /// `kinetics`; `Dense` and `Sparse` are returned unchanged.
+    pub fn resolve(self, kinetics: &Kinetics) -> LinearAlgebra {
+        match self {
+            LinearAlgebra::Auto => {
+                let n = kinetics.n_species();
+                let fill = kinetics.jacobian_pattern().fill_fraction();
+                if n <= DENSE_MAX_SPECIES || fill > DENSE_MIN_FILL {
+                    LinearAlgebra::Dense
+                } else {
+                    LinearAlgebra::Sparse
+                }
+            }
+            other => other,
+        }
+    }
+}
+
+/// Settings of one integration.
+#[derive(Debug, Clone, PartialEq)]
+pub struct IntegrationOptions {
+    /// Relative tolerance of the local error test (dimensionless, > 0).
+    pub relative_tolerance: f64,
+    /// Absolute tolerance of each species' local error in mol/m3 (> 0), one per species in
+    /// mechanism order. Set it well below the smallest concentration that matters.
+    pub absolute_tolerances_mol_per_m3: Vec<f64>,
+    /// Dense or sparse linear algebra (or automatic choice).
+    pub linear_algebra: LinearAlgebra,
+    /// Maximum number of accepted BDF steps per call ([`integrate`] or
+    /// [`BatchIntegrator::advance_to`]); exceeding it is an [`IntegrationFailure`].
+    pub max_steps: usize,
+}
+
+impl IntegrationOptions {
+    /// Defaults for `n_species` species: relative tolerance 1e-6, absolute tolerance 1e-12
+    /// mol/m3 for every species, [`LinearAlgebra::Auto`], at most 100,000 steps per call.
+    pub fn new(n_species: usize) -> IntegrationOptions {
+        IntegrationOptions {
+            relative_tolerance: 1e-6,
+            absolute_tolerances_mol_per_m3: vec![1e-12; n_species],
+            linear_algebra: LinearAlgebra::Auto,
+            max_steps: 100_000,
+        }
+    }
+}
+
+/// Work done by the solver (counts, dimensionless) and the positivity report.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct SolverStats {
+    /// Accepted BDF steps.
+    pub steps: usize,
+    /// Right-hand-side evaluations `w(c)` (including those for the initial step size).
+    pub rhs_evaluations: usize,
+    /// Evaluations of the analytic Jacobian `dw/dc`.
+    pub jacobian_evaluations: usize,
+    /// Newton-matrix set-ups, each one numeric LU factorization of `I - h gamma J`.
+    pub factorizations: usize,
+    /// Steps rejected by the local error test.
+    pub error_test_failures: usize,
+    /// Newton iterations that failed to converge.
+    pub nonlinear_failures: usize,
+    /// Most negative concentration (mol/m3) seen in the state after any accepted step or at
+    /// any output time; 0 if none went below zero.
+    pub most_negative_concentration_mol_per_m3: f64,
+}
+
+/// Concentration-time profiles of one run.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Profiles {
+    /// Output times in s (those requested, in order).
+    pub times_s: Vec<f64>,
+    /// Concentrations in mol/m3: one row per output time, each with one value per species in
+    /// mechanism order.
+    pub concentrations_mol_per_m3: Vec<Vec<f64>>,
+    /// Solver statistics of the run.
+    pub stats: SolverStats,
+    /// The linear algebra actually used ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]).
+    pub linear_algebra_used: LinearAlgebra,
+}
+
+/// An integration that stopped before its end: the solver reported an error.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("integration failed at t = {time_s} s: {reason}")]
+pub struct IntegrationFailure {
+    /// Time reached (s): the end of the last accepted step.
+    pub time_s: f64,
+    /// The solver's message.
+    pub reason: String,
+    /// The output rows produced before the failure (for [`BatchIntegrator`], the single row
+    /// of the state at `time_s`), with the statistics up to the failure.
+    pub partial: Profiles,
+}
+
+/// A bad argument: nothing was integrated.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ReactorError {
+    /// A per-species vector has the wrong length.
+    #[error("{what} has {found} values but the mechanism has {expected} species")]
+    WrongLength {
+        /// Which argument.
+        what: &'static str,
+        /// Number of species.
+        expected: usize,
+        /// Length given.
+        found: usize,
+    },
+    /// A concentration is NaN or infinite.
+    #[error("{what}: concentration of species {species} is not finite ({value} mol/m3)")]
+    NonFiniteConcentration {
+        /// Which argument.
+        what: &'static str,
+        /// Species index.
+        species: usize,
+        /// The offending value (mol/m3).
+        value: f64,
+    },
+    /// No output times were given.
+    #[error("no output times given")]
+    NoOutputTimes,
+    /// Output times are not finite and strictly increasing.
+    #[error("output times must be finite and strictly increasing: t[{index}] = {value} s")]
+    OutputTimesNotIncreasing {
+        /// Index of the first offending time.
+        index: usize,
+        /// Its value (s).
+        value: f64,
+    },
+    /// A requested time lies before the integrator's current time (or is not finite).
+    #[error("cannot advance to t = {requested_s} s: the integrator is at t = {current_s} s")]
+    TimeNotAhead {
+        /// Requested time (s).
+        requested_s: f64,
+        /// Current time (s).
+        current_s: f64,
+    },
+    /// The temperature is not finite and positive.
+    #[error("temperature must be finite and positive, got {0} K")]
+    BadTemperature(f64),
+    /// The relative tolerance is not finite and positive.
+    #[error("relative tolerance must be finite and positive, got {0}")]
+    BadRelativeTolerance(f64),
+    /// An absolute tolerance is not finite and positive.
+    #[error(
+        "absolute tolerance of species {species} must be finite and positive, got {value} mol/m3"
+    )]
+    BadAbsoluteTolerance {
+        /// Species index.
+        species: usize,
+        /// The offending value (mol/m3).
+        value: f64,
+    },
+    /// `max_steps` is zero.
+    #[error("max_steps must be at least 1")]
+    NoSteps,
+    /// The kinetics' Jacobian pattern is malformed (a defect of the kinetics compiler).
+    #[error("the Jacobian pattern of the kinetics is malformed")]
+    BadPattern,
+    /// diffsol refused to set the problem up.
+    #[error("could not set up the solver: {0}")]
+    Setup(String),
+}
+
+/// Why an integration did not return profiles.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum IntegrationError {
+    /// Bad arguments; nothing was integrated.
+    #[error(transparent)]
+    InvalidArgument(#[from] ReactorError),
+    /// The solver failed part way; the failure carries the partial profile.
+    #[error(transparent)]
+    Failed(Box<IntegrationFailure>),
+}
+
+impl From<IntegrationFailure> for IntegrationError {
+    fn from(failure: IntegrationFailure) -> Self {
+        IntegrationError::Failed(Box::new(failure))
+    }
+}
+
+impl IntegrationError {
+    /// The solver failure, if this is one.
+    pub fn failure(&self) -> Option<&IntegrationFailure> {
+        match self {
+            IntegrationError::Failed(failure) => Some(failure),
+            IntegrationError::InvalidArgument(_) => None,
+        }
+    }
+}
+
+/// Integrates the closed isothermal constant-volume batch reactor `dc/dt = w(c)` of
+/// `kinetics` at `temperature_k` (K) from `initial_mol_per_m3` (mol/m3, one per species) at
+/// `output_times_s[0]` (s), and returns the concentrations at every time of `output_times_s`
+/// (finite, strictly increasing; the first row is the initial state).
+///
+/// One BDF solver runs over the whole interval: it stops exactly at the last output time and
+/// interpolates (with its own interpolating polynomial, to the integration's accuracy) at the
+/// intermediate ones, so outputs do not shorten steps.
+pub fn integrate(
+    kinetics: &Kinetics,
+    temperature_k: f64,
+    initial_mol_per_m3: &[f64],
+    output_times_s: &[f64],
+    options: &IntegrationOptions,
+) -> Result<Profiles, IntegrationError> {
+    integrator::integrate(
+        kinetics,
+        temperature_k,
+        initial_mol_per_m3,
+        output_times_s,
+        options,
+    )
+}
+
+/// Element totals at the start and end of a profile and their largest drift.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ElementBalance {
+    /// Element totals (mol/m3 of atoms, one per element of the mechanism) in the first row.
+    pub start: Vec<f64>,
+    /// Element totals in the last row.
+    pub end: Vec<f64>,
+    /// Largest `|total(t) - total(t0)| / |total(t0)|` over all rows and elements with a
+    /// nonzero initial total (dimensionless); 0 for an empty profile.
+    pub max_relative_drift: f64,
+}
+
+/// Element totals of `profiles` for `mechanism` (species without composition count for
+/// nothing). In a closed reactor they are invariant; the drift measures integration error.
+pub fn element_balance(mechanism: &Mechanism, profiles: &Profiles) -> ElementBalance {
+    let rows = &profiles.concentrations_mol_per_m3;
+    let n_elements = mechanism.elements.len();
+    let (Some(first), Some(last)) = (rows.first(), rows.last()) else {
+        return ElementBalance {
+            start: vec![0.0; n_elements],
+            end: vec![0.0; n_elements],
+            max_relative_drift: 0.0,
+        };
+    };
+    let start = mechanism.element_totals(first);
+    let mut max_relative_drift: f64 = 0.0;
+    for row in rows {
+        for (now, initial) in mechanism.element_totals(row).iter().zip(&start) {
+            if *initial != 0.0 {
+                max_relative_drift = max_relative_drift.max(((now - initial) / initial).abs());
+            }
+        }
+    }
+    ElementBalance {
+        start,
+        end: mechanism.element_totals(last),
+        max_relative_drift,
+    }
+}

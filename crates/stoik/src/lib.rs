@@ -1,0 +1,42 @@
+//! # stoik
+//!
+//! Simulates chemical reaction mechanisms: a mechanism (species, elementary steps with
+//! Arrhenius parameters and third bodies) plus conditions becomes concentration-time profiles,
+//! integrated with an implicit BDF method fed with analytic Jacobians.
+//!
+//! This facade re-exports the layers, each usable on its own:
+//! - [`mechanism`]: the SI mechanism model, the TOML mechanism and scenario formats, validation;
+//! - [`kinetics`]: a mechanism compiled to flat arrays (rates, production rates, Jacobians);
+//! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics.
+//!
+//! A process model compiles a mechanism once and integrates it many times:
+//!
+//! ```
+//! use stoik::{kinetics::Kinetics, mechanism::parse_mechanism, reactor};
+//!
+//! let text = r#"
+//! stoik_mechanism = 1
+//! [units]
+//! amount = "mol"
+//! length = "m"
+//! [[species]]
+//! name = "A"
+//! [[species]]
+//! name = "B"
+//! [[step]]
+//! equation = "A -> B"
+//! forward = { prefactor = 2.0 }
+//! "#;
+//! let file = parse_mechanism(text, "<inline>").expect("valid mechanism");
+//! let kinetics = Kinetics::compile(&file.mechanism);
+//! let options = reactor::IntegrationOptions::new(kinetics.n_species());
+//! let profiles = reactor::integrate(&kinetics, 300.0, &[1.0, 0.0], &[0.0, 0.5], &options)
+//!     .expect("integration succeeds");
+//! // A -> B is first order: c_A = exp(-k t) = exp(-1) at t = 0.5 s.
+//! let a_end = profiles.concentrations_mol_per_m3[1][0];
+//! assert!((a_end - (-1.0f64).exp()).abs() < 1e-5);
+//! ```
+
+pub use stoik_kinetics as kinetics;
+pub use stoik_mechanism as mechanism;
+pub use stoik_reactor as reactor;

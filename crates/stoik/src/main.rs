@@ -1,0 +1,98 @@
+//! The `stoik` binary: thin glue over the library (arguments, files, printing).
+
+mod check;
+mod csv_out;
+mod run;
+
+use clap::{Parser, Subcommand, ValueEnum};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+/// Exit status for success.
+pub const EXIT_OK: u8 = 0;
+/// Exit status when only warnings were found and `--strict` was given.
+pub const EXIT_WARNINGS: u8 = 1;
+/// Exit status for bad input (unreadable or invalid files, bad flags).
+pub const EXIT_BAD_INPUT: u8 = 2;
+/// Exit status for a failed integration (the partial profile is still written).
+pub const EXIT_INTEGRATION_FAILED: u8 = 3;
+
+#[derive(Parser)]
+#[command(
+    name = "stoik",
+    version,
+    about = "Simulate chemical reaction mechanisms: TOML mechanism + scenario in, concentration-time profiles out.",
+    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure.\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
+)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Validate a mechanism or scenario file and print every problem found.
+    #[command(
+        after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/robertson.scenario.toml"
+    )]
+    Check {
+        /// Mechanism file, or scenario file (its mechanism is checked too).
+        file: PathBuf,
+        /// Exit with status 1 when there are warnings but no errors.
+        #[arg(long)]
+        strict: bool,
+    },
+    /// Run a scenario: integrate its mechanism and write concentration profiles as CSV.
+    #[command(
+        after_help = "Examples:\n  stoik run mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/hires.scenario.toml --output hires.csv --rtol 1e-10\n  stoik run mechanisms/ozone-flask.scenario.toml --temperature-k 650 --end-time-s 0.5"
+    )]
+    Run(RunArgs),
+}
+
+/// Flags of `stoik run`; each overrides the scenario's value.
+#[derive(clap::Args)]
+pub struct RunArgs {
+    /// Scenario file (names the mechanism to run).
+    pub scenario: PathBuf,
+    /// CSV output path [default: <scenario name>.csv in the current folder].
+    #[arg(short, long)]
+    pub output: Option<PathBuf>,
+    /// Override the temperature, in K.
+    #[arg(long)]
+    pub temperature_k: Option<f64>,
+    /// Override the end time, in s.
+    #[arg(long)]
+    pub end_time_s: Option<f64>,
+    /// Override the relative tolerance.
+    #[arg(long)]
+    pub rtol: Option<f64>,
+    /// Override the absolute tolerance of every species, in mol/m3.
+    #[arg(long)]
+    pub atol_mol_per_m3: Option<f64>,
+    /// Override the linear algebra of the Newton iterations.
+    #[arg(long, value_enum)]
+    pub linear_algebra: Option<LinearAlgebraArg>,
+    /// Print only errors.
+    #[arg(short, long)]
+    pub quiet: bool,
+}
+
+/// Linear algebra choice on the command line.
+#[derive(Clone, Copy, ValueEnum)]
+pub enum LinearAlgebraArg {
+    /// Dense below a size threshold, sparse above.
+    Auto,
+    /// Dense LU (small mechanisms).
+    Dense,
+    /// Sparse LU on the Jacobian's fixed pattern (large mechanisms).
+    Sparse,
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let status = match cli.command {
+        Command::Check { file, strict } => check::check(&file, strict),
+        Command::Run(args) => run::run(&args),
+    };
+    ExitCode::from(status)
+}

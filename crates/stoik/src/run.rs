@@ -1,0 +1,251 @@
+//! `stoik run`: integrate a scenario and write its profiles.
+
+use crate::check::report_load_error;
+use crate::csv_out::write_profiles;
+use crate::{LinearAlgebraArg, RunArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
+use std::fs::File;
+use std::io::{BufWriter, Write};
+use std::path::PathBuf;
+use std::time::Instant;
+use stoik::kinetics::Kinetics;
+use stoik::mechanism::{load_mechanism, load_scenario, LinearAlgebraChoice, Mechanism};
+use stoik::reactor::{self, IntegrationOptions, LinearAlgebra, Profiles};
+
+/// The caution printed with every run.
+pub const CAUTION: &str = "Caution: simulation is no substitute for local codes, standards and licensed engineering review.";
+
+fn bad_flag(message: &str) -> u8 {
+    eprintln!("error: {message}");
+    EXIT_BAD_INPUT
+}
+
+/// Runs a scenario; returns the exit status.
+pub fn run(args: &RunArgs) -> u8 {
+    let started = Instant::now();
+    let (mut scenario, warnings) = match load_scenario(&args.scenario) {
+        Ok(ok) => ok,
+        Err(e) => {
+            report_load_error(&e);
+            return EXIT_BAD_INPUT;
+        }
+    };
+    let file = match load_mechanism(&scenario.mechanism_path) {
+        Ok(file) => file,
+        Err(e) => {
+            report_load_error(&e);
+            return EXIT_BAD_INPUT;
+        }
+    };
+    if !args.quiet {
+        for d in warnings.iter().chain(file.warnings.iter()) {
+            eprintln!("{d}");
+        }
+    }
+    if let Some(t) = args.temperature_k {
+        if !(t.is_finite() && t > 0.0) {
+            return bad_flag(&format!(
+                "--temperature-k must be a positive number of kelvin, got {t}"
+            ));
+        }
+        scenario.temperature_k = t;
+    }
+    if let Some(t) = args.end_time_s {
+        if !(t.is_finite() && t > 0.0) {
+            return bad_flag(&format!(
+                "--end-time-s must be a positive number of seconds, got {t}"
+            ));
+        }
+        scenario.end_time_s = t;
+    }
+    if let Some(r) = args.rtol {
+        if !(r > 0.0 && r < 1.0) {
+            return bad_flag(&format!("--rtol must lie between 0 and 1, got {r}"));
+        }
+        scenario.relative_tolerance = r;
+    }
+    if let Some(choice) = args.linear_algebra {
+        scenario.linear_algebra = match choice {
+            LinearAlgebraArg::Auto => LinearAlgebraChoice::Auto,
+            LinearAlgebraArg::Dense => LinearAlgebraChoice::Dense,
+            LinearAlgebraArg::Sparse => LinearAlgebraChoice::Sparse,
+        };
+    }
+    let mechanism = &file.mechanism;
+    let resolved = match scenario.resolve(mechanism) {
+        Ok(r) => r,
+        Err(e) => {
+            report_load_error(&e);
+            return EXIT_BAD_INPUT;
+        }
+    };
+    let mut absolute = resolved.absolute_tolerances_mol_per_m3.clone();
+    if let Some(a) = args.atol_mol_per_m3 {
+        if !(a.is_finite() && a > 0.0) {
+            return bad_flag(&format!(
+                "--atol-mol-per-m3 must be a positive number, got {a}"
+            ));
+        }
+        absolute.iter_mut().for_each(|x| *x = a);
+    }
+
+    let kinetics = Kinetics::compile(mechanism);
+    let options = IntegrationOptions {
+        relative_tolerance: scenario.relative_tolerance,
+        absolute_tolerances_mol_per_m3: absolute,
+        linear_algebra: match scenario.linear_algebra {
+            LinearAlgebraChoice::Auto => LinearAlgebra::Auto,
+            LinearAlgebraChoice::Dense => LinearAlgebra::Dense,
+            LinearAlgebraChoice::Sparse => LinearAlgebra::Sparse,
+        },
+        max_steps: scenario.max_steps,
+    };
+    let result = reactor::integrate(
+        &kinetics,
+        scenario.temperature_k,
+        &resolved.initial_concentrations_mol_per_m3,
+        &resolved.output_times_s,
+        &options,
+    );
+    let (profiles, failure) = match result {
+        Ok(p) => (p, None),
+        Err(reactor::IntegrationError::Failed(f)) => {
+            let message = f.to_string();
+            (f.partial, Some(message))
+        }
+        Err(e) => {
+            eprintln!("error: {e}");
+            return EXIT_BAD_INPUT;
+        }
+    };
+    let elapsed = started.elapsed();
+
+    let output = args.output.clone().unwrap_or_else(|| {
+        let stem = args
+            .scenario
+            .file_stem()
+            .map(|s| {
+                s.to_string_lossy()
+                    .trim_end_matches(".scenario")
+                    .to_string()
+            })
+            .unwrap_or_else(|| "profiles".to_string());
+        PathBuf::from(format!("{stem}.csv"))
+    });
+    let unit = scenario.output_concentration_unit;
+    let written = File::create(&output).and_then(|f| {
+        let mut w = BufWriter::new(f);
+        write_profiles(
+            &mut w,
+            mechanism,
+            &profiles.times_s,
+            &profiles.concentrations_mol_per_m3,
+            unit.to_si_factor(),
+            unit.label(),
+        )?;
+        w.flush()
+    });
+    if let Err(e) = written {
+        eprintln!("error: cannot write {}: {e}", output.display());
+        return EXIT_BAD_INPUT;
+    }
+
+    if !args.quiet {
+        print_summary(
+            &scenario,
+            mechanism,
+            &profiles,
+            elapsed.as_secs_f64(),
+            &output,
+        );
+    }
+    match failure {
+        Some(message) => {
+            eprintln!("error: {message}");
+            eprintln!(
+                "the profile up to the failure ({} rows) was written to {}",
+                profiles.times_s.len(),
+                output.display()
+            );
+            EXIT_INTEGRATION_FAILED
+        }
+        None => EXIT_OK,
+    }
+}
+
+fn print_summary(
+    scenario: &stoik::mechanism::Scenario,
+    mechanism: &Mechanism,
+    profiles: &Profiles,
+    wall_s: f64,
+    output: &std::path::Path,
+) {
+    let unit = scenario.output_concentration_unit;
+    println!(
+        "{}: {} species, {} steps; isothermal constant volume at {} K",
+        scenario.title.as_deref().unwrap_or("scenario"),
+        mechanism.species.len(),
+        mechanism.steps.len(),
+        scenario.temperature_k
+    );
+    let (Some(first), Some(last), Some(t_end)) = (
+        profiles.concentrations_mol_per_m3.first(),
+        profiles.concentrations_mol_per_m3.last(),
+        profiles.times_s.last(),
+    ) else {
+        println!("no output rows");
+        return;
+    };
+    println!("final state at t = {t_end:.6e} s [{}]:", unit.label());
+    let mut order: Vec<usize> = (0..last.len()).collect();
+    order.sort_by(|&a, &b| last[b].total_cmp(&last[a]));
+    for &i in order.iter().take(12) {
+        println!(
+            "  {:<16} {:>14.6e}",
+            mechanism.species[i].name,
+            last[i] / unit.to_si_factor()
+        );
+    }
+    if order.len() > 12 {
+        println!("  ... {} more species in the CSV", order.len() - 12);
+    }
+    if !mechanism.elements.is_empty() {
+        let start = mechanism.element_totals(first);
+        let end = mechanism.element_totals(last);
+        let drifts: Vec<String> = mechanism
+            .elements
+            .iter()
+            .zip(start.iter().zip(&end))
+            .filter(|(_, (s, _))| **s != 0.0)
+            .map(|(e, (s, f))| format!("{} {:.1e}", e.symbol, ((f - s) / s).abs()))
+            .collect();
+        println!(
+            "element balance, relative drift start -> end: {}",
+            drifts.join(", ")
+        );
+    }
+    let s = &profiles.stats;
+    println!(
+        "solver: BDF, {:?} linear algebra; {} steps, {} right-hand sides, {} Jacobians, {} factorizations, {} error-test failures, {} nonlinear failures",
+        profiles.linear_algebra_used,
+        s.steps,
+        s.rhs_evaluations,
+        s.jacobian_evaluations,
+        s.factorizations,
+        s.error_test_failures,
+        s.nonlinear_failures
+    );
+    if s.most_negative_concentration_mol_per_m3 < 0.0 {
+        println!(
+            "most negative concentration seen: {:.3e} mol/m3",
+            s.most_negative_concentration_mol_per_m3
+        );
+    }
+    println!("wall time: {:.3} ms", wall_s * 1e3);
+    println!(
+        "wrote {} ({} rows, {} columns)",
+        output.display(),
+        profiles.times_s.len(),
+        mechanism.species.len() + 1
+    );
+    println!("{CAUTION}");
+}

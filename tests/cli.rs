@@ -1,0 +1,168 @@
+//! The real `stoik` binary: exit statuses, located error messages, CSV output with units.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn stoik(args: &[&str], dir: &Path) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_stoik"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .expect("the stoik binary starts")
+}
+
+fn repo() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("stoik-cli-{}-{name}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("scratch folder");
+    dir
+}
+
+fn text(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes).into_owned()
+}
+
+#[test]
+fn check_accepts_the_bundled_mechanisms_and_scenarios() {
+    for file in [
+        "ozone-flask.toml",
+        "ozone-flask.scenario.toml",
+        "robertson.scenario.toml",
+        "hires.scenario.toml",
+        "oregonator.scenario.toml",
+        "annotated-example.toml",
+    ] {
+        let path = repo().join("mechanisms").join(file);
+        let out = stoik(&["check", "--strict", path.to_str().unwrap()], &repo());
+        assert_eq!(
+            out.status.code(),
+            Some(0),
+            "{file}: {}{}",
+            text(&out.stdout),
+            text(&out.stderr)
+        );
+        assert!(text(&out.stdout).contains("0 error(s), 0 warning(s)"));
+    }
+}
+
+#[test]
+fn check_reports_every_problem_with_location_and_exits_2() {
+    let dir = scratch("bad");
+    let file = dir.join("bad.toml");
+    std::fs::write(
+        &file,
+        "stoik_mechanism = 1\n[[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n\
+         [[step]]\nequation = \"A -> C\"\nforward = { prefactor = 1.0 }\n\
+         [[step]]\nequation = \"B -> A\"\nforward = { prefactor = -2.0 }\n",
+    )
+    .unwrap();
+    let out = stoik(&["check", "bad.toml"], &dir);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    // Both problems at once, each located: unknown species C (line 7), negative prefactor
+    // (line 10).
+    assert!(err.contains("bad.toml:7:"), "{err}");
+    assert!(err.contains("`C`") || err.contains("C"), "{err}");
+    assert!(err.contains("bad.toml:10:"), "{err}");
+}
+
+#[test]
+fn strict_check_exits_1_on_warnings_only() {
+    let dir = scratch("warn");
+    std::fs::write(
+        dir.join("unused.toml"),
+        "stoik_mechanism = 1\n[[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n\
+         [[species]]\nname = \"LONELY\"\n[[step]]\nequation = \"A -> B\"\n\
+         forward = { prefactor = 1.0 }\n",
+    )
+    .unwrap();
+    assert_eq!(
+        stoik(&["check", "unused.toml"], &dir).status.code(),
+        Some(0)
+    );
+    let out = stoik(&["check", "--strict", "unused.toml"], &dir);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(text(&out.stderr).contains("LONELY"));
+}
+
+#[test]
+fn run_writes_csv_with_units_and_a_summary() {
+    let dir = scratch("run");
+    let scenario = repo().join("mechanisms/robertson.scenario.toml");
+    let out = stoik(
+        &["run", scenario.to_str().unwrap(), "--output", "rob.csv"],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let csv = std::fs::read_to_string(dir.join("rob.csv")).unwrap();
+    let mut lines = csv.lines();
+    assert_eq!(
+        lines.next(),
+        Some("time [s],A [mol/m3],B [mol/m3],C [mol/m3]")
+    );
+    // 68 log-spaced points plus t = 0 (scenario grid).
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| l.split(',').map(|x| x.parse().unwrap()).collect())
+        .collect();
+    assert_eq!(rows.len(), 69);
+    let last = rows.last().unwrap();
+    assert_eq!(last[0], 1e11);
+    // Bari reference y3(1e11) = 0.9999999791665050 (Mazzia & Magherini, Test Set 2.4).
+    assert!((last[3] - 0.9999999791665050).abs() < 1e-9, "{last:?}");
+    let stdout = text(&out.stdout);
+    assert!(stdout.contains("steps"), "{stdout}");
+    assert!(stdout.contains("wall time"), "{stdout}");
+    assert!(stdout.contains("licensed engineering review"), "{stdout}");
+}
+
+#[test]
+fn failed_integration_exits_3_and_keeps_the_partial_profile() {
+    let dir = scratch("fail");
+    std::fs::copy(
+        repo().join("mechanisms/robertson.toml"),
+        dir.join("robertson.toml"),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("short.scenario.toml"),
+        "stoik_scenario = 1\nmechanism = \"robertson.toml\"\n[reactor]\ntemperature = 300\n\
+         [initial]\nconcentrations = { A = 1.0 }\n[output]\nend_time = \"1e11 s\"\n\
+         grid = { spacing = \"log\", first = \"1e-6 s\", points = 40 }\n\
+         [solver]\nmax_steps = 60\n",
+    )
+    .unwrap();
+    let out = stoik(&["run", "short.scenario.toml", "-o", "partial.csv"], &dir);
+    assert_eq!(out.status.code(), Some(3), "{}", text(&out.stderr));
+    let err = text(&out.stderr);
+    assert!(err.contains("integration failed at t ="), "{err}");
+    let csv = std::fs::read_to_string(dir.join("partial.csv")).unwrap();
+    let rows = csv.lines().count() - 1;
+    // Some rows were computed before the step limit, but not all 41.
+    assert!(rows >= 1 && rows < 41, "{rows} rows");
+}
+
+#[test]
+fn run_on_bad_scenario_exits_2_without_panicking() {
+    let dir = scratch("badscenario");
+    std::fs::write(
+        dir.join("s.scenario.toml"),
+        "stoik_scenario = 1\nmechanism = \"missing.toml\"\n[reactor]\ntemperature = 300\n\
+         [initial]\nconcentrations = { A = 1.0 }\n[output]\nend_time = 1.0\n",
+    )
+    .unwrap();
+    let out = stoik(&["run", "s.scenario.toml"], &dir);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(err.contains("missing.toml"), "{err}");
+    assert!(!err.contains("panicked"), "{err}");
+}
+
+#[test]
+fn help_shows_examples() {
+    let out = stoik(&["run", "--help"], &repo());
+    assert_eq!(out.status.code(), Some(0));
+    assert!(text(&out.stdout).contains("Examples:"));
+}

@@ -63,10 +63,9 @@ fn check_reports_every_problem_with_location_and_exits_2() {
     assert_eq!(out.status.code(), Some(2));
     let err = text(&out.stderr);
     // Both problems at once, each located: unknown species C (line 7), negative prefactor
-    // (line 10).
-    assert!(err.contains("bad.toml:7:"), "{err}");
-    assert!(err.contains("`C`") || err.contains("C"), "{err}");
-    assert!(err.contains("bad.toml:10:"), "{err}");
+    // (line 11).
+    assert!(err.contains("bad.toml:7:18: error: unknown species `C`"), "{err}");
+    assert!(err.contains("bad.toml:11:25: error: `prefactor` is negative"), "{err}");
 }
 
 #[test]

@@ -54,6 +54,7 @@ pub fn parse_mechanism(text: &str, file_label: &str) -> Result<MechanismFile, Lo
         elements: Vec::new(),
         element_index: HashMap::new(),
         usage: Vec::new(),
+        default_collider: false,
         equation_failed: false,
         species_offsets: Vec::new(),
         suggestions: HashMap::new(),
@@ -114,6 +115,9 @@ struct RawArrhenius {
     activation_energy: f64,
 }
 
+/// Reactants and products (each `None` if a name did not resolve) and reversibility.
+type ResolvedSides = (Option<Vec<StoichTerm>>, Option<Vec<StoichTerm>>, bool);
+
 /// The kind of collision partner, part of the duplicate-step key.
 #[derive(Debug, Clone, PartialEq, Eq, Hash)]
 enum PartnerKind {
@@ -168,6 +172,8 @@ struct Loader<'t> {
     elements: Vec<Element>,
     element_index: HashMap<String, usize>,
     usage: Vec<Usage>,
+    /// Some mixture third body has a nonzero default efficiency.
+    default_collider: bool,
     /// Some step's equation could not be read, so "unused" warnings would be noise.
     equation_failed: bool,
     /// Byte offset of each species' name (for warnings).
@@ -592,13 +598,22 @@ impl Loader<'_> {
                             ok = false;
                         }
                         match (species, x) {
-                            (Some(s), Some(x)) => efficiencies.push((s, x)),
+                            (Some(s), Some(x)) => {
+                                // A species that collides (bath gas) takes part in the rates.
+                                if x > 0.0 {
+                                    self.usage[s] = Usage::Used;
+                                }
+                                efficiencies.push((s, x))
+                            }
                             _ => ok = false,
                         }
                     }
                 }
                 None => ok = false,
             }
+        }
+        if ok && default_efficiency > 0.0 {
+            self.default_collider = true;
         }
         ok.then_some(ThirdBody::Mixture {
             default_efficiency,
@@ -645,7 +660,7 @@ impl Loader<'_> {
         // Equation.
         let mut equation = String::new();
         let mut equation_at = at;
-        let mut sides: Option<(Option<Vec<StoichTerm>>, Option<Vec<StoichTerm>>, bool)> = None;
+        let mut sides: Option<ResolvedSides> = None;
         match table.get("equation") {
             None => {
                 self.equation_failed = true;
@@ -656,7 +671,9 @@ impl Loader<'_> {
                 )
             }
             Some(v) => {
-                if let Some(text) = self.r.string("equation", v) {
+                let text = self.r.string("equation", v);
+                self.equation_failed |= text.is_none();
+                if let Some(text) = text {
                     equation = text.to_string();
                     equation_at = v.span().start;
                     let base = self.r.string_content_start(v, text);
@@ -811,8 +828,12 @@ impl Loader<'_> {
         Some(step)
     }
 
-    /// Element balance of a step whose species all have compositions.
+    /// Element balance of a step whose species all have compositions. Steps with an empty
+    /// side (sources and sinks) exchange matter with the surroundings and are not checked.
     fn check_balance(&mut self, step: &Step, at: usize) {
+        if step.reactants.is_empty() || step.products.is_empty() {
+            return;
+        }
         let mut totals: [BTreeMap<usize, f64>; 2] = [BTreeMap::new(), BTreeMap::new()];
         for (side, terms) in [&step.reactants, &step.products].into_iter().enumerate() {
             for term in terms {
@@ -884,12 +905,14 @@ impl Loader<'_> {
 
     fn warn_unused(&mut self) {
         for (i, usage) in self.usage.iter().enumerate() {
-            if *usage == Usage::Used {
+            // With a mixture third body of nonzero default efficiency, every species not
+            // listed otherwise collides, so it takes part in the rates.
+            if *usage == Usage::Used || (*usage == Usage::Unused && self.default_collider) {
                 continue;
             }
             let species = &self.species[i];
             let suffix = if *usage == Usage::OnlyEfficiency {
-                " (it appears only in third-body efficiencies)"
+                " (it appears only with zero third-body efficiency)"
             } else {
                 ""
             };

@@ -46,7 +46,14 @@ fn one_step_in_four_unit_systems_loads_to_one_si_rate_constant() {
         ("molecule", "cm", "s", "K", 1e-11, 1000.0),
         ("mol", "cm", "s", "kJ/mol", 1e-11 * na, 1000.0 * r / 1e3),
         ("mol", "m", "s", "cal/mol", 1e-17 * na, 1000.0 * r / 4.184),
-        ("mol", "cm", "s", "kcal/mol", 1e-11 * na, 1000.0 * r / 4184.0),
+        (
+            "mol",
+            "cm",
+            "s",
+            "kcal/mol",
+            1e-11 * na,
+            1000.0 * r / 4184.0,
+        ),
         ("mol", "m", "h", "J/mol", 3600.0 * 1e-17 * na, 1000.0 * r),
     ];
     for (amount, length, time, energy, a, ea) in variants {
@@ -55,7 +62,10 @@ fn one_step_in_four_unit_systems_loads_to_one_si_rate_constant() {
         );
         let m = load(&text).mechanism;
         let k = m.steps[0].forward.rate_constant(t);
-        assert!(rel(k, expected) < 1e-12, "{amount}/{length}/{time}/{energy}: {k} vs {expected}");
+        assert!(
+            rel(k, expected) < 1e-12,
+            "{amount}/{length}/{time}/{energy}: {k} vs {expected}"
+        );
     }
     // The same through a per-step override of the file's units.
     let text = format!(
@@ -80,7 +90,9 @@ fn molecule_prefactors_differ_by_avogadro_powers_per_order() {
     };
     let mol = load(&make("mol")).mechanism;
     let molecule = load(&make("molecule")).mechanism;
-    let ratio = |j: usize| molecule.steps[j].forward.pre_exponential_si / mol.steps[j].forward.pre_exponential_si;
+    let ratio = |j: usize| {
+        molecule.steps[j].forward.pre_exponential_si / mol.steps[j].forward.pre_exponential_si
+    };
     assert!(rel(ratio(0), 1.0) < 1e-15);
     assert!(rel(ratio(1), AVOGADRO) < 1e-12);
     assert!(rel(ratio(2), AVOGADRO * AVOGADRO) < 1e-12);
@@ -97,14 +109,32 @@ fn repeated_species_add_up_and_catalysts_stay_on_both_sides() {
         "stoik_mechanism = 1\n{SPECIES_AB}\n[[step]]\nequation = \"B + B -> C\"\nforward = {{ prefactor = 1 }}\n[[step]]\nequation = \"A -> C + A\"\nforward = {{ prefactor = 1 }}\n"
     );
     let m = load(&text).mechanism;
-    assert_eq!(m.steps[0].reactants, vec![StoichTerm { species: 1, coefficient: 2.0 }]);
+    assert_eq!(
+        m.steps[0].reactants,
+        vec![StoichTerm {
+            species: 1,
+            coefficient: 2.0
+        }]
+    );
     assert_eq!(m.steps[0].forward_order(), 2.0);
-    assert_eq!(m.steps[1].reactants, vec![StoichTerm { species: 0, coefficient: 1.0 }]);
+    assert_eq!(
+        m.steps[1].reactants,
+        vec![StoichTerm {
+            species: 0,
+            coefficient: 1.0
+        }]
+    );
     assert_eq!(
         m.steps[1].products,
         vec![
-            StoichTerm { species: 2, coefficient: 1.0 },
-            StoichTerm { species: 0, coefficient: 1.0 }
+            StoichTerm {
+                species: 2,
+                coefficient: 1.0
+            },
+            StoichTerm {
+                species: 0,
+                coefficient: 1.0
+            }
         ]
     );
 }
@@ -132,13 +162,27 @@ forward = { prefactor = 1 }
         diags[0].message,
         "step `H2 + O2 -> H2O` is not balanced: reactants {H: 2, O: 2} vs products {H: 2, O: 1}"
     );
-    assert_eq!(diags[0].location, Some(SourceLocation { line: 12, column: 12 }));
+    assert_eq!(
+        diags[0].location,
+        Some(SourceLocation {
+            line: 12,
+            column: 12
+        })
+    );
     // With 0.5 O2 it balances and loads; element weights come from the built-in table.
     let fixed = text.replace("H2 + O2 -> H2O", "H2 + 0.5 O2 -> H2O");
     let m = load(&fixed).mechanism;
-    assert_eq!(m.elements.iter().map(|e| e.symbol.as_str()).collect::<Vec<_>>(), ["H", "O"]);
+    assert_eq!(
+        m.elements
+            .iter()
+            .map(|e| e.symbol.as_str())
+            .collect::<Vec<_>>(),
+        ["H", "O"]
+    );
     // Abstract species are not balance-checked.
-    let abstract_ok = fixed.replace("atoms = { H = 2, O = 1 }\n", "").replace("0.5 O2", "O2");
+    let abstract_ok = fixed
+        .replace("atoms = { H = 2, O = 1 }\n", "")
+        .replace("0.5 O2", "O2");
     assert_eq!(load(&abstract_ok).mechanism.steps.len(), 1);
 }
 
@@ -168,7 +212,12 @@ fn reversible_steps_convert_reverse_prefactor_with_product_order() {
     assert!(rel(reverse.pre_exponential_si, 5e-6) < 1e-15);
     assert_eq!(reverse.activation_energy_j_per_mol, 1e4);
     assert!(rel(m.steps[0].forward.pre_exponential_si, 3.0) < 1e-15);
-    assert!(rel(reverse.rate_constant(1e4 / GAS_CONSTANT), 5e-6 * (-1.0f64).exp()) < 1e-14);
+    assert!(
+        rel(
+            reverse.rate_constant(1e4 / GAS_CONSTANT),
+            5e-6 * (-1.0f64).exp()
+        ) < 1e-14
+    );
 }
 
 #[test]
@@ -177,7 +226,9 @@ fn duplicates_need_allow_duplicate_on_both() {
     let base = format!(
         "stoik_mechanism = 1\n{SPECIES_AB}\n[[step]]\nequation = \"A + B <=> C\"\nforward = {{ prefactor = 1 }}\nreverse = {{ prefactor = 1 }}\nFLAG1\n[[step]]\nequation = \"C <=> B + A\"\nforward = {{ prefactor = 2 }}\nreverse = {{ prefactor = 1 }}\nFLAG2\n"
     );
-    let one = base.replace("FLAG1", "allow_duplicate = true").replace("FLAG2", "");
+    let one = base
+        .replace("FLAG1", "allow_duplicate = true")
+        .replace("FLAG2", "");
     let diags = errors(&one);
     assert_eq!(diags.len(), 1, "{diags:?}");
     // Expected lines counted in the text itself: the first and second `[[step]]` headers.
@@ -187,8 +238,16 @@ fn duplicates_need_allow_duplicate_on_both() {
         .filter(|(_, l)| *l == "[[step]]")
         .map(|(i, _)| i + 1)
         .collect();
-    assert!(diags[0].message.contains(&format!("as the step at line {}", headers[0])));
-    assert_eq!(diags[0].location, Some(SourceLocation { line: headers[1], column: 1 }));
+    assert!(diags[0]
+        .message
+        .contains(&format!("as the step at line {}", headers[0])));
+    assert_eq!(
+        diags[0].location,
+        Some(SourceLocation {
+            line: headers[1],
+            column: 1
+        })
+    );
     let both = base
         .replace("FLAG1", "allow_duplicate = true")
         .replace("FLAG2", "allow_duplicate = true");
@@ -239,18 +298,31 @@ forward = { prefactor = 1.0 }
 #[test]
 fn unused_species_is_a_warning_not_an_error() {
     let text = format!(
-        "stoik_mechanism = 1\n{SPECIES_AB}\n[[step]]\nequation = \"A -> B\"\nthird_body = {{ efficiency = {{ C = 2.0 }} }}\nforward = {{ prefactor = 1 }}\n"
+        "stoik_mechanism = 1\n{SPECIES_AB}\n[[step]]\nequation = \"A -> B\"\nthird_body = {{ efficiency = {{ C = 0.0 }} }}\nforward = {{ prefactor = 1 }}\n"
     );
     let file = load(&text);
     assert_eq!(file.warnings.warning_count(), 1);
     let w = &file.warnings.0[0];
-    assert!(w.message.contains("`C` is declared but never used"), "{}", w.message);
-    assert!(w.message.contains("only in third-body efficiencies"));
-    let line_of_c = text.lines().position(|l| l == "name = \"C\"").map(|i| i + 1);
-    assert_eq!(w.location.map(|l| (l.line, l.column)), line_of_c.map(|l| (l, 8)));
+    assert!(
+        w.message.contains("`C` is declared but never used"),
+        "{}",
+        w.message
+    );
+    assert!(w.message.contains("only with zero third-body efficiency"));
+    let line_of_c = text
+        .lines()
+        .position(|l| l == "name = \"C\"")
+        .map(|i| i + 1);
+    assert_eq!(
+        w.location.map(|l| (l.line, l.column)),
+        line_of_c.map(|l| (l, 8))
+    );
     assert_eq!(
         file.mechanism.steps[0].third_body,
-        Some(ThirdBody::Mixture { default_efficiency: 1.0, efficiencies: vec![(2, 2.0)] })
+        Some(ThirdBody::Mixture {
+            default_efficiency: 1.0,
+            efficiencies: vec![(2, 0.0)]
+        })
     );
 }
 
@@ -258,7 +330,10 @@ fn unused_species_is_a_warning_not_an_error() {
 struct Lcg(u64);
 impl Lcg {
     fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        self.0 = self
+            .0
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         self.0 >> 33
     }
 }
@@ -272,7 +347,10 @@ fn large_mechanism_loads_with_all_species_and_steps() {
     let mut text = String::with_capacity(4 * 1024 * 1024);
     text.push_str("stoik_mechanism = 1\n[units]\nactivation_energy = \"kJ/mol\"\n");
     for i in 0..species {
-        text.push_str(&format!("[[species]]\nname = \"S{i}\"\natoms = {{ C = 1, H = {} }}\n", i % 8));
+        text.push_str(&format!(
+            "[[species]]\nname = \"S{i}\"\natoms = {{ C = 1, H = {} }}\n",
+            i % 8
+        ));
     }
     let mut rng = Lcg(20_240_611);
     for j in 0..steps {

@@ -5,13 +5,18 @@ use crate::parse_mechanism;
 
 /// The folder with `good.mech.toml`, a valid mechanism with species H2, O2, H, OH, H2O, AR.
 fn corpus_dir() -> PathBuf {
-    PathBuf::from(concat!(env!("CARGO_MANIFEST_DIR"), "/../../tests/bad-input"))
+    PathBuf::from(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../../tests/bad-input"
+    ))
 }
 
 fn good_mechanism() -> Mechanism {
     let path = corpus_dir().join("good.mech.toml");
     let text = std::fs::read_to_string(&path).expect("corpus mechanism");
-    parse_mechanism(&text, "good.mech.toml").expect("good mechanism loads").mechanism
+    parse_mechanism(&text, "good.mech.toml")
+        .expect("good mechanism loads")
+        .mechanism
 }
 
 fn scenario(body: &str) -> Scenario {
@@ -74,7 +79,10 @@ fn mole_fractions_become_ideal_gas_concentrations() {
     );
     let total: f64 = 101_325.0 / (8.314_462_618 * 298.15);
     assert!((total - 40.874).abs() < 1e-3);
-    let c = s.resolve(&good_mechanism()).expect("resolves").initial_concentrations_mol_per_m3;
+    let c = s
+        .resolve(&good_mechanism())
+        .expect("resolves")
+        .initial_concentrations_mol_per_m3;
     assert!(rel(c[0], 0.25 * total) < 1e-12);
     assert!(rel(c[1], 0.05 * total) < 1e-12);
     assert!(rel(c[5], 0.7 * total) < 1e-12);
@@ -82,7 +90,10 @@ fn mole_fractions_become_ideal_gas_concentrations() {
     // Changing the public temperature (a command-line override) changes the concentrations.
     let mut hot = s.clone();
     hot.temperature_k = 2.0 * 298.15;
-    let c_hot = hot.resolve(&good_mechanism()).expect("resolves").initial_concentrations_mol_per_m3;
+    let c_hot = hot
+        .resolve(&good_mechanism())
+        .expect("resolves")
+        .initial_concentrations_mol_per_m3;
     assert!(rel(c_hot[0], 0.5 * c[0]) < 1e-12);
 }
 
@@ -151,11 +162,23 @@ fn unknown_species_resolve_with_location_and_suggestion() {
     };
     assert_eq!(diagnostics.error_count(), 2);
     let first = &diagnostics.0[0];
-    assert_eq!(first.location, Some(SourceLocation { line: 6, column: 28 }));
+    assert_eq!(
+        first.location,
+        Some(SourceLocation {
+            line: 6,
+            column: 28
+        })
+    );
     assert!(first.message.contains("unknown species `H2O2`"));
     assert_eq!(first.help.as_deref(), Some("did you mean `H2O`?"));
     let second = &diagnostics.0[1];
-    assert_eq!(second.location, Some(SourceLocation { line: 10, column: 28 }));
+    assert_eq!(
+        second.location,
+        Some(SourceLocation {
+            line: 10,
+            column: 28
+        })
+    );
     assert_eq!(second.help.as_deref(), Some("did you mean `OH`?"));
 }
 

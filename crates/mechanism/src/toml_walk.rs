@@ -178,6 +178,12 @@ impl<'t> Report<'t> {
             if let Ok(n) = u64::from_str_radix(&i.as_str().replace('_', ""), i.radix()) {
                 return Some(n);
             }
+            self.error(
+                value.span().start,
+                format!("`{key}` must be a non-negative integer, got {i}"),
+                None,
+            );
+            return None;
         }
         self.wrong_type(key, value, "a non-negative integer");
         None

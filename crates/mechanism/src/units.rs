@@ -341,7 +341,7 @@ mod tests {
                 "s",
                 "cal/mol",
                 1e-17 * 6.022_140_76e23,
-                8314.462_618 / 4.184,
+                8_314.462_618 / 4.184,
             ),
             (
                 "mol",
@@ -357,9 +357,9 @@ mod tests {
                 "min",
                 "J/mol",
                 60.0 * 1e-17 * 6.022_140_76e23,
-                8314.462_618,
+                8_314.462_618,
             ),
-            ("molecule", "m", "ms", "J/mol", 1e-3 * 1e-17, 8314.462_618),
+            ("molecule", "m", "ms", "J/mol", 1e-3 * 1e-17, 8_314.462_618),
         ];
         for (amount, length, time, energy, a, ea) in systems {
             let units = RateUnits {

@@ -63,10 +63,7 @@ fn diagnostics_of(result: Result<Vec<Diagnostic>, LoadError>, file: &str) -> Vec
 
 /// All diagnostics of a mechanism file.
 fn check_mechanism(text: &str, file: &str) -> Vec<Diagnostic> {
-    diagnostics_of(
-        parse_mechanism(text, file).map(|m| m.warnings.0),
-        file,
-    )
+    diagnostics_of(parse_mechanism(text, file).map(|m| m.warnings.0), file)
 }
 
 /// All diagnostics of a scenario file: its own, then (if it parsed) those of resolving it
@@ -106,7 +103,11 @@ fn every_corpus_file_reports_exactly_its_expected_problems() {
     let mut largest_error_set = 0;
     let mut failures = Vec::new();
     for path in &paths {
-        let file = path.file_name().and_then(|n| n.to_str()).unwrap_or("?").to_string();
+        let file = path
+            .file_name()
+            .and_then(|n| n.to_str())
+            .unwrap_or("?")
+            .to_string();
         let text = std::fs::read_to_string(path).expect("readable corpus file");
         let expected = expectations(&text, &file);
         let diagnostics = if file.ends_with(".scenario.toml") {
@@ -116,7 +117,10 @@ fn every_corpus_file_reports_exactly_its_expected_problems() {
         } else {
             panic!("{file}: corpus files end in .mech.toml or .scenario.toml");
         };
-        let expected_errors = expected.iter().filter(|e| e.severity == Severity::Error).count();
+        let expected_errors = expected
+            .iter()
+            .filter(|e| e.severity == Severity::Error)
+            .count();
         let expected_warnings = expected.len() - expected_errors;
         if expected_errors > 0 {
             bad_files += 1;
@@ -149,7 +153,10 @@ fn every_corpus_file_reports_exactly_its_expected_problems() {
                 ));
             }
         }
-        let errors = diagnostics.iter().filter(|d| d.severity == Severity::Error).count();
+        let errors = diagnostics
+            .iter()
+            .filter(|d| d.severity == Severity::Error)
+            .count();
         let warnings = diagnostics.len() - errors;
         if errors != expected_errors || warnings != expected_warnings {
             failures.push(format!(
@@ -164,4 +171,29 @@ fn every_corpus_file_reports_exactly_its_expected_problems() {
     assert!(bad_files >= 30, "only {bad_files} malformed files");
     assert!(largest_error_set >= 3);
     assert!(paths.iter().any(|p| p.ends_with("good.mech.toml")));
+}
+
+#[test]
+fn truncated_files_give_located_errors_not_panics() {
+    // Robustness: every prefix of a valid file (cut at character boundaries) must either load
+    // or be rejected with located diagnostics; the full file must load. A prefix that ends
+    // right after `stoik_mechanism = 1` has no steps, so it must be rejected.
+    let path = PathBuf::from(CORPUS).join("good.mech.toml");
+    let text = std::fs::read_to_string(&path).expect("good mechanism");
+    let mut rejected = 0;
+    for (cut, _) in text.char_indices().step_by(7) {
+        match parse_mechanism(&text[..cut], "cut.toml") {
+            Ok(_) => {}
+            Err(LoadError::Invalid { diagnostics }) => {
+                assert!(diagnostics.has_errors());
+                assert!(diagnostics.iter().all(|d| d.location.is_some()));
+                rejected += 1;
+            }
+            Err(e) => panic!("unexpected {e}"),
+        }
+    }
+    assert!(rejected > 0);
+    let version_end = text.find("stoik_mechanism = 1").expect("version line") + 20;
+    assert!(parse_mechanism(&text[..version_end], "cut.toml").is_err());
+    assert!(parse_mechanism(&text, "full.toml").is_ok());
 }

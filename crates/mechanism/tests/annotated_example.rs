@@ -1,0 +1,43 @@
+//! The annotated example mechanism shipped in `mechanisms/` must load cleanly, and its
+//! unit conversions must match hand calculations.
+
+use stoik_mechanism::{load_mechanism, ThirdBody, AVOGADRO, GAS_CONSTANT};
+
+#[test]
+fn annotated_example_loads_without_errors_or_warnings() {
+    let path = std::path::Path::new(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../../mechanisms/annotated-example.toml"
+    ));
+    let file = load_mechanism(path).unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(file.warnings.0.len(), 0, "{}", file.warnings);
+    let m = &file.mechanism;
+    assert_eq!(m.species.len(), 9);
+    assert_eq!(m.steps.len(), 10);
+    // Elements in order of first appearance: O, H, N, C, S.
+    let symbols: Vec<&str> = m.elements.iter().map(|e| e.symbol.as_str()).collect();
+    assert_eq!(symbols, ["O", "H", "N", "C", "S"]);
+
+    // Hand conversions (common practice; SI 2019 exact Avogadro constant):
+    // step 1, third-body order 3 forward: 6e13 (mol/cm3)^-2/s * (1e-6 m3/cm3)^2 = 6e1.
+    assert!((m.steps[0].forward.pre_exponential_si / 60.0 - 1.0).abs() < 1e-12);
+    // reverse order 1 + third body = 2: 4e14 cm3/(mol s) * 1e-6 = 4e8; Ea 95 kJ/mol.
+    let reverse = m.steps[0].reverse.expect("reverse");
+    assert!((reverse.pre_exponential_si / 4e8 - 1.0).abs() < 1e-12);
+    assert_eq!(reverse.activation_energy_j_per_mol, 95_000.0);
+    // step 3 in molecule units, order 2: 1.6e-10 cm3/(molecule s) * 1e-6 * N_A; Ea/R = -60 K.
+    let k3 = &m.steps[2].forward;
+    assert!((k3.pre_exponential_si / (1.6e-16 * AVOGADRO) - 1.0).abs() < 1e-12);
+    assert!((k3.activation_energy_j_per_mol / (-60.0 * GAS_CONSTANT) - 1.0).abs() < 1e-12);
+    // step 6, orders 0.6 + 1.2 = 1.8: 2e9 (mol/cm3)^-0.8/s * (1e6)^-0.8 = 2e9 * 10^-4.8.
+    assert!((m.steps[5].forward_order() - 1.8).abs() < 1e-12);
+    assert!((m.steps[5].forward.pre_exponential_si / (2e9 * 10f64.powf(-4.8)) - 1.0).abs() < 1e-12);
+    // step 7, first order per minute: 0.05 / 60 per second.
+    assert!((m.steps[6].forward.pre_exponential_si / (0.05 / 60.0) - 1.0).abs() < 1e-12);
+    // step 9, order 0: 1e-12 mol/(cm3 s) = 1e-6 mol/(m3 s).
+    assert!((m.steps[8].forward.pre_exponential_si / 1e-6 - 1.0).abs() < 1e-12);
+    // O2 + O2 on a side adds up to 2 O2, so steps 4 and 5 are a declared duplicate pair.
+    assert_eq!(m.steps[3].products, m.steps[4].products);
+    let n2 = m.species_index("N2").expect("N2");
+    assert_eq!(m.steps[1].third_body, Some(ThirdBody::Species(n2)));
+}

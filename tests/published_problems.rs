@@ -6,6 +6,9 @@
 //! - HIRES: Bari;
 //! - Oregonator: Hairer & Wanner's data file and Bari.
 
+// Reference values are quoted with every digit their source publishes.
+#![allow(clippy::excessive_precision)]
+
 use std::path::Path;
 use stoik::kinetics::Kinetics;
 use stoik::mechanism::{load_mechanism, load_scenario};

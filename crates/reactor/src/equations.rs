@@ -3,7 +3,8 @@
 //! The operator traits are implemented directly (not through diffsol's closure builder) so
 //! that the Jacobian is written analytically in one pass into a pattern known from the
 //! stoichiometry: dense column-major for [`NalgebraMat`], compressed sparse column for
-//! [`FaerSparseMat`]. Rate constants are evaluated once per temperature and stored here.
+//! [`FaerSparseMat`]. Rate constants are evaluated once per temperature and stored here, in
+//! place (interior mutability: the solver holds the equations by shared reference).
 
 use std::cell::{Cell, RefCell};
 
@@ -124,11 +125,17 @@ pub(crate) fn pattern_is_valid(pattern: &JacobianPattern) -> bool {
 }
 
 /// `dc/dt = w(c)` for a closed isothermal constant-volume batch reactor.
+///
+/// The rate constants live in interior-mutable storage so that the temperature can change
+/// while a diffsol solver holds a shared reference to the problem (see
+/// [`BatchEquations::set_temperature`]); they are overwritten in place, never reallocated.
 pub(crate) struct BatchEquations<M: Backend> {
     pub(crate) kinetics: Kinetics,
     /// Rate constants at the current temperature (SI).
-    pub(crate) rate_constants: RateConstants,
-    /// Initial concentrations (mol/m3) used when a solver state is (re)built.
+    rate_constants: RefCell<RateConstants>,
+    /// The temperature the rate constants were evaluated at (K).
+    temperature_k: Cell<f64>,
+    /// Initial concentrations (mol/m3) used when a solver state is built.
     pub(crate) initial: Vec<f64>,
     /// Scratch for Jacobian-vector products (length `nnz`), allocated once.
     jac_values: RefCell<Vec<f64>>,
@@ -146,7 +153,8 @@ impl<M: Backend> BatchEquations<M> {
         let sparsity = M::pattern_sparsity(kinetics.jacobian_pattern());
         Self {
             kinetics,
-            rate_constants,
+            rate_constants: RefCell::new(rate_constants),
+            temperature_k: Cell::new(temperature_k),
             initial,
             jac_values: RefCell::new(vec![0.0; nnz]),
             rhs_evaluations: Cell::new(0),
@@ -156,10 +164,27 @@ impl<M: Backend> BatchEquations<M> {
         }
     }
 
-    /// Re-evaluates the rate constants at `temperature_k` (K), without allocating.
-    pub(crate) fn set_temperature(&mut self, temperature_k: f64) {
+    /// Re-evaluates the rate constants at `temperature_k` (K) in place, without allocating.
+    ///
+    /// Takes `&self`: a live solver borrows the equations. The rate constants are only
+    /// borrowed inside a right-hand-side or Jacobian evaluation, which never calls back here,
+    /// so the exclusive borrow cannot conflict.
+    pub(crate) fn set_temperature(&self, temperature_k: f64) {
         self.kinetics
-            .evaluate_rate_constants(temperature_k, &mut self.rate_constants);
+            .evaluate_rate_constants(temperature_k, &mut self.rate_constants.borrow_mut());
+        self.temperature_k.set(temperature_k);
+    }
+
+    /// The temperature of the rate constants (K).
+    pub(crate) fn temperature_k(&self) -> f64 {
+        self.temperature_k.get()
+    }
+
+    /// `w = w(c)` (mol/(m3 s)), counted as one right-hand-side evaluation.
+    pub(crate) fn production_rates(&self, c: &[f64], w: &mut [f64]) {
+        self.rhs_evaluations.set(self.rhs_evaluations.get() + 1);
+        self.kinetics
+            .production_rates(&self.rate_constants.borrow(), c, w);
     }
 
     /// Whether the sparse backend received a usable pattern (always true for dense).
@@ -207,10 +232,7 @@ impl_op!(BatchInit);
 
 impl<M: Backend> NonLinearOp for BatchRhs<'_, M> {
     fn call_inplace(&self, x: &M::V, _t: f64, y: &mut M::V) {
-        let eqn = self.eqn;
-        eqn.rhs_evaluations.set(eqn.rhs_evaluations.get() + 1);
-        eqn.kinetics
-            .production_rates(&eqn.rate_constants, M::slice(x), M::slice_mut(y));
+        self.eqn.production_rates(M::slice(x), M::slice_mut(y));
     }
 }
 
@@ -222,7 +244,7 @@ impl<M: Backend> NonLinearOpJacobian for BatchRhs<'_, M> {
         let pattern = eqn.kinetics.jacobian_pattern();
         let mut values = eqn.jac_values.borrow_mut();
         eqn.kinetics
-            .jacobian_sparse(&eqn.rate_constants, M::slice(x), &mut values);
+            .jacobian_sparse(&eqn.rate_constants.borrow(), M::slice(x), &mut values);
         let v = M::slice(v);
         let y = M::slice_mut(y);
         y.iter_mut().for_each(|e| *e = 0.0);
@@ -240,7 +262,8 @@ impl<M: Backend> NonLinearOpJacobian for BatchRhs<'_, M> {
         let eqn = self.eqn;
         eqn.jacobian_evaluations
             .set(eqn.jacobian_evaluations.get() + 1);
-        if !M::fill_jacobian(&eqn.kinetics, &eqn.rate_constants, M::slice(x), y) {
+        let filled = M::fill_jacobian(&eqn.kinetics, &eqn.rate_constants.borrow(), M::slice(x), y);
+        if !filled {
             // A matrix of unexpected structure: fall back to diffsol's column-by-column
             // construction from Jacobian-vector products (slow, but correct).
             self._default_jacobian_inplace(x, t, y);

@@ -1,18 +1,29 @@
-//! Driving diffsol's BDF solver: [`integrate`](crate::integrate) and [`BatchIntegrator`].
+//! Driving diffsol's BDF solver: [`BatchSystem`], [`BatchIntegrator`] and
+//! [`integrate`](crate::integrate).
 //!
-//! diffsol's solver borrows its problem (`Bdf<'a, ..>` holds `&'a OdeSolverProblem`), so a
-//! struct cannot own both without self-reference. [`BatchIntegrator`] therefore owns the
-//! problem and the solver's *state* (`BdfState`: time, step size, order, difference table)
-//! between calls, and builds a solver from that state on each
-//! [`BatchIntegrator::advance_to`]. Continuing from a saved state keeps the step size, order
-//! and history, so the integration itself is seamless; what each call costs is the solver
-//! set-up: a Newton matrix, one Jacobian evaluation and LU factorization, and (sparse path)
-//! the symbolic LU analysis of the fixed pattern. [`integrate`](crate::integrate) uses a
-//! single solver for the whole run.
+//! diffsol's solver borrows its problem (`Bdf<'a, ..>` holds `&'a OdeSolverProblem`), so the
+//! two live in two objects: [`BatchSystem`] owns the problem (the equations with their copy of
+//! the kinetics, the rate constants, the tolerances), and [`BatchIntegrator<'a>`] borrows it
+//! and owns one live solver for its whole session. Every operation of a session steps or
+//! modifies that same solver in place:
+//!
+//! - `advance_to` sets a stop time and steps;
+//! - `set_state`, `set_temperature` and `reset` write the new state (or re-evaluate the rate
+//!   constants in place) through diffsol's `state_mut`, which makes the solver's next step
+//!   restart at first order from the modified state, reusing its buffers. Before that step we
+//!   recompute the state derivative `dy = w(y)` (the first-order restart builds its
+//!   difference table from it), choose a fresh initial step size (the estimate of Hairer,
+//!   Norsett and Wanner, *Solving ODEs I*, section II.4, as diffsol uses for a new state,
+//!   here on preallocated scratch), and re-evaluate the solver's cached Jacobian at the new
+//!   state (diffsol's `jacobian()`, in place). diffsol itself does not re-evaluate the
+//!   Jacobian on a state change; it rebuilds the Newton matrix from the cached Jacobian when the
+//!   step coefficient `h * alpha_order` moved beyond its threshold, which the restart at order 1
+//!   with a fresh step size almost always does. Should it not, Newton's convergence test
+//!   rejects the stale matrix and diffsol rebuilds it: the result is right either way.
 
 use diffsol::{
-    Bdf, BdfState, DiffsolError, FaerSparseLU, FaerSparseMat, FaerVec, NalgebraLU, NalgebraMat,
-    NalgebraVec, OdeBuilder, OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op, Vector,
+    Bdf, DiffsolError, FaerSparseLU, FaerSparseMat, NalgebraLU, NalgebraMat, OdeBuilder,
+    OdeSolverConfig, OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op, Vector,
 };
 use stoik_kinetics::Kinetics;
 
@@ -22,15 +33,13 @@ use crate::{
     ReactorError, SolverStats,
 };
 
-/// Checks the per-call arguments shared by [`crate::integrate`] and [`BatchIntegrator::new`].
-fn validate(
+/// Checks the options and the temperature of a [`BatchSystem`].
+fn validate_options(
     kinetics: &Kinetics,
     temperature_k: f64,
-    initial: &[f64],
     options: &IntegrationOptions,
 ) -> Result<(), ReactorError> {
     let n = kinetics.n_species();
-    check_state(n, initial, "initial state")?;
     check_temperature(temperature_k)?;
     let rtol = options.relative_tolerance;
     if !(rtol.is_finite() && rtol > 0.0) {
@@ -137,213 +146,419 @@ where
     Ok(())
 }
 
-/// Counts that diffsol keeps per solver, accumulated over the solvers of one integrator.
-fn add_solver_statistics<'a, M, S>(solver: &S, stats: &mut SolverStats)
+/// The weighted root-mean-square norm of `x` with weights `atol_i + rtol |y_i|`.
+fn weighted_rms(x: &[f64], y: &[f64], atol: &[f64], rtol: f64) -> f64 {
+    if x.is_empty() {
+        return 0.0;
+    }
+    let sum: f64 = x
+        .iter()
+        .zip(y)
+        .zip(atol)
+        .map(|((x, y), a)| {
+            let r = x / (a + rtol * y.abs());
+            r * r
+        })
+        .sum();
+    (sum / x.len() as f64).sqrt()
+}
+
+/// Initial step size (s) for a first-order start from `y` with derivative `f0 = w(y)`: the
+/// estimate of Hairer, Norsett and Wanner, *Solving Ordinary Differential Equations I*,
+/// section II.4 (the one diffsol applies to a new state), computed in the preallocated
+/// scratch `y1`, `f1` (one right-hand-side evaluation, no allocation).
+fn initial_step<M: Backend>(
+    eqn: &BatchEquations<M>,
+    y: &[f64],
+    f0: &[f64],
+    atol: &[f64],
+    rtol: f64,
+    y1: &mut [f64],
+    f1: &mut [f64],
+) -> f64 {
+    let d0 = weighted_rms(y, y, atol, rtol);
+    let d1 = weighted_rms(f0, y, atol, rtol);
+    let h0 = if d0 < 1e-5 || d1 < 1e-5 {
+        1e-6
+    } else {
+        0.01 * d0 / d1
+    };
+    for ((y1, y), f0) in y1.iter_mut().zip(y).zip(f0) {
+        *y1 = y + h0 * f0;
+    }
+    eqn.production_rates(y1, f1);
+    for (f1, f0) in f1.iter_mut().zip(f0) {
+        *f1 -= f0;
+    }
+    let d2 = weighted_rms(f1, y, atol, rtol) / h0;
+    let max_d = d1.max(d2);
+    // BDF restarts at order 1: h1 = (0.01 / max_d)^(1 / (order + 1))
+    let h1 = if max_d < 1e-15 {
+        (h0 * 1e-3).max(1e-6)
+    } else {
+        (0.01 / max_d).sqrt()
+    };
+    (100.0 * h0).min(h1)
+}
+
+/// One live diffsol solver with the scratch its session needs, generic over the backend `M`
+/// and the solver type `S` (a [`Bdf`] on `M`'s LU).
+struct Stepper<M: Backend, S> {
+    solver: S,
+    /// Interpolation output (one state vector).
+    buffer: M::V,
+    /// Scratch of the initial-step estimate (one state each).
+    probe_y: Vec<f64>,
+    probe_w: Vec<f64>,
+    /// Accepted steps allowed per call.
+    max_steps: usize,
+    /// The equations' right-hand-side and Jacobian counters when the session began.
+    rhs_base: usize,
+    jacobian_base: usize,
+}
+
+impl<'a, M, S> Stepper<M, S>
 where
     M: Backend + 'a,
     S: OdeSolverMethod<'a, BatchEquations<M>>,
 {
-    let s = solver.get_statistics();
-    stats.steps += s.number_of_steps;
-    stats.factorizations += s.number_of_linear_solver_setups;
-    stats.error_test_failures += s.number_of_error_test_failures;
-    stats.nonlinear_failures += s.number_of_nonlinear_solver_fails;
-}
-
-/// A solver failure inside one engine call: time reached and message.
-struct StepFailure {
-    time_s: f64,
-    reason: String,
-}
-
-macro_rules! engine {
-    ($name:ident, $mat:ty, $vec:ty, $ls:ty) => {
-        /// The diffsol problem and the saved solver state of one linear-algebra backend.
-        struct $name {
-            problem: OdeSolverProblem<BatchEquations<$mat>>,
-            /// The solver state after the last call; `None` forces a fresh start from
-            /// `problem.eqn.initial` at `problem.t0` (first call, or after a change).
-            saved: Option<BdfState<$vec>>,
-        }
-
-        impl $name {
-            fn new(
-                kinetics: &Kinetics,
-                temperature_k: f64,
-                initial: &[f64],
-                t0: f64,
-                options: &IntegrationOptions,
-            ) -> Result<Self, ReactorError> {
-                let eqn =
-                    BatchEquations::<$mat>::new(kinetics.clone(), temperature_k, initial.to_vec());
-                if !eqn.has_valid_structure() {
-                    return Err(ReactorError::BadPattern);
-                }
-                let mut problem = OdeBuilder::<$mat>::new()
-                    .rtol(options.relative_tolerance)
-                    .atol(options.absolute_tolerances_mol_per_m3.clone())
-                    .t0(t0)
-                    .build_from_eqn(eqn)
-                    .map_err(|e| ReactorError::Setup(e.to_string()))?;
-                // diffsol's step budget is per solver; a solver lives for one call here.
-                problem.ode_options.max_number_timesteps = options.max_steps;
-                Ok(Self {
-                    problem,
-                    saved: None,
-                })
-            }
-
-            /// Integrates to `outputs` (see [`drive`]); on return `current`/`time` hold the
-            /// state reached, also on failure.
-            fn advance(
-                &mut self,
-                outputs: &[f64],
-                record: &mut dyn FnMut(f64, &[f64]),
-                stats: &mut SolverStats,
-                current: &mut [f64],
-                time: &mut f64,
-            ) -> Result<(), StepFailure> {
-                let state = match self.saved.take() {
-                    Some(state) => state,
-                    None => self.problem.bdf_state::<$ls>().map_err(|e| StepFailure {
-                        time_s: *time,
-                        reason: e.to_string(),
-                    })?,
-                };
-                let mut solver: Bdf<'_, BatchEquations<$mat>, $ls> = self
-                    .problem
-                    .bdf_solver::<$ls>(state)
-                    .map_err(|e| StepFailure {
-                        time_s: *time,
-                        reason: e.to_string(),
-                    })?;
-                let mut buffer = <$vec>::zeros(current.len(), self.problem.eqn.context().clone());
-                let result = drive::<$mat, _>(
-                    &mut solver,
-                    outputs,
-                    &mut buffer,
-                    record,
-                    &mut stats.most_negative_concentration_mol_per_m3,
-                );
-                add_solver_statistics::<$mat, _>(&solver, stats);
-                {
-                    let state = solver.state();
-                    current.copy_from_slice(<$mat as Backend>::slice(state.y));
-                    *time = state.t;
-                }
-                let outcome = match result {
-                    Ok(()) => {
-                        self.saved = Some(solver.into_state());
-                        Ok(())
-                    }
-                    Err(e) => {
-                        drop(solver);
-                        Err(StepFailure {
-                            time_s: *time,
-                            reason: e.to_string(),
-                        })
-                    }
-                };
-                let eqn = &self.problem.eqn;
-                stats.rhs_evaluations = eqn.rhs_evaluations.get();
-                stats.jacobian_evaluations = eqn.jacobian_evaluations.get();
-                if outcome.is_err() {
-                    // Restart from the last accepted state next time.
-                    self.restart(current, *time);
-                }
-                outcome
-            }
-
-            /// Forgets the solver history: the next call starts afresh (first order, new
-            /// initial step) from `c` at `t`.
-            fn restart(&mut self, c: &[f64], t: f64) {
-                self.problem.eqn.initial.copy_from_slice(c);
-                self.problem.t0 = t;
-                self.saved = None;
-            }
-
-            fn set_temperature(&mut self, temperature_k: f64) {
-                self.problem.eqn.set_temperature(temperature_k);
-            }
-        }
-    };
-}
-
-engine!(
-    DenseEngine,
-    NalgebraMat<f64>,
-    NalgebraVec<f64>,
-    NalgebraLU<f64>
-);
-engine!(
-    SparseEngine,
-    FaerSparseMat<f64>,
-    FaerVec<f64>,
-    FaerSparseLU<f64>
-);
-
-enum Engine {
-    Dense(Box<DenseEngine>),
-    Sparse(Box<SparseEngine>),
-}
-
-impl Engine {
-    fn new(
-        kinetics: &Kinetics,
-        temperature_k: f64,
-        initial: &[f64],
+    /// Builds a solver on `problem` from `initial` (mol/m3) at `t0` (s): the allocating step.
+    fn open(
+        problem: &'a mut OdeSolverProblem<BatchEquations<M>>,
         t0: f64,
-        options: &IntegrationOptions,
-    ) -> Result<(Engine, LinearAlgebra), ReactorError> {
-        match options.linear_algebra.resolve(kinetics) {
-            LinearAlgebra::Sparse => Ok((
-                Engine::Sparse(Box::new(SparseEngine::new(
-                    kinetics,
-                    temperature_k,
-                    initial,
-                    t0,
-                    options,
-                )?)),
-                LinearAlgebra::Sparse,
-            )),
-            _ => Ok((
-                Engine::Dense(Box::new(DenseEngine::new(
-                    kinetics,
-                    temperature_k,
-                    initial,
-                    t0,
-                    options,
-                )?)),
-                LinearAlgebra::Dense,
-            )),
-        }
+        initial: &[f64],
+        max_steps: usize,
+        make: impl FnOnce(&'a OdeSolverProblem<BatchEquations<M>>) -> Result<S, DiffsolError>,
+    ) -> Result<Self, ReactorError> {
+        problem.eqn.initial.copy_from_slice(initial);
+        problem.t0 = t0;
+        let problem: &'a OdeSolverProblem<BatchEquations<M>> = problem;
+        let rhs_base = problem.eqn.rhs_evaluations.get();
+        let jacobian_base = problem.eqn.jacobian_evaluations.get();
+        let solver = make(problem).map_err(|e| ReactorError::Setup(e.to_string()))?;
+        let n = initial.len();
+        Ok(Stepper {
+            solver,
+            buffer: M::V::zeros(n, problem.eqn.context().clone()),
+            probe_y: vec![0.0; n],
+            probe_w: vec![0.0; n],
+            max_steps,
+            rhs_base,
+            jacobian_base,
+        })
     }
 
+    fn state(&self) -> &[f64] {
+        M::slice(self.solver.state().y)
+    }
+
+    fn time(&self) -> f64 {
+        self.solver.state().t
+    }
+
+    fn temperature(&self) -> f64 {
+        self.solver.problem().eqn.temperature_k()
+    }
+
+    /// Steps to `outputs` (see [`drive`]) with a budget of `max_steps` accepted steps. After a
+    /// failure the solver is restarted at its last accepted state.
     fn advance(
         &mut self,
         outputs: &[f64],
         record: &mut dyn FnMut(f64, &[f64]),
-        stats: &mut SolverStats,
-        current: &mut [f64],
-        time: &mut f64,
-    ) -> Result<(), StepFailure> {
-        match self {
-            Engine::Dense(e) => e.advance(outputs, record, stats, current, time),
-            Engine::Sparse(e) => e.advance(outputs, record, stats, current, time),
+        negative: &mut f64,
+    ) -> Result<(), DiffsolError> {
+        let budget = self
+            .solver
+            .get_statistics()
+            .number_of_steps
+            .saturating_add(self.max_steps);
+        *self
+            .solver
+            .config_mut()
+            .as_base_mut()
+            .maximum_number_timesteps = budget;
+        let result = drive::<M, S>(
+            &mut self.solver,
+            outputs,
+            &mut self.buffer,
+            record,
+            negative,
+        );
+        if result.is_err() {
+            self.restart(None, None);
         }
+        result
     }
 
-    fn restart(&mut self, c: &[f64], t: f64) {
-        match self {
-            Engine::Dense(e) => e.restart(c, t),
-            Engine::Sparse(e) => e.restart(c, t),
+    /// Modifies the solver's state in place (time `time_s` if given, concentrations `c` if
+    /// given) and prepares a first-order restart from it: `dy = w(y)`, a fresh initial step
+    /// size, and the cached Jacobian re-evaluated at the new state. No allocation.
+    fn restart(&mut self, time_s: Option<f64>, c: Option<&[f64]>) {
+        let problem = self.solver.problem();
+        let eqn = &problem.eqn;
+        let atol = M::slice(&problem.atol);
+        let rtol = problem.rtol;
+        let state = self.solver.state_mut();
+        if let Some(c) = c {
+            M::slice_mut(state.y).copy_from_slice(c);
         }
+        if let Some(t) = time_s {
+            *state.t = t;
+        }
+        let y = M::slice(state.y);
+        let dy = M::slice_mut(state.dy);
+        eqn.production_rates(y, dy);
+        *state.h = initial_step(eqn, y, dy, atol, rtol, &mut self.probe_y, &mut self.probe_w);
+        // Re-evaluates the solver's cached right-hand-side Jacobian at the new state, in
+        // place; the returned borrow is released at once.
+        drop(self.solver.jacobian());
     }
 
     fn set_temperature(&mut self, temperature_k: f64) {
-        match self {
-            Engine::Dense(e) => e.set_temperature(temperature_k),
-            Engine::Sparse(e) => e.set_temperature(temperature_k),
+        self.solver.problem().eqn.set_temperature(temperature_k);
+        self.restart(None, None);
+    }
+
+    /// Writes the session's counts into `stats` (keeping its positivity report).
+    fn fill_stats(&self, stats: &mut SolverStats) {
+        let s = self.solver.get_statistics();
+        stats.steps = s.number_of_steps;
+        stats.factorizations = s.number_of_linear_solver_setups;
+        stats.error_test_failures = s.number_of_error_test_failures;
+        stats.nonlinear_failures = s.number_of_nonlinear_solver_fails;
+        let eqn = &self.solver.problem().eqn;
+        stats.rhs_evaluations = eqn.rhs_evaluations.get() - self.rhs_base;
+        stats.jacobian_evaluations = eqn.jacobian_evaluations.get() - self.jacobian_base;
+    }
+}
+
+type DenseEquations = BatchEquations<NalgebraMat<f64>>;
+type SparseEquations = BatchEquations<FaerSparseMat<f64>>;
+type DenseStepper<'a> = Stepper<NalgebraMat<f64>, Bdf<'a, DenseEquations, NalgebraLU<f64>>>;
+type SparseStepper<'a> = Stepper<FaerSparseMat<f64>, Bdf<'a, SparseEquations, FaerSparseLU<f64>>>;
+
+/// The live solver of one backend.
+enum Session<'a> {
+    Dense(Box<DenseStepper<'a>>),
+    Sparse(Box<SparseStepper<'a>>),
+}
+
+/// Runs `$body` with `$s` bound to the stepper of either backend.
+macro_rules! with_stepper {
+    ($session:expr, $s:ident => $body:expr) => {
+        match $session {
+            Session::Dense($s) => $body,
+            Session::Sparse($s) => $body,
+        }
+    };
+}
+
+/// The diffsol problem of one backend.
+enum Problem {
+    Dense(Box<OdeSolverProblem<DenseEquations>>),
+    Sparse(Box<OdeSolverProblem<SparseEquations>>),
+}
+
+fn build_problem<M: Backend>(
+    kinetics: &Kinetics,
+    temperature_k: f64,
+    options: &IntegrationOptions,
+) -> Result<OdeSolverProblem<BatchEquations<M>>, ReactorError> {
+    let n = kinetics.n_species();
+    let eqn = BatchEquations::<M>::new(kinetics.clone(), temperature_k, vec![0.0; n]);
+    if !eqn.has_valid_structure() {
+        return Err(ReactorError::BadPattern);
+    }
+    let mut problem = OdeBuilder::<M>::new()
+        .rtol(options.relative_tolerance)
+        .atol(options.absolute_tolerances_mol_per_m3.clone())
+        .build_from_eqn(eqn)
+        .map_err(|e| ReactorError::Setup(e.to_string()))?;
+    problem.ode_options.max_number_timesteps = options.max_steps;
+    Ok(problem)
+}
+
+/// The batch-reactor equations of one compiled mechanism, set up once for repeated use.
+///
+/// Holds a copy of the kinetics, the rate constants at the current temperature, the
+/// tolerances and the step budget. Integrate with it as often as needed, from any initial
+/// state ([`integrate`](Self::integrate)), or open a stepping session on it
+/// ([`integrator`](Self::integrator)).
+///
+/// # Cost model
+///
+/// - [`BatchSystem::new`] allocates: the kinetics copy, the rate-constant arrays, scratch for
+///   Jacobian-vector products, the tolerance vector and (sparse path) the Jacobian pattern.
+/// - [`integrator`](Self::integrator) and [`integrate`](Self::integrate) allocate one diffsol
+///   BDF solver each: its state and difference table, the Newton matrix and LU (on the sparse
+///   path also the symbolic analysis of the fixed pattern and faer's numeric LU storage), plus
+///   a few state-sized scratch vectors. [`integrate`](Self::integrate) also allocates the
+///   output rows.
+/// - [`set_temperature`](Self::set_temperature) re-evaluates the rate constants in place: no
+///   allocation.
+///
+/// The system is the mechanism's owner for its integrators: the temperature is shared, so
+/// [`BatchIntegrator::set_temperature`] changes the system's temperature too, and an
+/// integrator borrows the system exclusively while it lives.
+pub struct BatchSystem {
+    problem: Problem,
+    linear_algebra_used: LinearAlgebra,
+    n_species: usize,
+    max_steps: usize,
+}
+
+impl BatchSystem {
+    /// Sets up `kinetics` (copied) at `temperature_k` (K) with `options` (tolerances, linear
+    /// algebra, step budget per call).
+    pub fn new(
+        kinetics: &Kinetics,
+        temperature_k: f64,
+        options: &IntegrationOptions,
+    ) -> Result<BatchSystem, ReactorError> {
+        validate_options(kinetics, temperature_k, options)?;
+        let used = options.linear_algebra.resolve(kinetics);
+        let problem = match used {
+            LinearAlgebra::Sparse => Problem::Sparse(Box::new(
+                build_problem::<FaerSparseMat<f64>>(kinetics, temperature_k, options)?,
+            )),
+            _ => Problem::Dense(Box::new(build_problem::<NalgebraMat<f64>>(
+                kinetics,
+                temperature_k,
+                options,
+            )?)),
+        };
+        Ok(BatchSystem {
+            problem,
+            linear_algebra_used: match used {
+                LinearAlgebra::Sparse => LinearAlgebra::Sparse,
+                _ => LinearAlgebra::Dense,
+            },
+            n_species: kinetics.n_species(),
+            max_steps: options.max_steps,
+        })
+    }
+
+    /// Number of species (the length of every state vector).
+    pub fn n_species(&self) -> usize {
+        self.n_species
+    }
+
+    /// The current temperature (K): the last one set on the system or on one of its
+    /// integrators.
+    pub fn temperature(&self) -> f64 {
+        match &self.problem {
+            Problem::Dense(p) => p.eqn.temperature_k(),
+            Problem::Sparse(p) => p.eqn.temperature_k(),
+        }
+    }
+
+    /// Changes the temperature (K) for the integrations that follow; the rate constants are
+    /// re-evaluated in place (no allocation).
+    pub fn set_temperature(&mut self, temperature_k: f64) -> Result<(), ReactorError> {
+        check_temperature(temperature_k)?;
+        match &self.problem {
+            Problem::Dense(p) => p.eqn.set_temperature(temperature_k),
+            Problem::Sparse(p) => p.eqn.set_temperature(temperature_k),
+        }
+        Ok(())
+    }
+
+    /// The linear algebra in use ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]).
+    pub fn linear_algebra_used(&self) -> LinearAlgebra {
+        self.linear_algebra_used
+    }
+
+    /// Opens a stepping session starting from `initial_mol_per_m3` (mol/m3, one per species)
+    /// at t = 0 s, at the system's current temperature. Allocates the session's solver (see
+    /// the cost model of [`BatchSystem`] and [`BatchIntegrator`]).
+    pub fn integrator(
+        &mut self,
+        initial_mol_per_m3: &[f64],
+    ) -> Result<BatchIntegrator<'_>, ReactorError> {
+        check_state(self.n_species, initial_mol_per_m3, "initial state")?;
+        self.open(0.0, initial_mol_per_m3)
+    }
+
+    fn open(&mut self, t0: f64, initial: &[f64]) -> Result<BatchIntegrator<'_>, ReactorError> {
+        let max_steps = self.max_steps;
+        let linear_algebra_used = self.linear_algebra_used;
+        let session = match &mut self.problem {
+            Problem::Dense(p) => {
+                Session::Dense(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
+                    p.bdf::<NalgebraLU<f64>>()
+                })?))
+            }
+            Problem::Sparse(p) => {
+                Session::Sparse(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
+                    p.bdf::<FaerSparseLU<f64>>()
+                })?))
+            }
+        };
+        let mut stats = SolverStats::default();
+        most_negative(initial, &mut stats.most_negative_concentration_mol_per_m3);
+        let mut integrator = BatchIntegrator {
+            session,
+            linear_algebra_used,
+            stats,
+        };
+        integrator.refresh_stats();
+        Ok(integrator)
+    }
+
+    /// Integrates from `initial_mol_per_m3` (mol/m3, one per species) at `output_times_s[0]`
+    /// (s) at the system's current temperature and returns the concentrations at every time
+    /// of `output_times_s` (finite, strictly increasing; the first row is the initial state).
+    /// See [`crate::integrate`], which this is without the set-up.
+    pub fn integrate(
+        &mut self,
+        initial_mol_per_m3: &[f64],
+        output_times_s: &[f64],
+    ) -> Result<Profiles, IntegrationError> {
+        check_state(self.n_species, initial_mol_per_m3, "initial state")?;
+        let Some(&t0) = output_times_s.first() else {
+            return Err(ReactorError::NoOutputTimes.into());
+        };
+        if let Some(index) = output_times_s
+            .iter()
+            .enumerate()
+            .position(|(i, t)| !t.is_finite() || (i > 0 && *t <= output_times_s[i - 1]))
+        {
+            return Err(ReactorError::OutputTimesNotIncreasing {
+                index,
+                value: output_times_s[index],
+            }
+            .into());
+        }
+        let mut integrator = self.open(t0, initial_mol_per_m3)?;
+        let mut profiles = Profiles {
+            times_s: Vec::with_capacity(output_times_s.len()),
+            concentrations_mol_per_m3: Vec::with_capacity(output_times_s.len()),
+            stats: SolverStats::default(),
+            linear_algebra_used: integrator.linear_algebra_used,
+        };
+        profiles.times_s.push(t0);
+        profiles
+            .concentrations_mol_per_m3
+            .push(initial_mol_per_m3.to_vec());
+        let (times, rows) = (
+            &mut profiles.times_s,
+            &mut profiles.concentrations_mol_per_m3,
+        );
+        let mut record = |t: f64, c: &[f64]| {
+            times.push(t);
+            rows.push(c.to_vec());
+        };
+        let result = integrator.run(&output_times_s[1..], &mut record);
+        profiles.stats = integrator.stats;
+        match result {
+            Ok(()) => Ok(profiles),
+            Err(reason) => Err(IntegrationFailure {
+                time_s: integrator.time(),
+                reason,
+                partial: profiles,
+            }
+            .into()),
         }
     }
 }
@@ -355,110 +570,43 @@ pub(crate) fn integrate(
     output_times_s: &[f64],
     options: &IntegrationOptions,
 ) -> Result<Profiles, IntegrationError> {
-    validate(kinetics, temperature_k, initial, options)?;
-    let Some(&t0) = output_times_s.first() else {
-        return Err(ReactorError::NoOutputTimes.into());
-    };
-    if let Some(index) = output_times_s
-        .iter()
-        .enumerate()
-        .position(|(i, t)| !t.is_finite() || (i > 0 && *t <= output_times_s[i - 1]))
-    {
-        return Err(ReactorError::OutputTimesNotIncreasing {
-            index,
-            value: output_times_s[index],
-        }
-        .into());
-    }
-    let (mut engine, used) = Engine::new(kinetics, temperature_k, initial, t0, options)?;
-    let mut profiles = Profiles {
-        times_s: Vec::with_capacity(output_times_s.len()),
-        concentrations_mol_per_m3: Vec::with_capacity(output_times_s.len()),
-        stats: SolverStats::default(),
-        linear_algebra_used: used,
-    };
-    profiles.times_s.push(t0);
-    profiles.concentrations_mol_per_m3.push(initial.to_vec());
-    most_negative(
-        initial,
-        &mut profiles.stats.most_negative_concentration_mol_per_m3,
-    );
-    let mut stats = profiles.stats;
-    let mut current = initial.to_vec();
-    let mut time = t0;
-    let (times, rows) = (
-        &mut profiles.times_s,
-        &mut profiles.concentrations_mol_per_m3,
-    );
-    let mut record = |t: f64, c: &[f64]| {
-        times.push(t);
-        rows.push(c.to_vec());
-    };
-    let result = engine.advance(
-        &output_times_s[1..],
-        &mut record,
-        &mut stats,
-        &mut current,
-        &mut time,
-    );
-    profiles.stats = stats;
-    match result {
-        Ok(()) => Ok(profiles),
-        Err(failure) => Err(IntegrationFailure {
-            time_s: failure.time_s,
-            reason: failure.reason,
-            partial: profiles,
-        }
-        .into()),
-    }
+    check_state(kinetics.n_species(), initial, "initial state")?;
+    let mut system = BatchSystem::new(kinetics, temperature_k, options)?;
+    system.integrate(initial, output_times_s)
 }
 
-/// A batch reactor integrated step by step, for process models that interleave reaction with
+/// A stepping session on a [`BatchSystem`], for process models that interleave reaction with
 /// other processes (operator splitting): advance to a time, read or change the state or the
 /// temperature, continue.
 ///
-/// The kinetics are copied in once. Between calls the integrator keeps diffsol's solver
-/// state (step size, order, history), so consecutive [`advance_to`](Self::advance_to) calls
-/// continue the same integration; each call does build a new solver around that state (one
-/// Jacobian evaluation and LU factorization, and on the sparse path one symbolic analysis of
-/// the fixed pattern), because diffsol's solver borrows its problem. After
-/// [`set_state`](Self::set_state) or [`set_temperature`](Self::set_temperature) the solver
-/// restarts at first order with a fresh initial step from the new state; the compiled
-/// kinetics, the Jacobian pattern and the rate-constant storage are reused.
-pub struct BatchIntegrator {
-    engine: Engine,
+/// # Cost model
+///
+/// Opening the session ([`BatchSystem::integrator`]) allocates one diffsol BDF solver; the
+/// session keeps that solver for its whole life. After that nothing allocates in steady use:
+///
+/// - [`advance_to`](Self::advance_to) steps the same solver to a stop time it hits exactly
+///   (continuing with its step size, order and history); the Jacobian is filled into the
+///   solver's existing matrix and the LU factorizations reuse their storage.
+/// - [`set_state`](Self::set_state), [`set_temperature`](Self::set_temperature) and
+///   [`reset`](Self::reset) modify the solver in place (the rate constants are re-evaluated
+///   into their arrays) and make it restart at first order from the new state with a fresh
+///   initial step size and a Jacobian re-evaluated at that state; each costs two
+///   right-hand-side evaluations and one Jacobian evaluation, and the next step one LU
+///   factorization.
+///
+/// Exceptions: the session's first step allocates the Newton solver's two work vectors
+/// (diffsol creates them lazily), and a solver failure allocates its error (message and
+/// one-row partial profile). The sparse path relies on faer sizing its numeric LU storage on
+/// the first factorization and reusing it afterwards (pivoting that needed more fill would
+/// grow it). The test `tests/allocations.rs` counts allocations on both paths: zero per round
+/// of `advance_to` + `set_state` + `set_temperature` after the first.
+pub struct BatchIntegrator<'a> {
+    session: Session<'a>,
     linear_algebra_used: LinearAlgebra,
-    current: Vec<f64>,
-    time_s: f64,
     stats: SolverStats,
 }
 
-impl BatchIntegrator {
-    /// An integrator for `kinetics` at `temperature_k` (K), starting from `initial_mol_per_m3`
-    /// (mol/m3, one per species) at t = 0 s.
-    pub fn new(
-        kinetics: &Kinetics,
-        temperature_k: f64,
-        initial_mol_per_m3: &[f64],
-        options: &IntegrationOptions,
-    ) -> Result<BatchIntegrator, ReactorError> {
-        validate(kinetics, temperature_k, initial_mol_per_m3, options)?;
-        let (engine, linear_algebra_used) =
-            Engine::new(kinetics, temperature_k, initial_mol_per_m3, 0.0, options)?;
-        let mut stats = SolverStats::default();
-        most_negative(
-            initial_mol_per_m3,
-            &mut stats.most_negative_concentration_mol_per_m3,
-        );
-        Ok(BatchIntegrator {
-            engine,
-            linear_algebra_used,
-            current: initial_mol_per_m3.to_vec(),
-            time_s: 0.0,
-            stats,
-        })
-    }
-
+impl BatchIntegrator<'_> {
     /// Integrates from the current time to `t_s` (s, not before the current time) and
     /// returns the concentrations there (mol/m3). The solver stops exactly at `t_s`.
     ///
@@ -466,77 +614,109 @@ impl BatchIntegrator {
     /// [`time`](Self::time) and [`state`](Self::state)) and restarts from there on the next
     /// call; the failure's partial profile is that single state.
     pub fn advance_to(&mut self, t_s: f64) -> Result<&[f64], IntegrationError> {
-        if !(t_s.is_finite() && t_s >= self.time_s) {
+        let now = self.time();
+        if !(t_s.is_finite() && t_s >= now) {
             return Err(ReactorError::TimeNotAhead {
                 requested_s: t_s,
-                current_s: self.time_s,
+                current_s: now,
             }
             .into());
         }
-        if t_s == self.time_s {
-            return Ok(&self.current);
+        if t_s > now {
+            let mut record = |_: f64, _: &[f64]| {};
+            if let Err(reason) = self.run(&[t_s], &mut record) {
+                let time_s = self.time();
+                return Err(IntegrationFailure {
+                    time_s,
+                    reason,
+                    partial: Profiles {
+                        times_s: vec![time_s],
+                        concentrations_mol_per_m3: vec![self.state().to_vec()],
+                        stats: self.stats,
+                        linear_algebra_used: self.linear_algebra_used,
+                    },
+                }
+                .into());
+            }
         }
-        let mut record = |_: f64, _: &[f64]| {};
-        let result = self.engine.advance(
-            &[t_s],
-            &mut record,
-            &mut self.stats,
-            &mut self.current,
-            &mut self.time_s,
-        );
+        Ok(self.state())
+    }
+
+    /// Steps through `outputs` (strictly after the current time, increasing), recording each;
+    /// updates the statistics also on failure.
+    fn run(&mut self, outputs: &[f64], record: &mut dyn FnMut(f64, &[f64])) -> Result<(), String> {
+        let negative = &mut self.stats.most_negative_concentration_mol_per_m3;
+        let result = with_stepper!(&mut self.session, s => s.advance(outputs, record, negative));
+        let reason = result.map_err(|e| e.to_string());
         most_negative(
-            &self.current,
+            with_stepper!(&self.session, s => s.state()),
             &mut self.stats.most_negative_concentration_mol_per_m3,
         );
-        match result {
-            Ok(()) => Ok(&self.current),
-            Err(failure) => Err(IntegrationFailure {
-                time_s: failure.time_s,
-                reason: failure.reason,
-                partial: Profiles {
-                    times_s: vec![self.time_s],
-                    concentrations_mol_per_m3: vec![self.current.clone()],
-                    stats: self.stats,
-                    linear_algebra_used: self.linear_algebra_used,
-                },
-            }
-            .into()),
-        }
+        self.refresh_stats();
+        reason
+    }
+
+    fn refresh_stats(&mut self) {
+        with_stepper!(&self.session, s => s.fill_stats(&mut self.stats));
     }
 
     /// Current concentrations (mol/m3).
     pub fn state(&self) -> &[f64] {
-        &self.current
+        with_stepper!(&self.session, s => s.state())
     }
 
     /// Current time (s).
     pub fn time(&self) -> f64 {
-        self.time_s
+        with_stepper!(&self.session, s => s.time())
+    }
+
+    /// Current temperature (K).
+    pub fn temperature(&self) -> f64 {
+        with_stepper!(&self.session, s => s.temperature())
     }
 
     /// Replaces the concentrations (mol/m3) at the current time, e.g. after adding a feed;
-    /// the solver restarts from them.
+    /// the solver restarts from them (no allocation).
     pub fn set_state(&mut self, c_mol_per_m3: &[f64]) -> Result<(), ReactorError> {
-        check_state(self.current.len(), c_mol_per_m3, "new state")?;
-        self.current.copy_from_slice(c_mol_per_m3);
-        most_negative(
-            &self.current,
-            &mut self.stats.most_negative_concentration_mol_per_m3,
-        );
-        self.engine.restart(&self.current, self.time_s);
+        check_state(self.state().len(), c_mol_per_m3, "new state")?;
+        with_stepper!(&mut self.session, s => s.restart(None, Some(c_mol_per_m3)));
+        self.after_change(c_mol_per_m3);
         Ok(())
     }
 
-    /// Changes the reactor temperature (K) from the current time on: the rate constants are
-    /// re-evaluated (no allocation) and the solver restarts from the current state.
+    /// Changes the reactor temperature (K) from the current time on (also for the
+    /// [`BatchSystem`]): the rate constants are re-evaluated in place and the solver restarts
+    /// from the current state (no allocation).
     pub fn set_temperature(&mut self, temperature_k: f64) -> Result<(), ReactorError> {
         check_temperature(temperature_k)?;
-        self.engine.set_temperature(temperature_k);
-        self.engine.restart(&self.current, self.time_s);
+        with_stepper!(&mut self.session, s => s.set_temperature(temperature_k));
+        self.refresh_stats();
         Ok(())
     }
 
-    /// Solver statistics accumulated since creation.
+    /// Starts over from `c_mol_per_m3` (mol/m3) at `time_s` (s, any finite time, also
+    /// earlier than the current one), keeping the solver, its buffers and the statistics
+    /// counts (no allocation). Use it to run the same system many times without opening a
+    /// new session.
+    pub fn reset(&mut self, time_s: f64, c_mol_per_m3: &[f64]) -> Result<(), ReactorError> {
+        check_state(self.state().len(), c_mol_per_m3, "new state")?;
+        if !time_s.is_finite() {
+            return Err(ReactorError::TimeNotAhead {
+                requested_s: time_s,
+                current_s: self.time(),
+            });
+        }
+        with_stepper!(&mut self.session, s => s.restart(Some(time_s), Some(c_mol_per_m3)));
+        self.after_change(c_mol_per_m3);
+        Ok(())
+    }
+
+    fn after_change(&mut self, c: &[f64]) {
+        most_negative(c, &mut self.stats.most_negative_concentration_mol_per_m3);
+        self.refresh_stats();
+    }
+
+    /// Solver statistics accumulated since the session was opened.
     pub fn stats(&self) -> &SolverStats {
         &self.stats
     }

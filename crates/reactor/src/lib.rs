@@ -10,8 +10,11 @@
 //!
 //! - [`integrate`] runs from an initial state to a list of output times and returns
 //!   [`Profiles`] (concentrations at exactly those times, plus [`SolverStats`]).
-//! - [`BatchIntegrator`] is the stepping interface for process models (operator splitting):
-//!   advance to a time, change the state (e.g. add a feed) or the temperature, continue.
+//! - [`BatchSystem`] sets a compiled mechanism up once (kinetics copy, rate constants,
+//!   tolerances) for repeated integrations under different conditions.
+//! - [`BatchIntegrator`], opened on a [`BatchSystem`], is the stepping interface for process
+//!   models (operator splitting): advance to a time, change the state (e.g. add a feed) or the
+//!   temperature, continue. It keeps one live solver and does not allocate in steady use.
 //! - [`element_balance`] checks the element invariants of a closed reactor on a profile.
 //!
 //! Numerics (see the design notes): the Jacobian is filled analytically from the kinetics in
@@ -27,7 +30,7 @@
 mod equations;
 mod integrator;
 
-pub use integrator::BatchIntegrator;
+pub use integrator::{BatchIntegrator, BatchSystem};
 
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::Mechanism;

@@ -9,8 +9,8 @@ use stoik_kinetics::Kinetics;
 use stoik_mechanism::model::{Element, Mechanism, Species};
 use stoik_mechanism::GAS_CONSTANT;
 use stoik_reactor::{
-    element_balance, integrate, BatchIntegrator, IntegrationError, IntegrationOptions,
-    LinearAlgebra, ReactorError,
+    element_balance, integrate, BatchSystem, IntegrationError, IntegrationOptions, LinearAlgebra,
+    ReactorError,
 };
 
 #[test]
@@ -29,7 +29,8 @@ fn ten_advances_equal_one_integration() {
     for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
         let opts = options(3, 1e-9, 1e-15, la);
         let once = integrate(&kin, T, &[1.0, 0.0, 0.0], &[0.0, 10.0], &opts).unwrap();
-        let mut stepper = BatchIntegrator::new(&kin, T, &[1.0, 0.0, 0.0], &opts).unwrap();
+        let mut system = BatchSystem::new(&kin, T, &opts).unwrap();
+        let mut stepper = system.integrator(&[1.0, 0.0, 0.0]).unwrap();
         assert_eq!(stepper.linear_algebra_used(), la);
         for i in 1..=10 {
             stepper.advance_to(i as f64).unwrap();
@@ -68,13 +69,9 @@ fn adding_mass_mid_run_matches_first_order_solution() {
     // B = A0 + dA - A.
     let (k, a0, da, t1) = (0.5, 1.0, 0.7, 1.0);
     let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], k)]);
-    let mut stepper = BatchIntegrator::new(
-        &kin,
-        T,
-        &[a0, 0.0],
-        &options(2, 1e-9, 1e-15, LinearAlgebra::Auto),
-    )
-    .unwrap();
+    let mut system =
+        BatchSystem::new(&kin, T, &options(2, 1e-9, 1e-15, LinearAlgebra::Auto)).unwrap();
+    let mut stepper = system.integrator(&[a0, 0.0]).unwrap();
     let mut c = stepper.advance_to(t1).unwrap().to_vec();
     assert_close("A(t1)", c[0], a0 * (-k * t1).exp(), 1e-7, 0.0);
     c[0] += da;
@@ -103,18 +100,91 @@ fn temperature_change_switches_the_arrhenius_rate_constant() {
     ));
     let k_of = |t: f64| 1e7 * (-50_000.0 / (GAS_CONSTANT * t)).exp();
     let (t_1, t_2, time1) = (300.0, 330.0, 10.0);
-    let mut stepper = BatchIntegrator::new(
-        &kin,
-        t_1,
-        &[1.0, 0.0],
-        &options(2, 1e-9, 1e-15, LinearAlgebra::Dense),
-    )
-    .unwrap();
-    stepper.advance_to(time1).unwrap();
-    stepper.set_temperature(t_2).unwrap();
-    let a = stepper.advance_to(20.0).unwrap()[0];
-    let expected = (-k_of(t_1) * time1).exp() * (-k_of(t_2) * (20.0 - time1)).exp();
-    assert_close("A(20 s)", a, expected, 1e-7, 1e-15);
+    for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
+        let mut system = BatchSystem::new(&kin, t_1, &options(2, 1e-9, 1e-15, la)).unwrap();
+        let mut stepper = system.integrator(&[1.0, 0.0]).unwrap();
+        stepper.advance_to(time1).unwrap();
+        stepper.set_temperature(t_2).unwrap();
+        let a = stepper.advance_to(20.0).unwrap()[0];
+        let expected = (-k_of(t_1) * time1).exp() * (-k_of(t_2) * (20.0 - time1)).exp();
+        assert_close(&format!("{la:?} A(20 s)"), a, expected, 1e-7, 1e-15);
+    }
+}
+
+#[test]
+fn one_system_integrates_many_times_at_several_temperatures() {
+    // A -> B with k(T) = A exp(-Ea/(R T)) (Arrhenius; R = 8.314462618 J/(mol K), CODATA):
+    // A(t) = A0 exp(-k(T) t) (Atkins, first-order integrated law), run on one system at three
+    // temperatures without rebuilding it.
+    let arrhenius = stoik_mechanism::model::Arrhenius {
+        pre_exponential_si: 1e7,
+        temperature_exponent: 0.0,
+        activation_energy_j_per_mol: 50_000.0,
+    };
+    let kin = Kinetics::compile(&mechanism(
+        &["A", "B"],
+        vec![arrhenius_step(&[(0, 1.0)], &[(1, 1.0)], arrhenius)],
+    ));
+    let k_of = |t: f64| 1e7 * (-50_000.0 / (GAS_CONSTANT * t)).exp();
+    for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
+        let mut system = BatchSystem::new(&kin, 300.0, &options(2, 1e-9, 1e-15, la)).unwrap();
+        for temperature in [300.0, 320.0, 310.0] {
+            system.set_temperature(temperature).unwrap();
+            assert_eq!(system.temperature(), temperature);
+            let p = system.integrate(&[2.0, 0.0], &[0.0, 5.0, 10.0]).unwrap();
+            assert_eq!(p.linear_algebra_used, la);
+            for (t, c) in p.times_s.iter().zip(&p.concentrations_mol_per_m3) {
+                let a = 2.0 * (-k_of(temperature) * t).exp();
+                assert_close(
+                    &format!("{la:?} A({t}) at {temperature} K"),
+                    c[0],
+                    a,
+                    1e-7,
+                    1e-15,
+                );
+            }
+        }
+        // A session changes the system's temperature too.
+        let mut stepper = system.integrator(&[1.0, 0.0]).unwrap();
+        stepper.set_temperature(330.0).unwrap();
+        assert_eq!(stepper.temperature(), 330.0);
+        drop(stepper);
+        assert_eq!(system.temperature(), 330.0);
+    }
+}
+
+#[test]
+fn reset_starts_the_same_session_over() {
+    // A -> B, k = 0.5 1/s: A(t) = A0 exp(-k t) (Atkins, first-order integrated law), from two
+    // starts of one session: A0 = 1 at t = 0, then A0 = 3 at t = 0 again after a reset.
+    let k = 0.5;
+    let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], k)]);
+    for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
+        let mut system = BatchSystem::new(&kin, T, &options(2, 1e-9, 1e-15, la)).unwrap();
+        let mut stepper = system.integrator(&[1.0, 0.0]).unwrap();
+        let a = stepper.advance_to(4.0).unwrap()[0];
+        assert_close(
+            &format!("{la:?} first run A(4)"),
+            a,
+            (-k * 4.0).exp(),
+            1e-7,
+            1e-15,
+        );
+        stepper.reset(0.0, &[3.0, 0.0]).unwrap();
+        assert_eq!(stepper.time(), 0.0);
+        for t in [1.0, 4.0] {
+            let c = stepper.advance_to(t).unwrap();
+            let a = 3.0 * (-k * t).exp();
+            assert_close(&format!("{la:?} second run A({t})"), c[0], a, 1e-7, 1e-15);
+            assert_close(
+                &format!("{la:?} second run B({t})"),
+                c[1],
+                3.0 - a,
+                1e-7,
+                1e-15,
+            );
+        }
+    }
 }
 
 #[test]
@@ -148,7 +218,8 @@ fn step_limit_failure_keeps_partial_profile_and_names_time() {
     assert_eq!(partial.stats.steps, 10);
 
     // The stepping interface fails the same way and stays usable at the time reached.
-    let mut stepper = BatchIntegrator::new(&kin, T, &[1.0, 0.0, 0.0], &opts).unwrap();
+    let mut system = BatchSystem::new(&kin, T, &opts).unwrap();
+    let mut stepper = system.integrator(&[1.0, 0.0, 0.0]).unwrap();
     let err = stepper.advance_to(40.0).unwrap_err();
     let failure = err.failure().unwrap();
     assert_eq!(stepper.time(), failure.time_s);
@@ -217,7 +288,8 @@ fn bad_arguments_are_typed_errors() {
         bad(integrate(&kin, T, &[1.0, 0.0, 0.0], &[0.0, 1.0], &short)),
         ReactorError::WrongLength { found: 2, .. }
     ));
-    let mut stepper = BatchIntegrator::new(&kin, T, &[1.0, 0.0, 0.0], &opts).unwrap();
+    let mut system = BatchSystem::new(&kin, T, &opts).unwrap();
+    let mut stepper = system.integrator(&[1.0, 0.0, 0.0]).unwrap();
     stepper.advance_to(1.0).unwrap();
     assert_eq!(
         bad(stepper.advance_to(0.5).map(|c| c.to_vec())),

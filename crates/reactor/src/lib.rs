@@ -36,10 +36,11 @@ use stoik_kinetics::Kinetics;
 use stoik_mechanism::Mechanism;
 
 /// Largest number of species for which [`LinearAlgebra::Auto`] picks dense linear algebra
-/// regardless of fill. Provisional: a benchmark (dense nalgebra LU against faer sparse LU on
-/// mechanisms of growing size) sets the crossover; measurements so far put it between 200
-/// and 1,000 species for hub-structured mechanisms.
-pub const DENSE_MAX_SPECIES: usize = 100;
+/// regardless of fill. Set by the `dense_vs_sparse` benchmark (benches/README.md): on
+/// hub-structured synthetic mechanisms dense and sparse LU tie at 25 species, sparse wins by
+/// 1.3-1.4x at 50 and 100, dense by 1.4x at 200, sparse by 3.9x at 400; the crossover lies
+/// between 100 and 400 species, and 150 splits it.
+pub const DENSE_MAX_SPECIES: usize = 150;
 
 /// Jacobian fill fraction (stored entries / n^2) above which [`LinearAlgebra::Auto`] picks
 /// dense linear algebra at any size: a sparse LU gains little on a matrix that full.

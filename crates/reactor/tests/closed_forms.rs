@@ -148,11 +148,11 @@ fn consecutive_first_order_follows_bateman() {
 
 #[test]
 fn long_equal_rate_chain_follows_poisson_form_on_the_sparse_path() {
-    // A_0 -> A_1 -> ... -> A_149 with one rate constant k: the Bateman solution with equal
-    // constants is c_i(t) = A0 (k t)^i e^{-k t} / i! for i < 149 (Steinfeld, Francisco &
-    // Hase, ch. 2, consecutive first-order reactions; from memory). 150 species with a
+    // A_0 -> A_1 -> ... -> A_{n-1} with one rate constant k: the Bateman solution with equal
+    // constants is c_i(t) = A0 (k t)^i e^{-k t} / i! for i < n - 1 (Steinfeld, Francisco &
+    // Hase, ch. 2, consecutive first-order reactions; from memory). 200 species with a
     // bidiagonal Jacobian: Auto must choose the sparse path.
-    let n = 150;
+    let n = 200;
     let (k, a0) = (2.0, 1.0);
     let names: Vec<String> = (0..n).map(|i| format!("A{i}")).collect();
     let names: Vec<&str> = names.iter().map(String::as_str).collect();

@@ -16,6 +16,8 @@
 //! non-integer power); integer orders use exact integer powers, so the right-hand side stays
 //! smooth through small negative excursions of the integrator.
 
+#![warn(missing_docs)]
+
 mod compile;
 mod pattern;
 

@@ -7,6 +7,8 @@
 //!
 //! This crate never evaluates a rate: it converts units once, at load, and checks the input.
 
+#![warn(missing_docs)]
+
 pub mod diagnostics;
 pub mod elements;
 pub mod equation;

@@ -27,6 +27,8 @@
 //! Nothing here panics on user data: bad arguments give [`ReactorError`], solver failures give
 //! [`IntegrationFailure`] with the profile computed so far.
 
+#![warn(missing_docs)]
+
 mod equations;
 mod integrator;
 

@@ -37,6 +37,8 @@
 //! assert!((a_end - (-1.0f64).exp()).abs() < 1e-5);
 //! ```
 
+#![warn(missing_docs)]
+
 pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;
 pub use stoik_reactor as reactor;

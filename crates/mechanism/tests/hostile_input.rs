@@ -1,0 +1,86 @@
+//! Malformed and hostile input never panics: random edits of a valid mechanism and of a valid
+//! scenario either load or are rejected with at least one located error (the stated contract of
+//! the loaders: every problem reported, no panic).
+
+use proptest::prelude::*;
+use std::path::Path;
+use stoik_mechanism::{parse_mechanism, parse_scenario, LoadError};
+
+const MECHANISM: &str = include_str!("../../../tests/bad-input/good.mech.toml");
+
+const SCENARIO: &str = "stoik_scenario = 1\nmechanism = \"good.mech.toml\"\n[reactor]\n\
+temperature = \"500 K\"\npressure = \"1 bar\"\n[initial]\nmole_fractions = { A = 0.5, B = 0.5 }\n\
+[output]\nend_time = \"2 s\"\ngrid = { spacing = \"log\", first = \"1e-3 s\", points = 5 }\n\
+[solver]\nrelative_tolerance = 1e-6\n";
+
+/// Applies `edits` (position, byte to insert or delete) to `text`.
+fn mutate(text: &str, edits: &[(usize, Option<u8>)]) -> String {
+    let mut bytes = text.as_bytes().to_vec();
+    for &(at, insert) in edits {
+        let at = at % (bytes.len() + 1);
+        match insert {
+            Some(b) => bytes.insert(at, b),
+            None if at < bytes.len() => {
+                bytes.remove(at);
+            }
+            None => {}
+        }
+    }
+    String::from_utf8_lossy(&bytes).into_owned()
+}
+
+fn edit() -> impl Strategy<Value = (usize, Option<u8>)> {
+    let interesting = prop_oneof![
+        Just(b'='),
+        Just(b'"'),
+        Just(b'['),
+        Just(b']'),
+        Just(b'{'),
+        Just(b'}'),
+        Just(b','),
+        Just(b'\n'),
+        Just(b'-'),
+        Just(b'>'),
+        Just(b'+'),
+        Just(b'0'),
+        Just(b'e'),
+        Just(b' '),
+        any::<u8>()
+    ];
+    (any::<usize>(), prop::option::of(interesting))
+}
+
+fn check(result: Result<usize, LoadError>) -> Result<(), TestCaseError> {
+    match result {
+        Ok(_) => Ok(()),
+        Err(LoadError::Invalid { diagnostics }) => {
+            prop_assert!(
+                diagnostics.error_count() >= 1,
+                "rejected without an error: {diagnostics}"
+            );
+            Ok(())
+        }
+        Err(LoadError::Io { .. }) => Ok(()),
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(400))]
+
+    #[test]
+    fn edited_mechanisms_never_panic(edits in prop::collection::vec(edit(), 1..8)) {
+        let text = mutate(MECHANISM, &edits);
+        check(parse_mechanism(&text, "edited.toml").map(|f| f.mechanism.steps.len()))?;
+    }
+
+    #[test]
+    fn edited_scenarios_never_panic(edits in prop::collection::vec(edit(), 1..8)) {
+        let text = mutate(SCENARIO, &edits);
+        check(parse_scenario(&text, "edited.scenario.toml", Path::new(".")).map(|(s, _)| s.max_steps))?;
+    }
+
+    #[test]
+    fn arbitrary_text_never_panics(text in "\\PC{0,300}") {
+        check(parse_mechanism(&text, "random.toml").map(|f| f.mechanism.steps.len()))?;
+    }
+}

@@ -34,17 +34,6 @@ pub struct RateConstants {
     pub reverse: Vec<f64>,
 }
 
-impl RateConstants {
-    /// Multiplies the forward and reverse rate constants of step `step` by `factor`
-    /// (dimensionless), as a sensitivity or uncertainty study does.
-    pub fn scale_step(&mut self, step: usize, factor: f64) {
-        if let (Some(f), Some(r)) = (self.forward.get_mut(step), self.reverse.get_mut(step)) {
-            *f *= factor;
-            *r *= factor;
-        }
-    }
-}
-
 /// One power-law factor `c_species^order` of a rate expression.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct OrderTerm {
@@ -158,6 +147,21 @@ impl Kinetics {
     /// Compiles `mechanism` (whose indices the loaders have validated).
     pub fn compile(mechanism: &Mechanism) -> Kinetics {
         compile::compile(mechanism)
+    }
+
+    /// Multiplies the forward and reverse pre-exponential factors of step `step` by `factor`
+    /// (dimensionless): a rate multiplier for sensitivity or uncertainty studies that leaves
+    /// the equilibrium constant kf/kr unchanged. Returns `false` (and changes nothing) when
+    /// `step` is out of range or `factor` is not finite and positive.
+    pub fn scale_step(&mut self, step: usize, factor: f64) -> bool {
+        if !(factor.is_finite() && factor > 0.0) || step >= self.n_steps {
+            return false;
+        }
+        self.forward[step].pre_exponential_si *= factor;
+        if let Some(reverse) = &mut self.reverse[step] {
+            reverse.pre_exponential_si *= factor;
+        }
+        true
     }
 
     /// Number of species (length of concentration vectors).

@@ -248,3 +248,23 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn scaling_a_step_scales_both_directions_and_keeps_their_ratio() {
+    // A <=> B with kf = 3, kr = 2, scaled by 10: kf = 30, kr = 20 (hand calculation).
+    let mut mechanism = Mechanism {
+        species: vec![species("A"), species("B")],
+        ..Mechanism::default()
+    };
+    let mut s = step(vec![term(0, 1.0)], vec![term(1, 1.0)], 3.0);
+    s.reversible = true;
+    s.reverse = Some(arrhenius(2.0));
+    mechanism.steps.push(s);
+    let mut kinetics = Kinetics::compile(&mechanism);
+    assert!(kinetics.scale_step(0, 10.0));
+    assert!(!kinetics.scale_step(1, 10.0));
+    assert!(!kinetics.scale_step(0, -1.0));
+    let k = kinetics.rate_constants(500.0);
+    approx::assert_relative_eq!(k.forward[0], 30.0, max_relative = 1e-15);
+    approx::assert_relative_eq!(k.reverse[0], 20.0, max_relative = 1e-15);
+}

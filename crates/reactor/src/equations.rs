@@ -9,12 +9,14 @@
 use std::cell::{Cell, RefCell};
 
 use diffsol::{
-    ConstantOp, FaerSparseLU, FaerSparseMat, FaerVec, LinearSolver, Matrix, NalgebraLU,
-    NalgebraMat, NalgebraVec, NonLinearOp, NonLinearOpJacobian, OdeEquations, OdeEquationsRef, Op,
-    ParameterisedOp, UnitCallable, Vector, VectorCommon,
+    ConstantOp, FaerSparseMat, FaerVec, LinearSolver, Matrix, NalgebraLU, NalgebraMat, NalgebraVec,
+    NonLinearOp, NonLinearOpJacobian, OdeEquations, OdeEquationsRef, Op, ParameterisedOp,
+    UnitCallable, Vector, VectorCommon,
 };
 use faer::sparse::SymbolicSparseColMat;
 use stoik_kinetics::{JacobianPattern, Kinetics, RateConstants};
+
+use crate::fixed_lu::FixedPatternSolver;
 
 /// A host linear-algebra backend: how to see diffsol's vectors as slices and how to write
 /// the analytic Jacobian into its matrix type.
@@ -63,7 +65,7 @@ impl Backend for NalgebraMat<f64> {
 }
 
 impl Backend for FaerSparseMat<f64> {
-    type Solver = FaerSparseLU<f64>;
+    type Solver = FixedPatternSolver;
 
     fn slice(v: &FaerVec<f64>) -> &[f64] {
         v.inner().col_as_slice(0)

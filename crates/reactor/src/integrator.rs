@@ -28,6 +28,7 @@ use diffsol::{
 use stoik_kinetics::Kinetics;
 
 use crate::equations::{pattern_is_valid, Backend, BatchEquations};
+use crate::fixed_lu::FixedPatternSolver;
 use crate::{
     IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra, Profiles,
     ReactorError, SolverStats,
@@ -336,12 +337,15 @@ where
 type DenseEquations = BatchEquations<NalgebraMat<f64>>;
 type SparseEquations = BatchEquations<FaerSparseMat<f64>>;
 type DenseStepper<'a> = Stepper<NalgebraMat<f64>, Bdf<'a, DenseEquations, NalgebraLU<f64>>>;
-type SparseStepper<'a> = Stepper<FaerSparseMat<f64>, Bdf<'a, SparseEquations, FaerSparseLU<f64>>>;
+type SparseStepper<'a> = Stepper<FaerSparseMat<f64>, Bdf<'a, SparseEquations, FixedPatternSolver>>;
+type SparseFaerStepper<'a> =
+    Stepper<FaerSparseMat<f64>, Bdf<'a, SparseEquations, FaerSparseLU<f64>>>;
 
 /// The live solver of one backend.
 enum Session<'a> {
     Dense(Box<DenseStepper<'a>>),
     Sparse(Box<SparseStepper<'a>>),
+    SparseFaer(Box<SparseFaerStepper<'a>>),
 }
 
 /// Runs `$body` with `$s` bound to the stepper of either backend.
@@ -350,11 +354,12 @@ macro_rules! with_stepper {
         match $session {
             Session::Dense($s) => $body,
             Session::Sparse($s) => $body,
+            Session::SparseFaer($s) => $body,
         }
     };
 }
 
-/// The diffsol problem of one backend.
+/// The diffsol problem of one backend (both sparse solvers share the sparse problem).
 enum Problem {
     Dense(Box<OdeSolverProblem<DenseEquations>>),
     Sparse(Box<OdeSolverProblem<SparseEquations>>),
@@ -392,7 +397,8 @@ fn build_problem<M: Backend>(
 ///   Jacobian-vector products, the tolerance vector and (sparse path) the Jacobian pattern.
 /// - [`integrator`](Self::integrator) and [`integrate`](Self::integrate) allocate one diffsol
 ///   BDF solver each: its state and difference table, the Newton matrix and LU (on the sparse
-///   path also the symbolic analysis of the fixed pattern and faer's numeric LU storage), plus
+///   path also the symbolic analysis of the fixed pattern: ordering, fill pattern and factor
+///   storage; with [`LinearAlgebra::SparseFaer`] faer's symbolic analysis), plus
 ///   a few state-sized scratch vectors. [`integrate`](Self::integrate) also allocates the
 ///   output rows.
 /// - [`set_temperature`](Self::set_temperature) re-evaluates the rate constants in place: no
@@ -419,7 +425,7 @@ impl BatchSystem {
         validate_options(kinetics, temperature_k, options)?;
         let used = options.linear_algebra.resolve(kinetics);
         let problem = match used {
-            LinearAlgebra::Sparse => Problem::Sparse(Box::new(
+            LinearAlgebra::Sparse | LinearAlgebra::SparseFaer => Problem::Sparse(Box::new(
                 build_problem::<FaerSparseMat<f64>>(kinetics, temperature_k, options)?,
             )),
             _ => Problem::Dense(Box::new(build_problem::<NalgebraMat<f64>>(
@@ -431,7 +437,7 @@ impl BatchSystem {
         Ok(BatchSystem {
             problem,
             linear_algebra_used: match used {
-                LinearAlgebra::Sparse => LinearAlgebra::Sparse,
+                LinearAlgebra::Sparse | LinearAlgebra::SparseFaer => used,
                 _ => LinearAlgebra::Dense,
             },
             n_species: kinetics.n_species(),
@@ -464,7 +470,8 @@ impl BatchSystem {
         Ok(())
     }
 
-    /// The linear algebra in use ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]).
+    /// The linear algebra in use ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
+    /// [`LinearAlgebra::SparseFaer`]).
     pub fn linear_algebra_used(&self) -> LinearAlgebra {
         self.linear_algebra_used
     }
@@ -490,9 +497,15 @@ impl BatchSystem {
                 })?))
             }
             Problem::Sparse(p) => {
-                Session::Sparse(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
-                    p.bdf::<FaerSparseLU<f64>>()
-                })?))
+                if linear_algebra_used == LinearAlgebra::SparseFaer {
+                    Session::SparseFaer(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
+                        p.bdf::<FaerSparseLU<f64>>()
+                    })?))
+                } else {
+                    Session::Sparse(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
+                        p.bdf::<FixedPatternSolver>()
+                    })?))
+                }
             }
         };
         let mut stats = SolverStats::default();
@@ -596,9 +609,12 @@ pub(crate) fn integrate(
 ///
 /// Exceptions: the session's first step allocates the Newton solver's two work vectors
 /// (diffsol creates them lazily), and a solver failure allocates its error (message and
-/// one-row partial profile). The sparse path relies on faer sizing its numeric LU storage on
-/// the first factorization and reusing it afterwards (pivoting that needed more fill would
-/// grow it). The test `tests/allocations.rs` counts allocations on both paths: zero per round
+/// one-row partial profile). The sparse path ([`LinearAlgebra::Sparse`]) factorizes on storage
+/// sized by its symbolic phase and never allocates afterwards, except the first time a
+/// diagonal pivot is rejected (its pivoting fallback is built then).
+/// [`LinearAlgebra::SparseFaer`] relies on faer sizing its numeric LU storage on the first
+/// factorization and reusing it afterwards (pivoting that needed more fill would grow it). The
+/// test `tests/allocations.rs` counts allocations on both paths: zero per round
 /// of `advance_to` + `set_state` + `set_temperature` after the first.
 pub struct BatchIntegrator<'a> {
     session: Session<'a>,
@@ -721,7 +737,8 @@ impl BatchIntegrator<'_> {
         &self.stats
     }
 
-    /// The linear algebra in use ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]).
+    /// The linear algebra in use ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
+    /// [`LinearAlgebra::SparseFaer`]).
     pub fn linear_algebra_used(&self) -> LinearAlgebra {
         self.linear_algebra_used
     }

@@ -19,7 +19,9 @@
 //!
 //! Numerics (see the design notes): the Jacobian is filled analytically from the kinetics in
 //! one pass, into a dense matrix (nalgebra, LU with partial pivoting) for small systems or into
-//! the fixed compressed-sparse-column pattern of the kinetics (faer sparse LU) for large ones;
+//! the fixed compressed-sparse-column pattern of the kinetics for large ones (factorized by
+//! [`stoik_sparse::FixedPatternLu`]: ordering and fill once, allocation-free numeric
+//! refactorization with diagonal pivots);
 //! [`LinearAlgebra::Auto`] chooses. Tolerances are a scalar relative tolerance and one absolute
 //! tolerance per species (mol/m3). Concentrations are never clipped inside the right-hand
 //! side; the most negative value seen is reported in [`SolverStats`].
@@ -30,6 +32,7 @@
 #![warn(missing_docs)]
 
 mod equations;
+mod fixed_lu;
 mod integrator;
 
 pub use integrator::{BatchIntegrator, BatchSystem};
@@ -58,14 +61,22 @@ pub enum LinearAlgebra {
     Auto,
     /// Dense matrices (nalgebra) and dense LU with partial pivoting.
     Dense,
-    /// Compressed-sparse-column matrices on the kinetics' Jacobian pattern and faer's sparse
-    /// LU (symbolic analysis once per solver, numeric factorization per Newton matrix).
+    /// Compressed-sparse-column matrices on the kinetics' Jacobian pattern and stoik's own
+    /// fixed-pattern sparse LU ([`stoik_sparse::FixedPatternLu`]): ordering and fill pattern
+    /// computed once per solver, then per Newton matrix a numeric refactorization with
+    /// diagonal pivots (falling back to faer's pivoting sparse LU for that one matrix when a
+    /// pivot is tiny).
     Sparse,
+    /// The same sparse matrices with faer's sparse LU (diffsol's `FaerSparseLU`: partial
+    /// pivoting, which redoes its symbolic work at every numeric factorization). Kept for
+    /// comparison; on hub-structured mechanisms it is much slower than [`LinearAlgebra::Sparse`]
+    /// (benches/README.md, "Sparse LU: fixed-pattern refactorization vs faer").
+    SparseFaer,
 }
 
 impl LinearAlgebra {
     /// The concrete choice ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]) for
-    /// `kinetics`; `Dense` and `Sparse` are returned unchanged.
+    /// `kinetics`; `Dense`, `Sparse` and `SparseFaer` are returned unchanged.
     pub fn resolve(self, kinetics: &Kinetics) -> LinearAlgebra {
         match self {
             LinearAlgebra::Auto => {
@@ -140,7 +151,8 @@ pub struct Profiles {
     pub concentrations_mol_per_m3: Vec<Vec<f64>>,
     /// Solver statistics of the run.
     pub stats: SolverStats,
-    /// The linear algebra actually used ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]).
+    /// The linear algebra actually used ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
+    /// [`LinearAlgebra::SparseFaer`]).
     pub linear_algebra_used: LinearAlgebra,
 }
 

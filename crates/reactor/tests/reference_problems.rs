@@ -21,8 +21,13 @@ mod common;
 use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};
 
-fn both() -> [LinearAlgebra; 2] {
-    [LinearAlgebra::Dense, LinearAlgebra::Sparse]
+/// Every linear algebra: dense, the fixed-pattern sparse LU, and faer's sparse LU.
+fn both() -> [LinearAlgebra; 3] {
+    [
+        LinearAlgebra::Dense,
+        LinearAlgebra::Sparse,
+        LinearAlgebra::SparseFaer,
+    ]
 }
 
 #[test]

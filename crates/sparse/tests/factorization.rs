@@ -1,0 +1,253 @@
+//! Solutions of the fixed-pattern LU against nalgebra's dense LU with partial pivoting (an
+//! independent solver) on seeded random matrices, the pivoting fallback, fill on a
+//! hub-structured pattern, and the error paths.
+
+mod common;
+
+use common::{hub_newton_matrix, random_matrix, relative_difference, Csc, Rng};
+use stoik_sparse::{FixedPatternLu, SparseLuError};
+
+/// Factorizes `a` and checks `A x = b` and `A^T x = b` against dense LU to `tol` (relative,
+/// max norm). Returns the factorization for further checks.
+fn check_against_dense(a: &Csc, seed: u64, tol: f64) -> FixedPatternLu {
+    let mut lu = FixedPatternLu::new(a.n, &a.column_starts, &a.row_indices).unwrap();
+    lu.factorize(&a.values).unwrap();
+    let mut rng = Rng::new(seed);
+    let b: Vec<f64> = (0..a.n).map(|_| 2.0 * rng.uniform() - 1.0).collect();
+    let dense = a.dense();
+    let expected = dense
+        .clone()
+        .lu()
+        .solve(&nalgebra::DVector::from_vec(b.clone()))
+        .unwrap();
+    let mut x = b.clone();
+    lu.solve_in_place(&mut x).unwrap();
+    let err = relative_difference(&x, expected.as_slice());
+    assert!(err <= tol, "A x = b: relative difference {err:e} > {tol:e}");
+    let expected_t = dense
+        .transpose()
+        .lu()
+        .solve(&nalgebra::DVector::from_vec(b.clone()))
+        .unwrap();
+    let mut xt = b;
+    lu.solve_transpose_in_place(&mut xt).unwrap();
+    let err_t = relative_difference(&xt, expected_t.as_slice());
+    assert!(
+        err_t <= tol,
+        "A^T x = b: relative difference {err_t:e} > {tol:e}"
+    );
+    lu
+}
+
+#[test]
+fn diagonally_dominant_random_matrices_match_dense_lu() {
+    // Strict diagonal dominance: elimination without pivoting is stable (Golub and Van Loan,
+    // Matrix Computations, 4th ed., section 3.4.3), so no fallback may occur.
+    for (seed, n, per_column) in [(1, 50, 3), (2, 200, 4), (3, 400, 6), (4, 1, 0)] {
+        let a = random_matrix(n, per_column, true, seed);
+        let lu = check_against_dense(&a, seed + 100, 1e-10);
+        assert_eq!(lu.fallback_count(), 0, "seed {seed}");
+        assert_eq!(lu.factorization_count(), 1);
+        assert!(lu.nnz_lu() >= lu.nnz_a());
+    }
+}
+
+#[test]
+fn non_dominant_random_matrices_match_dense_lu() {
+    // Diagonal as small as the off-diagonal entries: no stability guarantee; the answers must
+    // still match the dense pivoting solver (the fallback takes over where needed).
+    for (seed, n, per_column) in [(11, 40, 3), (12, 120, 3), (13, 300, 4)] {
+        let a = random_matrix(n, per_column, false, seed);
+        check_against_dense(&a, seed + 100, 1e-10);
+    }
+}
+
+#[test]
+fn zero_diagonal_takes_the_fallback_and_still_solves() {
+    // A = [[0, 2, 0], [1, 0, 0], [0, 3, 4]] with a stored zero on the diagonal: elimination
+    // with diagonal pivots meets a zero pivot whatever the symmetric ordering (the first
+    // pivot of any ordering of {0, 1} is a zero diagonal). Solution of A x = (2, 1, 11):
+    // x = (1, 1, 2) by hand.
+    let a = Csc::from_triplets(
+        3,
+        vec![
+            (0, 0, 0.0),
+            (1, 0, 1.0),
+            (0, 1, 2.0),
+            (1, 1, 0.0),
+            (2, 1, 3.0),
+            (2, 2, 4.0),
+        ],
+    );
+    let mut lu = FixedPatternLu::new(3, &a.column_starts, &a.row_indices).unwrap();
+    lu.factorize(&a.values).unwrap();
+    assert_eq!(lu.fallback_count(), 1);
+    assert!(lu.is_fallback_active());
+    let mut x = vec![2.0, 1.0, 11.0];
+    lu.solve_in_place(&mut x).unwrap();
+    for (got, want) in x.iter().zip([1.0, 1.0, 2.0]) {
+        assert!((got - want).abs() < 1e-14, "{x:?}");
+    }
+    // A^T x = (1, 8, 8) has x = (1, 1, 2) too (A^T = [[0, 1, 0], [2, 0, 3], [0, 0, 4]]).
+    let mut xt = vec![1.0, 8.0, 8.0];
+    lu.solve_transpose_in_place(&mut xt).unwrap();
+    for (got, want) in xt.iter().zip([1.0, 1.0, 2.0]) {
+        assert!((got - want).abs() < 1e-14, "{xt:?}");
+    }
+    // The next matrix of the same pattern with a good diagonal goes back to diagonal pivots:
+    // A = [[1, 2, 0], [1, 5, 0], [0, 3, 4]], x = (1, 1, 2) for b = (3, 6, 11).
+    let values = [1.0, 1.0, 2.0, 5.0, 3.0, 4.0];
+    lu.factorize(&values).unwrap();
+    assert_eq!(lu.fallback_count(), 1);
+    assert!(!lu.is_fallback_active());
+    let mut x = vec![3.0, 6.0, 11.0];
+    lu.solve_in_place(&mut x).unwrap();
+    for (got, want) in x.iter().zip([1.0, 1.0, 2.0]) {
+        assert!((got - want).abs() < 1e-14, "{x:?}");
+    }
+}
+
+#[test]
+fn zeroed_diagonal_entry_in_larger_matrix_still_solves() {
+    // A dominant random matrix with one diagonal entry set to zero: the pivot in that column
+    // is then at most the round-off of the updates, and the answer must still match dense LU.
+    let mut a = random_matrix(150, 4, true, 21);
+    let j = 77;
+    let p = (a.column_starts[j]..a.column_starts[j + 1])
+        .find(|&p| a.row_indices[p] == j)
+        .unwrap();
+    a.values[p] = 0.0;
+    let lu = check_against_dense(&a, 22, 1e-10);
+    // Whether the zero survives depends on the updates it receives from earlier columns; the
+    // count is 0 or 1, and the result is right either way (checked above).
+    assert!(lu.fallback_count() <= 1);
+}
+
+/// Normwise backward error `|A x - b|_inf / (|A|_inf |x|_inf + |b|_inf)` (Higham, Accuracy and
+/// Stability of Numerical Algorithms, 2nd ed., Theorem 7.1 and eq. 7.2 for the infinity norm).
+fn backward_error(a: &Csc, x: &[f64], b: &[f64]) -> f64 {
+    let mut r: Vec<f64> = b.iter().map(|v| -v).collect();
+    let mut row_abs = vec![0.0; a.n];
+    for (j, &xj) in x.iter().enumerate() {
+        for p in a.column_starts[j]..a.column_starts[j + 1] {
+            r[a.row_indices[p]] += a.values[p] * xj;
+            row_abs[a.row_indices[p]] += a.values[p].abs();
+        }
+    }
+    let inf = |v: &[f64]| v.iter().fold(0.0f64, |m, e| m.max(e.abs()));
+    inf(&r) / (inf(&row_abs) * inf(x) + inf(b))
+}
+
+#[test]
+fn hub_mechanism_pattern_factors_with_modest_fill() {
+    // The Newton matrix I - h J of a 1,000-species hub mechanism. A dense LU would store
+    // n^2 = 1e6 entries; the fixed-pattern factors must stay sparse (under 10 % of that) and
+    // agree with dense LU at a moderate step (h = 1e-2 s).
+    let n = 1000;
+    let a = hub_newton_matrix(n, 1e-2, 31);
+    let lu = check_against_dense(&a, 32, 1e-10);
+    let fill_ratio = lu.nnz_lu() as f64 / lu.nnz_a() as f64;
+    println!(
+        "hub pattern n = {n}: nnz(A) = {}, nnz(L+U) = {}, ratio {fill_ratio:.2}, fallbacks {}",
+        lu.nnz_a(),
+        lu.nnz_lu(),
+        lu.fallback_count()
+    );
+    assert!(lu.nnz_lu() >= lu.nnz_a());
+    assert!(lu.nnz_lu() < n * n / 10, "nnz(L+U) = {}", lu.nnz_lu());
+    // The permutation is a permutation.
+    let mut seen = vec![false; n];
+    for &p in lu.permutation() {
+        assert!(!seen[p]);
+        seen[p] = true;
+    }
+}
+
+#[test]
+fn hub_mechanism_at_large_step_is_backward_stable() {
+    // At h = 1e3 s the Jacobian (rate constants up to 1e6 /s) dominates and the matrix is
+    // ill-conditioned (about 1e9), so two different LUs need not agree to 1e-10 in the
+    // solution; both must be backward stable: backward error of order the unit round-off
+    // (Higham, Theorem 9.3, with modest growth). Bound 1e-13, against dense LU's own.
+    let n = 1000;
+    let a = hub_newton_matrix(n, 1e3, 31);
+    let mut lu = FixedPatternLu::new(n, &a.column_starts, &a.row_indices).unwrap();
+    lu.factorize(&a.values).unwrap();
+    let b: Vec<f64> = (0..n).map(|i| 1.0 + (i as f64).cos()).collect();
+    let mut x = b.clone();
+    lu.solve_in_place(&mut x).unwrap();
+    let ours = backward_error(&a, &x, &b);
+    let dense = a
+        .dense()
+        .lu()
+        .solve(&nalgebra::DVector::from_vec(b.clone()))
+        .unwrap();
+    let theirs = backward_error(&a, dense.as_slice(), &b);
+    println!("backward error: fixed-pattern {ours:e}, dense {theirs:e}");
+    assert!(ours <= 1e-13, "{ours:e}");
+    assert!(theirs <= 1e-13, "{theirs:e}");
+}
+
+#[test]
+fn refactorization_with_new_values_matches_dense_lu() {
+    // Same pattern, values scaled by different step sizes: every refactorization must be
+    // right on its own (no state carried over from the previous values).
+    let n = 300;
+    let first = hub_newton_matrix(n, 1e-3, 41);
+    let mut lu = FixedPatternLu::new(n, &first.column_starts, &first.row_indices).unwrap();
+    for (k, h) in [1e-3, 1e2, 1e-6, 1e4].into_iter().enumerate() {
+        let a = hub_newton_matrix(n, h, 41);
+        assert!(lu.has_pattern(&a.column_starts, &a.row_indices));
+        lu.factorize(&a.values).unwrap();
+        let b: Vec<f64> = (0..n).map(|i| (i as f64).sin()).collect();
+        let expected = a
+            .dense()
+            .lu()
+            .solve(&nalgebra::DVector::from_vec(b.clone()))
+            .unwrap();
+        let mut x = b;
+        lu.solve_in_place(&mut x).unwrap();
+        let err = relative_difference(&x, expected.as_slice());
+        assert!(err <= 1e-10, "h = {h}: {err:e}");
+        assert_eq!(lu.factorization_count(), k + 1);
+    }
+}
+
+#[test]
+fn bad_input_gives_typed_errors() {
+    // Unsorted rows in a column.
+    let err = FixedPatternLu::new(2, &[0, 2, 3], &[1, 0, 1]).unwrap_err();
+    assert!(matches!(err, SparseLuError::BadPattern(_)), "{err}");
+    // Row out of range.
+    let err = FixedPatternLu::new(2, &[0, 1, 2], &[0, 2]).unwrap_err();
+    assert!(matches!(err, SparseLuError::BadPattern(_)), "{err}");
+    // Wrong number of column starts.
+    let err = FixedPatternLu::new(2, &[0, 1], &[0]).unwrap_err();
+    assert!(matches!(err, SparseLuError::BadPattern(_)), "{err}");
+    let mut lu = FixedPatternLu::new(2, &[0, 1, 2], &[0, 1]).unwrap();
+    let mut x = vec![1.0, 1.0];
+    assert_eq!(lu.solve_in_place(&mut x), Err(SparseLuError::NotFactorized));
+    assert_eq!(
+        lu.factorize(&[1.0]),
+        Err(SparseLuError::WrongLength {
+            what: "matrix values",
+            expected: 2,
+            found: 1
+        })
+    );
+    // A singular matrix (zero column): diagonal pivoting rejects it, and the pivoting
+    // fallback's solve reports it.
+    lu.factorize(&[1.0, 0.0]).unwrap();
+    assert_eq!(lu.fallback_count(), 1);
+    assert_eq!(lu.solve_in_place(&mut x), Err(SparseLuError::Singular));
+    x = vec![1.0, 1.0];
+    lu.factorize(&[2.0, 4.0]).unwrap();
+    let mut short = vec![1.0];
+    assert!(matches!(
+        lu.solve_in_place(&mut short),
+        Err(SparseLuError::WrongLength { .. })
+    ));
+    // diag(2, 4) x = (1, 1): x = (0.5, 0.25).
+    lu.solve_in_place(&mut x).unwrap();
+    assert_eq!(x, vec![0.5, 0.25]);
+}

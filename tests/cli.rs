@@ -174,3 +174,51 @@ fn help_shows_examples() {
     assert_eq!(out.status.code(), Some(0));
     assert!(text(&out.stdout).contains("Examples:"));
 }
+
+#[test]
+fn batch_sweeps_temperatures_and_matches_single_runs() {
+    let dir = scratch("batch");
+    let scenario = repo().join("mechanisms/ozone-flask.scenario.toml");
+    let out = stoik(
+        &[
+            "batch",
+            scenario.to_str().unwrap(),
+            "--temperatures-k",
+            "550,600,650",
+            "--output-dir",
+            "sweep",
+            "--quiet",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let read = |name: &str| std::fs::read_to_string(dir.join(name)).unwrap();
+    // Initial ozone at 650 K and 1 atm with x = 0.02, ideal gas: x P / (R T), in mol/L.
+    let at_650 = read("sweep/ozone-flask-650K.csv");
+    let first: Vec<f64> = at_650
+        .lines()
+        .nth(1)
+        .unwrap()
+        .split(',')
+        .map(|x| x.parse().unwrap())
+        .collect();
+    let expected = 0.02 * 101325.0 / (8.314462618 * 650.0) / 1000.0;
+    assert!(
+        ((first[1] - expected) / expected).abs() < 1e-9,
+        "{} vs {expected}",
+        first[1]
+    );
+    // The 600 K member of the batch equals a single run of the scenario (600 K).
+    let single = stoik(
+        &[
+            "run",
+            scenario.to_str().unwrap(),
+            "-o",
+            "single.csv",
+            "--quiet",
+        ],
+        &dir,
+    );
+    assert_eq!(single.status.code(), Some(0));
+    assert_eq!(read("sweep/ozone-flask-600K.csv"), read("single.csv"));
+}

@@ -25,7 +25,7 @@ def fmt_time(s):
         return "%.3g us" % (s * 1e6)
     if s < 1:
         return "%.3g ms" % (s * 1e3)
-    return "%.3g s" % s
+    return "%.3g s" % s if s < 100 else "%.0f s" % s
 
 
 def read_vec(path):

@@ -143,6 +143,8 @@ pub(crate) struct BatchEquations<M: Backend> {
     jac_values: RefCell<Vec<f64>>,
     pub(crate) rhs_evaluations: Cell<usize>,
     pub(crate) jacobian_evaluations: Cell<usize>,
+    /// Enforce non-negativity in the step acceptance (see `IntegrationOptions::non_negative`).
+    pub(crate) non_negative: bool,
     sparsity: Option<M::Sparsity>,
     ctx: M::C,
 }
@@ -161,6 +163,7 @@ impl<M: Backend> BatchEquations<M> {
             jac_values: RefCell::new(vec![0.0; nnz]),
             rhs_evaluations: Cell::new(0),
             jacobian_evaluations: Cell::new(0),
+            non_negative: true,
             sparsity,
             ctx: M::C::default(),
         }

@@ -113,6 +113,7 @@ fn drive<'a, M, S>(
     buffer: &mut M::V,
     record: &mut dyn FnMut(f64, &[f64]),
     negative: &mut f64,
+    rejections: &mut usize,
 ) -> Result<(), DiffsolError>
 where
     M: Backend + 'a,
@@ -123,11 +124,36 @@ where
     };
     solver.set_stop_time(t_end)?;
     let mut next = 0;
+    let mut consecutive_rejections = 0;
     while next < outputs.len() {
+        let t_before = solver.state().t;
         let reason = solver.step()?;
-        let state = solver.state();
-        let t = state.t;
-        most_negative(M::slice(state.y), negative);
+        let t = solver.state().t;
+        // Non-negativity in the step acceptance: a step whose solution goes more negative
+        // than a species' absolute tolerance is taken back and retried from the last accepted
+        // point with a quarter of the step size (the right-hand side stays exact).
+        if solver.problem().eqn.non_negative
+            && consecutive_rejections < MAX_NEGATIVE_REJECTIONS
+            && t > t_before
+            && meaningfully_negative(M::slice(solver.state().y), M::slice(&solver.problem().atol))
+        {
+            solver.state_mut_back(t_before)?;
+            // The retry restarts at first order anyway, so the last accepted state is also
+            // projected onto c >= 0: its negative values lie within the absolute tolerance
+            // (it was accepted), and removing them removes the seed of the excursion.
+            let problem = solver.problem();
+            let state = solver.state_mut();
+            let y = M::slice_mut(state.y);
+            y.iter_mut().for_each(|c| *c = c.max(0.0));
+            problem.eqn.production_rates(y, M::slice_mut(state.dy));
+            *state.h = NEGATIVE_STEP_SHRINK * (t - t_before);
+            solver.set_stop_time(t_end)?;
+            consecutive_rejections += 1;
+            *rejections += 1;
+            continue;
+        }
+        consecutive_rejections = 0;
+        most_negative(M::slice(solver.state().y), negative);
         let stopped = matches!(reason, OdeSolverStopReason::TstopReached);
         while next < outputs.len() && (outputs[next] < t || (stopped && outputs[next] <= t)) {
             if outputs[next] == t {
@@ -145,6 +171,19 @@ where
         }
     }
     Ok(())
+}
+
+/// Retries of one step that goes negative before it is accepted anyway (its negative value is
+/// then reported in [`SolverStats::most_negative_concentration_mol_per_m3`]).
+const MAX_NEGATIVE_REJECTIONS: usize = 10;
+
+/// Step-size factor after a step went meaningfully negative.
+const NEGATIVE_STEP_SHRINK: f64 = 0.25;
+
+/// Whether some concentration is below minus its absolute tolerance: values within the
+/// absolute tolerance of zero are indistinguishable from zero to the error control.
+fn meaningfully_negative(y: &[f64], atol: &[f64]) -> bool {
+    y.iter().zip(atol).any(|(y, a)| *y < -a)
 }
 
 /// The weighted root-mean-square norm of `x` with weights `atol_i + rtol |y_i|`.
@@ -268,6 +307,7 @@ where
         outputs: &[f64],
         record: &mut dyn FnMut(f64, &[f64]),
         negative: &mut f64,
+        rejections: &mut usize,
     ) -> Result<(), DiffsolError> {
         let budget = self
             .solver
@@ -285,6 +325,7 @@ where
             &mut self.buffer,
             record,
             negative,
+            rejections,
         );
         if result.is_err() {
             self.restart(None, None);
@@ -371,7 +412,8 @@ fn build_problem<M: Backend>(
     options: &IntegrationOptions,
 ) -> Result<OdeSolverProblem<BatchEquations<M>>, ReactorError> {
     let n = kinetics.n_species();
-    let eqn = BatchEquations::<M>::new(kinetics.clone(), temperature_k, vec![0.0; n]);
+    let mut eqn = BatchEquations::<M>::new(kinetics.clone(), temperature_k, vec![0.0; n]);
+    eqn.non_negative = options.non_negative;
     if !eqn.has_valid_structure() {
         return Err(ReactorError::BadPattern);
     }
@@ -662,7 +704,9 @@ impl BatchIntegrator<'_> {
     /// updates the statistics also on failure.
     fn run(&mut self, outputs: &[f64], record: &mut dyn FnMut(f64, &[f64])) -> Result<(), String> {
         let negative = &mut self.stats.most_negative_concentration_mol_per_m3;
-        let result = with_stepper!(&mut self.session, s => s.advance(outputs, record, negative));
+        let rejections = &mut self.stats.negative_step_rejections;
+        let result =
+            with_stepper!(&mut self.session, s => s.advance(outputs, record, negative, rejections));
         let reason = result.map_err(|e| e.to_string());
         most_negative(
             with_stepper!(&self.session, s => s.state()),

@@ -4,10 +4,13 @@
 use std::cell::RefCell;
 
 use faer::dyn_stack::{MemBuffer, MemStack};
+use faer::linalg::lu::partial_pivoting::factor::lu_in_place;
+use faer::linalg::lu::partial_pivoting::factor::lu_in_place_scratch;
+use faer::linalg::triangular_solve;
 use faer::prelude::Reborrow;
 use faer::sparse::linalg::lu::{factorize_symbolic_lu, LuRef, NumericLu, SymbolicLu};
 use faer::sparse::{SparseColMatRef, SymbolicSparseColMat};
-use faer::{Conj, MatMut, Par};
+use faer::{Conj, MatMut, MatRef, Par};
 
 use crate::symbolic::Symbolic;
 use crate::SparseLuError;
@@ -98,6 +101,113 @@ impl Fallback {
     }
 }
 
+/// The dense trailing block `S` (rows and columns `>= dense_start` of the permuted matrix,
+/// holding the Schur complement `B22 - L21 U12` after the sparse columns), factorized in place
+/// by faer's dense LU with partial pivoting as `P_S S = L_S U_S`.
+struct DenseBlock {
+    /// Order `n_d`.
+    size: usize,
+    /// Column-major `n_d x n_d`: `S`, then its `L_S` (strict lower, unit diagonal implied)
+    /// and `U_S`.
+    values: Vec<f64>,
+    /// Row permutation of the block: row `i` of `P_S S` is row `row_perm[i]` of `S`.
+    row_perm: Vec<usize>,
+    row_perm_inverse: Vec<usize>,
+    /// faer's workspace for the factorization (sized once).
+    scratch: MemBuffer,
+    /// Work vector of the solves (length `n_d`).
+    solve_work: RefCell<Vec<f64>>,
+}
+
+impl DenseBlock {
+    fn new(size: usize) -> Result<DenseBlock, SparseLuError> {
+        let scratch = MemBuffer::try_new(lu_in_place_scratch::<usize, f64>(
+            size,
+            size,
+            Par::Seq,
+            Default::default(),
+        ))
+        .map_err(|_| SparseLuError::Ordering("out of memory".into()))?;
+        let mut block = DenseBlock {
+            size,
+            values: vec![0.0; size * size],
+            row_perm: vec![0; size],
+            row_perm_inverse: vec![0; size],
+            scratch,
+            solve_work: RefCell::new(vec![0.0; size]),
+        };
+        // faer's dense kernels set up per-thread caches (cache sizes, packing buffers) on
+        // their first call in a thread; one factorization and solve of the identity here
+        // takes that allocation out of the numeric phase (for use in this thread).
+        for i in 0..size {
+            block.values[i * size + i] = 1.0;
+        }
+        block.factorize();
+        let mut w = vec![1.0; size];
+        block.solve(&mut w, false);
+        block.solve(&mut w, true);
+        Ok(block)
+    }
+
+    /// Factorizes the block in place. `false` if a pivot is zero or not finite (the block,
+    /// hence the matrix, is numerically singular with these pivots).
+    fn factorize(&mut self) -> bool {
+        let n = self.size;
+        if n == 0 {
+            return true;
+        }
+        let mat = MatMut::from_column_major_slice_mut(&mut self.values, n, n);
+        lu_in_place(
+            mat,
+            &mut self.row_perm,
+            &mut self.row_perm_inverse,
+            Par::Seq,
+            MemStack::new(&mut self.scratch),
+            Default::default(),
+        );
+        (0..n).all(|i| {
+            let d = self.values[i * n + i];
+            d.is_finite() && d != 0.0
+        })
+    }
+
+    /// `w <- S^-1 w` (or `S^-T w`) with the factors.
+    fn solve(&self, w: &mut [f64], transpose: bool) {
+        let n = self.size;
+        if n == 0 {
+            return;
+        }
+        let mut t = self.solve_work.borrow_mut();
+        let lu = MatRef::from_column_major_slice(&self.values, n, n);
+        if transpose {
+            // S^T = U_S^T L_S^T P_S: solve with U_S^T, then L_S^T, then undo P_S.
+            let mut rhs = MatMut::from_column_major_slice_mut(w, n, 1);
+            triangular_solve::solve_lower_triangular_in_place(
+                lu.transpose(),
+                rhs.as_mut(),
+                Par::Seq,
+            );
+            triangular_solve::solve_unit_upper_triangular_in_place(
+                lu.transpose(),
+                rhs.as_mut(),
+                Par::Seq,
+            );
+            t.copy_from_slice(w);
+            for (i, &source) in self.row_perm.iter().enumerate() {
+                w[source] = t[i];
+            }
+        } else {
+            for (ti, &source) in t.iter_mut().zip(&self.row_perm) {
+                *ti = w[source];
+            }
+            let mut rhs = MatMut::from_column_major_slice_mut(&mut t, n, 1);
+            triangular_solve::solve_unit_lower_triangular_in_place(lu, rhs.as_mut(), Par::Seq);
+            triangular_solve::solve_upper_triangular_in_place(lu, rhs.as_mut(), Par::Seq);
+            w.copy_from_slice(&t);
+        }
+    }
+}
+
 /// LU factorization of square matrices whose sparsity pattern is fixed.
 ///
 /// Set up once per pattern ([`FixedPatternLu::new`], the symbolic phase: ordering, fill
@@ -116,6 +226,8 @@ pub struct FixedPatternLu {
     work: Vec<f64>,
     /// Work vector of the solves (length `n`).
     solve_work: RefCell<Vec<f64>>,
+    /// The dense trailing block (order 0 when the pattern has none).
+    dense: DenseBlock,
     fallback: Option<Box<Fallback>>,
     active: Active,
     factorizations: usize,
@@ -128,6 +240,7 @@ impl std::fmt::Debug for FixedPatternLu {
             .field("n", &self.symbolic.n)
             .field("nnz_a", &self.nnz_a())
             .field("nnz_lu", &self.nnz_lu())
+            .field("dense_block_size", &self.dense_block_size())
             .field("factorizations", &self.factorizations)
             .field("fallbacks", &self.fallbacks)
             .finish()
@@ -142,19 +255,34 @@ impl FixedPatternLu {
     ///
     /// Orders the rows and columns symmetrically by approximate minimum degree on the pattern
     /// of `A + A^T`, computes the exact fill pattern of `L + U` for diagonal pivots, the map
-    /// from `A`'s entries into it, and allocates every work array.
+    /// from `A`'s entries into it, chooses the dense trailing block (see
+    /// [`dense_block_size`](Self::dense_block_size)), and allocates every work array.
     pub fn new(
         n: usize,
         column_starts: &[usize],
         row_indices: &[usize],
     ) -> Result<FixedPatternLu, SparseLuError> {
-        let symbolic = Symbolic::new(n, column_starts, row_indices)?;
+        Self::with_dense_block(n, column_starts, row_indices, true)
+    }
+
+    /// As [`new`](Self::new), with the dense trailing block allowed or not: with
+    /// `allow_dense_block` false every column is eliminated by the sparse kernel with diagonal
+    /// pivots (for comparisons; [`new`](Self::new) allows it).
+    pub fn with_dense_block(
+        n: usize,
+        column_starts: &[usize],
+        row_indices: &[usize],
+        allow_dense_block: bool,
+    ) -> Result<FixedPatternLu, SparseLuError> {
+        let symbolic = Symbolic::new(n, column_starts, row_indices, allow_dense_block)?;
         let lu_nnz = symbolic.lu_nnz();
+        let dense = DenseBlock::new(symbolic.dense_size())?;
         Ok(FixedPatternLu {
             symbolic,
             lu_values: vec![0.0; lu_nnz],
             work: vec![0.0; n],
             solve_work: RefCell::new(vec![0.0; n]),
+            dense,
             fallback: None,
             active: Active::None,
             factorizations: 0,
@@ -173,10 +301,19 @@ impl FixedPatternLu {
     }
 
     /// Stored entries of `L + U` (strict lower `L`, upper `U` with its diagonal; the unit
-    /// diagonal of `L` is not stored). `nnz_lu() - nnz_a()` is the fill-in (plus any
-    /// diagonal entries missing from `A`).
+    /// diagonal of `L` is not stored), counting the dense trailing block as `n_d^2` entries.
+    /// `nnz_lu() - nnz_a()` is the fill-in (plus any diagonal entries missing from `A`).
     pub fn nnz_lu(&self) -> usize {
-        self.symbolic.lu_nnz()
+        let n_d = self.symbolic.dense_size();
+        self.symbolic.lu_nnz() + n_d * n_d
+    }
+
+    /// Order `n_d` of the dense trailing block: the last `n_d` rows and columns of the
+    /// permuted matrix are factorized as one dense block with partial pivoting inside it
+    /// (chosen in the symbolic phase when a cost model finds it cheaper than sparse
+    /// elimination; 0 when there is none).
+    pub fn dense_block_size(&self) -> usize {
+        self.symbolic.dense_size()
     }
 
     /// The fill-reducing permutation, `perm[new] = old`: row and column `perm[k]` of `A` are
@@ -241,17 +378,27 @@ impl FixedPatternLu {
         Ok(())
     }
 
-    /// Left-looking LU of `B = P A P^T` on the static pattern with diagonal pivots. Returns
-    /// `false` (with `work` cleared) when a pivot is rejected.
+    /// Left-looking LU of `B = P A P^T` on the static pattern with diagonal pivots for the
+    /// columns before the dense block, then the Schur complement into the dense block and its
+    /// dense LU with partial pivoting. Returns `false` (with `work` cleared) when a diagonal
+    /// pivot is rejected or the dense block has a zero pivot.
     fn factorize_static(&mut self, values: &[f64]) -> bool {
         let s = &self.symbolic;
         let lu = &mut self.lu_values;
         let x = &mut self.work;
+        let dense = &mut self.dense.values;
+        let (k0, n_d) = (s.dense_start, s.n - s.dense_start);
+        let lu_nnz = lu.len();
         lu.iter_mut().for_each(|v| *v = 0.0);
+        dense.iter_mut().for_each(|v| *v = 0.0);
         for (&position, &value) in s.a_to_lu.iter().zip(values) {
-            lu[position] = value;
+            if position < lu_nnz {
+                lu[position] = value;
+            } else {
+                dense[position - lu_nnz] = value;
+            }
         }
-        for j in 0..s.n {
+        for j in 0..k0 {
             let (start, end) = (s.lu_column_starts[j], s.lu_column_starts[j + 1]);
             let diag = s.diagonal_positions[j];
             let rows = &s.lu_row_indices[start..end];
@@ -260,19 +407,7 @@ impl FixedPatternLu {
             }
             // Rows above the diagonal, ascending: a topological order of the dependencies,
             // since column k of L only updates rows i > k.
-            for &k in &s.lu_row_indices[start..diag] {
-                let xk = x[k];
-                if xk == 0.0 {
-                    continue;
-                }
-                let (l_start, l_end) = (s.diagonal_positions[k] + 1, s.lu_column_starts[k + 1]);
-                for (&i, &lik) in s.lu_row_indices[l_start..l_end]
-                    .iter()
-                    .zip(&lu[l_start..l_end])
-                {
-                    x[i] -= lik * xk;
-                }
-            }
+            eliminate(s, lu, x, start, diag);
             let pivot = x[j];
             let column_max = rows.iter().fold(0.0f64, |m, &r| m.max(x[r].abs()));
             // `column_max` is at least `|pivot|`, so a zero column is rejected too.
@@ -293,7 +428,25 @@ impl FixedPatternLu {
                 lu[start + p] = if p > split { v * inverse } else { v };
             }
         }
-        true
+        // Columns of the dense block: the sparse part (rows < k0) is U12 by the same
+        // triangular solve; rows >= k0 become the Schur complement column.
+        for j in k0..s.n {
+            let (start, end) = (s.lu_column_starts[j], s.lu_column_starts[j + 1]);
+            let rows = &s.lu_row_indices[start..end];
+            for (&r, &v) in rows.iter().zip(&lu[start..end]) {
+                x[r] = v;
+            }
+            let column = &mut dense[(j - k0) * n_d..(j - k0 + 1) * n_d];
+            x[k0..].copy_from_slice(column);
+            eliminate(s, lu, x, start, end);
+            for (p, &r) in rows.iter().enumerate() {
+                lu[start + p] = x[r];
+                x[r] = 0.0;
+            }
+            column.copy_from_slice(&x[k0..]);
+            x[k0..].iter_mut().for_each(|v| *v = 0.0);
+        }
+        self.dense.factorize()
     }
 
     /// Solves `A x = b` in place (`rhs` holds `b` on entry and `x` on return) with the latest
@@ -337,11 +490,14 @@ impl FixedPatternLu {
                 for (wk, &old) in w.iter_mut().zip(perm) {
                     *wk = rhs[old];
                 }
+                let k0 = self.symbolic.dense_start;
                 if transpose {
                     self.solve_upper_transpose(&mut w);
+                    self.dense.solve(&mut w[k0..], true);
                     self.solve_lower_transpose(&mut w);
                 } else {
                     self.solve_lower(&mut w);
+                    self.dense.solve(&mut w[k0..], false);
                     self.solve_upper(&mut w);
                 }
                 for (&wk, &old) in w.iter().zip(perm) {
@@ -352,10 +508,11 @@ impl FixedPatternLu {
         }
     }
 
-    /// `w <- L^-1 w` (unit lower triangular, by columns).
+    /// `w <- L^-1 w` for the sparse columns of `L` (unit lower triangular, by columns); the
+    /// rows of the dense block receive `- L21 w1`.
     fn solve_lower(&self, w: &mut [f64]) {
         let s = &self.symbolic;
-        for j in 0..s.n {
+        for j in 0..s.dense_start {
             let wj = w[j];
             if wj == 0.0 {
                 continue;
@@ -370,10 +527,24 @@ impl FixedPatternLu {
         }
     }
 
-    /// `w <- U^-1 w` (upper triangular, by columns, last to first).
+    /// `w <- U^-1 w` (upper triangular, by columns, last to first), the rows of the dense
+    /// block already solved: their columns only subtract `U12 w2`.
     fn solve_upper(&self, w: &mut [f64]) {
         let s = &self.symbolic;
-        for j in (0..s.n).rev() {
+        for j in (s.dense_start..s.n).rev() {
+            let wj = w[j];
+            if wj == 0.0 {
+                continue;
+            }
+            let (start, end) = (s.lu_column_starts[j], s.lu_column_starts[j + 1]);
+            for (&k, &u) in s.lu_row_indices[start..end]
+                .iter()
+                .zip(&self.lu_values[start..end])
+            {
+                w[k] -= u * wj;
+            }
+        }
+        for j in (0..s.dense_start).rev() {
             let diag = s.diagonal_positions[j];
             let wj = w[j] / self.lu_values[diag];
             w[j] = wj;
@@ -390,7 +561,8 @@ impl FixedPatternLu {
         }
     }
 
-    /// `w <- U^-T w` (`U^T` is lower triangular; column `j` of `U` is row `j` of `U^T`).
+    /// `w <- U^-T w` (`U^T` is lower triangular; column `j` of `U` is row `j` of `U^T`) for
+    /// the sparse columns; the rows of the dense block receive `- U12^T w1`.
     fn solve_upper_transpose(&self, w: &mut [f64]) {
         let s = &self.symbolic;
         for j in 0..s.n {
@@ -400,14 +572,19 @@ impl FixedPatternLu {
                 .zip(&self.lu_values[start..diag])
                 .map(|(&k, &u)| u * w[k])
                 .sum();
-            w[j] = (w[j] - dot) / self.lu_values[diag];
+            w[j] = if j < s.dense_start {
+                (w[j] - dot) / self.lu_values[diag]
+            } else {
+                w[j] - dot
+            };
         }
     }
 
-    /// `w <- L^-T w` (`L^T` is unit upper triangular; by columns of `L`, last to first).
+    /// `w <- L^-T w` (`L^T` is unit upper triangular; by columns of `L`, last to first) for
+    /// the sparse columns, the rows of the dense block already solved.
     fn solve_lower_transpose(&self, w: &mut [f64]) {
         let s = &self.symbolic;
-        for j in (0..s.n).rev() {
+        for j in (0..s.dense_start).rev() {
             let (start, end) = (s.diagonal_positions[j] + 1, s.lu_column_starts[j + 1]);
             let dot: f64 = s.lu_row_indices[start..end]
                 .iter()
@@ -415,6 +592,26 @@ impl FixedPatternLu {
                 .map(|(&i, &l)| l * w[i])
                 .sum();
             w[j] -= dot;
+        }
+    }
+}
+
+/// Subtracts from the dense work vector `x` (holding one column of `B`) the updates of the
+/// columns of `L` listed at `lu_row_indices[from..to]` (ascending, all before the column):
+/// the left-looking triangular solve of one column.
+#[inline]
+fn eliminate(s: &Symbolic, lu: &[f64], x: &mut [f64], from: usize, to: usize) {
+    for &k in &s.lu_row_indices[from..to] {
+        let xk = x[k];
+        if xk == 0.0 {
+            continue;
+        }
+        let (l_start, l_end) = (s.diagonal_positions[k] + 1, s.lu_column_starts[k + 1]);
+        for (&i, &lik) in s.lu_row_indices[l_start..l_end]
+            .iter()
+            .zip(&lu[l_start..l_end])
+        {
+            x[i] -= lik * xk;
         }
     }
 }

@@ -1,6 +1,7 @@
 //! Solutions of the fixed-pattern LU against nalgebra's dense LU with partial pivoting (an
-//! independent solver) on seeded random matrices, the pivoting fallback, fill on a
-//! hub-structured pattern, and the error paths.
+//! independent solver) and faer's sparse LU with partial pivoting on seeded random matrices,
+//! the pivoting fallback, fill and the dense trailing block on hub-structured patterns, and
+//! the error paths.
 
 mod common;
 
@@ -250,4 +251,173 @@ fn bad_input_gives_typed_errors() {
     // diag(2, 4) x = (1, 1): x = (0.5, 0.25).
     lu.solve_in_place(&mut x).unwrap();
     assert_eq!(x, vec![0.5, 0.25]);
+}
+
+/// Solves `A x = b` and `A^T x = b` with faer's sparse LU with partial pivoting (an
+/// independent sparse solver).
+fn faer_solutions(a: &Csc, b: &[f64]) -> (Vec<f64>, Vec<f64>) {
+    use faer::linalg::solvers::Solve;
+    let triplets: Vec<faer::sparse::Triplet<usize, usize, f64>> = (0..a.n)
+        .flat_map(|j| {
+            (a.column_starts[j]..a.column_starts[j + 1])
+                .map(move |p| faer::sparse::Triplet::new(a.row_indices[p], j, a.values[p]))
+        })
+        .collect();
+    let m = faer::sparse::SparseColMat::<usize, f64>::try_new_from_triplets(a.n, a.n, &triplets)
+        .unwrap();
+    let lu = m.sp_lu().unwrap();
+    let mut x = faer::Mat::<f64>::from_fn(a.n, 1, |i, _| b[i]);
+    lu.solve_in_place(x.as_mut());
+    let mut xt = faer::Mat::<f64>::from_fn(a.n, 1, |i, _| b[i]);
+    lu.solve_transpose_in_place(xt.as_mut());
+    (
+        (0..a.n).map(|i| x[(i, 0)]).collect(),
+        (0..a.n).map(|i| xt[(i, 0)]).collect(),
+    )
+}
+
+/// Solves `A x = b` and `A^T x = b` with `lu` (already factorized).
+fn our_solutions(lu: &FixedPatternLu, b: &[f64]) -> (Vec<f64>, Vec<f64>) {
+    let mut x = b.to_vec();
+    lu.solve_in_place(&mut x).unwrap();
+    let mut xt = b.to_vec();
+    lu.solve_transpose_in_place(&mut xt).unwrap();
+    (x, xt)
+}
+
+#[test]
+fn hub_mechanism_at_1000_uses_the_dense_block_and_matches_dense_lu() {
+    // On the 1,000-species hub pattern the ordered matrix ends in a trailing block of about
+    // 200 rows that is some 70 % full once filled; the cost model must pick a dense block
+    // (at least the 64 minimum) and the solutions of A x = b and A^T x = b must match dense
+    // LU with partial pivoting to 1e-10, and the purely sparse factorization too.
+    let n = 1000;
+    let a = hub_newton_matrix(n, 1e-1, 51);
+    let lu = check_against_dense(&a, 52, 1e-10);
+    let n_d = lu.dense_block_size();
+    println!("n = {n}: dense block {n_d}, nnz(L+U) {}", lu.nnz_lu());
+    assert!((64..n / 2).contains(&n_d), "dense block {n_d}");
+    assert_eq!(lu.fallback_count(), 0);
+    let mut sparse_only =
+        FixedPatternLu::with_dense_block(n, &a.column_starts, &a.row_indices, false).unwrap();
+    assert_eq!(sparse_only.dense_block_size(), 0);
+    sparse_only.factorize(&a.values).unwrap();
+    let b: Vec<f64> = (0..n).map(|i| 0.5 + (i as f64 * 0.37).sin()).collect();
+    let (x, xt) = our_solutions(&lu, &b);
+    let (y, yt) = our_solutions(&sparse_only, &b);
+    assert!(relative_difference(&x, &y) <= 1e-10);
+    assert!(relative_difference(&xt, &yt) <= 1e-10);
+    // The same permutation either way: the block changes the factorization, not the ordering.
+    assert_eq!(lu.permutation(), sparse_only.permutation());
+}
+
+#[test]
+fn hub_mechanism_at_3000_with_dense_block_matches_faer_sparse_lu() {
+    // 3,000 species: a dense block of several hundred rows. faer's sparse LU with partial
+    // pivoting is the independent reference (a dense LU of order 3,000 is too slow for a
+    // test); agreement to 1e-9 relative for A x = b and A^T x = b, at two step sizes on the
+    // same factorization object (refactorization reuses the block).
+    let n = 3000;
+    for (k, h) in [1e-1, 1e1].into_iter().enumerate() {
+        let a = hub_newton_matrix(n, h, 61);
+        let mut lu = FixedPatternLu::new(n, &a.column_starts, &a.row_indices).unwrap();
+        lu.factorize(&a.values).unwrap();
+        let n_d = lu.dense_block_size();
+        println!("n = {n}, h = {h}: dense block {n_d}, nnz(L+U) {}", lu.nnz_lu());
+        assert!((200..n / 2).contains(&n_d), "dense block {n_d}");
+        assert_eq!(lu.fallback_count(), 0);
+        let mut rng = Rng::new(62 + k as u64);
+        let b: Vec<f64> = (0..n).map(|_| 2.0 * rng.uniform() - 1.0).collect();
+        let (x, xt) = our_solutions(&lu, &b);
+        let (y, yt) = faer_solutions(&a, &b);
+        let (err, err_t) = (relative_difference(&x, &y), relative_difference(&xt, &yt));
+        assert!(err <= 1e-9, "h = {h}: A x = b differs by {err:e}");
+        assert!(err_t <= 1e-9, "h = {h}: A^T x = b differs by {err_t:e}");
+    }
+}
+
+/// Position of entry `(i, j)` in the values of `a`.
+fn entry(a: &Csc, i: usize, j: usize) -> usize {
+    (a.column_starts[j]..a.column_starts[j + 1])
+        .find(|&p| a.row_indices[p] == i)
+        .unwrap()
+}
+
+#[test]
+fn zero_diagonal_inside_the_dense_block_is_handled_by_its_partial_pivoting() {
+    // Zero the diagonal entries of A for the last 20 columns of the ordering (all in the
+    // dense block). Diagonal pivoting would meet pivots made of update round-off or zero; the
+    // dense block pivots by rows instead, so no fallback is needed, and the answers must
+    // match dense LU with partial pivoting to 1e-10.
+    let n = 1000;
+    let mut a = hub_newton_matrix(n, 1e-1, 71);
+    let lu = FixedPatternLu::new(n, &a.column_starts, &a.row_indices).unwrap();
+    assert!(lu.dense_block_size() >= 64);
+    for &old in &lu.permutation()[n - 20..] {
+        let p = entry(&a, old, old);
+        a.values[p] = 0.0;
+    }
+    let lu = check_against_dense(&a, 72, 1e-10);
+    assert_eq!(lu.fallback_count(), 0);
+    assert!(!lu.is_fallback_active());
+}
+
+#[test]
+fn zero_pivot_before_the_dense_block_takes_the_fallback() {
+    // A column of the ordering before the dense block whose stored entries all lie on rows
+    // ordered at or after it receives no updates (left-looking elimination only updates a
+    // column through its entries above the diagonal, and those come from stored entries above
+    // it), so a zero diagonal there is an exact zero pivot of the sparse part: that
+    // factorization must go to the pivoting fallback and still match dense LU (A x = b and
+    // A^T x = b) to 1e-10. The column and the row chosen have off-diagonal entries, so the
+    // matrix stays nonsingular (checked by the dense LU succeeding).
+    let n = 1000;
+    let mut a = hub_newton_matrix(n, 1e-1, 81);
+    let lu = FixedPatternLu::new(n, &a.column_starts, &a.row_indices).unwrap();
+    let n_d = lu.dense_block_size();
+    assert!(n_d >= 64);
+    let perm = lu.permutation().to_vec();
+    let mut position = vec![0; n];
+    for (k, &old) in perm.iter().enumerate() {
+        position[old] = k;
+    }
+    let mut row_has_off_diagonal = vec![false; n];
+    for j in 0..n {
+        for &i in &a.row_indices[a.column_starts[j]..a.column_starts[j + 1]] {
+            if i != j {
+                row_has_off_diagonal[i] = true;
+            }
+        }
+    }
+    let k = (0..n - n_d)
+        .find(|&k| {
+            let old = perm[k];
+            let rows = &a.row_indices[a.column_starts[old]..a.column_starts[old + 1]];
+            rows.len() > 1 && row_has_off_diagonal[old] && rows.iter().all(|&i| position[i] >= k)
+        })
+        .unwrap();
+    let old = perm[k];
+    let p = entry(&a, old, old);
+    a.values[p] = 0.0;
+    let lu = check_against_dense(&a, 82, 1e-10);
+    assert_eq!(lu.fallback_count(), 1);
+    assert!(lu.is_fallback_active());
+}
+
+#[test]
+fn singular_dense_block_is_reported_by_the_solve() {
+    // Zero every entry of the column ordered last (inside the dense block): the matrix has a
+    // zero column (rank at most n - 1), the Schur complement column is zero, the dense LU
+    // meets a zero pivot, the fallback takes over and its solve reports the matrix singular.
+    let n = 1000;
+    let mut a = hub_newton_matrix(n, 1e-1, 91);
+    let mut lu = FixedPatternLu::new(n, &a.column_starts, &a.row_indices).unwrap();
+    let old = lu.permutation()[n - 1];
+    for p in a.column_starts[old]..a.column_starts[old + 1] {
+        a.values[p] = 0.0;
+    }
+    lu.factorize(&a.values).unwrap();
+    assert_eq!(lu.fallback_count(), 1);
+    let mut x = vec![1.0; n];
+    assert_eq!(lu.solve_in_place(&mut x), Err(SparseLuError::Singular));
 }

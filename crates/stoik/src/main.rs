@@ -1,5 +1,6 @@
 //! The `stoik` binary: thin glue over the library (arguments, files, printing).
 
+mod batch;
 mod check;
 mod csv_out;
 mod run;
@@ -22,7 +23,7 @@ pub const EXIT_INTEGRATION_FAILED: u8 = 3;
     name = "stoik",
     version,
     about = "Simulate chemical reaction mechanisms: TOML mechanism + scenario in, concentration-time profiles out.",
-    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure.\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
+    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure.\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -47,6 +48,32 @@ enum Command {
         after_help = "Examples:\n  stoik run mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/hires.scenario.toml --output hires.csv --rtol 1e-10\n  stoik run mechanisms/ozone-flask.scenario.toml --temperature-k 650 --end-time-s 0.5"
     )]
     Run(RunArgs),
+    /// Run many scenarios in parallel, each mechanism compiled once; one CSV per run.
+    #[command(
+        after_help = "Examples:\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n  stoik batch runs/*.scenario.toml --output-dir results"
+    )]
+    Batch(BatchArgs),
+}
+
+/// Flags of `stoik batch`.
+#[derive(clap::Args)]
+pub struct BatchArgs {
+    /// Scenario files; scenarios naming the same mechanism share one compiled mechanism.
+    #[arg(required = true)]
+    pub scenarios: Vec<PathBuf>,
+    /// Run every scenario at each of these temperatures (K), comma-separated; CSV files are
+    /// then named <scenario>-<T>K.csv.
+    #[arg(long, value_delimiter = ',')]
+    pub temperatures_k: Vec<f64>,
+    /// Folder for the CSV files.
+    #[arg(long, default_value = ".")]
+    pub output_dir: PathBuf,
+    /// Do not enforce non-negative concentrations in the step acceptance.
+    #[arg(long)]
+    pub allow_negative: bool,
+    /// Print only errors (no progress bar).
+    #[arg(short, long)]
+    pub quiet: bool,
 }
 
 /// Flags of `stoik run`; each overrides the scenario's value.
@@ -72,6 +99,10 @@ pub struct RunArgs {
     /// Override the linear algebra of the Newton iterations.
     #[arg(long, value_enum)]
     pub linear_algebra: Option<LinearAlgebraArg>,
+    /// Do not enforce non-negative concentrations in the step acceptance (for comparison
+    /// with solvers that do not).
+    #[arg(long)]
+    pub allow_negative: bool,
     /// Print only errors.
     #[arg(short, long)]
     pub quiet: bool,
@@ -93,6 +124,7 @@ fn main() -> ExitCode {
     let status = match cli.command {
         Command::Check { file, strict } => check::check(&file, strict),
         Command::Run(args) => run::run(&args),
+        Command::Batch(args) => batch::batch(&args),
     };
     ExitCode::from(status)
 }

@@ -5,10 +5,10 @@ use crate::csv_out::write_profiles;
 use crate::{LinearAlgebraArg, RunArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
 use std::fs::File;
 use std::io::{BufWriter, Write};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::time::Instant;
 use stoik::kinetics::Kinetics;
-use stoik::mechanism::{load_mechanism, load_scenario, LinearAlgebraChoice, Mechanism};
+use stoik::mechanism::{load_mechanism, load_scenario, LinearAlgebraChoice, Mechanism, Scenario};
 use stoik::reactor::{self, IntegrationOptions, LinearAlgebra, Profiles};
 
 /// The caution printed with every run.
@@ -89,16 +89,7 @@ pub fn run(args: &RunArgs) -> u8 {
     }
 
     let kinetics = Kinetics::compile(mechanism);
-    let options = IntegrationOptions {
-        relative_tolerance: scenario.relative_tolerance,
-        absolute_tolerances_mol_per_m3: absolute,
-        linear_algebra: match scenario.linear_algebra {
-            LinearAlgebraChoice::Auto => LinearAlgebra::Auto,
-            LinearAlgebraChoice::Dense => LinearAlgebra::Dense,
-            LinearAlgebraChoice::Sparse => LinearAlgebra::Sparse,
-        },
-        max_steps: scenario.max_steps,
-    };
+    let options = integration_options(&scenario, absolute, !args.allow_negative);
     let result = reactor::integrate(
         &kinetics,
         scenario.temperature_k,
@@ -131,20 +122,7 @@ pub fn run(args: &RunArgs) -> u8 {
             .unwrap_or_else(|| "profiles".to_string());
         PathBuf::from(format!("{stem}.csv"))
     });
-    let unit = scenario.output_concentration_unit;
-    let written = File::create(&output).and_then(|f| {
-        let mut w = BufWriter::new(f);
-        write_profiles(
-            &mut w,
-            mechanism,
-            &profiles.times_s,
-            &profiles.concentrations_mol_per_m3,
-            unit.to_si_factor(),
-            unit.label(),
-        )?;
-        w.flush()
-    });
-    if let Err(e) = written {
+    if let Err(e) = write_csv(&output, mechanism, &profiles, &scenario) {
         eprintln!("error: cannot write {}: {e}", output.display());
         return EXIT_BAD_INPUT;
     }
@@ -172,8 +150,47 @@ pub fn run(args: &RunArgs) -> u8 {
     }
 }
 
+/// Integration options of a scenario (SI tolerances already resolved per species).
+pub fn integration_options(
+    scenario: &Scenario,
+    absolute_tolerances_mol_per_m3: Vec<f64>,
+    non_negative: bool,
+) -> IntegrationOptions {
+    IntegrationOptions {
+        relative_tolerance: scenario.relative_tolerance,
+        absolute_tolerances_mol_per_m3,
+        linear_algebra: match scenario.linear_algebra {
+            LinearAlgebraChoice::Auto => LinearAlgebra::Auto,
+            LinearAlgebraChoice::Dense => LinearAlgebra::Dense,
+            LinearAlgebraChoice::Sparse => LinearAlgebra::Sparse,
+        },
+        max_steps: scenario.max_steps,
+        non_negative,
+    }
+}
+
+/// Writes `profiles` as CSV in the scenario's output concentration unit.
+pub fn write_csv(
+    output: &Path,
+    mechanism: &Mechanism,
+    profiles: &Profiles,
+    scenario: &Scenario,
+) -> std::io::Result<()> {
+    let unit = scenario.output_concentration_unit;
+    let mut w = BufWriter::new(File::create(output)?);
+    write_profiles(
+        &mut w,
+        mechanism,
+        &profiles.times_s,
+        &profiles.concentrations_mol_per_m3,
+        unit.to_si_factor(),
+        unit.label(),
+    )?;
+    w.flush()
+}
+
 fn print_summary(
-    scenario: &stoik::mechanism::Scenario,
+    scenario: &Scenario,
     mechanism: &Mechanism,
     profiles: &Profiles,
     wall_s: f64,
@@ -234,6 +251,12 @@ fn print_summary(
         s.error_test_failures,
         s.nonlinear_failures
     );
+    if s.negative_step_rejections > 0 {
+        println!(
+            "steps retried because a concentration went below minus its absolute tolerance: {}",
+            s.negative_step_rejections
+        );
+    }
     if s.most_negative_concentration_mol_per_m3 < 0.0 {
         println!(
             "most negative concentration seen: {:.3e} mol/m3",

@@ -91,6 +91,7 @@ pub fn options(
         absolute_tolerances_mol_per_m3: vec![atol; n],
         linear_algebra,
         max_steps: 100_000,
+        non_negative: true,
     }
 }
 

@@ -3,12 +3,15 @@
 //! - Per update: faer's sparse LU numeric factorization with partial pivoting (what diffsol's
 //!   `FaerSparseLU` does at every Newton-matrix update; its symbolic analysis done once,
 //!   outside the timing) against stoik's fixed-pattern numeric refactorization
-//!   (`stoik_sparse::FixedPatternLu::factorize`), each followed by one solve, at 200, 1,000
-//!   and 5,000 species. The one-off symbolic phases are timed too.
+//!   (`stoik_sparse::FixedPatternLu::factorize`, with its dense trailing block, and
+//!   "sparse_only" with the block disabled: every column by the scalar sparse kernel), each
+//!   followed by one solve, at 200, 1,000 and 5,000 species. The one-off symbolic phases are
+//!   timed too.
 //! - End to end: synthetic mechanisms of 1,000 and 5,000 species integrated to t = 10 s with
 //!   `LinearAlgebra::Sparse` (fixed-pattern LU) and `LinearAlgebra::SparseFaer` (faer).
 //!
-//! The fill of the fixed-pattern factors is printed once per size. Results: benches/README.md.
+//! The fill of the fixed-pattern factors and the order of the dense block are printed once per
+//! size. Results: benches/README.md.
 
 mod common;
 
@@ -63,11 +66,17 @@ fn factorization_bench(c: &mut Criterion) {
         let mut ours = FixedPatternLu::new(n, &starts, &rows).expect("valid pattern");
         let symbolic_time = t0.elapsed();
         ours.factorize(&values).expect("factorizes");
+        let mut sparse_only =
+            FixedPatternLu::with_dense_block(n, &starts, &rows, false).expect("valid pattern");
+        sparse_only.factorize(&values).expect("factorizes");
         println!(
-            "n = {n}: nnz(A) = {}, nnz(L+U) = {} ({:.2} x), symbolic phase {:.3} ms, fallbacks {}",
+            "n = {n}: nnz(A) = {}, nnz(L+U) = {} ({:.2} x; sparse only {}), dense block {}, \
+             symbolic phase {:.3} ms, fallbacks {}",
             ours.nnz_a(),
             ours.nnz_lu(),
             ours.nnz_lu() as f64 / ours.nnz_a() as f64,
+            sparse_only.nnz_lu(),
+            ours.dense_block_size(),
             symbolic_time.as_secs_f64() * 1e3,
             ours.fallback_count()
         );
@@ -77,6 +86,16 @@ fn factorization_bench(c: &mut Criterion) {
                 ours.factorize(black_box(&values)).expect("factorizes");
                 x.copy_from_slice(&rhs);
                 ours.solve_in_place(&mut x).expect("solves");
+                black_box(x[0])
+            })
+        });
+        group.bench_with_input(BenchmarkId::new("sparse_only", n), &n, |b, _| {
+            b.iter(|| {
+                sparse_only
+                    .factorize(black_box(&values))
+                    .expect("factorizes");
+                x.copy_from_slice(&rhs);
+                sparse_only.solve_in_place(&mut x).expect("solves");
                 black_box(x[0])
             })
         });

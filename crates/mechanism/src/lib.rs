@@ -16,6 +16,7 @@ pub mod mechanism_file;
 pub mod model;
 pub mod scenario;
 pub mod suggest;
+pub mod thermo_file;
 mod toml_walk;
 pub mod units;
 
@@ -29,6 +30,7 @@ pub use scenario::{
     Scenario,
 };
 pub use suggest::nearest_name;
+pub use thermo_file::{load_thermo, parse_thermo, ThermoEntry, ThermoFile};
 pub use units::ConcentrationUnit;
 
 /// Molar gas constant R in J/(mol K) (SI 2019 exact value, CODATA).

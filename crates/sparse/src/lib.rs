@@ -9,13 +9,24 @@
 //!   Duff 1996; faer's implementation), the exact static pattern of `L + U` for elimination
 //!   with diagonal pivots (reachability in the graph of `L`, Gilbert and Peierls 1988), a map
 //!   from each stored entry of `A` to its position in the factor storage, and every work array.
+//!   When the trailing part of the ordered matrix fills in nearly completely (hub species and
+//!   their fill), its last `n_d` rows and columns become one dense block ("switch to dense",
+//!   as in multifrontal and supernodal codes): `n_d` is chosen by a cost model of the numeric
+//!   phase (sparse multiply-adds before the block plus `n_d^3 / 3` dense ones at their measured
+//!   relative cost), at least 64, or 0 when not worth it
+//!   ([`FixedPatternLu::dense_block_size`]).
 //! - **Numeric phase** ([`FixedPatternLu::factorize`], every matrix update): left-looking LU on
 //!   that pattern with diagonal pivots, no allocation. A pivot that is not finite or
 //!   `|pivot| <= 1e-12 max |entry of its column|` ([`PIVOT_TOLERANCE`]) sends that one
 //!   factorization to faer's sparse LU with partial pivoting, counted by
-//!   [`FixedPatternLu::fallback_count`].
+//!   [`FixedPatternLu::fallback_count`]. The columns of the dense block get their rows above
+//!   the block (`U12`) by the same sparse triangular solve; their rows in the block, the Schur
+//!   complement `B22 - L21 U12`, go to a preallocated column-major buffer factorized by faer's
+//!   dense LU with partial pivoting (row exchanges inside the block only); a zero pivot there
+//!   also sends the factorization to the fallback.
 //! - **Solve** ([`FixedPatternLu::solve_in_place`], [`FixedPatternLu::solve_transpose_in_place`]):
-//!   permutation and forward and back substitution in place, no allocation.
+//!   permutation and forward and back substitution in place (sparse part, then the dense
+//!   block's permuted triangular solves, then sparse part), no allocation.
 //!
 //! Diagonal pivoting is safe for Newton matrices of kinetics: `I - h gamma J` tends to the
 //! identity for small steps, and the diagonal of `J` holds the loss terms (negative), which make

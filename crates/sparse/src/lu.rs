@@ -214,7 +214,10 @@ impl DenseBlock {
 /// pattern, scatter map, all work arrays), then [`factorize`](Self::factorize) any number of
 /// matrices with that pattern and [`solve_in_place`](Self::solve_in_place) with the latest
 /// factors. Neither allocates, except the first time a diagonal pivot is rejected (the
-/// pivoting fallback is built then, and faer sizes its numeric storage on its first use).
+/// pivoting fallback is built then, and faer sizes its numeric storage on its first use), and
+/// the first dense-block factorization in a thread other than the one that called
+/// [`new`](Self::new) (faer's dense kernels set up per-thread caches on their first use; `new`
+/// does that for its own thread).
 ///
 /// Solves take `&self` and use an internal work vector behind a [`RefCell`], so the type is
 /// `Send` but not `Sync`.

@@ -224,9 +224,9 @@ fn choose_dense_start(
         prefix[c + 1] = prefix[c] + lower * upper_row_counts[c] as f64;
     }
     let mut best = (prefix[n], n);
-    for k in 0..=n - MIN_DENSE_BLOCK {
+    for (k, &sparse) in prefix.iter().enumerate().take(n - MIN_DENSE_BLOCK + 1) {
         let d = (n - k) as f64;
-        let cost = prefix[k] + DENSE_FLOP_COST * d * d * d / 3.0 + DENSE_ENTRY_COST * d * d;
+        let cost = sparse + DENSE_FLOP_COST * d * d * d / 3.0 + DENSE_ENTRY_COST * d * d;
         if cost < best.0 {
             best = (cost, k);
         }

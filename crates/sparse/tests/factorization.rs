@@ -64,6 +64,21 @@ fn non_dominant_random_matrices_match_dense_lu() {
 }
 
 #[test]
+fn random_matrices_with_heavy_fill_use_the_dense_block_and_match_dense_lu() {
+    // Random patterns with 8 to 10 entries per column fill in almost completely under any
+    // ordering, so most of the matrix becomes the dense block; with and without diagonal
+    // dominance (the latter exercises the row exchanges inside the block) the answers must
+    // match dense LU to 1e-10.
+    for (seed, n, per_column, dominant) in [(111, 300, 8, true), (112, 400, 10, false)] {
+        let a = random_matrix(n, per_column, dominant, seed);
+        let lu = check_against_dense(&a, seed + 100, 1e-10);
+        println!("random n = {n}: dense block {}", lu.dense_block_size());
+        assert!(lu.dense_block_size() >= 64, "seed {seed}");
+        assert_eq!(lu.fallback_count(), 0, "seed {seed}");
+    }
+}
+
+#[test]
 fn zero_diagonal_takes_the_fallback_and_still_solves() {
     // A = [[0, 2, 0], [1, 0, 0], [0, 3, 4]] with a stored zero on the diagonal: elimination
     // with diagonal pivots meets a zero pivot whatever the symmetric ordering (the first
@@ -323,7 +338,10 @@ fn hub_mechanism_at_3000_with_dense_block_matches_faer_sparse_lu() {
         let mut lu = FixedPatternLu::new(n, &a.column_starts, &a.row_indices).unwrap();
         lu.factorize(&a.values).unwrap();
         let n_d = lu.dense_block_size();
-        println!("n = {n}, h = {h}: dense block {n_d}, nnz(L+U) {}", lu.nnz_lu());
+        println!(
+            "n = {n}, h = {h}: dense block {n_d}, nnz(L+U) {}",
+            lu.nnz_lu()
+        );
         assert!((200..n / 2).contains(&n_d), "dense block {n_d}");
         assert_eq!(lu.fallback_count(), 0);
         let mut rng = Rng::new(62 + k as u64);

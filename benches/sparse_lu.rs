@@ -134,7 +134,26 @@ fn factorization_bench(c: &mut Criterion) {
                 black_box(b_faer[(0, 0)])
             })
         });
-        // Both solve the same system.
+        // Both solve the same system (faer once more here, in case its benchmark was
+        // filtered out).
+        let lu = symbolic
+            .factorize_numeric_lu(
+                &mut numeric,
+                SparseColMatRef::new(pattern.as_ref(), &values),
+                Par::Seq,
+                MemStack::new(&mut factor_scratch),
+                Default::default(),
+            )
+            .expect("faer factorizes");
+        for (i, v) in rhs.iter().enumerate() {
+            b_faer[(i, 0)] = *v;
+        }
+        lu.solve_in_place_with_conj(
+            Conj::No,
+            b_faer.as_mut(),
+            Par::Seq,
+            MemStack::new(&mut solve_scratch),
+        );
         let mut check = rhs.clone();
         ours.factorize(&values).expect("factorizes");
         ours.solve_in_place(&mut check).expect("solves");
@@ -165,8 +184,8 @@ fn factorization_bench(c: &mut Criterion) {
 fn end_to_end_bench(c: &mut Criterion) {
     let mut group = c.benchmark_group("sparse_lu_integrate_t10");
     group.sample_size(10);
-    // At 5,000 species every refactorization costs about a second on either solver (see
-    // benches/README.md), so whole integrations there run only on request.
+    // At 5,000 species a whole integration takes seconds (fixed pattern) to minutes (faer; see
+    // benches/README.md), so those run only on request.
     let sizes: &[usize] = if std::env::var_os("STOIK_BENCH_E2E_5000").is_some() {
         &[1000, 5000]
     } else {

@@ -222,3 +222,17 @@ fn batch_sweeps_temperatures_and_matches_single_runs() {
     assert_eq!(single.status.code(), Some(0));
     assert_eq!(read("sweep/ozone-flask-600K.csv"), read("single.csv"));
 }
+
+#[test]
+fn fit_thermo_writes_a_loadable_thermo_file_close_to_the_table() {
+    let dir = scratch("fit");
+    let table = repo().join("crates/thermo/tests/data/janaf/H2O.tsv");
+    let out = stoik(&["fit-thermo", table.to_str().unwrap(), "-o", "water.toml"], &dir);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert!(text(&out.stdout).contains("H2O"));
+    let file = stoik::mechanism::load_thermo(&dir.join("water.toml")).unwrap();
+    let water = &file.get("H2O").unwrap().polynomial;
+    // NIST-JANAF 4th ed., H2O(g): cp(1000 K) = 41.268 J/(mol K), S(1000 K) = 232.738 J/(mol K).
+    assert!((water.cp_j_per_mol_k(1000.0) / 41.268 - 1.0).abs() < 5e-3);
+    assert!((water.entropy_j_per_mol_k(1000.0) / 232.738 - 1.0).abs() < 5e-3);
+}

@@ -5,7 +5,10 @@
 //! - every element index in a composition is `< elements.len()`;
 //! - every rate parameter is finite and every pre-exponential factor is positive;
 //! - pre-exponential factors are in SI: (mol/m3)^(1-m) / s for a step of overall order m
-//!   (a third body counts one more), activation energies in J/mol.
+//!   (a third body counts one more), activation energies in J/mol;
+//! - a reversible step without explicit reverse parameters (`reverse == None`) has
+//!   thermochemistry ([`Species::thermo`]) for every species of its equation, so that its
+//!   reverse rate constant follows from the equilibrium constant (kr = kf / Kc).
 
 /// Where an item came from in a text file: 1-based line and column.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -37,6 +40,12 @@ pub struct Species {
     pub note: Option<String>,
     /// Where the species was declared, if it came from a file.
     pub location: Option<SourceLocation>,
+    /// Ideal-gas thermochemistry: NASA 7-coefficient polynomials (McBride, Gordon & Reno
+    /// 1993, NASA TM-4513) for cp/R, H/(R T) and S/R at the standard pressure 1e5 Pa, with
+    /// absolute enthalpies (H(298.15 K) is the formation enthalpy). `None` when the
+    /// mechanism gives none; then reversible steps of this species need explicit reverse
+    /// rate parameters.
+    pub thermo: Option<stoik_thermo::Nasa7>,
 }
 
 /// One species with its stoichiometric coefficient on one side of a step.
@@ -101,7 +110,9 @@ pub struct Step {
     pub reversible: bool,
     /// Forward rate constant.
     pub forward: Arrhenius,
-    /// Reverse rate constant; `Some` exactly when `reversible`.
+    /// Explicit reverse rate constant; only reversible steps may have one. A reversible
+    /// step with `None` takes its reverse rate constant from thermochemistry:
+    /// kr(T) = kf(T) / Kc(T), which needs [`Species::thermo`] for all its species.
     pub reverse: Option<Arrhenius>,
     /// Collision partner, for third-body steps.
     pub third_body: Option<ThirdBody>,
@@ -118,6 +129,29 @@ pub struct Step {
 }
 
 impl Step {
+    /// Indices of the species of this step's equation (reactants, then products, each once;
+    /// a third-body collider is not part of the equation) that have no
+    /// [`Species::thermo`] in `species` (the mechanism's species list). Indices out of
+    /// range count as lacking thermochemistry.
+    pub fn species_lacking_thermo(&self, species: &[Species]) -> Vec<usize> {
+        let mut out: Vec<usize> = Vec::new();
+        for term in self.reactants.iter().chain(&self.products) {
+            let has = species
+                .get(term.species)
+                .is_some_and(|s| s.thermo.is_some());
+            if !has && !out.contains(&term.species) {
+                out.push(term.species);
+            }
+        }
+        out
+    }
+
+    /// Whether the reverse rate constant comes from thermochemistry (a reversible step
+    /// without explicit reverse parameters).
+    pub fn reverse_from_thermo(&self) -> bool {
+        self.reversible && self.reverse.is_none()
+    }
+
     /// Overall forward order m (sum of forward orders, plus one for a third body): the
     /// pre-exponential factor has units (mol/m3)^(1-m)/s.
     pub fn forward_order(&self) -> f64 {

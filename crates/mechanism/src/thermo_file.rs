@@ -18,7 +18,7 @@ use crate::{LoadError, SourceLocation};
 use std::collections::HashMap;
 use std::path::Path;
 use stoik_thermo::Nasa7;
-use toml::de::DeValue;
+use toml::de::{DeTable, DeValue};
 
 /// The thermo format version this crate reads (`stoik_thermo = 1`).
 pub const THERMO_FORMAT_VERSION: i64 = 1;
@@ -27,6 +27,9 @@ pub const THERMO_FORMAT_VERSION: i64 = 1;
 pub const CONTINUITY_TOLERANCE: f64 = 1e-4;
 
 const TOP_KEYS: &[&str] = &["stoik_thermo", "title", "description", "species"];
+/// Keys of a polynomial table (a thermo file's `[[species]]` without `name` and `note`;
+/// also a mechanism's inline `[species.thermo]`).
+pub(crate) const POLYNOMIAL_KEYS: &[&str] = &["temperature_ranges_k", "coefficients_low", "coefficients_high"];
 const SPECIES_KEYS: &[&str] = &[
     "name",
     "temperature_ranges_k",
@@ -171,10 +174,31 @@ fn read_entry(r: &mut Report<'_>, item: &Value<'_>) -> Option<ThermoEntry> {
             None
         }
     };
+    let polynomial = read_polynomial(r, table, at, name.as_deref(), "thermo [[species]]");
+    let (name, polynomial) = (name?, polynomial?);
+    Some(ThermoEntry {
+        name,
+        polynomial,
+        location: r.location(at),
+    })
+}
+
+/// Reads the three polynomial keys (`temperature_ranges_k`, `coefficients_low`,
+/// `coefficients_high`) of `table` (which starts at byte `at`) and checks them, continuity
+/// included; every problem is reported. `name` names the species in messages, `context` the
+/// table (e.g. "thermo [[species]]"). Shared by thermo files and a mechanism's inline
+/// `[species.thermo]` tables.
+pub(crate) fn read_polynomial(
+    r: &mut Report<'_>,
+    table: &DeTable<'_>,
+    at: usize,
+    name: Option<&str>,
+    context: &str,
+) -> Option<Nasa7> {
     let mut get = |key: &str| {
         let value = table.get(key);
         if value.is_none() {
-            r.error(at, format!("thermo [[species]] has no `{key}`"), None);
+            r.error(at, format!("{context} has no `{key}`"), None);
         }
         value
     };
@@ -213,9 +237,5 @@ fn read_entry(r: &mut Report<'_>, item: &Value<'_>) -> Option<ThermoEntry> {
         );
         return None;
     }
-    Some(ThermoEntry {
-        name,
-        polynomial,
-        location: r.location(at),
-    })
+    Some(polynomial)
 }

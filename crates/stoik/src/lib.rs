@@ -7,7 +7,8 @@
 //! This facade re-exports the layers, each usable on its own:
 //! - [`mechanism`]: the SI mechanism model, the TOML mechanism and scenario formats, validation;
 //! - [`kinetics`]: a mechanism compiled to flat arrays (rates, production rates, Jacobians);
-//! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics.
+//! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics;
+//! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables.
 //!
 //! A process model compiles a mechanism once and integrates it many times:
 //!
@@ -42,3 +43,4 @@
 pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;
 pub use stoik_reactor as reactor;
+pub use stoik_thermo as thermo;

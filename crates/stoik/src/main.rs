@@ -3,6 +3,7 @@
 mod batch;
 mod check;
 mod csv_out;
+mod fit_thermo;
 mod run;
 
 use clap::{Parser, Subcommand, ValueEnum};
@@ -53,6 +54,34 @@ enum Command {
         after_help = "Examples:\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n  stoik batch runs/*.scenario.toml --output-dir results"
     )]
     Batch(BatchArgs),
+    /// Fit NASA 7-coefficient polynomials to thermochemical tables and write a thermo file.
+    #[command(
+        after_help = "Examples:\n  stoik fit-thermo janaf/H2O.tsv janaf/OH.tsv --output thermo.toml\n  stoik fit-thermo janaf/Ar.tsv --rename Ar=AR --common-temperature-k 1000 --output ar.toml\n\nTables use the NIST-JANAF tab-separated layout: a title line, a header line, then rows of\nT (K), Cp, S, -[G-H(298.15)]/T (J/mol/K), H-H(298.15), formation H, formation G (kJ/mol), log10 Kf."
+    )]
+    FitThermo(FitThermoArgs),
+}
+
+/// Flags of `stoik fit-thermo`.
+#[derive(clap::Args)]
+pub struct FitThermoArgs {
+    /// Tables to fit, one species each; the species is named after the file stem.
+    #[arg(required = true)]
+    pub tables: Vec<PathBuf>,
+    /// Thermo file to write.
+    #[arg(short, long)]
+    pub output: PathBuf,
+    /// Common temperature of the two ranges, in K.
+    #[arg(long, default_value_t = 1000.0)]
+    pub common_temperature_k: f64,
+    /// Lowest table temperature used, in K.
+    #[arg(long, default_value_t = 200.0)]
+    pub low_k: f64,
+    /// Highest table temperature used, in K.
+    #[arg(long, default_value_t = 6000.0)]
+    pub high_k: f64,
+    /// Rename a species: FILESTEM=NAME (repeatable), e.g. Ar=AR.
+    #[arg(long)]
+    pub rename: Vec<String>,
 }
 
 /// Flags of `stoik batch`.
@@ -125,6 +154,7 @@ fn main() -> ExitCode {
         Command::Check { file, strict } => check::check(&file, strict),
         Command::Run(args) => run::run(&args),
         Command::Batch(args) => batch::batch(&args),
+        Command::FitThermo(args) => fit_thermo::fit_thermo(&args),
     };
     ExitCode::from(status)
 }

@@ -3,11 +3,10 @@
 //!
 //! Run: `cargo run -p stoik-thermo --example fit_janaf -- <janaf dir> <output .toml>`
 
-use std::fmt::Write as _;
 use std::path::PathBuf;
 use std::process::ExitCode;
 
-use stoik_thermo::{fit_nasa7, read_janaf_tsv, Nasa7Fit};
+use stoik_thermo::{fit_nasa7, read_janaf_tsv, thermo_file_entry, thermo_file_header};
 
 /// (JANAF file stem, species name used in stoik mechanisms).
 const SPECIES: [(&str, &str); 9] = [
@@ -43,20 +42,16 @@ fn main() -> ExitCode {
 }
 
 fn run(dir: &std::path::Path, out: &std::path::Path) -> Result<(), Box<dyn std::error::Error>> {
-    let mut toml = String::new();
-    toml.push_str(
-        "# Thermochemical data for stoik (format: stoik_thermo = 1).\n\
-         # Source: NIST-JANAF Thermochemical Tables, 4th ed., M. W. Chase Jr., J. Phys. Chem. Ref. Data Monograph 9 (1998).\n\
-         # Fitted by stoik's fit_nasa7 (7-coefficient polynomials, McBride, Gordon & Reno 1993 form):\n\
-         # cp/R = a1 + a2 T + a3 T^2 + a4 T^3 + a5 T^4, H/(R T) = a1 + a2 T/2 + a3 T^2/3 + a4 T^3/4 + a5 T^4/5 + a6/T,\n\
-         # S/R = a1 ln T + a2 T + a3 T^2/2 + a4 T^3/3 + a5 T^4/4 + a7; T in K, standard pressure 1e5 Pa.\n\
-         # Joint weighted least squares on the JANAF cp, H - H(298.15 K) and S rows; cp, d cp/dT, H and S continuous\n\
-         # at the common temperature; H(298.15 K) equal to the JANAF formation enthalpy.\n\
-         # Note: JANAF's HO2 formation enthalpy (2.092 kJ/mol) is about 10 kJ/mol below later evaluations and its OH\n\
-         # value differs from later ones by about 1.7 kJ/mol.\n\
-         \n\
-         stoik_thermo = 1\n",
-    );
+    let mut toml = thermo_file_header(&[
+        "Source: NIST-JANAF Thermochemical Tables, 4th ed., M. W. Chase Jr., J. Phys. Chem. Ref. Data Monograph 9 (1998).",
+        "Fitted by stoik's fit_nasa7 (7-coefficient polynomials, McBride, Gordon & Reno 1993 form):",
+        "cp/R = a1 + a2 T + a3 T^2 + a4 T^3 + a5 T^4, H/(R T) = a1 + a2 T/2 + a3 T^2/3 + a4 T^3/4 + a5 T^4/5 + a6/T,",
+        "S/R = a1 ln T + a2 T + a3 T^2/2 + a4 T^3/3 + a5 T^4/4 + a7; T in K, standard pressure 1e5 Pa.",
+        "Joint weighted least squares on the JANAF cp, H - H(298.15 K) and S rows; cp, d cp/dT, H and S continuous",
+        "at the common temperature; H(298.15 K) equal to the JANAF formation enthalpy.",
+        "Note: JANAF's HO2 formation enthalpy (2.092 kJ/mol) is about 10 kJ/mol below later evaluations and its OH",
+        "value differs from later ones by about 1.7 kJ/mol.",
+    ]);
     println!(
         "{:<4} {:>6} {:>6} {:>6} {:>5} {:>11} {:>11} {:>11} {:>11} {:>10} {:>10} {:>10}",
         "name",
@@ -102,7 +97,11 @@ fn run(dir: &std::path::Path, out: &std::path::Path) -> Result<(), Box<dyn std::
             fit.rms_abs_error_h_j_per_mol,
             max_jump
         );
-        write_species(&mut toml, name, &table.name, &table.formula, &fit)?;
+        toml.push_str(&thermo_file_entry(
+            name,
+            &format!("JANAF table \"{}\" {}", table.name, table.formula),
+            &fit,
+        ));
     }
     if let Some(parent) = out.parent() {
         if !parent.as_os_str().is_empty() {
@@ -112,64 +111,4 @@ fn run(dir: &std::path::Path, out: &std::path::Path) -> Result<(), Box<dyn std::
     std::fs::write(out, toml).map_err(|e| format!("cannot write {}: {e}", out.display()))?;
     println!("wrote {}", out.display());
     Ok(())
-}
-
-fn write_species(
-    toml: &mut String,
-    name: &str,
-    janaf_name: &str,
-    janaf_formula: &str,
-    fit: &Nasa7Fit,
-) -> std::fmt::Result {
-    let p = &fit.polynomial;
-    let (j_cp, j_h, j_s) = fit.continuity;
-    writeln!(toml)?;
-    writeln!(
-        toml,
-        "# {name}: JANAF table \"{janaf_name}\" {janaf_formula}"
-    )?;
-    writeln!(
-        toml,
-        "# fit over {} points: cp max rel. error {:.2e} (rms {:.2e}); S max rel. error {:.2e} (rms {:.2e}); \
-         H max abs. error {:.1} J/mol (rms {:.1} J/mol)",
-        fit.n_points,
-        fit.max_relative_error_cp,
-        fit.rms_relative_error_cp,
-        fit.max_relative_error_s,
-        fit.rms_relative_error_s,
-        fit.max_abs_error_h_j_per_mol,
-        fit.rms_abs_error_h_j_per_mol
-    )?;
-    writeln!(
-        toml,
-        "# jumps at {} K: cp/R {:.1e}, H/(RT) {:.1e}, S/R {:.1e}; H(298.15 K) = {:.1} J/mol",
-        p.t_mid_k,
-        j_cp,
-        j_h,
-        j_s,
-        p.enthalpy_j_per_mol(stoik_thermo::T_REFERENCE_K)
-    )?;
-    writeln!(toml, "[[species]]")?;
-    writeln!(toml, "name = \"{name}\"")?;
-    writeln!(
-        toml,
-        "temperature_ranges_k = [{}, {}, {}]",
-        float(p.t_low_k),
-        float(p.t_mid_k),
-        float(p.t_high_k)
-    )?;
-    writeln!(toml, "coefficients_low = [{}]", list(&p.low))?;
-    writeln!(toml, "coefficients_high = [{}]", list(&p.high))?;
-    Ok(())
-}
-
-/// A TOML float that round-trips exactly: Rust's shortest round-trip representation,
-/// which always has a decimal point or an exponent (e.g. `200.0`, `-3.03e-12`), so TOML
-/// reads it as a float.
-fn float(v: f64) -> String {
-    format!("{v:?}")
-}
-
-fn list(a: &[f64; 7]) -> String {
-    a.iter().map(|&v| float(v)).collect::<Vec<_>>().join(", ")
 }

@@ -17,11 +17,13 @@ mod error;
 mod fit;
 mod janaf;
 mod nasa7;
+mod write;
 
 pub use error::FitError;
 pub use fit::{fit_nasa7, Nasa7Fit, ThermoPoint, MIN_POINTS_PER_RANGE};
 pub use janaf::{read_janaf_tsv, JanafRow, JanafTable};
 pub use nasa7::Nasa7;
+pub use write::{thermo_file_entry, thermo_file_header};
 
 /// Molar gas constant R in J/(mol K) (exact since the 2019 SI redefinition:
 /// N_A k_B, CODATA).

@@ -22,6 +22,7 @@ fn robertson() -> Mechanism {
         composition: None,
         note: None,
         location: None,
+        thermo: None,
     };
     let t = |species| StoichTerm {
         species,

@@ -227,7 +227,10 @@ fn batch_sweeps_temperatures_and_matches_single_runs() {
 fn fit_thermo_writes_a_loadable_thermo_file_close_to_the_table() {
     let dir = scratch("fit");
     let table = repo().join("crates/thermo/tests/data/janaf/H2O.tsv");
-    let out = stoik(&["fit-thermo", table.to_str().unwrap(), "-o", "water.toml"], &dir);
+    let out = stoik(
+        &["fit-thermo", table.to_str().unwrap(), "-o", "water.toml"],
+        &dir,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     assert!(text(&out.stdout).contains("H2O"));
     let file = stoik::mechanism::load_thermo(&dir.join("water.toml")).unwrap();

@@ -43,6 +43,7 @@ fn species(name: String) -> Species {
         composition: None,
         note: None,
         location: None,
+        thermo: None,
     }
 }
 

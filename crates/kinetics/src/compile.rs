@@ -59,6 +59,9 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         entry_start: vec![0],
         entry_positions: Vec::new(),
         pattern: JacobianPattern::from_entries(n_species, Vec::new()),
+        species_thermo: mechanism.species.iter().map(|s| s.thermo).collect(),
+        reverse_from_thermo: Vec::with_capacity(n_steps),
+        delta_moles: Vec::with_capacity(n_steps),
     };
     let mut pattern_entries: Vec<(usize, usize)> = Vec::new();
     let mut slot_of_species = vec![usize::MAX; n_species];
@@ -85,7 +88,8 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         k.forward_terms
             .extend(forward_orders.iter().map(|&(s, o)| order_term(s, o)));
         k.forward_start.push(k.forward_terms.len());
-        let reverse_orders = if step.reverse.is_some() {
+        // Reverse orders for explicit and thermochemical reverse rate constants alike.
+        let reverse_orders = if step.reverse.is_some() || step.reversible {
             merge(side(&step.products))
         } else {
             Vec::new()
@@ -99,6 +103,8 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         );
         k.net_terms.extend(net.iter().copied());
         k.net_start.push(k.net_terms.len());
+        k.reverse_from_thermo.push(step.reverse_from_thermo());
+        k.delta_moles.push(net.iter().map(|&(_, nu)| nu).sum());
 
         // Jacobian columns: kinetic dependencies, then third-body efficiencies.
         let mut columns = ColumnSet::new(&mut slot_of_species);

@@ -12,6 +12,13 @@
 //!   has no third body);
 //! - net production `w_i = sum_j (nu''_ij - nu'_ij) q_j` in mol/(m3 s).
 //!
+//! Reverse rate constants: a reversible step with explicit reverse parameters uses them; one
+//! without takes `kr = kf / Kc` from the species' thermochemistry (see
+//! [`Kinetics::equilibrium_constants`]). [`step_energetics`] reports each step's reaction
+//! enthalpy, entropy, Gibbs energy and equilibrium constants, and
+//! [`collision_limit_warnings`] flags bimolecular rate constants above the gas-kinetic
+//! collision limit.
+//!
 //! Non-integer orders are evaluated on `max(c, 0)` (a negative concentration has no real
 //! non-integer power); integer orders use exact integer powers, so the right-hand side stays
 //! smooth through small negative excursions of the integrator.
@@ -19,10 +26,22 @@
 #![warn(missing_docs)]
 
 mod compile;
+mod energetics;
 mod pattern;
 
+pub use energetics::{
+    collision_limit_warnings, step_energetics, StepEnergetics, COLLISION_LIMIT_M3_PER_MOL_S,
+    COLLISION_LIMIT_TEMPERATURES_K,
+};
 pub use pattern::JacobianPattern;
 use stoik_mechanism::Mechanism;
+use stoik_thermo::Nasa7;
+
+/// Molar gas constant R in J/(mol K) (SI 2019 exact value, CODATA).
+pub const GAS_CONSTANT: f64 = stoik_mechanism::GAS_CONSTANT;
+
+/// Standard-state pressure P0 in Pa (1 bar) of the equilibrium constants.
+pub const STANDARD_PRESSURE_PA: f64 = stoik_thermo::P_STANDARD_PA;
 
 /// Rate constants of every step at one temperature, in SI units
 /// ((mol/m3)^(1-m)/s for a direction of overall order m).
@@ -30,7 +49,9 @@ use stoik_mechanism::Mechanism;
 pub struct RateConstants {
     /// Forward rate constant of each step.
     pub forward: Vec<f64>,
-    /// Reverse rate constant of each step; 0 for irreversible steps.
+    /// Reverse rate constant of each step; 0 for irreversible steps; `kf / Kc` for reversible
+    /// steps without explicit reverse parameters (NaN if a species of such a step lacks
+    /// thermochemistry, which the mechanism loader rules out).
     pub reverse: Vec<f64>,
 }
 
@@ -141,6 +162,13 @@ pub struct Kinetics {
     pub(crate) entry_start: Vec<usize>,
     pub(crate) entry_positions: Vec<usize>,
     pub(crate) pattern: JacobianPattern,
+    /// Thermochemistry of each species (`None` when not given).
+    pub(crate) species_thermo: Vec<Option<Nasa7>>,
+    /// Per step: the reverse rate constant is kf / Kc (reversible, no explicit reverse).
+    pub(crate) reverse_from_thermo: Vec<bool>,
+    /// Per step: sum of the net stoichiometric changes (products minus reactants; a third
+    /// body does not count), the exponent of P0/(R T) in Kc = Kp (P0/(R T))^dn.
+    pub(crate) delta_moles: Vec<f64>,
 }
 
 impl Kinetics {
@@ -186,12 +214,66 @@ impl Kinetics {
 
     /// Overwrites `out` with the rate constants at `temperature_k` (K); `out` must come from
     /// [`Kinetics::rate_constants`] of this mechanism (its vectors have `n_steps` entries).
+    ///
+    /// Reversible steps without explicit reverse parameters get `kr = kf / Kc(T)` (see
+    /// [`Kinetics::equilibrium_constants`]), evaluated without allocating.
     pub fn evaluate_rate_constants(&self, temperature_k: f64, out: &mut RateConstants) {
         for (k, p) in out.forward.iter_mut().zip(&self.forward) {
             *k = p.evaluate(temperature_k);
         }
-        for (k, p) in out.reverse.iter_mut().zip(&self.reverse) {
-            *k = p.map_or(0.0, |p| p.evaluate(temperature_k));
+        for (j, (k, p)) in out.reverse.iter_mut().zip(&self.reverse).enumerate() {
+            *k = match p {
+                Some(p) => p.evaluate(temperature_k),
+                None if self.reverse_from_thermo[j] => {
+                    match self.ln_equilibrium_constants(j, temperature_k) {
+                        // kr = kf / Kc, in logarithms so that huge Kc do not overflow first.
+                        Some((_, ln_kc)) => out.forward[j] * (-ln_kc).exp(),
+                        None => f64::NAN,
+                    }
+                }
+                None => 0.0,
+            };
+        }
+    }
+
+    /// Natural logarithms of (Kp, Kc) of step `step` at `temperature_k` (K), or `None` when
+    /// a species of the step lacks thermochemistry.
+    ///
+    /// ln Kp = -dG0/(R T) with dG0 = sum_i nu_i G0_i(T) at P0 = 1e5 Pa, and
+    /// ln Kc = ln Kp + dn ln(P0/(R T)), dn = sum_i nu_i (Kc in (mol/m3)^dn).
+    fn ln_equilibrium_constants(&self, step: usize, temperature_k: f64) -> Option<(f64, f64)> {
+        let mut g_over_rt = 0.0;
+        for &(s, nu) in &self.net_terms[self.net_start[step]..self.net_start[step + 1]] {
+            let thermo = self.species_thermo.get(s)?.as_ref()?;
+            g_over_rt += nu * (thermo.h_over_rt(temperature_k) - thermo.s_over_r(temperature_k));
+        }
+        let ln_kp = -g_over_rt;
+        let dn = self.delta_moles[step];
+        let ln_kc = if dn != 0.0 {
+            ln_kp + dn * (STANDARD_PRESSURE_PA / (GAS_CONSTANT * temperature_k)).ln()
+        } else {
+            ln_kp
+        };
+        Some((ln_kp, ln_kc))
+    }
+
+    /// Writes the equilibrium constants of every step at `temperature_k` (K) into `kp` and
+    /// `kc` (each of length `n_steps`), without allocating:
+    ///
+    /// - `kp[j] = exp(-dG0_j / (R T))`, dimensionless: pressures in units of the standard
+    ///   pressure P0 = 1e5 Pa, with dG0_j = sum_i nu_ij G0_i(T) (J/mol) from the species'
+    ///   NASA 7-coefficient polynomials;
+    /// - `kc[j] = kp[j] (P0 / (R T))^dn_j` in (mol/m3)^dn_j, dn_j = sum_i nu_ij.
+    ///
+    /// nu_ij are the net stoichiometric changes (products minus reactants); a third-body
+    /// collider does not enter. Computed for every step whose species all have
+    /// thermochemistry, irreversible ones included; NaN for the others.
+    pub fn equilibrium_constants(&self, temperature_k: f64, kp: &mut [f64], kc: &mut [f64]) {
+        for (j, (p, c)) in kp.iter_mut().zip(kc.iter_mut()).enumerate() {
+            (*p, *c) = match self.ln_equilibrium_constants(j, temperature_k) {
+                Some((ln_kp, ln_kc)) => (ln_kp.exp(), ln_kc.exp()),
+                None => (f64::NAN, f64::NAN),
+            };
         }
     }
 

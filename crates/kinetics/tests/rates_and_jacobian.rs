@@ -11,6 +11,7 @@ fn species(name: &str) -> Species {
         composition: None,
         note: None,
         location: None,
+        thermo: None,
     }
 }
 

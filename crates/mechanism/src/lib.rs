@@ -21,7 +21,7 @@ mod toml_walk;
 pub mod units;
 
 pub use diagnostics::{Diagnostic, Diagnostics, LoadError, Severity};
-pub use mechanism_file::{load_mechanism, parse_mechanism, MechanismFile};
+pub use mechanism_file::{load_mechanism, parse_mechanism, parse_mechanism_in, MechanismFile};
 pub use model::{
     Arrhenius, Element, Mechanism, SourceLocation, Species, Step, StoichTerm, ThirdBody,
 };

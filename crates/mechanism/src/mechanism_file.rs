@@ -13,11 +13,12 @@ use crate::toml_walk::{
 };
 use crate::units::{AmountUnit, EnergyUnit, LengthUnit, RateUnits, TimeUnit};
 use crate::{
-    Arrhenius, Diagnostics, Element, LoadError, Mechanism, Severity, Species, Step, StoichTerm,
-    ThirdBody,
+    Arrhenius, Diagnostic, Diagnostics, Element, LoadError, Mechanism, Severity, Species, Step,
+    StoichTerm, ThirdBody,
 };
 use std::collections::{BTreeMap, HashMap};
-use std::path::Path;
+use std::path::{Path, PathBuf};
+use stoik_thermo::Nasa7;
 use toml::de::{DeTable, DeValue};
 
 /// The mechanism format version this crate reads (`stoik_mechanism = 1`).
@@ -33,21 +34,48 @@ pub struct MechanismFile {
 }
 
 /// Reads and loads the mechanism file at `path`; diagnostics name the path as given.
+/// Relative `thermo_files` paths are resolved against the folder of `path`.
 pub fn load_mechanism(path: &Path) -> Result<MechanismFile, LoadError> {
     let label = path.display().to_string();
     let text = std::fs::read_to_string(path).map_err(|e| LoadError::Io {
         file: label.clone(),
         reason: e.to_string(),
     })?;
-    parse_mechanism(&text, &label)
+    let folder = path.parent().unwrap_or(Path::new(""));
+    parse_mechanism_in(&text, &label, Some(folder))
 }
 
 /// Parses and validates mechanism text; `file_label` names the file in diagnostics.
 ///
+/// The text has no folder, so a relative path in `thermo_files` is an error (absolute paths
+/// work); use [`parse_mechanism_in`] to give the folder relative paths start from.
+///
 /// Returns every problem at once: `Err(LoadError::Invalid)` holds all errors and warnings
 /// when there is at least one error.
 pub fn parse_mechanism(text: &str, file_label: &str) -> Result<MechanismFile, LoadError> {
+    parse_mechanism_in(text, file_label, None)
+}
+
+/// Parses and validates mechanism text like [`parse_mechanism`], resolving relative
+/// `thermo_files` paths against `base_dir` (normally the folder of the mechanism file; an
+/// empty path means the current directory). With `base_dir = None` a relative thermo-file
+/// path is reported as an error.
+///
+/// Problems inside a thermo file are reported with that file's own path, line and column
+/// (after the mechanism's own diagnostics).
+pub fn parse_mechanism_in(
+    text: &str,
+    file_label: &str,
+    base_dir: Option<&Path>,
+) -> Result<MechanismFile, LoadError> {
     let mut loader = Loader {
+        base_dir,
+        thermo_sources: HashMap::new(),
+        thermo_file_offsets: Vec::new(),
+        thermo_file_labels: Vec::new(),
+        external: Vec::new(),
+        thermo_reported: Vec::new(),
+        thermo_file_failed: false,
         r: Report::new(text, file_label),
         species: Vec::new(),
         species_index: HashMap::new(),
@@ -63,7 +91,9 @@ pub fn parse_mechanism(text: &str, file_label: &str) -> Result<MechanismFile, Lo
         return Err(loader.r.into_error());
     };
     let mechanism = loader.load(doc.get_ref());
-    let diagnostics = loader.r.finish();
+    let external = std::mem::take(&mut loader.external);
+    let mut diagnostics = loader.r.finish();
+    diagnostics.0.extend(external);
     if diagnostics.has_errors() {
         return Err(LoadError::Invalid { diagnostics });
     }
@@ -81,9 +111,10 @@ const TOP_KEYS: &[&str] = &[
     "units",
     "species",
     "step",
+    "thermo_files",
 ];
 const UNITS_KEYS: &[&str] = &["amount", "length", "time", "activation_energy"];
-const SPECIES_KEYS: &[&str] = &["name", "atoms", "note"];
+const SPECIES_KEYS: &[&str] = &["name", "atoms", "note", "thermo"];
 const STEP_KEYS: &[&str] = &[
     "equation",
     "forward",
@@ -165,7 +196,32 @@ impl StepKey {
     }
 }
 
+/// Where one species' polynomial came from in a thermo file.
+struct ThermoSource {
+    /// Index into `Loader::thermo_file_labels`.
+    file: usize,
+    /// Line of the entry in that file.
+    line: usize,
+    polynomial: Nasa7,
+}
+
 struct Loader<'t> {
+    /// Folder relative thermo-file paths start from; `None`: relative paths are errors.
+    base_dir: Option<&'t Path>,
+    /// Species name -> every thermo-file entry for it, in `thermo_files` order.
+    thermo_sources: HashMap<String, Vec<ThermoSource>>,
+    /// Byte offset of each loaded thermo file's entry in `thermo_files`.
+    thermo_file_offsets: Vec<usize>,
+    /// Each loaded thermo file's path as written.
+    thermo_file_labels: Vec<String>,
+    /// Diagnostics located in other files (thermo files).
+    external: Vec<Diagnostic>,
+    /// Species whose thermochemistry was given but reported as invalid (a bad inline table,
+    /// or entries in two thermo files); their steps are not reported again for lacking it.
+    thermo_reported: Vec<usize>,
+    /// Some thermo file could not be loaded (reported); "no thermochemistry" errors would
+    /// mostly repeat that.
+    thermo_file_failed: bool,
     r: Report<'t>,
     species: Vec<Species>,
     species_index: HashMap<String, usize>,
@@ -191,6 +247,9 @@ impl Loader<'_> {
         }
         if let Some(v) = root.get("description") {
             self.r.string("description", v);
+        }
+        if let Some(v) = root.get("thermo_files") {
+            self.read_thermo_files(v);
         }
         let mut units = RateUnits::default();
         if let Some(v) = root.get("units") {
@@ -338,6 +397,10 @@ impl Loader<'_> {
             Some(v) => self.r.string("name", v).map(|n| (n, v.span().start)),
         };
         let composition = table.get("atoms").and_then(|v| self.read_atoms(v));
+        let inline_thermo = table.get("thermo").map(|v| {
+            let species_name = name.map(|(n, _)| n);
+            self.read_inline_thermo(v, species_name)
+        });
         let note = table
             .get("note")
             .and_then(|v| self.r.string("note", v).map(str::to_string));
@@ -362,11 +425,22 @@ impl Loader<'_> {
             .insert(name.to_string(), self.species.len());
         self.species_offsets.push(name_at);
         let location = Some(self.r.location(name_at));
+        // Inline thermochemistry wins over thermo files (a bad inline table was reported).
+        let thermo = match inline_thermo {
+            Some(inline) => {
+                if inline.is_none() {
+                    self.thermo_reported.push(self.species.len());
+                }
+                inline
+            }
+            None => self.thermo_from_files(name, name_at),
+        };
         self.species.push(Species {
             name: name.to_string(),
             composition,
             note,
             location,
+            thermo,
         });
     }
 
@@ -711,12 +785,8 @@ impl Loader<'_> {
         };
         let reverse = match table.get_key_value("reverse") {
             None => {
-                if reversible == Some(true) {
-                    self.r.error(
-                        equation_at,
-                        "reversible step needs reverse rate parameters (`reverse = { prefactor = ... }`)",
-                        Some("reverse rates from thermochemistry are not supported yet; or use `->` for a one-way step".to_string()),
-                    );
+                if let Some((Some(reactants), Some(products), true)) = &sides {
+                    self.check_thermo_reverse(reactants, products, equation_at);
                 }
                 None
             }
@@ -826,6 +896,175 @@ impl Loader<'_> {
         }
         self.check_balance(&step, equation_at);
         Some(step)
+    }
+
+    /// A reversible step without `reverse` takes kr = kf / Kc from thermochemistry, which
+    /// every species of its equation must have.
+    fn check_thermo_reverse(
+        &mut self,
+        reactants: &[StoichTerm],
+        products: &[StoichTerm],
+        at: usize,
+    ) {
+        let mut lacking: Vec<&str> = Vec::new();
+        for term in reactants.iter().chain(products) {
+            if self.thermo_file_failed || self.thermo_reported.contains(&term.species) {
+                // Its thermochemistry was given but is invalid (reported there).
+                return;
+            }
+            let species = &self.species[term.species];
+            if species.thermo.is_none() && !lacking.contains(&species.name.as_str()) {
+                lacking.push(&species.name);
+            }
+        }
+        if lacking.is_empty() {
+            return;
+        }
+        let names: Vec<String> = lacking.iter().map(|n| format!("`{n}`")).collect();
+        let message = format!(
+            "reversible step needs reverse rate parameters or thermochemistry of all its species; no thermochemistry for {}",
+            names.join(", ")
+        );
+        self.r.error(
+            at,
+            message,
+            Some("add `reverse = { prefactor = ... }`, thermochemistry for those species (`thermo_files` or `[species.thermo]`), or use `->` for a one-way step".to_string()),
+        );
+    }
+
+    /// Reads `thermo_files = ["path", ...]` and loads every file; problems inside a file are
+    /// kept with that file's own locations.
+    fn read_thermo_files(&mut self, value: &Value<'_>) {
+        let DeValue::Array(items) = value.get_ref() else {
+            self.r
+                .wrong_type("thermo_files", value, "an array of file paths (strings)");
+            self.thermo_file_failed = true;
+            return;
+        };
+        let mut seen: HashMap<String, usize> = HashMap::new();
+        for item in items.iter() {
+            let at = item.span().start;
+            let Some(written) = self.r.string("thermo_files", item) else {
+                self.thermo_file_failed = true;
+                continue;
+            };
+            if let Some(&first) = seen.get(written) {
+                let line = self.r.location(first).line;
+                self.r.error(
+                    at,
+                    format!("thermo file `{written}` is listed twice (first at line {line})"),
+                    None,
+                );
+                continue;
+            }
+            seen.insert(written.to_string(), at);
+            let relative = Path::new(written);
+            let path: PathBuf = if relative.is_absolute() {
+                relative.to_path_buf()
+            } else {
+                match self.base_dir {
+                    Some(dir) => dir.join(relative),
+                    None => {
+                        self.r.error(
+                            at,
+                            format!("thermo file `{written}` is a relative path, but this mechanism text has no folder to resolve it from"),
+                            Some("load the mechanism from its file (relative paths start from its folder) or give an absolute path".to_string()),
+                        );
+                        self.thermo_file_failed = true;
+                        continue;
+                    }
+                }
+            };
+            let loaded = match crate::thermo_file::load_thermo(&path) {
+                Ok(file) => file,
+                Err(LoadError::Io { reason, .. }) => {
+                    self.r.error(
+                        at,
+                        format!(
+                            "cannot read thermo file `{written}` (looked for {}): {reason}",
+                            path.display()
+                        ),
+                        Some(
+                            "paths in `thermo_files` are relative to the mechanism file's folder"
+                                .to_string(),
+                        ),
+                    );
+                    self.thermo_file_failed = true;
+                    continue;
+                }
+                Err(LoadError::Invalid { diagnostics }) => {
+                    self.r.error(
+                        at,
+                        format!(
+                            "thermo file `{}` has {} error(s) (listed with their own locations)",
+                            path.display(),
+                            diagnostics.error_count()
+                        ),
+                        None,
+                    );
+                    self.external.extend(diagnostics.0);
+                    self.thermo_file_failed = true;
+                    continue;
+                }
+            };
+            let index = self.thermo_file_labels.len();
+            self.thermo_file_labels.push(written.to_string());
+            self.thermo_file_offsets.push(at);
+            for entry in loaded.entries {
+                self.thermo_sources
+                    .entry(entry.name)
+                    .or_default()
+                    .push(ThermoSource {
+                        file: index,
+                        line: entry.location.line,
+                        polynomial: entry.polynomial,
+                    });
+            }
+        }
+    }
+
+    /// Reads an inline `[species.thermo]` table. The outer `Option` is "given"; the inner
+    /// one is `None` when the table has problems (reported).
+    fn read_inline_thermo(&mut self, value: &Value<'_>, name: Option<&str>) -> Option<Nasa7> {
+        let table = self.r.table("thermo", value)?;
+        self.r.check_keys(
+            table,
+            crate::thermo_file::POLYNOMIAL_KEYS,
+            "the species' `thermo`",
+        );
+        crate::thermo_file::read_polynomial(
+            &mut self.r,
+            table,
+            value.span().start,
+            Some(name.unwrap_or("?")),
+            "the species' `thermo`",
+        )
+    }
+
+    /// The polynomial for species `name` from the thermo files; a species found in two
+    /// files is an error (reported at the later file's entry in `thermo_files`).
+    fn thermo_from_files(&mut self, name: &str, name_at: usize) -> Option<Nasa7> {
+        let sources = self.thermo_sources.get(name)?;
+        let first = sources.first()?;
+        if let Some(second) = sources.get(1) {
+            let message = format!(
+                "species `{name}` (line {}) has thermochemistry in two thermo files: `{}` (line {}) and `{}` (line {})",
+                self.r.location(name_at).line,
+                self.thermo_file_labels[first.file],
+                first.line,
+                self.thermo_file_labels[second.file],
+                second.line
+            );
+            let at = self.thermo_file_offsets[second.file];
+            self.r.error(
+                at,
+                message,
+                Some("remove one of the entries, or give the species an inline `thermo` table (it wins over files)".to_string()),
+            );
+            self.thermo_reported.push(self.species.len());
+            return None;
+        }
+        Some(first.polynomial)
     }
 
     /// Element balance of a step whose species all have compositions. Steps with an empty

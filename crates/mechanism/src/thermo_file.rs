@@ -29,7 +29,11 @@ pub const CONTINUITY_TOLERANCE: f64 = 1e-4;
 const TOP_KEYS: &[&str] = &["stoik_thermo", "title", "description", "species"];
 /// Keys of a polynomial table (a thermo file's `[[species]]` without `name` and `note`;
 /// also a mechanism's inline `[species.thermo]`).
-pub(crate) const POLYNOMIAL_KEYS: &[&str] = &["temperature_ranges_k", "coefficients_low", "coefficients_high"];
+pub(crate) const POLYNOMIAL_KEYS: &[&str] = &[
+    "temperature_ranges_k",
+    "coefficients_low",
+    "coefficients_high",
+];
 const SPECIES_KEYS: &[&str] = &[
     "name",
     "temperature_ranges_k",

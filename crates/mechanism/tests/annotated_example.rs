@@ -13,7 +13,7 @@ fn annotated_example_loads_without_errors_or_warnings() {
     assert_eq!(file.warnings.0.len(), 0, "{}", file.warnings);
     let m = &file.mechanism;
     assert_eq!(m.species.len(), 9);
-    assert_eq!(m.steps.len(), 10);
+    assert_eq!(m.steps.len(), 11);
     // Elements in order of first appearance: O, H, N, C, S.
     let symbols: Vec<&str> = m.elements.iter().map(|e| e.symbol.as_str()).collect();
     assert_eq!(symbols, ["O", "H", "N", "C", "S"]);
@@ -40,4 +40,16 @@ fn annotated_example_loads_without_errors_or_warnings() {
     assert_eq!(m.steps[3].products, m.steps[4].products);
     let n2 = m.species_index("N2").expect("N2");
     assert_eq!(m.steps[1].third_body, Some(ThirdBody::Species(n2)));
+    // Thermochemistry: every species but the abstract OXPROD and the invented ODR and
+    // O(1D) has some; O3's inline table has cp/R = 4.5 exactly; the last step takes its
+    // reverse from thermochemistry.
+    let with_thermo: Vec<&str> = m
+        .species
+        .iter()
+        .filter(|s| s.thermo.is_some())
+        .map(|s| s.name.as_str())
+        .collect();
+    assert_eq!(with_thermo, ["O3", "O2", "O", "H2O", "OH", "N2"]);
+    assert_eq!(m.species[0].thermo.map(|t| t.cp_over_r(300.0)), Some(4.5));
+    assert!(m.steps[10].reverse_from_thermo());
 }

@@ -14,7 +14,8 @@
 
 use std::path::{Path, PathBuf};
 use stoik_mechanism::{
-    load_mechanism, parse_mechanism, parse_scenario, Diagnostic, LoadError, Severity,
+    load_mechanism, parse_mechanism, parse_mechanism_in, parse_scenario, Diagnostic, LoadError,
+    Severity,
 };
 
 const CORPUS: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/../../tests/bad-input");
@@ -61,9 +62,12 @@ fn diagnostics_of(result: Result<Vec<Diagnostic>, LoadError>, file: &str) -> Vec
     }
 }
 
-/// All diagnostics of a mechanism file.
-fn check_mechanism(text: &str, file: &str) -> Vec<Diagnostic> {
-    diagnostics_of(parse_mechanism(text, file).map(|m| m.warnings.0), file)
+/// All diagnostics of a mechanism file (relative `thermo_files` start from `dir`).
+fn check_mechanism(text: &str, file: &str, dir: &Path) -> Vec<Diagnostic> {
+    diagnostics_of(
+        parse_mechanism_in(text, file, Some(dir)).map(|m| m.warnings.0),
+        file,
+    )
 }
 
 /// All diagnostics of a scenario file: its own, then (if it parsed) those of resolving it
@@ -113,7 +117,7 @@ fn every_corpus_file_reports_exactly_its_expected_problems() {
         let diagnostics = if file.ends_with(".scenario.toml") {
             check_scenario(&text, &file, &dir)
         } else if file.ends_with(".mech.toml") {
-            check_mechanism(&text, &file)
+            check_mechanism(&text, &file, &dir)
         } else {
             panic!("{file}: corpus files end in .mech.toml or .scenario.toml");
         };

@@ -344,6 +344,7 @@ fn hydrogen_dissociation_conserves_atoms() {
                 composition: Some(vec![(0, atoms)]),
                 note: None,
                 location: None,
+                thermo: None,
             })
             .collect(),
         steps: vec![reversible(&[(0, 1.0)], &[(1, 2.0)], 3.0, 50.0)],

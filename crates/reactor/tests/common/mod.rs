@@ -69,6 +69,7 @@ pub fn mechanism(names: &[&str], steps: Vec<Step>) -> Mechanism {
                 composition: None,
                 note: None,
                 location: None,
+                thermo: None,
             })
             .collect(),
         steps,

@@ -1,0 +1,162 @@
+//! Per-step thermochemistry for reports ([`step_energetics`]) and the plausibility check of
+//! bimolecular rate constants against the gas-kinetic collision limit
+//! ([`collision_limit_warnings`]).
+
+use crate::{Kinetics, GAS_CONSTANT, STANDARD_PRESSURE_PA};
+use stoik_mechanism::{Diagnostic, Mechanism, Step, AVOGADRO};
+
+/// Thermochemistry of one step at one temperature (net change products minus reactants; a
+/// third-body collider does not enter). All quantities per mole of reaction as written.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StepEnergetics {
+    /// Reaction enthalpy dH0 = sum_i nu_i H0_i(T), J/mol.
+    pub delta_h_j_per_mol: f64,
+    /// Reaction entropy dS0 = sum_i nu_i S0_i(T) at the standard pressure 1e5 Pa, J/(mol K).
+    pub delta_s_j_per_mol_k: f64,
+    /// Reaction Gibbs energy dG0 = dH0 - T dS0 at 1e5 Pa, J/mol.
+    pub delta_g_j_per_mol: f64,
+    /// Reaction internal energy dU0 = dH0 - dn R T (ideal gas), J/mol, with dn = sum_i nu_i.
+    pub delta_u_j_per_mol: f64,
+    /// Change in the number of moles dn = sum_i nu_i (dimensionless).
+    pub delta_moles: f64,
+    /// Equilibrium constant in pressure units of P0 = 1e5 Pa: Kp = exp(-dG0/(R T)),
+    /// dimensionless.
+    pub kp: f64,
+    /// Equilibrium constant in concentrations, Kc = Kp (P0/(R T))^dn, in (mol/m3)^dn.
+    pub kc_si: f64,
+    /// Effective (Arrhenius-plot) activation energy of the forward rate constant at T,
+    /// R T^2 d ln kf/dT = Ea + n R T, J/mol (the Ea parameter itself when n = 0).
+    pub forward_activation_energy_j_per_mol: f64,
+    /// Effective activation energy of the thermodynamically consistent reverse rate
+    /// constant kr = kf / Kc at T: Ea_f - dU0 (from d ln Kc/dT = dU0/(R T^2), van 't Hoff),
+    /// J/mol. Given for every step with thermochemistry, also where the file gives explicit
+    /// reverse parameters (compare with `explicit_reverse_activation_energy_j_per_mol`).
+    pub reverse_activation_energy_j_per_mol: f64,
+    /// Effective activation energy Ea_r + n_r R T (J/mol) of explicit reverse parameters,
+    /// when the step has them.
+    pub explicit_reverse_activation_energy_j_per_mol: Option<f64>,
+    /// Whether the step releases heat as written (dH0 < 0).
+    pub exothermic: bool,
+}
+
+/// Thermochemistry of every step of `mechanism` at `temperature_k` (K), in step order;
+/// `None` for a step some of whose species (reactants or products) lack thermochemistry.
+///
+/// Standard-state properties come from the species' NASA 7-coefficient polynomials
+/// (McBride, Gordon & Reno 1993, NASA TM-4513), which extrapolate outside their range.
+pub fn step_energetics(mechanism: &Mechanism, temperature_k: f64) -> Vec<Option<StepEnergetics>> {
+    mechanism
+        .steps
+        .iter()
+        .map(|step| energetics_of(mechanism, step, temperature_k))
+        .collect()
+}
+
+fn energetics_of(mechanism: &Mechanism, step: &Step, t: f64) -> Option<StepEnergetics> {
+    let mut dh = 0.0;
+    let mut ds = 0.0;
+    let mut dn = 0.0;
+    let terms = step
+        .reactants
+        .iter()
+        .map(|term| (term.species, -term.coefficient))
+        .chain(
+            step.products
+                .iter()
+                .map(|term| (term.species, term.coefficient)),
+        );
+    for (s, nu) in terms {
+        let thermo = mechanism.species.get(s)?.thermo.as_ref()?;
+        dh += nu * thermo.enthalpy_j_per_mol(t);
+        ds += nu * thermo.entropy_j_per_mol_k(t);
+        dn += nu;
+    }
+    let rt = GAS_CONSTANT * t;
+    let dg = dh - t * ds;
+    let du = dh - dn * rt;
+    let ln_kp = -dg / rt;
+    let ln_kc = ln_kp + dn * (STANDARD_PRESSURE_PA / rt).ln();
+    let effective = |a: &stoik_mechanism::Arrhenius| {
+        a.activation_energy_j_per_mol + a.temperature_exponent * rt
+    };
+    let forward = effective(&step.forward);
+    Some(StepEnergetics {
+        delta_h_j_per_mol: dh,
+        delta_s_j_per_mol_k: ds,
+        delta_g_j_per_mol: dg,
+        delta_u_j_per_mol: du,
+        delta_moles: dn,
+        kp: ln_kp.exp(),
+        kc_si: ln_kc.exp(),
+        forward_activation_energy_j_per_mol: forward,
+        reverse_activation_energy_j_per_mol: forward - du,
+        explicit_reverse_activation_energy_j_per_mol: step.reverse.as_ref().map(effective),
+        exothermic: dh < 0.0,
+    })
+}
+
+/// The gas-kinetic collision limit of a bimolecular rate constant, about 1e-10
+/// cm3 molecule^-1 s^-1 (common practice), in SI: 1e-10 x 1e-6 m3/cm3 x N_A = 6.02e7
+/// m3/(mol s).
+pub const COLLISION_LIMIT_M3_PER_MOL_S: f64 = 1e-10 * 1e-6 * AVOGADRO;
+
+/// The temperatures (K) at which [`collision_limit_warnings`] evaluates rate constants:
+/// 300 K to 3000 K in steps of 100 K.
+pub const COLLISION_LIMIT_TEMPERATURES_K: [f64; 28] = {
+    let mut grid = [0.0; 28];
+    let mut i = 0;
+    while i < 28 {
+        grid[i] = 300.0 + 100.0 * i as f64;
+        i += 1;
+    }
+    grid
+};
+
+/// Warnings for bimolecular rate constants above the gas-kinetic collision limit
+/// [`COLLISION_LIMIT_M3_PER_MOL_S`] anywhere on [`COLLISION_LIMIT_TEMPERATURES_K`].
+///
+/// A direction counts as bimolecular when its overall order is 2, a third body counting
+/// one (so `A + B` and `A (+M)` do, `A + B (+M)` does not). The reverse direction of a
+/// reversible step is checked with its explicit parameters or, without them, with
+/// kr = kf / Kc from thermochemistry. Each warning names `file_label` and the step's
+/// location and shows the largest k, its temperature and the limit.
+pub fn collision_limit_warnings(mechanism: &Mechanism, file_label: &str) -> Vec<Diagnostic> {
+    let kinetics = Kinetics::compile(mechanism);
+    let mut k = kinetics.rate_constants(COLLISION_LIMIT_TEMPERATURES_K[0]);
+    // (largest k, its temperature) per step, forward and reverse.
+    let mut worst = vec![[(0.0f64, 0.0f64); 2]; mechanism.steps.len()];
+    for &t in &COLLISION_LIMIT_TEMPERATURES_K {
+        kinetics.evaluate_rate_constants(t, &mut k);
+        for (j, w) in worst.iter_mut().enumerate() {
+            for (direction, value) in [k.forward[j], k.reverse[j]].into_iter().enumerate() {
+                // NaN (missing thermochemistry) never compares greater.
+                if value > w[direction].0 {
+                    w[direction] = (value, t);
+                }
+            }
+        }
+    }
+    let is_two = |order: f64| (order - 2.0).abs() < 1e-9;
+    let mut out = Vec::new();
+    for (step, w) in mechanism.steps.iter().zip(&worst) {
+        let directions = [
+            ("forward", is_two(step.forward_order())),
+            ("reverse", step.reversible && is_two(step.reverse_order())),
+        ];
+        for ((direction, bimolecular), &(k_max, t_max)) in directions.into_iter().zip(w) {
+            if !bimolecular || k_max <= COLLISION_LIMIT_M3_PER_MOL_S {
+                continue;
+            }
+            let per_molecule = k_max * 1e6 / AVOGADRO;
+            let message = format!(
+                "{direction} rate constant of bimolecular step `{}` reaches {k_max:.3e} m3/(mol s) ({per_molecule:.3e} cm3/(molecule s)) at {t_max} K, above the gas-kinetic collision limit of about {COLLISION_LIMIT_M3_PER_MOL_S:.3e} m3/(mol s) (1e-10 cm3/(molecule s))",
+                step.equation
+            );
+            out.push(
+                Diagnostic::warning(file_label, step.location, message)
+                    .with_help("check the prefactor and its units (mol or molecule, cm or m)"),
+            );
+        }
+    }
+    out
+}

@@ -239,3 +239,29 @@ fn fit_thermo_writes_a_loadable_thermo_file_close_to_the_table() {
     assert!((water.cp_j_per_mol_k(1000.0) / 41.268 - 1.0).abs() < 5e-3);
     assert!((water.entropy_j_per_mol_k(1000.0) / 232.738 - 1.0).abs() < 5e-3);
 }
+
+#[test]
+fn energetics_reports_the_heat_of_reaction_from_thermochemistry() {
+    let dir = scratch("energetics");
+    let thermo = repo().join("mechanisms/thermo/janaf-nasa7.toml");
+    std::fs::write(
+        dir.join("water.toml"),
+        format!(
+            "stoik_mechanism = 1\nthermo_files = [\"{}\"]\n\
+             [[species]]\nname = \"H2\"\natoms = {{ H = 2 }}\n\
+             [[species]]\nname = \"O2\"\natoms = {{ O = 2 }}\n\
+             [[species]]\nname = \"H2O\"\natoms = {{ H = 2, O = 1 }}\n\
+             [[step]]\nequation = \"2 H2 + O2 <=> 2 H2O\"\nforward = {{ prefactor = 1.0 }}\n",
+            thermo.display()
+        ),
+    )
+    .unwrap();
+    let out = stoik(&["energetics", "water.toml", "--temperature-k", "298.15"], &dir);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let stdout = text(&out.stdout);
+    let row = stdout.lines().find(|l| l.contains("2 H2 + O2 <=> 2 H2O")).unwrap();
+    let dh: f64 = row.split_whitespace().nth(8).unwrap().parse().unwrap();
+    // NIST-JANAF 4th ed.: formation enthalpy of H2O(g) at 298.15 K is -241.826 kJ/mol.
+    assert!((dh - 2.0 * -241.826).abs() < 0.1, "{row}");
+    assert!(row.contains("exothermic"));
+}

@@ -2,6 +2,7 @@
 
 use crate::{EXIT_BAD_INPUT, EXIT_OK, EXIT_WARNINGS};
 use std::path::Path;
+use stoik::kinetics::collision_limit_warnings;
 use stoik::mechanism::{load_mechanism, load_scenario, Diagnostics, LoadError};
 
 /// Whether `path` holds a scenario (it carries the scenario format key) rather than a mechanism.
@@ -70,7 +71,11 @@ pub fn check(path: &Path, strict: bool) -> u8 {
         }
     } else {
         match load_mechanism(path) {
-            Ok(file) => {
+            Ok(mut file) => {
+                let label = path.display().to_string();
+                file.warnings
+                    .0
+                    .extend(collision_limit_warnings(&file.mechanism, &label));
                 let summary = format!(
                     "{} ({} species, {} steps)",
                     path.display(),

@@ -3,6 +3,7 @@
 mod batch;
 mod check;
 mod csv_out;
+mod energetics;
 mod fit_thermo;
 mod run;
 
@@ -59,6 +60,22 @@ enum Command {
         after_help = "Examples:\n  stoik fit-thermo janaf/H2O.tsv janaf/OH.tsv --output thermo.toml\n  stoik fit-thermo janaf/Ar.tsv --rename Ar=AR --common-temperature-k 1000 --output ar.toml\n\nTables use the NIST-JANAF tab-separated layout: a title line, a header line, then rows of\nT (K), Cp, S, -[G-H(298.15)]/T (J/mol/K), H-H(298.15), formation H, formation G (kJ/mol), log10 Kf."
     )]
     FitThermo(FitThermoArgs),
+    /// Print each step's reaction enthalpy, activation energies (forward and implied reverse),
+    /// Gibbs energy and Kc at one temperature.
+    #[command(
+        after_help = "Examples:\n  stoik energetics mechanisms/annotated-example.toml --temperature-k 298.15"
+    )]
+    Energetics(EnergeticsArgs),
+}
+
+/// Flags of `stoik energetics`.
+#[derive(clap::Args)]
+pub struct EnergeticsArgs {
+    /// Mechanism file (species need thermochemistry).
+    pub mechanism: PathBuf,
+    /// Temperature in K.
+    #[arg(long, default_value_t = 298.15)]
+    pub temperature_k: f64,
 }
 
 /// Flags of `stoik fit-thermo`.
@@ -155,6 +172,7 @@ fn main() -> ExitCode {
         Command::Run(args) => run::run(&args),
         Command::Batch(args) => batch::batch(&args),
         Command::FitThermo(args) => fit_thermo::fit_thermo(&args),
+        Command::Energetics(args) => energetics::energetics(&args),
     };
     ExitCode::from(status)
 }

@@ -25,9 +25,9 @@ fn annotated_example_loads_without_errors_or_warnings() {
     let reverse = m.steps[0].reverse.expect("reverse");
     assert!((reverse.pre_exponential_si / 4e8 - 1.0).abs() < 1e-12);
     assert_eq!(reverse.activation_energy_j_per_mol, 95_000.0);
-    // step 3 in molecule units, order 2: 1.6e-10 cm3/(molecule s) * 1e-6 * N_A; Ea/R = -60 K.
+    // step 3 in molecule units, order 2: 4.0e-11 cm3/(molecule s) * 1e-6 * N_A; Ea/R = -60 K.
     let k3 = &m.steps[2].forward;
-    assert!((k3.pre_exponential_si / (1.6e-16 * AVOGADRO) - 1.0).abs() < 1e-12);
+    assert!((k3.pre_exponential_si / (4.0e-17 * AVOGADRO) - 1.0).abs() < 1e-12);
     assert!((k3.activation_energy_j_per_mol / (-60.0 * GAS_CONSTANT) - 1.0).abs() < 1e-12);
     // step 6, orders 0.6 + 1.2 = 1.8: 2e9 (mol/cm3)^-0.8/s * (1e6)^-0.8 = 2e9 * 10^-4.8.
     assert!((m.steps[5].forward_order() - 1.8).abs() < 1e-12);

@@ -256,10 +256,16 @@ fn energetics_reports_the_heat_of_reaction_from_thermochemistry() {
         ),
     )
     .unwrap();
-    let out = stoik(&["energetics", "water.toml", "--temperature-k", "298.15"], &dir);
+    let out = stoik(
+        &["energetics", "water.toml", "--temperature-k", "298.15"],
+        &dir,
+    );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
     let stdout = text(&out.stdout);
-    let row = stdout.lines().find(|l| l.contains("2 H2 + O2 <=> 2 H2O")).unwrap();
+    let row = stdout
+        .lines()
+        .find(|l| l.contains("2 H2 + O2 <=> 2 H2O"))
+        .unwrap();
     let dh: f64 = row.split_whitespace().nth(8).unwrap().parse().unwrap();
     // NIST-JANAF 4th ed.: formation enthalpy of H2O(g) at 298.15 K is -241.826 kJ/mol.
     assert!((dh - 2.0 * -241.826).abs() < 0.1, "{row}");

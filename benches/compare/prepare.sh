@@ -66,4 +66,9 @@ fi
 # 4. stoik files, and the C twin of the bundled HIRES (no JSON twin)
 "$PY" "$HERE/json_to_stoik.py" "$MECH_DIR"
 "$PY" "$HERE/stoik_to_txt.py" "$ROOT/mechanisms/hires.scenario.toml" "$MECH_DIR/hires.txt"
+# The 10,000-species target case: the same mechanism to t = 100 s.
+if [ -f "$MECH_DIR/synth10000.scenario.toml" ]; then
+    sed 's/^end_time = "1000 s"/end_time = "100 s"/; s/^times = \[1000.0\]/times = [100.0]/' \
+        "$MECH_DIR/synth10000.scenario.toml" > "$MECH_DIR/synth10000-t100.scenario.toml"
+fi
 echo "ready: $MECH_DIR"

@@ -61,7 +61,7 @@ def main(out):
         for row in csv.DictReader(f, delimiter="\t"):
             if row["program"] == "cvode-failed":
                 notes.setdefault(row["case"], set()).add(
-                    "CVODE fails without the y >= 0 constraint (%s); CONSTR=1 used"
+                    "CVODE without the y >= 0 constraint: %s; the table's CVODE run uses it (CONSTR=1)"
                     % row["detail"].strip())
                 continue
             runs.setdefault(row["case"], {}).setdefault(row["program"], []).append(row)

@@ -43,11 +43,11 @@ use stoik_kinetics::Kinetics;
 use stoik_mechanism::Mechanism;
 
 /// Largest number of species for which [`LinearAlgebra::Auto`] picks dense linear algebra
-/// regardless of fill. Set by the `dense_vs_sparse` benchmark (benches/README.md): on
-/// hub-structured synthetic mechanisms dense and sparse LU tie at 25 species, sparse wins by
-/// 1.3-1.4x at 50 and 100, dense by 1.4x at 200, sparse by 3.9x at 400; the crossover lies
-/// between 100 and 400 species, and 150 splits it.
-pub const DENSE_MAX_SPECIES: usize = 150;
+/// regardless of fill. Set by the `dense_vs_sparse` benchmark (benches/README.md) with the
+/// fixed-pattern sparse LU: on hub-structured synthetic mechanisms sparse/dense time is 1.05
+/// at 25 species, 0.73 at 50, 0.45 at 100, 0.21 at 200 and 0.08 at 400, so the crossover lies
+/// between 25 and 50 species.
+pub const DENSE_MAX_SPECIES: usize = 40;
 
 /// Jacobian fill fraction (stored entries / n^2) above which [`LinearAlgebra::Auto`] picks
 /// dense linear algebra at any size: a sparse LU gains little on a matrix that full.

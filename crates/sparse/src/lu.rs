@@ -2,6 +2,7 @@
 //! and the triangular solves.
 
 use std::cell::RefCell;
+use std::sync::Arc;
 
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::lu::partial_pivoting::factor::lu_in_place;
@@ -222,7 +223,9 @@ impl DenseBlock {
 /// Solves take `&self` and use an internal work vector behind a [`RefCell`], so the type is
 /// `Send` but not `Sync`.
 pub struct FixedPatternLu {
-    symbolic: Symbolic,
+    /// The symbolic analysis, shared by every factorization made with
+    /// [`FixedPatternLu::share_symbolic`].
+    symbolic: Arc<Symbolic>,
     /// Values of `L + U` in the pattern of `symbolic` (unit diagonal of `L` not stored).
     lu_values: Vec<f64>,
     /// Dense work vector of length `n`, kept all zero between uses.
@@ -277,7 +280,24 @@ impl FixedPatternLu {
         row_indices: &[usize],
         allow_dense_block: bool,
     ) -> Result<FixedPatternLu, SparseLuError> {
-        let symbolic = Symbolic::new(n, column_starts, row_indices, allow_dense_block)?;
+        let symbolic = Arc::new(Symbolic::new(
+            n,
+            column_starts,
+            row_indices,
+            allow_dense_block,
+        )?);
+        Self::from_symbolic(symbolic)
+    }
+
+    /// A new factorization of the same pattern that shares this one's symbolic analysis
+    /// (ordering, fill pattern, dense-block choice) instead of recomputing it: only the
+    /// numeric storage is allocated. For many solvers of one mechanism (parallel batches).
+    pub fn share_symbolic(&self) -> Result<FixedPatternLu, SparseLuError> {
+        Self::from_symbolic(Arc::clone(&self.symbolic))
+    }
+
+    fn from_symbolic(symbolic: Arc<Symbolic>) -> Result<FixedPatternLu, SparseLuError> {
+        let n = symbolic.n;
         let lu_nnz = symbolic.lu_nnz();
         let dense = DenseBlock::new(symbolic.dense_size())?;
         Ok(FixedPatternLu {

@@ -439,3 +439,28 @@ fn singular_dense_block_is_reported_by_the_solve() {
     let mut x = vec![1.0; n];
     assert_eq!(lu.solve_in_place(&mut x), Err(SparseLuError::Singular));
 }
+
+#[test]
+fn a_factorization_sharing_the_symbolic_analysis_solves_other_values_of_the_pattern() {
+    // Two Newton matrices of one hub pattern (different step sizes): the second factorization
+    // reuses the first's ordering and fill pattern and must match dense LU (nalgebra, partial
+    // pivoting) to 1e-10, like an independent analysis would.
+    let a = hub_newton_matrix(600, 1e-3, 7);
+    let b_matrix = hub_newton_matrix(600, 1e2, 7);
+    assert_eq!(a.row_indices, b_matrix.row_indices, "same pattern");
+    let first = check_against_dense(&a, 5, 1e-10);
+    let mut shared = first.share_symbolic().unwrap();
+    assert_eq!(shared.permutation(), first.permutation());
+    assert_eq!(shared.nnz_lu(), first.nnz_lu());
+    shared.factorize(&b_matrix.values).unwrap();
+    let rhs: Vec<f64> = (0..600).map(|i| ((i * 7919) % 13) as f64 - 6.0).collect();
+    let expected = b_matrix
+        .dense()
+        .lu()
+        .solve(&nalgebra::DVector::from_vec(rhs.clone()))
+        .unwrap();
+    let mut x = rhs;
+    shared.solve_in_place(&mut x).unwrap();
+    let err = relative_difference(&x, expected.as_slice());
+    assert!(err <= 1e-10, "relative difference {err:e}");
+}

@@ -272,23 +272,13 @@ fn concentration_unit(
     key: &str,
     value: &Value<'_>,
 ) -> Option<ConcentrationUnit> {
-    let text = r.string(key, value)?;
-    match ConcentrationUnit::parse(text) {
-        Some(u) => Some(u),
-        None => {
-            let help = nearest_name(text, ConcentrationUnit::ACCEPTED.iter().copied())
-                .map(|near| format!("did you mean `{near}`?"));
-            r.error(
-                value.span().start,
-                format!(
-                    "unknown concentration unit `{text}`; accepted: {}",
-                    ConcentrationUnit::ACCEPTED.join(", ")
-                ),
-                help,
-            );
-            None
-        }
-    }
+    r.one_of(
+        key,
+        value,
+        "concentration unit",
+        ConcentrationUnit::ACCEPTED,
+        ConcentrationUnit::parse,
+    )
 }
 
 /// Reads a table of species name -> value, converting each value with `read`.
@@ -409,21 +399,9 @@ fn read_scenario(
         }
         Some(t) => {
             if let Some(v) = t.get("kind") {
-                kind = r.string("kind", v).and_then(|text| match text {
-                    "isothermal-constant-volume" => Some(ReactorKind::IsothermalConstantVolume),
-                    _ => {
-                        let help = nearest_name(text, ReactorKind::ACCEPTED.iter().copied())
-                            .map(|near| format!("did you mean `{near}`?"));
-                        r.error(
-                            v.span().start,
-                            format!(
-                                "unknown reactor kind `{text}`; format version 1 knows: {}",
-                                ReactorKind::ACCEPTED.join(", ")
-                            ),
-                            help,
-                        );
-                        None
-                    }
+                kind = r.one_of("kind", v, "reactor kind", ReactorKind::ACCEPTED, |text| {
+                    (text == "isothermal-constant-volume")
+                        .then_some(ReactorKind::IsothermalConstantVolume)
                 });
             }
             match t.get("temperature") {
@@ -656,22 +634,13 @@ fn read_scenario(
                 .and_then(|table| named_values(r, table, &mut tolerance));
         }
         if let Some(v) = t.get("linear_algebra") {
-            linear_algebra = r.string("linear_algebra", v).and_then(|text| {
-                let choice = LinearAlgebraChoice::parse(text);
-                if choice.is_none() {
-                    let help = nearest_name(text, LinearAlgebraChoice::ACCEPTED.iter().copied())
-                        .map(|near| format!("did you mean `{near}`?"));
-                    r.error(
-                        v.span().start,
-                        format!(
-                            "unknown linear algebra `{text}`; accepted: {}",
-                            LinearAlgebraChoice::ACCEPTED.join(", ")
-                        ),
-                        help,
-                    );
-                }
-                choice
-            });
+            linear_algebra = r.one_of(
+                "linear_algebra",
+                v,
+                "linear algebra",
+                LinearAlgebraChoice::ACCEPTED,
+                LinearAlgebraChoice::parse,
+            );
         }
         if let Some(v) = t.get("max_steps") {
             max_steps = r.count("max_steps", v).and_then(|n| {
@@ -774,19 +743,10 @@ fn read_grid(
     let mut logarithmic = false;
     let mut ok = true;
     if let Some(v) = table.get("spacing") {
-        match r.string("spacing", v) {
-            Some("linear") => {}
-            Some("log") => logarithmic = true,
-            Some(other) => {
-                let help = nearest_name(other, ["linear", "log"])
-                    .map(|near| format!("did you mean `{near}`?"));
-                r.error(
-                    v.span().start,
-                    format!("unknown grid spacing `{other}`; accepted: linear, log"),
-                    help,
-                );
-                ok = false;
-            }
+        match r.one_of("spacing", v, "grid spacing", &["linear", "log"], |t| {
+            (t == "linear" || t == "log").then_some(t == "log")
+        }) {
+            Some(log) => logarithmic = log,
             None => ok = false,
         }
     }

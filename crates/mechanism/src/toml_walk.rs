@@ -146,6 +146,31 @@ impl<'t> Report<'t> {
         }
     }
 
+    /// Reads a string that must be one of `accepted` and maps it with `parse`; an unknown
+    /// word is recorded as "unknown {what} `word`; accepted: ..." with the nearest accepted
+    /// word as a suggestion.
+    pub(crate) fn one_of<T>(
+        &mut self,
+        key: &str,
+        value: &Value<'_>,
+        what: &str,
+        accepted: &[&str],
+        parse: impl Fn(&str) -> Option<T>,
+    ) -> Option<T> {
+        let text = self.string(key, value)?;
+        let parsed = parse(text);
+        if parsed.is_none() {
+            let help = nearest_name(text, accepted.iter().copied())
+                .map(|near| format!("did you mean `{near}`?"));
+            self.error(
+                value.span().start,
+                format!("unknown {what} `{text}`; accepted: {}", accepted.join(", ")),
+                help,
+            );
+        }
+        parsed
+    }
+
     /// Reads a boolean; a wrong type is recorded and gives `None`.
     pub(crate) fn boolean(&mut self, key: &str, value: &Value<'_>) -> Option<bool> {
         match value.get_ref() {

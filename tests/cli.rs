@@ -271,3 +271,35 @@ fn energetics_reports_the_heat_of_reaction_from_thermochemistry() {
     assert!((dh - 2.0 * -241.826).abs() < 0.1, "{row}");
     assert!(row.contains("exothermic"));
 }
+
+#[test]
+fn a_run_outside_a_species_thermo_range_is_warned_about() {
+    let dir = scratch("range");
+    let thermo = repo().join("mechanisms/thermo/janaf-nasa7.toml");
+    std::fs::write(
+        dir.join("h2.toml"),
+        format!(
+            "stoik_mechanism = 1\nthermo_files = [\"{}\"]\n[units]\nlength = \"m\"\n\
+             [[species]]\nname = \"H2\"\natoms = {{ H = 2 }}\n\
+             [[species]]\nname = \"H\"\natoms = {{ H = 1 }}\n\
+             [[step]]\nequation = \"H2 <=> H + H\"\nforward = {{ prefactor = 1.0 }}\n",
+            thermo.display()
+        ),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("hot.scenario.toml"),
+        "stoik_scenario = 1\nmechanism = \"h2.toml\"\n[reactor]\ntemperature = \"7000 K\"\n\
+         [initial]\nconcentrations = { H2 = 1.0 }\n[output]\nend_time = \"1e-3 s\"\n",
+    )
+    .unwrap();
+    let out = stoik(&["run", "hot.scenario.toml", "-o", "hot.csv"], &dir);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    // The project's polynomials span 200 to 6000 K (fitted to NIST-JANAF up to 6000 K).
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("leaves the range of species `H2`'s thermochemistry (200 to 6000 K)"),
+        "{err}"
+    );
+    assert!(err.contains("`H`'s thermochemistry"), "{err}");
+}

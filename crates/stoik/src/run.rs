@@ -71,6 +71,11 @@ pub fn run(args: &RunArgs) -> u8 {
         };
     }
     let mechanism = &file.mechanism;
+    if !args.quiet {
+        for line in thermo_range_warnings(mechanism, scenario.temperature_k) {
+            eprintln!("{line}");
+        }
+    }
     let resolved = match scenario.resolve(mechanism) {
         Ok(r) => r,
         Err(e) => {
@@ -148,6 +153,24 @@ pub fn run(args: &RunArgs) -> u8 {
         }
         None => EXIT_OK,
     }
+}
+
+/// Warnings for species whose thermochemistry is used outside the temperature range of its
+/// polynomials (it then extrapolates).
+pub fn thermo_range_warnings(mechanism: &Mechanism, temperature_k: f64) -> Vec<String> {
+    mechanism
+        .species
+        .iter()
+        .filter_map(|s| {
+            let p = s.thermo.as_ref()?;
+            (temperature_k < p.t_low_k || temperature_k > p.t_high_k).then(|| {
+                format!(
+                    "warning: the run at {temperature_k} K leaves the range of species `{}`'s thermochemistry ({} to {} K); its polynomials are extrapolated",
+                    s.name, p.t_low_k, p.t_high_k
+                )
+            })
+        })
+        .collect()
 }
 
 /// Integration options of a scenario (SI tolerances already resolved per species).

@@ -109,7 +109,7 @@ fn run_writes_csv_with_units_and_a_summary() {
     let mut lines = csv.lines();
     assert_eq!(
         lines.next(),
-        Some("time [s],A [mol/m3],B [mol/m3],C [mol/m3]")
+        Some("time [s],A [mol/m3],B [mol/m3],C [mol/m3],temperature [K],pressure [Pa]")
     );
     // 68 log-spaced points plus t = 0 (scenario grid).
     let rows: Vec<Vec<f64>> = lines

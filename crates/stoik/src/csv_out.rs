@@ -1,7 +1,7 @@
 //! Profiles as CSV: one row per output time, units in the header.
 
 use std::io::{self, Write};
-use stoik::mechanism::Mechanism;
+use stoik::mechanism::{Mechanism, GAS_CONSTANT};
 
 /// Quotes a CSV field when it holds a comma, quote or line break (species such as `1,3-C4H6`).
 fn field(text: &str) -> String {
@@ -12,16 +12,36 @@ fn field(text: &str) -> String {
     }
 }
 
-/// Writes the header and rows. `to_unit` divides SI concentrations (mol/m3) into the output
-/// unit labelled `unit_label`.
+/// Molar mass of every species in kg/mol, when every species has an elemental composition.
+fn molar_masses_kg_per_mol(mechanism: &Mechanism) -> Option<Vec<f64>> {
+    mechanism
+        .species
+        .iter()
+        .map(|s| {
+            s.composition.as_ref().map(|atoms| {
+                atoms
+                    .iter()
+                    .map(|&(e, n)| n * mechanism.elements[e].atomic_weight_kg_per_mol)
+                    .sum()
+            })
+        })
+        .collect()
+}
+
+/// Writes the header and rows: time, every species' concentration (SI mol/m3 divided by
+/// `si_per_unit`, labelled `unit_label`), then the temperature, the ideal-gas pressure
+/// P = sum(c) R T and, when every species has a composition, the mass density
+/// sum(c_i M_i).
 pub fn write_profiles(
     out: &mut impl Write,
     mechanism: &Mechanism,
     times_s: &[f64],
     concentrations_mol_per_m3: &[Vec<f64>],
+    temperature_k: f64,
     si_per_unit: f64,
     unit_label: &str,
 ) -> io::Result<()> {
+    let masses = molar_masses_kg_per_mol(mechanism);
     let mut header = vec!["time [s]".to_string()];
     header.extend(
         mechanism
@@ -29,11 +49,26 @@ pub fn write_profiles(
             .iter()
             .map(|s| field(&format!("{} [{unit_label}]", s.name))),
     );
+    header.push("temperature [K]".to_string());
+    header.push("pressure [Pa]".to_string());
+    if masses.is_some() {
+        header.push("density [kg/m3]".to_string());
+    }
     writeln!(out, "{}", header.join(","))?;
     for (t, row) in times_s.iter().zip(concentrations_mol_per_m3) {
         write!(out, "{t:.9e}")?;
         for c in row {
             write!(out, ",{:.9e}", c / si_per_unit)?;
+        }
+        let total: f64 = row.iter().sum();
+        write!(
+            out,
+            ",{temperature_k:.9e},{:.9e}",
+            total * GAS_CONSTANT * temperature_k
+        )?;
+        if let Some(m) = &masses {
+            let density: f64 = row.iter().zip(m).map(|(c, m)| c * m).sum();
+            write!(out, ",{density:.9e}")?;
         }
         writeln!(out)?;
     }

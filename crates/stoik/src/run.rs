@@ -206,6 +206,7 @@ pub fn write_csv(
         mechanism,
         &profiles.times_s,
         &profiles.concentrations_mol_per_m3,
+        scenario.temperature_k,
         unit.to_si_factor(),
         unit.label(),
     )?;
@@ -291,7 +292,10 @@ fn print_summary(
         "wrote {} ({} rows, {} columns)",
         output.display(),
         profiles.times_s.len(),
-        mechanism.species.len() + 1
+        // time, species, temperature, pressure, and density when every species has atoms
+        mechanism.species.len()
+            + 3
+            + usize::from(mechanism.species.iter().all(|s| s.composition.is_some()))
     );
     println!("{CAUTION}");
 }

@@ -2,7 +2,7 @@
 //! compiled once, integrated in parallel with a progress bar.
 
 use crate::check::report_load_error;
-use crate::run::{integration_options, write_csv, CAUTION};
+use crate::run::{integration_options, scenario_stem, write_csv, CAUTION};
 use crate::{BatchArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
 use indicatif::{ProgressBar, ProgressStyle};
 use std::collections::BTreeMap;
@@ -17,16 +17,6 @@ struct Job {
     scenario: Scenario,
     case: BatchCase,
     output: PathBuf,
-}
-
-fn stem(path: &std::path::Path) -> String {
-    path.file_stem()
-        .map(|s| {
-            s.to_string_lossy()
-                .trim_end_matches(".scenario")
-                .to_string()
-        })
-        .unwrap_or_else(|| "profiles".to_string())
 }
 
 /// Runs the batch; returns the exit status (0 all ran, 2 bad input, 3 some failed).
@@ -90,8 +80,8 @@ pub fn batch(args: &BatchArgs) -> u8 {
                 }
             };
             let name = match t {
-                Some(t) => format!("{}-{t}K.csv", stem(path)),
-                None => format!("{}.csv", stem(path)),
+                Some(t) => format!("{}-{t}K.csv", scenario_stem(path)),
+                None => format!("{}.csv", scenario_stem(path)),
             };
             let options = integration_options(
                 &scenario,

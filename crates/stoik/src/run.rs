@@ -115,18 +115,10 @@ pub fn run(args: &RunArgs) -> u8 {
     };
     let elapsed = started.elapsed();
 
-    let output = args.output.clone().unwrap_or_else(|| {
-        let stem = args
-            .scenario
-            .file_stem()
-            .map(|s| {
-                s.to_string_lossy()
-                    .trim_end_matches(".scenario")
-                    .to_string()
-            })
-            .unwrap_or_else(|| "profiles".to_string());
-        PathBuf::from(format!("{stem}.csv"))
-    });
+    let output = args
+        .output
+        .clone()
+        .unwrap_or_else(|| PathBuf::from(format!("{}.csv", scenario_stem(&args.scenario))));
     if let Err(e) = write_csv(&output, mechanism, &profiles, &scenario) {
         eprintln!("error: cannot write {}: {e}", output.display());
         return EXIT_BAD_INPUT;
@@ -171,6 +163,17 @@ pub fn thermo_range_warnings(mechanism: &Mechanism, temperature_k: f64) -> Vec<S
             })
         })
         .collect()
+}
+
+/// The scenario file's name without `.toml` and `.scenario`: the default CSV name.
+pub fn scenario_stem(path: &Path) -> String {
+    path.file_stem()
+        .map(|s| {
+            s.to_string_lossy()
+                .trim_end_matches(".scenario")
+                .to_string()
+        })
+        .unwrap_or_else(|| "profiles".to_string())
 }
 
 /// Integration options of a scenario (SI tolerances already resolved per species).

@@ -6,7 +6,9 @@ mod common;
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use stoik::kinetics::Kinetics;
-use stoik::reactor::{integrate_batch, integrate_batch_serial, BatchCase, IntegrationOptions};
+use stoik::reactor::{
+    integrate_batch, integrate_batch_serial, BatchCase, IntegrationOptions, ReactorModel,
+};
 
 fn cases(n: usize) -> Vec<BatchCase> {
     (0..8)
@@ -15,6 +17,7 @@ fn cases(n: usize) -> Vec<BatchCase> {
             options.relative_tolerance = 1e-6;
             options.absolute_tolerances_mol_per_m3 = vec![1e-10; n];
             BatchCase {
+                model: ReactorModel::default(),
                 temperature_k: 300.0 + 10.0 * i as f64,
                 initial_mol_per_m3: common::test_concentrations(n, 11 + i as u64),
                 output_times_s: vec![0.0, 10.0],

@@ -113,6 +113,12 @@ impl CompiledArrhenius {
         }
         k
     }
+
+    /// d ln k / dT = (n + Ea/(R T)) / T in 1/K.
+    #[inline]
+    fn log_slope(&self, temperature_k: f64) -> f64 {
+        (self.temperature_exponent + self.activation_temperature_k / temperature_k) / temperature_k
+    }
 }
 
 /// How a step's third-body concentration is formed.
@@ -234,6 +240,81 @@ impl Kinetics {
                 None => 0.0,
             };
         }
+    }
+
+    /// Overwrites `slopes` with the temperature derivatives of the rate constants `k`
+    /// evaluated at `temperature_k` (K): `slopes.forward[j] = d kf_j / dT` and
+    /// `slopes.reverse[j] = d kr_j / dT`, in the units of the rate constant per K. `k` must
+    /// hold the rate constants at the same temperature (from
+    /// [`Kinetics::evaluate_rate_constants`]); both must come from this mechanism.
+    ///
+    /// Arrhenius: d ln k / dT = (n + Ea/(R T)) / T. A reverse rate constant from
+    /// thermochemistry, kr = kf / Kc, has d ln kr / dT = d ln kf / dT - d ln Kc / dT with
+    /// d ln Kc / dT = (dH0/(R T) - dn) / T (van 't Hoff, Kc in concentration units).
+    /// No allocation.
+    pub fn evaluate_rate_constant_slopes(
+        &self,
+        temperature_k: f64,
+        k: &RateConstants,
+        slopes: &mut RateConstants,
+    ) {
+        let t = temperature_k;
+        for (j, p) in self.forward.iter().enumerate() {
+            slopes.forward[j] = k.forward[j] * p.log_slope(t);
+        }
+        for (j, p) in self.reverse.iter().enumerate() {
+            slopes.reverse[j] = match p {
+                Some(p) => k.reverse[j] * p.log_slope(t),
+                None if self.reverse_from_thermo[j] && k.reverse[j] != 0.0 => {
+                    let mut dh_over_rt = 0.0;
+                    for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
+                        if let Some(Some(thermo)) = self.species_thermo.get(s) {
+                            dh_over_rt += nu * thermo.h_over_rt(t);
+                        }
+                    }
+                    let dln_kc = (dh_over_rt - self.delta_moles[j]) / t;
+                    k.reverse[j] * (self.forward[j].log_slope(t) - dln_kc)
+                }
+                None => 0.0,
+            };
+        }
+    }
+
+    /// Writes `dw/dT` (mol/(m3 s K)) into `dw_dt` (length `n_species`): the temperature
+    /// derivative of the net production rates at fixed concentrations `c` (mol/m3), given the
+    /// rate constants `k` and their slopes from [`Kinetics::evaluate_rate_constant_slopes`].
+    /// Third-body concentrations do not depend on temperature at fixed `c`. No allocation.
+    pub fn production_rate_slopes(
+        &self,
+        k: &RateConstants,
+        slopes: &RateConstants,
+        c: &[f64],
+        dw_dt: &mut [f64],
+    ) {
+        dw_dt.iter_mut().for_each(|x| *x = 0.0);
+        let total = self.total_concentration(c);
+        for j in 0..self.n_steps {
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            let mut dq = 0.0;
+            if k.forward[j] != 0.0 {
+                dq += fwd / k.forward[j] * slopes.forward[j];
+            }
+            if k.reverse[j] != 0.0 {
+                dq -= rev / k.reverse[j] * slopes.reverse[j];
+            }
+            if dq == 0.0 {
+                continue;
+            }
+            dq *= self.third_body_concentration(j, c, total);
+            for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
+                dw_dt[s] += nu * dq;
+            }
+        }
+    }
+
+    /// The thermochemistry of each species in mechanism order (`None` where not given).
+    pub fn species_thermo(&self) -> &[Option<Nasa7>] {
+        &self.species_thermo
     }
 
     /// Natural logarithms of (Kp, Kc) of step `step` at `temperature_k` (K), or `None` when

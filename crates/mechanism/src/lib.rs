@@ -26,8 +26,8 @@ pub use model::{
     Arrhenius, Element, Mechanism, SourceLocation, Species, Step, StoichTerm, ThirdBody,
 };
 pub use scenario::{
-    load_scenario, parse_scenario, LinearAlgebraChoice, OutputTimes, ReactorKind, ResolvedScenario,
-    Scenario,
+    load_scenario, parse_scenario, IgnitionChoice, LinearAlgebraChoice, OutputTimes, ReactorKind,
+    ResolvedScenario, Scenario,
 };
 pub use suggest::nearest_name;
 pub use thermo_file::{load_thermo, parse_thermo, ThermoEntry, ThermoFile};

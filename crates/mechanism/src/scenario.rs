@@ -23,23 +23,101 @@ pub const MOLE_FRACTION_SUM_TOLERANCE: f64 = 1e-6;
 /// Largest number of output points a grid may ask for (bounds memory on hostile input).
 pub const MAX_GRID_POINTS: u64 = 10_000_000;
 
-/// The kind of reactor to simulate.
+/// The kind of reactor to simulate: a closed ideal-gas batch reactor at constant volume or
+/// constant pressure, with the temperature held, solved from the energy balance, or
+/// prescribed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ReactorKind {
-    /// Closed, fixed temperature, fixed volume (`"isothermal-constant-volume"`).
+    /// Fixed temperature, fixed volume (`"isothermal-constant-volume"`).
     IsothermalConstantVolume,
+    /// Fixed temperature, fixed pressure (`"isothermal-constant-pressure"`).
+    IsothermalConstantPressure,
+    /// No heat exchange, fixed volume (`"adiabatic-constant-volume"`).
+    AdiabaticConstantVolume,
+    /// No heat exchange, fixed pressure (`"adiabatic-constant-pressure"`).
+    AdiabaticConstantPressure,
+    /// Temperature from `temperature_history`, fixed volume
+    /// (`"prescribed-temperature-constant-volume"`).
+    PrescribedConstantVolume,
+    /// Temperature from `temperature_history`, fixed pressure
+    /// (`"prescribed-temperature-constant-pressure"`).
+    PrescribedConstantPressure,
 }
 
 impl ReactorKind {
     /// Names accepted in files.
-    pub const ACCEPTED: &'static [&'static str] = &["isothermal-constant-volume"];
+    pub const ACCEPTED: &'static [&'static str] = &[
+        "isothermal-constant-volume",
+        "isothermal-constant-pressure",
+        "adiabatic-constant-volume",
+        "adiabatic-constant-pressure",
+        "prescribed-temperature-constant-volume",
+        "prescribed-temperature-constant-pressure",
+    ];
+
+    const ALL: [ReactorKind; 6] = [
+        ReactorKind::IsothermalConstantVolume,
+        ReactorKind::IsothermalConstantPressure,
+        ReactorKind::AdiabaticConstantVolume,
+        ReactorKind::AdiabaticConstantPressure,
+        ReactorKind::PrescribedConstantVolume,
+        ReactorKind::PrescribedConstantPressure,
+    ];
 
     /// The name as written in files.
     pub fn label(&self) -> &'static str {
         match self {
             ReactorKind::IsothermalConstantVolume => "isothermal-constant-volume",
+            ReactorKind::IsothermalConstantPressure => "isothermal-constant-pressure",
+            ReactorKind::AdiabaticConstantVolume => "adiabatic-constant-volume",
+            ReactorKind::AdiabaticConstantPressure => "adiabatic-constant-pressure",
+            ReactorKind::PrescribedConstantVolume => "prescribed-temperature-constant-volume",
+            ReactorKind::PrescribedConstantPressure => "prescribed-temperature-constant-pressure",
         }
     }
+
+    /// Parses a name as written in files.
+    pub fn parse(text: &str) -> Option<Self> {
+        Self::ALL.into_iter().find(|k| k.label() == text)
+    }
+
+    /// Whether the pressure (rather than the volume) is held constant.
+    pub fn constant_pressure(&self) -> bool {
+        matches!(
+            self,
+            ReactorKind::IsothermalConstantPressure
+                | ReactorKind::AdiabaticConstantPressure
+                | ReactorKind::PrescribedConstantPressure
+        )
+    }
+
+    /// Whether the energy balance is solved (adiabatic kinds).
+    pub fn adiabatic(&self) -> bool {
+        matches!(
+            self,
+            ReactorKind::AdiabaticConstantVolume | ReactorKind::AdiabaticConstantPressure
+        )
+    }
+
+    /// Whether the temperature follows `temperature_history`.
+    pub fn prescribed(&self) -> bool {
+        matches!(
+            self,
+            ReactorKind::PrescribedConstantVolume | ReactorKind::PrescribedConstantPressure
+        )
+    }
+}
+
+/// How the run reports an ignition delay (`[ignition]`).
+#[derive(Debug, Clone, PartialEq)]
+pub enum IgnitionChoice {
+    /// Time of the largest dT/dt (`criterion = "max-temperature-rate"`).
+    MaxTemperatureRate,
+    /// Time of a species' peak (`criterion = "species-peak"`, `species = "OH"`).
+    SpeciesPeak(String),
+    /// First time the temperature has risen by this many K (`criterion =
+    /// "temperature-rise"`, `rise = "400 K"`).
+    TemperatureRise(f64),
 }
 
 /// When to write output rows (t = 0 is always the first row, `end_time` the last).
@@ -114,8 +192,15 @@ pub struct Scenario {
     pub mechanism_path: PathBuf,
     /// Reactor kind.
     pub reactor: ReactorKind,
-    /// Temperature in K.
+    /// Temperature in K: the held one (isothermal), the initial one (adiabatic), or the
+    /// history's first value (prescribed).
     pub temperature_k: f64,
+    /// Prescribed temperature history as (time in s, temperature in K) points, for the
+    /// prescribed kinds; times strictly increasing from 0.
+    pub temperature_history: Option<Vec<(f64, f64)>>,
+    /// How to report the ignition delay; `None` = by the largest dT/dt when the temperature
+    /// is not held.
+    pub ignition: Option<IgnitionChoice>,
     /// Pressure in Pa, when given (needed for mole fractions).
     pub pressure_pa: Option<f64>,
     /// Simulated time span in s (from t = 0).
@@ -134,6 +219,7 @@ pub struct Scenario {
     pub max_steps: usize,
     initial: InitialState,
     tolerance_overrides: Vec<NamedValue>,
+    ignition_species: Option<NamedValue>,
     file: String,
 }
 
@@ -146,6 +232,8 @@ pub struct ResolvedScenario {
     pub absolute_tolerances_mol_per_m3: Vec<f64>,
     /// Output times in s: starts with 0.0, ends with end_time, strictly increasing.
     pub output_times_s: Vec<f64>,
+    /// Mechanism index of the `[ignition]` species (criterion `species-peak`).
+    pub ignition_species: Option<usize>,
 }
 
 /// Reads and parses the scenario file at `path`; the mechanism path is resolved against the
@@ -189,8 +277,12 @@ const TOP_KEYS: &[&str] = &[
     "initial",
     "output",
     "solver",
+    "ignition",
 ];
-const REACTOR_KEYS: &[&str] = &["kind", "temperature", "pressure"];
+const REACTOR_KEYS: &[&str] = &["kind", "temperature", "pressure", "temperature_history"];
+const HISTORY_KEYS: &[&str] = &["times", "temperatures"];
+const IGNITION_KEYS: &[&str] = &["criterion", "species", "rise"];
+const IGNITION_CRITERIA: &[&str] = &["max-temperature-rate", "species-peak", "temperature-rise"];
 const INITIAL_KEYS: &[&str] = &["concentrations", "concentration_unit", "mole_fractions"];
 const OUTPUT_KEYS: &[&str] = &["end_time", "times", "grid", "concentration_unit"];
 const GRID_KEYS: &[&str] = &["spacing", "points", "first"];
@@ -388,6 +480,8 @@ fn read_scenario(
     let mut temperature_k = None;
     let mut pressure_pa = None;
     let mut pressure_given = false;
+    let mut history: Option<Vec<(f64, f64)>> = None;
+    let mut history_ok = true;
     match section(r, root, "reactor", REACTOR_KEYS) {
         None => {
             if !root.contains_key("reactor") {
@@ -399,12 +493,39 @@ fn read_scenario(
         }
         Some(t) => {
             if let Some(v) = t.get("kind") {
-                kind = r.one_of("kind", v, "reactor kind", ReactorKind::ACCEPTED, |text| {
-                    (text == "isothermal-constant-volume")
-                        .then_some(ReactorKind::IsothermalConstantVolume)
-                });
+                kind = r.one_of(
+                    "kind",
+                    v,
+                    "reactor kind",
+                    ReactorKind::ACCEPTED,
+                    ReactorKind::parse,
+                );
+            }
+            let prescribed = kind.is_some_and(|k| k.prescribed());
+            match t.get("temperature_history") {
+                Some(v) if prescribed => {
+                    history = read_history(r, v);
+                    history_ok = history.is_some();
+                }
+                Some(v) => r.error(
+                    v.span().start,
+                    "`temperature_history` is only for the prescribed-temperature reactor kinds",
+                    Some("e.g. kind = \"prescribed-temperature-constant-volume\"".to_string()),
+                ),
+                None if prescribed => r.error(
+                    0,
+                    "missing `temperature_history` in [reactor] for a prescribed-temperature kind",
+                    Some(
+                        "e.g. temperature_history = { times = [\"0 s\", \"1 ms\"], temperatures = [\"1000 K\", \"1200 K\"] }"
+                            .to_string(),
+                    ),
+                ),
+                None => {}
             }
             match t.get("temperature") {
+                None if prescribed => {
+                    temperature_k = history.as_ref().and_then(|h| h.first().map(|p| p.1));
+                }
                 None => r.error(
                     0,
                     "missing `temperature` in [reactor]",
@@ -654,11 +775,68 @@ fn read_scenario(
         }
     }
 
+    // Ignition report.
+    let mut ignition = Some(None);
+    let mut ignition_species = None;
+    if let Some(t) = section(r, root, "ignition", IGNITION_KEYS) {
+        let criterion = match t.get("criterion") {
+            None => Some("max-temperature-rate"),
+            Some(v) => r.one_of(
+                "criterion",
+                v,
+                "ignition criterion",
+                IGNITION_CRITERIA,
+                |x| IGNITION_CRITERIA.iter().copied().find(|c| *c == x),
+            ),
+        };
+        ignition = match criterion {
+            Some("species-peak") => match t.get("species") {
+                Some(v) => r.string("species", v).map(|name| {
+                    ignition_species = Some(NamedValue {
+                        name: name.to_string(),
+                        value: 0.0,
+                        location: r.location(v.span().start),
+                    });
+                    Some(IgnitionChoice::SpeciesPeak(name.to_string()))
+                }),
+                None => {
+                    r.error(
+                        0,
+                        "[ignition] criterion `species-peak` needs `species`",
+                        Some("e.g. species = \"OH\"".to_string()),
+                    );
+                    None
+                }
+            },
+            Some("temperature-rise") => match t.get("rise") {
+                Some(v) => quantity(r, "rise", v, "K", kelvin_difference, &["K"])
+                    .and_then(|x| require_positive(r, "rise", v, x))
+                    .map(|x| Some(IgnitionChoice::TemperatureRise(x))),
+                None => {
+                    r.error(
+                        0,
+                        "[ignition] criterion `temperature-rise` needs `rise`",
+                        Some("e.g. rise = \"400 K\"".to_string()),
+                    );
+                    None
+                }
+            },
+            Some(_) => Some(Some(IgnitionChoice::MaxTemperatureRate)),
+            None => None,
+        };
+    }
+    if !history_ok {
+        return None;
+    }
+
     Some(Scenario {
         title,
         mechanism_path: mechanism_path?,
         reactor: kind?,
         temperature_k: temperature_k?,
+        temperature_history: history,
+        ignition: ignition?,
+        ignition_species,
         pressure_pa: if pressure_given {
             Some(pressure_pa?)
         } else {
@@ -674,6 +852,89 @@ fn read_scenario(
         initial: initial?,
         tolerance_overrides: tolerance_overrides?,
         file: file.to_string(),
+    })
+}
+
+/// A temperature difference in K (`"400 K"`; only kelvin: a Celsius offset would be wrong).
+fn kelvin_difference(value: f64, unit: &str) -> Option<f64> {
+    (unit == "K").then_some(value)
+}
+
+/// Reads `temperature_history = { times = [...], temperatures = [...] }` into (s, K) points:
+/// equal lengths, at least one point, times finite, >= 0 and strictly increasing, starting
+/// at 0; temperatures positive.
+fn read_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<Vec<(f64, f64)>> {
+    let table = r.table("temperature_history", value)?;
+    r.check_keys(table, HISTORY_KEYS, "temperature_history");
+    let at = value.span().start;
+    let list =
+        |r: &mut Report<'_>, key: &str, unit: &str, convert: Converter, accepted: &[&str]| {
+            let Some(v) = table.get(key) else {
+                r.error(at, format!("`temperature_history` needs `{key}`"), None);
+                return None;
+            };
+            let DeValue::Array(items) = v.get_ref() else {
+                r.wrong_type(key, v, "an array");
+                return None;
+            };
+            let mut out = Vec::with_capacity(items.len());
+            for item in items.iter() {
+                out.push((
+                    quantity(r, key, item, unit, convert, accepted)?,
+                    item.span().start,
+                ));
+            }
+            Some(out)
+        };
+    let times = list(r, "times", "s", time_to_s, SCENARIO_TIME_UNITS);
+    let temperatures = list(r, "temperatures", "K", temperature_to_k, TEMPERATURE_UNITS);
+    let (times, temperatures) = (times?, temperatures?);
+    if times.is_empty() || times.len() != temperatures.len() {
+        r.error(
+            at,
+            format!(
+                "`temperature_history` needs as many temperatures as times (at least one), got {} and {}",
+                times.len(),
+                temperatures.len()
+            ),
+            None,
+        );
+        return None;
+    }
+    let mut ok = true;
+    if times[0].0 != 0.0 {
+        r.error(
+            times[0].1,
+            "the first time of `temperature_history` must be 0 s",
+            None,
+        );
+        ok = false;
+    }
+    for (i, &(t, pos)) in times.iter().enumerate() {
+        if !t.is_finite() || (i > 0 && t <= times[i - 1].0) {
+            r.error(
+                pos,
+                format!(
+                    "`temperature_history` times must be finite and strictly increasing: {} s",
+                    show_number(t)
+                ),
+                None,
+            );
+            ok = false;
+        }
+    }
+    for &(x, pos) in &temperatures {
+        if let Some(problem) = positive_finite_problem(x) {
+            r.error(pos, format!("history temperature {problem}"), None);
+            ok = false;
+        }
+    }
+    ok.then(|| {
+        times
+            .iter()
+            .zip(&temperatures)
+            .map(|(t, x)| (t.0, x.0))
+            .collect()
     })
 }
 
@@ -974,6 +1235,10 @@ impl Scenario {
                 tolerances[i] = named.value;
             }
         }
+        let ignition_species = self
+            .ignition_species
+            .as_ref()
+            .and_then(|named| lookup(named, "[ignition] species", &mut diagnostics));
         let output_times_s = match self.output_times_s() {
             Ok(t) => t,
             Err(message) => {
@@ -986,6 +1251,7 @@ impl Scenario {
                 initial_concentrations_mol_per_m3: initial,
                 absolute_tolerances_mol_per_m3: tolerances,
                 output_times_s,
+                ignition_species,
             })
         } else {
             diagnostics.sort_by_key(|d| d.location.map(|l| (l.line, l.column)).unwrap_or((0, 0)));

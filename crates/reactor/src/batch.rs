@@ -4,7 +4,7 @@
 //! Each case gets its own solver (solver state cannot be shared between threads), built from
 //! the one compiled [`Kinetics`]; nothing is recompiled. Results come back in case order.
 
-use crate::{integrate, IntegrationError, IntegrationOptions, Profiles};
+use crate::{simulate, IntegrationError, IntegrationOptions, Profiles, ReactorModel};
 use rayon::prelude::*;
 use std::borrow::Cow;
 use stoik_kinetics::Kinetics;
@@ -12,7 +12,9 @@ use stoik_kinetics::Kinetics;
 /// One run of a batch.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BatchCase {
-    /// Temperature in K.
+    /// The reactor (constant volume or pressure; isothermal, adiabatic or prescribed).
+    pub model: ReactorModel,
+    /// Temperature in K: the held one (isothermal) or the initial one (adiabatic).
     pub temperature_k: f64,
     /// Initial concentrations in mol/m3, one per species.
     pub initial_mol_per_m3: Vec<f64>,
@@ -61,8 +63,9 @@ fn run_case(kinetics: &Kinetics, case: &BatchCase) -> Result<Profiles, BatchErro
         }
         Cow::Owned(scaled)
     };
-    Ok(integrate(
+    Ok(simulate(
         &kinetics,
+        &case.model,
         case.temperature_k,
         &case.initial_mol_per_m3,
         &case.output_times_s,

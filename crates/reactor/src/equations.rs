@@ -1,4 +1,4 @@
-//! The isothermal constant-volume batch equations `dc/dt = w(c)` as diffsol operators.
+//! The closed batch-reactor equations (see [`crate::model`]) as diffsol operators.
 //!
 //! The operator traits are implemented directly (not through diffsol's closure builder) so
 //! that the Jacobian is written analytically in one pass into a pattern known from the
@@ -15,8 +15,10 @@ use diffsol::{
 };
 use faer::sparse::SymbolicSparseColMat;
 use stoik_kinetics::{JacobianPattern, Kinetics, RateConstants};
+use stoik_thermo::Nasa7;
 
 use crate::fixed_lu::FixedPatternSolver;
+use crate::model::{state_pattern, Constraint, Energy, ModelEquations, ModelScratch, ReactorModel};
 
 /// A host linear-algebra backend: how to see diffsol's vectors as slices and how to write
 /// the analytic Jacobian into its matrix type.
@@ -33,9 +35,19 @@ pub(crate) trait Backend: Matrix<T = f64> {
     /// The sparsity pattern handed to diffsol (`None` for dense).
     fn pattern_sparsity(pattern: &JacobianPattern) -> Option<Self::Sparsity>;
 
-    /// Overwrites `jac` with `dw/dc` at `c`. Returns `false` when the matrix does not have
-    /// the expected shape (it was not built from [`Backend::pattern_sparsity`]).
-    fn fill_jacobian(kinetics: &Kinetics, k: &RateConstants, c: &[f64], jac: &mut Self) -> bool;
+    /// The matrix storage to write the Jacobian into: column-major dense values, or the
+    /// values of a compressed-sparse-column matrix in the order of `pattern`. `None` when the
+    /// matrix does not have the expected shape (it was not built from
+    /// [`Backend::pattern_sparsity`]).
+    fn target<'m>(jac: &'m mut Self, pattern: &JacobianPattern) -> Option<JacobianTarget<'m>>;
+}
+
+/// Where the analytic Jacobian goes.
+pub(crate) enum JacobianTarget<'m> {
+    /// Column-major `n x n` values.
+    Dense(&'m mut [f64]),
+    /// Values in the order of the state's sparsity pattern.
+    Sparse(&'m mut [f64]),
 }
 
 impl Backend for NalgebraMat<f64> {
@@ -53,14 +65,10 @@ impl Backend for NalgebraMat<f64> {
         None
     }
 
-    fn fill_jacobian(kinetics: &Kinetics, k: &RateConstants, c: &[f64], jac: &mut Self) -> bool {
-        let n = kinetics.n_species();
+    fn target<'m>(jac: &'m mut Self, pattern: &JacobianPattern) -> Option<JacobianTarget<'m>> {
+        let n = pattern.n;
         let data = jac.inner_mut().as_mut_slice();
-        if data.len() != n * n {
-            return false;
-        }
-        kinetics.jacobian_dense(k, c, data);
-        true
+        (data.len() == n * n).then_some(JacobianTarget::Dense(data))
     }
 }
 
@@ -90,20 +98,16 @@ impl Backend for FaerSparseMat<f64> {
         ))
     }
 
-    fn fill_jacobian(kinetics: &Kinetics, k: &RateConstants, c: &[f64], jac: &mut Self) -> bool {
-        let pattern = kinetics.jacobian_pattern();
+    fn target<'m>(jac: &'m mut Self, pattern: &JacobianPattern) -> Option<JacobianTarget<'m>> {
         // The matrix was built from our own pattern (see `sparsity`), so its values array is
-        // aligned entry by entry with `jacobian_sparse`'s output: write straight into it.
-        let Some(matrix) = jac.inner_mut().first_mut() else {
-            return false;
-        };
+        // aligned entry by entry with the pattern: write straight into it.
+        let matrix = jac.inner_mut().first_mut()?;
         if matrix.symbolic().col_ptr() != pattern.column_starts.as_slice()
             || matrix.symbolic().row_idx() != pattern.row_indices.as_slice()
         {
-            return false;
+            return None;
         }
-        kinetics.jacobian_sparse(k, c, matrix.val_mut());
-        true
+        Some(JacobianTarget::Sparse(matrix.val_mut()))
     }
 }
 
@@ -126,21 +130,33 @@ pub(crate) fn pattern_is_valid(pattern: &JacobianPattern) -> bool {
     })
 }
 
-/// `dc/dt = w(c)` for a closed isothermal constant-volume batch reactor.
+/// The equations of a closed batch reactor ([`ReactorModel`]) for one compiled mechanism.
 ///
 /// The rate constants live in interior-mutable storage so that the temperature can change
 /// while a diffsol solver holds a shared reference to the problem (see
 /// [`BatchEquations::set_temperature`]); they are overwritten in place, never reallocated.
+/// When the temperature is a state (adiabatic) or a function of time (prescribed), they are
+/// re-evaluated whenever an evaluation asks for a different temperature.
 pub(crate) struct BatchEquations<M: Backend> {
     pub(crate) kinetics: Kinetics,
-    /// Rate constants at the current temperature (SI).
+    /// The reactor model and the species polynomials its energy balance needs.
+    pub(crate) model: ReactorModel,
+    thermo: Vec<Nasa7>,
+    /// Rate constants at `rates_at_k` (SI).
     rate_constants: RefCell<RateConstants>,
     /// The temperature the rate constants were evaluated at (K).
-    temperature_k: Cell<f64>,
-    /// Initial concentrations (mol/m3) used when a solver state is built.
+    rates_at_k: Cell<f64>,
+    /// The isothermal temperature, or the initial one of the other models (K).
+    held_k: Cell<f64>,
+    /// Initial state (concentrations in mol/m3, then the temperature in K if solved) used
+    /// when a solver state is built.
     pub(crate) initial: Vec<f64>,
-    /// Scratch for Jacobian-vector products (length `nnz`), allocated once.
+    /// The Jacobian pattern of the state and the position of each kinetics entry in it.
+    state_pattern: JacobianPattern,
+    pattern_map: Vec<usize>,
+    /// Scratch for Jacobian values in state-pattern order, allocated once.
     jac_values: RefCell<Vec<f64>>,
+    scratch: RefCell<ModelScratch>,
     pub(crate) rhs_evaluations: Cell<usize>,
     pub(crate) jacobian_evaluations: Cell<usize>,
     /// Enforce non-negativity in the step acceptance (see `IntegrationOptions::non_negative`).
@@ -150,17 +166,31 @@ pub(crate) struct BatchEquations<M: Backend> {
 }
 
 impl<M: Backend> BatchEquations<M> {
-    /// Equations for `kinetics` at `temperature_k` (K) starting from `initial` (mol/m3).
-    pub(crate) fn new(kinetics: Kinetics, temperature_k: f64, initial: Vec<f64>) -> Self {
+    /// Equations of `model` for `kinetics` at (initial or held) temperature `temperature_k`
+    /// (K), starting from `initial` (the state vector).
+    pub(crate) fn new(
+        kinetics: Kinetics,
+        model: ReactorModel,
+        thermo: Vec<Nasa7>,
+        temperature_k: f64,
+        initial: Vec<f64>,
+    ) -> Self {
         let rate_constants = kinetics.rate_constants(temperature_k);
-        let nnz = kinetics.jacobian_pattern().nnz();
-        let sparsity = M::pattern_sparsity(kinetics.jacobian_pattern());
+        let (state_pattern, pattern_map) = state_pattern(&kinetics, &model);
+        let sparsity = M::pattern_sparsity(&state_pattern);
+        let scratch = ModelScratch::new(&kinetics);
         Self {
-            kinetics,
             rate_constants: RefCell::new(rate_constants),
-            temperature_k: Cell::new(temperature_k),
+            rates_at_k: Cell::new(temperature_k),
+            held_k: Cell::new(temperature_k),
             initial,
-            jac_values: RefCell::new(vec![0.0; nnz]),
+            jac_values: RefCell::new(vec![0.0; state_pattern.nnz()]),
+            scratch: RefCell::new(scratch),
+            state_pattern,
+            pattern_map,
+            kinetics,
+            model,
+            thermo,
             rhs_evaluations: Cell::new(0),
             jacobian_evaluations: Cell::new(0),
             non_negative: true,
@@ -169,27 +199,135 @@ impl<M: Backend> BatchEquations<M> {
         }
     }
 
-    /// Re-evaluates the rate constants at `temperature_k` (K) in place, without allocating.
+    /// Number of states (species, plus the temperature when it is solved).
+    pub(crate) fn n_states(&self) -> usize {
+        self.state_pattern.n
+    }
+
+    /// Sets the held (isothermal) temperature to `temperature_k` (K) and re-evaluates the
+    /// rate constants in place, without allocating.
     ///
     /// Takes `&self`: a live solver borrows the equations. The rate constants are only
     /// borrowed inside a right-hand-side or Jacobian evaluation, which never calls back here,
     /// so the exclusive borrow cannot conflict.
     pub(crate) fn set_temperature(&self, temperature_k: f64) {
-        self.kinetics
-            .evaluate_rate_constants(temperature_k, &mut self.rate_constants.borrow_mut());
-        self.temperature_k.set(temperature_k);
+        self.held_k.set(temperature_k);
+        self.rates_at(temperature_k);
     }
 
-    /// The temperature of the rate constants (K).
+    /// Makes the rate constants those at `temperature_k` (K).
+    fn rates_at(&self, temperature_k: f64) {
+        if temperature_k != self.rates_at_k.get() {
+            self.kinetics
+                .evaluate_rate_constants(temperature_k, &mut self.rate_constants.borrow_mut());
+            self.rates_at_k.set(temperature_k);
+        }
+    }
+
+    /// The held temperature (K): the isothermal one, or the initial one of other models.
     pub(crate) fn temperature_k(&self) -> f64 {
-        self.temperature_k.get()
+        self.held_k.get()
     }
 
-    /// `w = w(c)` (mol/(m3 s)), counted as one right-hand-side evaluation.
-    pub(crate) fn production_rates(&self, c: &[f64], w: &mut [f64]) {
+    /// The reactor temperature (K) at time `t_s` (s) and state `y`.
+    pub(crate) fn temperature_at(&self, t_s: f64, y: &[f64]) -> f64 {
+        self.model
+            .temperature(t_s, y, self.kinetics.n_species(), self.held_k.get())
+    }
+
+    fn model_equations(&self) -> ModelEquations<'_> {
+        ModelEquations {
+            kinetics: &self.kinetics,
+            model: &self.model,
+            thermo: &self.thermo,
+        }
+    }
+
+    /// `f = dy/dt` at time `t_s` (s) and state `y`, counted as one right-hand-side
+    /// evaluation. No allocation.
+    pub(crate) fn state_derivative(&self, t_s: f64, y: &[f64], f: &mut [f64]) {
         self.rhs_evaluations.set(self.rhs_evaluations.get() + 1);
-        self.kinetics
-            .production_rates(&self.rate_constants.borrow(), c, w);
+        let temperature_k = self.temperature_at(t_s, y);
+        self.rates_at(temperature_k);
+        let k = self.rate_constants.borrow();
+        if self.is_plain() {
+            self.kinetics.production_rates(&k, y, f);
+        } else {
+            self.model_equations().rhs(&k, t_s, temperature_k, y, f);
+        }
+    }
+
+    /// dT/dt (K/s) at time `t_s` (s), concentrations `c` (mol/m3) and temperature
+    /// `temperature_k` (K); post-processing (allocates, not counted as an evaluation).
+    pub(crate) fn temperature_rate(&self, t_s: f64, c: &[f64], temperature_k: f64) -> f64 {
+        match &self.model.energy {
+            Energy::Isothermal => 0.0,
+            Energy::Prescribed(history) => history.slope_at(t_s),
+            Energy::Adiabatic => {
+                let mut y = c.to_vec();
+                y.push(temperature_k);
+                let mut f = vec![0.0; y.len()];
+                let k = self.kinetics.rate_constants(temperature_k);
+                self.model_equations()
+                    .rhs(&k, t_s, temperature_k, &y, &mut f);
+                f[c.len()]
+            }
+        }
+    }
+
+    /// Constant volume without an energy state: the Jacobian is the kinetics' own.
+    fn is_plain(&self) -> bool {
+        self.model.constraint == Constraint::ConstantVolume && !self.model.solves_energy()
+    }
+
+    /// Writes the Jacobian at `(t_s, y)` into `values` (state-pattern order).
+    fn jacobian_values(&self, t_s: f64, y: &[f64], values: &mut [f64]) {
+        let temperature_k = self.temperature_at(t_s, y);
+        self.rates_at(temperature_k);
+        let k = self.rate_constants.borrow();
+        if self.is_plain() {
+            self.kinetics.jacobian_sparse(&k, y, values);
+        } else {
+            self.model_equations().jacobian(
+                &k,
+                t_s,
+                temperature_k,
+                y,
+                &self.pattern_map,
+                &mut self.scratch.borrow_mut(),
+                values,
+            );
+        }
+    }
+
+    /// Writes the Jacobian at `(t_s, y)` into `jac`; `false` if `jac` has an unexpected shape.
+    fn fill_jacobian(&self, t_s: f64, y: &[f64], jac: &mut M) -> bool {
+        let Some(target) = M::target(jac, &self.state_pattern) else {
+            return false;
+        };
+        match target {
+            JacobianTarget::Sparse(values) => self.jacobian_values(t_s, y, values),
+            JacobianTarget::Dense(data) => {
+                if self.is_plain() {
+                    let temperature_k = self.temperature_at(t_s, y);
+                    self.rates_at(temperature_k);
+                    self.kinetics
+                        .jacobian_dense(&self.rate_constants.borrow(), y, data);
+                } else {
+                    let mut values = self.jac_values.borrow_mut();
+                    self.jacobian_values(t_s, y, &mut values);
+                    let pattern = &self.state_pattern;
+                    let m = pattern.n;
+                    data.iter_mut().for_each(|x| *x = 0.0);
+                    for col in 0..m {
+                        for p in pattern.column_starts[col]..pattern.column_starts[col + 1] {
+                            data[col * m + pattern.row_indices[p]] = values[p];
+                        }
+                    }
+                }
+            }
+        }
+        true
     }
 
     /// Whether the sparse backend received a usable pattern (always true for dense).
@@ -220,10 +358,10 @@ macro_rules! impl_op {
                 &self.eqn.ctx
             }
             fn nstates(&self) -> usize {
-                self.eqn.kinetics.n_species()
+                self.eqn.n_states()
             }
             fn nout(&self) -> usize {
-                self.eqn.kinetics.n_species()
+                self.eqn.n_states()
             }
             fn nparams(&self) -> usize {
                 0
@@ -236,20 +374,19 @@ impl_op!(BatchRhs);
 impl_op!(BatchInit);
 
 impl<M: Backend> NonLinearOp for BatchRhs<'_, M> {
-    fn call_inplace(&self, x: &M::V, _t: f64, y: &mut M::V) {
-        self.eqn.production_rates(M::slice(x), M::slice_mut(y));
+    fn call_inplace(&self, x: &M::V, t: f64, y: &mut M::V) {
+        self.eqn.state_derivative(t, M::slice(x), M::slice_mut(y));
     }
 }
 
 impl<M: Backend> NonLinearOpJacobian for BatchRhs<'_, M> {
-    fn jac_mul_inplace(&self, x: &M::V, _t: f64, v: &M::V, y: &mut M::V) {
+    fn jac_mul_inplace(&self, x: &M::V, t: f64, v: &M::V, y: &mut M::V) {
         // Not on BDF's hot path (it factorizes the full Jacobian); computed exactly from the
         // sparse Jacobian into preallocated scratch.
         let eqn = self.eqn;
-        let pattern = eqn.kinetics.jacobian_pattern();
+        let pattern = &eqn.state_pattern;
         let mut values = eqn.jac_values.borrow_mut();
-        eqn.kinetics
-            .jacobian_sparse(&eqn.rate_constants.borrow(), M::slice(x), &mut values);
+        eqn.jacobian_values(t, M::slice(x), &mut values);
         let v = M::slice(v);
         let y = M::slice_mut(y);
         y.iter_mut().for_each(|e| *e = 0.0);
@@ -267,7 +404,7 @@ impl<M: Backend> NonLinearOpJacobian for BatchRhs<'_, M> {
         let eqn = self.eqn;
         eqn.jacobian_evaluations
             .set(eqn.jacobian_evaluations.get() + 1);
-        let filled = M::fill_jacobian(&eqn.kinetics, &eqn.rate_constants.borrow(), M::slice(x), y);
+        let filled = eqn.fill_jacobian(t, M::slice(x), y);
         if !filled {
             // A matrix of unexpected structure: fall back to diffsol's column-by-column
             // construction from Jacobian-vector products (slow, but correct).
@@ -298,10 +435,10 @@ impl<M: Backend> Op for BatchEquations<M> {
         &self.ctx
     }
     fn nstates(&self) -> usize {
-        self.kinetics.n_species()
+        self.n_states()
     }
     fn nout(&self) -> usize {
-        self.kinetics.n_species()
+        self.n_states()
     }
     fn nparams(&self) -> usize {
         0

@@ -29,6 +29,7 @@ use stoik_kinetics::Kinetics;
 
 use crate::equations::{pattern_is_valid, Backend, BatchEquations};
 use crate::fixed_lu::FixedPatternSolver;
+use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
 use crate::{
     IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra, Profiles,
     ReactorError, SolverStats,
@@ -145,7 +146,9 @@ where
             let state = solver.state_mut();
             let y = M::slice_mut(state.y);
             y.iter_mut().for_each(|c| *c = c.max(0.0));
-            problem.eqn.production_rates(y, M::slice_mut(state.dy));
+            problem
+                .eqn
+                .state_derivative(t_before, y, M::slice_mut(state.dy));
             *state.h = NEGATIVE_STEP_SHRINK * (t - t_before);
             solver.set_stop_time(t_end)?;
             consecutive_rejections += 1;
@@ -207,8 +210,10 @@ fn weighted_rms(x: &[f64], y: &[f64], atol: &[f64], rtol: f64) -> f64 {
 /// estimate of Hairer, Norsett and Wanner, *Solving Ordinary Differential Equations I*,
 /// section II.4 (the one diffsol applies to a new state), computed in the preallocated
 /// scratch `y1`, `f1` (one right-hand-side evaluation, no allocation).
+#[allow(clippy::too_many_arguments)]
 fn initial_step<M: Backend>(
     eqn: &BatchEquations<M>,
+    t: f64,
     y: &[f64],
     f0: &[f64],
     atol: &[f64],
@@ -226,7 +231,7 @@ fn initial_step<M: Backend>(
     for ((y1, y), f0) in y1.iter_mut().zip(y).zip(f0) {
         *y1 = y + h0 * f0;
     }
-    eqn.production_rates(y1, f1);
+    eqn.state_derivative(t + h0, y1, f1);
     for (f1, f0) in f1.iter_mut().zip(f0) {
         *f1 -= f0;
     }
@@ -288,8 +293,14 @@ where
         })
     }
 
+    /// The full state (concentrations, then the temperature when it is solved).
     fn state(&self) -> &[f64] {
         M::slice(self.solver.state().y)
+    }
+
+    /// The concentrations (mol/m3).
+    fn concentrations(&self) -> &[f64] {
+        &self.state()[..self.solver.problem().eqn.kinetics.n_species()]
     }
 
     fn time(&self) -> f64 {
@@ -297,7 +308,8 @@ where
     }
 
     fn temperature(&self) -> f64 {
-        self.solver.problem().eqn.temperature_k()
+        let eqn = &self.solver.problem().eqn;
+        eqn.temperature_at(self.time(), self.state())
     }
 
     /// Steps to `outputs` (see [`drive`]) with a budget of `max_steps` accepted steps. After a
@@ -343,22 +355,38 @@ where
         let rtol = problem.rtol;
         let state = self.solver.state_mut();
         if let Some(c) = c {
-            M::slice_mut(state.y).copy_from_slice(c);
+            M::slice_mut(state.y)[..c.len()].copy_from_slice(c);
         }
         if let Some(t) = time_s {
             *state.t = t;
         }
+        let t = *state.t;
         let y = M::slice(state.y);
         let dy = M::slice_mut(state.dy);
-        eqn.production_rates(y, dy);
-        *state.h = initial_step(eqn, y, dy, atol, rtol, &mut self.probe_y, &mut self.probe_w);
+        eqn.state_derivative(t, y, dy);
+        *state.h = initial_step(
+            eqn,
+            t,
+            y,
+            dy,
+            atol,
+            rtol,
+            &mut self.probe_y,
+            &mut self.probe_w,
+        );
         // Re-evaluates the solver's cached right-hand-side Jacobian at the new state, in
         // place; the returned borrow is released at once.
         drop(self.solver.jacobian());
     }
 
     fn set_temperature(&mut self, temperature_k: f64) {
-        self.solver.problem().eqn.set_temperature(temperature_k);
+        let eqn = &self.solver.problem().eqn;
+        if eqn.model.solves_energy() {
+            let n = eqn.kinetics.n_species();
+            M::slice_mut(self.solver.state_mut().y)[n] = temperature_k;
+        } else {
+            eqn.set_temperature(temperature_k);
+        }
         self.restart(None, None);
     }
 
@@ -408,23 +436,39 @@ enum Problem {
 
 fn build_problem<M: Backend>(
     kinetics: &Kinetics,
+    model: &ReactorModel,
     temperature_k: f64,
     options: &IntegrationOptions,
 ) -> Result<OdeSolverProblem<BatchEquations<M>>, ReactorError> {
-    let n = kinetics.n_species();
-    let mut eqn = BatchEquations::<M>::new(kinetics.clone(), temperature_k, vec![0.0; n]);
+    let thermo = energy_thermo(kinetics, model)?;
+    let m = model.n_states(kinetics.n_species());
+    let mut eqn = BatchEquations::<M>::new(
+        kinetics.clone(),
+        model.clone(),
+        thermo,
+        temperature_k,
+        vec![0.0; m],
+    );
     eqn.non_negative = options.non_negative;
     if !eqn.has_valid_structure() {
         return Err(ReactorError::BadPattern);
     }
+    let mut atol = options.absolute_tolerances_mol_per_m3.clone();
+    if model.solves_energy() {
+        atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
+    }
     let mut problem = OdeBuilder::<M>::new()
         .rtol(options.relative_tolerance)
-        .atol(options.absolute_tolerances_mol_per_m3.clone())
+        .atol(atol)
         .build_from_eqn(eqn)
         .map_err(|e| ReactorError::Setup(e.to_string()))?;
     problem.ode_options.max_number_timesteps = options.max_steps;
     Ok(problem)
 }
+
+/// Absolute tolerance of the temperature state (K); the relative tolerance times the
+/// temperature is far larger in practice.
+const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
 
 /// The batch-reactor equations of one compiled mechanism, set up once for repeated use.
 ///
@@ -451,6 +495,7 @@ fn build_problem<M: Backend>(
 /// integrator borrows the system exclusively while it lives.
 pub struct BatchSystem {
     problem: Problem,
+    model: ReactorModel,
     linear_algebra_used: LinearAlgebra,
     n_species: usize,
     max_steps: usize,
@@ -464,20 +509,43 @@ impl BatchSystem {
         temperature_k: f64,
         options: &IntegrationOptions,
     ) -> Result<BatchSystem, ReactorError> {
+        Self::with_model(kinetics, &ReactorModel::default(), temperature_k, options)
+    }
+
+    /// Sets up `kinetics` (copied) in the reactor `model` with `options`. `temperature_k`
+    /// (K) is the held temperature of an isothermal model and the initial temperature of an
+    /// adiabatic one (a prescribed model takes its history instead). A model with pressure
+    /// held constant always uses dense linear algebra: its Jacobian is full (the expansion
+    /// term couples every pair of species).
+    pub fn with_model(
+        kinetics: &Kinetics,
+        model: &ReactorModel,
+        temperature_k: f64,
+        options: &IntegrationOptions,
+    ) -> Result<BatchSystem, ReactorError> {
         validate_options(kinetics, temperature_k, options)?;
-        let used = options.linear_algebra.resolve(kinetics);
+        let mut used = options.linear_algebra.resolve(kinetics);
+        if model.constraint == Constraint::ConstantPressure {
+            used = LinearAlgebra::Dense;
+        }
+        let temperature_k = match &model.energy {
+            Energy::Prescribed(history) => history.temperature_at(0.0),
+            _ => temperature_k,
+        };
         let problem = match used {
             LinearAlgebra::Sparse | LinearAlgebra::SparseFaer => Problem::Sparse(Box::new(
-                build_problem::<FaerSparseMat<f64>>(kinetics, temperature_k, options)?,
+                build_problem::<FaerSparseMat<f64>>(kinetics, model, temperature_k, options)?,
             )),
             _ => Problem::Dense(Box::new(build_problem::<NalgebraMat<f64>>(
                 kinetics,
+                model,
                 temperature_k,
                 options,
             )?)),
         };
         Ok(BatchSystem {
             problem,
+            model: model.clone(),
             linear_algebra_used: match used {
                 LinearAlgebra::Sparse | LinearAlgebra::SparseFaer => used,
                 _ => LinearAlgebra::Dense,
@@ -492,8 +560,9 @@ impl BatchSystem {
         self.n_species
     }
 
-    /// The current temperature (K): the last one set on the system or on one of its
-    /// integrators.
+    /// The held temperature (K): the last one set on the system or on one of its
+    /// integrators (isothermal), or the initial temperature of the next integration
+    /// (adiabatic; prescribed: the history's value at t = 0).
     pub fn temperature(&self) -> f64 {
         match &self.problem {
             Problem::Dense(p) => p.eqn.temperature_k(),
@@ -505,6 +574,9 @@ impl BatchSystem {
     /// re-evaluated in place (no allocation).
     pub fn set_temperature(&mut self, temperature_k: f64) -> Result<(), ReactorError> {
         check_temperature(temperature_k)?;
+        if matches!(self.model.energy, Energy::Prescribed(_)) {
+            return Err(ReactorError::TemperaturePrescribed);
+        }
         match &self.problem {
             Problem::Dense(p) => p.eqn.set_temperature(temperature_k),
             Problem::Sparse(p) => p.eqn.set_temperature(temperature_k),
@@ -529,7 +601,17 @@ impl BatchSystem {
         self.open(0.0, initial_mol_per_m3)
     }
 
+    /// The reactor model of the system.
+    pub fn model(&self) -> &ReactorModel {
+        &self.model
+    }
+
     fn open(&mut self, t0: f64, initial: &[f64]) -> Result<BatchIntegrator<'_>, ReactorError> {
+        let mut full = initial.to_vec();
+        if self.model.solves_energy() {
+            full.push(self.temperature());
+        }
+        let initial = full.as_slice();
         let max_steps = self.max_steps;
         let linear_algebra_used = self.linear_algebra_used;
         let session = match &mut self.problem {
@@ -585,48 +667,73 @@ impl BatchSystem {
             }
             .into());
         }
+        let model = self.model.clone();
+        let n = self.n_species;
+        let held_k = self.temperature();
         let mut integrator = self.open(t0, initial_mol_per_m3)?;
         let mut profiles = Profiles {
             times_s: Vec::with_capacity(output_times_s.len()),
             concentrations_mol_per_m3: Vec::with_capacity(output_times_s.len()),
+            temperatures_k: Vec::with_capacity(output_times_s.len()),
+            temperature_rates_k_per_s: Vec::new(),
             stats: SolverStats::default(),
             linear_algebra_used: integrator.linear_algebra_used,
         };
-        profiles.times_s.push(t0);
-        profiles
-            .concentrations_mol_per_m3
-            .push(initial_mol_per_m3.to_vec());
-        let (times, rows) = (
+        let (times, rows, temperatures) = (
             &mut profiles.times_s,
             &mut profiles.concentrations_mol_per_m3,
+            &mut profiles.temperatures_k,
         );
-        let mut record = |t: f64, c: &[f64]| {
+        let mut record = |t: f64, y: &[f64]| {
             times.push(t);
-            rows.push(c.to_vec());
+            rows.push(y[..n].to_vec());
+            temperatures.push(model.temperature(t, y, n, held_k));
         };
+        record(t0, integrator.full_state());
         let result = integrator.run(&output_times_s[1..], &mut record);
         profiles.stats = integrator.stats;
+        let time_s = integrator.time();
+        drop(integrator);
+        profiles.temperature_rates_k_per_s = self.temperature_rates(&profiles);
         match result {
             Ok(()) => Ok(profiles),
             Err(reason) => Err(IntegrationFailure {
-                time_s: integrator.time(),
+                time_s,
                 reason,
                 partial: profiles,
             }
             .into()),
         }
     }
+
+    /// dT/dt (K/s) at every row of `profiles` from the model's equations.
+    fn temperature_rates(&self, profiles: &Profiles) -> Vec<f64> {
+        let rows = profiles
+            .times_s
+            .iter()
+            .zip(&profiles.concentrations_mol_per_m3)
+            .zip(&profiles.temperatures_k);
+        match &self.problem {
+            Problem::Dense(p) => rows
+                .map(|((&t, c), &temp)| p.eqn.temperature_rate(t, c, temp))
+                .collect(),
+            Problem::Sparse(p) => rows
+                .map(|((&t, c), &temp)| p.eqn.temperature_rate(t, c, temp))
+                .collect(),
+        }
+    }
 }
 
 pub(crate) fn integrate(
     kinetics: &Kinetics,
+    model: &ReactorModel,
     temperature_k: f64,
     initial: &[f64],
     output_times_s: &[f64],
     options: &IntegrationOptions,
 ) -> Result<Profiles, IntegrationError> {
     check_state(kinetics.n_species(), initial, "initial state")?;
-    let mut system = BatchSystem::new(kinetics, temperature_k, options)?;
+    let mut system = BatchSystem::with_model(kinetics, model, temperature_k, options)?;
     system.integrate(initial, output_times_s)
 }
 
@@ -690,6 +797,8 @@ impl BatchIntegrator<'_> {
                     partial: Profiles {
                         times_s: vec![time_s],
                         concentrations_mol_per_m3: vec![self.state().to_vec()],
+                        temperatures_k: vec![self.temperature()],
+                        temperature_rates_k_per_s: Vec::new(),
                         stats: self.stats,
                         linear_algebra_used: self.linear_algebra_used,
                     },
@@ -702,7 +811,56 @@ impl BatchIntegrator<'_> {
 
     /// Steps through `outputs` (strictly after the current time, increasing), recording each;
     /// updates the statistics also on failure.
+    ///
+    /// A prescribed temperature history's breakpoints inside the interval become stop
+    /// times (the slope dT/dt jumps there): the solver stops exactly on each and restarts.
     fn run(&mut self, outputs: &[f64], record: &mut dyn FnMut(f64, &[f64])) -> Result<(), String> {
+        let now = self.time();
+        let breakpoints: Vec<f64> = match (&self.session_model().energy, outputs.last()) {
+            (Energy::Prescribed(history), Some(&end)) => {
+                history.breakpoints_between(now, end).collect()
+            }
+            _ => Vec::new(),
+        };
+        let mut result = Ok(());
+        let mut from = 0;
+        for b in breakpoints {
+            let upto = from + outputs[from..].partition_point(|&t| t <= b);
+            let mut segment = outputs[from..upto].to_vec();
+            let stop_only = segment.last() != Some(&b);
+            if stop_only {
+                segment.push(b);
+            }
+            let mut filtered = |t: f64, y: &[f64]| {
+                if !(stop_only && t == b) {
+                    record(t, y);
+                }
+            };
+            result = self.run_segment(&segment, &mut filtered);
+            if result.is_err() {
+                break;
+            }
+            with_stepper!(&mut self.session, s => s.restart(None, None));
+            from = upto;
+        }
+        if result.is_ok() && from < outputs.len() {
+            result = self.run_segment(&outputs[from..], record);
+        }
+        self.refresh_stats();
+        result
+    }
+
+    /// The model of the session's system.
+    fn session_model(&self) -> &ReactorModel {
+        with_stepper!(&self.session, s => &s.solver.problem().eqn.model)
+    }
+
+    /// Steps through `outputs` without breakpoints (see [`Self::run`]).
+    fn run_segment(
+        &mut self,
+        outputs: &[f64],
+        record: &mut dyn FnMut(f64, &[f64]),
+    ) -> Result<(), String> {
         let negative = &mut self.stats.most_negative_concentration_mol_per_m3;
         let rejections = &mut self.stats.negative_step_rejections;
         let result =
@@ -722,6 +880,12 @@ impl BatchIntegrator<'_> {
 
     /// Current concentrations (mol/m3).
     pub fn state(&self) -> &[f64] {
+        with_stepper!(&self.session, s => s.concentrations())
+    }
+
+    /// The full solver state: the concentrations (mol/m3), then the temperature (K) when
+    /// the energy balance is solved.
+    pub fn full_state(&self) -> &[f64] {
         with_stepper!(&self.session, s => s.state())
     }
 
@@ -747,8 +911,14 @@ impl BatchIntegrator<'_> {
     /// Changes the reactor temperature (K) from the current time on (also for the
     /// [`BatchSystem`]): the rate constants are re-evaluated in place and the solver restarts
     /// from the current state (no allocation).
+    ///
+    /// Adiabatic models: sets the temperature state. Prescribed models: an error
+    /// ([`ReactorError::TemperaturePrescribed`]).
     pub fn set_temperature(&mut self, temperature_k: f64) -> Result<(), ReactorError> {
         check_temperature(temperature_k)?;
+        if matches!(self.session_model().energy, Energy::Prescribed(_)) {
+            return Err(ReactorError::TemperaturePrescribed);
+        }
         with_stepper!(&mut self.session, s => s.set_temperature(temperature_k));
         self.refresh_stats();
         Ok(())

@@ -34,10 +34,14 @@
 mod batch;
 mod equations;
 mod fixed_lu;
+mod ignition;
 mod integrator;
+mod model;
 
 pub use batch::{integrate_batch, integrate_batch_serial, BatchCase, BatchError};
+pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
+pub use model::{Constraint, Energy, ReactorModel, TemperatureHistory};
 
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::Mechanism;
@@ -164,6 +168,11 @@ pub struct Profiles {
     /// Concentrations in mol/m3: one row per output time, each with one value per species in
     /// mechanism order.
     pub concentrations_mol_per_m3: Vec<Vec<f64>>,
+    /// Temperature (K) at each output time.
+    pub temperatures_k: Vec<f64>,
+    /// dT/dt (K/s) at each output time, from the model's equations (0 when isothermal);
+    /// empty for the one-row partial profile of a stepping session.
+    pub temperature_rates_k_per_s: Vec<f64>,
     /// Solver statistics of the run.
     pub stats: SolverStats,
     /// The linear algebra actually used ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
@@ -248,6 +257,18 @@ pub enum ReactorError {
     /// The kinetics' Jacobian pattern is malformed (a defect of the kinetics compiler).
     #[error("the Jacobian pattern of the kinetics is malformed")]
     BadPattern,
+    /// A prescribed temperature history is malformed.
+    #[error("bad temperature history: {0}")]
+    BadTemperatureHistory(String),
+    /// The energy balance needs thermochemistry for every species.
+    #[error("species {species} has no thermochemistry, which the energy balance needs")]
+    MissingThermo {
+        /// Species index.
+        species: usize,
+    },
+    /// The temperature follows a prescribed history and cannot be set.
+    #[error("the temperature follows a prescribed history and cannot be set")]
+    TemperaturePrescribed,
     /// diffsol refused to set the problem up.
     #[error("could not set up the solver: {0}")]
     Setup(String),
@@ -297,11 +318,56 @@ pub fn integrate(
 ) -> Result<Profiles, IntegrationError> {
     integrator::integrate(
         kinetics,
+        &ReactorModel::default(),
         temperature_k,
         initial_mol_per_m3,
         output_times_s,
         options,
     )
+}
+
+/// Integrates the closed batch reactor `model` (constant volume or pressure; isothermal,
+/// adiabatic or prescribed temperature; see [`ReactorModel`]) of `kinetics` from
+/// `initial_mol_per_m3` (mol/m3, one per species) at `output_times_s[0]` (s) and returns the
+/// concentrations and temperatures at every time of `output_times_s` (finite, strictly
+/// increasing; the first row is the initial state). `temperature_k` (K) is the held
+/// temperature (isothermal) or the initial one (adiabatic); a prescribed model ignores it.
+///
+/// Pressure, density and mole fractions follow from each row: see [`Profiles::pressure_pa`]
+/// and [`Profiles::mole_fractions`].
+pub fn simulate(
+    kinetics: &Kinetics,
+    model: &ReactorModel,
+    temperature_k: f64,
+    initial_mol_per_m3: &[f64],
+    output_times_s: &[f64],
+    options: &IntegrationOptions,
+) -> Result<Profiles, IntegrationError> {
+    integrator::integrate(
+        kinetics,
+        model,
+        temperature_k,
+        initial_mol_per_m3,
+        output_times_s,
+        options,
+    )
+}
+
+impl Profiles {
+    /// Ideal-gas pressure (Pa) of row `row`: P = (sum_i c_i) R T; `None` past the end.
+    pub fn pressure_pa(&self, row: usize) -> Option<f64> {
+        let c = self.concentrations_mol_per_m3.get(row)?;
+        let t = self.temperatures_k.get(row)?;
+        Some(c.iter().sum::<f64>() * stoik_kinetics::GAS_CONSTANT * t)
+    }
+
+    /// Mole fractions of row `row` (dimensionless, summing to 1): x_i = c_i / sum_k c_k;
+    /// `None` past the end or when the total concentration is not positive.
+    pub fn mole_fractions(&self, row: usize) -> Option<Vec<f64>> {
+        let c = self.concentrations_mol_per_m3.get(row)?;
+        let total: f64 = c.iter().sum();
+        (total > 0.0).then(|| c.iter().map(|x| x / total).collect())
+    }
 }
 
 /// Element totals at the start and end of a profile and their largest drift.

@@ -8,7 +8,7 @@ mod common;
 use common::*;
 use stoik_mechanism::Arrhenius;
 use stoik_reactor::{
-    integrate_batch, integrate_batch_serial, BatchCase, BatchError, LinearAlgebra,
+    integrate_batch, integrate_batch_serial, BatchCase, BatchError, LinearAlgebra, ReactorModel,
 };
 
 const R: f64 = 8.314462618;
@@ -34,6 +34,7 @@ fn parallel_batch_matches_closed_forms_and_the_serial_batch() {
         for (j, m) in [1.0, 2.0, 0.5].into_iter().enumerate() {
             let c0 = 1.0 + i as f64 + 0.1 * j as f64;
             cases.push(BatchCase {
+                model: ReactorModel::default(),
                 temperature_k: t_k,
                 initial_mol_per_m3: vec![c0, 0.0, 2.0],
                 output_times_s: times.clone(),
@@ -72,6 +73,7 @@ fn parallel_batch_matches_closed_forms_and_the_serial_batch() {
 fn bad_multiplier_is_a_typed_error_not_a_panic() {
     let kinetics = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], 1.0)]);
     let case = BatchCase {
+        model: ReactorModel::default(),
         temperature_k: 300.0,
         initial_mol_per_m3: vec![1.0, 0.0],
         output_times_s: vec![0.0, 1.0],

@@ -2,7 +2,7 @@
 //! compiled once, integrated in parallel with a progress bar.
 
 use crate::check::report_load_error;
-use crate::run::{integration_options, scenario_stem, write_csv, CAUTION};
+use crate::run::{integration_options, reactor_model, scenario_stem, write_csv, CAUTION};
 use crate::{BatchArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
 use indicatif::{ProgressBar, ProgressStyle};
 use std::collections::BTreeMap;
@@ -83,6 +83,14 @@ pub fn batch(args: &BatchArgs) -> u8 {
                 Some(t) => format!("{}-{t}K.csv", scenario_stem(path)),
                 None => format!("{}.csv", scenario_stem(path)),
             };
+            let model = match reactor_model(&scenario) {
+                Ok(m) => m,
+                Err(e) => {
+                    eprintln!("{}: error: {e}", path.display());
+                    bad_input = true;
+                    break;
+                }
+            };
             let options = integration_options(
                 &scenario,
                 resolved.absolute_tolerances_mol_per_m3,
@@ -90,6 +98,7 @@ pub fn batch(args: &BatchArgs) -> u8 {
             );
             jobs.push(Job {
                 case: BatchCase {
+                    model,
                     temperature_k: scenario.temperature_k,
                     initial_mol_per_m3: resolved.initial_concentrations_mol_per_m3,
                     output_times_s: resolved.output_times_s,

@@ -2,6 +2,7 @@
 
 use std::io::{self, Write};
 use stoik::mechanism::{Mechanism, GAS_CONSTANT};
+use stoik::reactor::Profiles;
 
 /// Quotes a CSV field when it holds a comma, quote or line break (species such as `1,3-C4H6`).
 fn field(text: &str) -> String {
@@ -13,7 +14,7 @@ fn field(text: &str) -> String {
 }
 
 /// Molar mass of every species in kg/mol, when every species has an elemental composition.
-fn molar_masses_kg_per_mol(mechanism: &Mechanism) -> Option<Vec<f64>> {
+pub fn molar_masses_kg_per_mol(mechanism: &Mechanism) -> Option<Vec<f64>> {
     mechanism
         .species
         .iter()
@@ -30,14 +31,12 @@ fn molar_masses_kg_per_mol(mechanism: &Mechanism) -> Option<Vec<f64>> {
 
 /// Writes the header and rows: time, every species' concentration (SI mol/m3 divided by
 /// `si_per_unit`, labelled `unit_label`), then the temperature, the ideal-gas pressure
-/// P = sum(c) R T and, when every species has a composition, the mass density
-/// sum(c_i M_i).
+/// P = sum(c) R T, the mass density sum(c_i M_i) when every species has a composition, and
+/// every species' mole fraction c_i / sum(c).
 pub fn write_profiles(
     out: &mut impl Write,
     mechanism: &Mechanism,
-    times_s: &[f64],
-    concentrations_mol_per_m3: &[Vec<f64>],
-    temperature_k: f64,
+    profiles: &Profiles,
     si_per_unit: f64,
     unit_label: &str,
 ) -> io::Result<()> {
@@ -54,8 +53,19 @@ pub fn write_profiles(
     if masses.is_some() {
         header.push("density [kg/m3]".to_string());
     }
+    header.extend(
+        mechanism
+            .species
+            .iter()
+            .map(|s| field(&format!("{} [mole fraction]", s.name))),
+    );
     writeln!(out, "{}", header.join(","))?;
-    for (t, row) in times_s.iter().zip(concentrations_mol_per_m3) {
+    for ((t, row), temperature_k) in profiles
+        .times_s
+        .iter()
+        .zip(&profiles.concentrations_mol_per_m3)
+        .zip(&profiles.temperatures_k)
+    {
         write!(out, "{t:.9e}")?;
         for c in row {
             write!(out, ",{:.9e}", c / si_per_unit)?;
@@ -69,6 +79,10 @@ pub fn write_profiles(
         if let Some(m) = &masses {
             let density: f64 = row.iter().zip(m).map(|(c, m)| c * m).sum();
             write!(out, ",{density:.9e}")?;
+        }
+        for c in row {
+            let x = if total > 0.0 { c / total } else { f64::NAN };
+            write!(out, ",{x:.9e}")?;
         }
         writeln!(out)?;
     }

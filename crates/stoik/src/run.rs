@@ -8,8 +8,18 @@ use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 use stoik::kinetics::Kinetics;
-use stoik::mechanism::{load_mechanism, load_scenario, LinearAlgebraChoice, Mechanism, Scenario};
-use stoik::reactor::{self, IntegrationOptions, LinearAlgebra, Profiles};
+use stoik::mechanism::{
+    load_mechanism, load_scenario, IgnitionChoice, LinearAlgebraChoice, Mechanism, ReactorKind,
+    Scenario,
+};
+use stoik::reactor::{
+    self, ignition_delay, Constraint, Energy, IgnitionCriterion, IgnitionDelay, IntegrationOptions,
+    LinearAlgebra, Profiles, ReactorModel, TemperatureHistory,
+};
+
+/// Temperature rise (K) above which an adiabatic run counts as an ignition or runaway for
+/// the caution printed with the results.
+pub const RUNAWAY_RISE_K: f64 = 50.0;
 
 /// The caution printed with every run.
 pub const CAUTION: &str = "Caution: simulation is no substitute for local codes, standards and licensed engineering review.";
@@ -46,6 +56,11 @@ pub fn run(args: &RunArgs) -> u8 {
             return bad_flag(&format!(
                 "--temperature-k must be a positive number of kelvin, got {t}"
             ));
+        }
+        if scenario.reactor.prescribed() {
+            return bad_flag(
+                "--temperature-k cannot override a prescribed temperature history; edit `temperature_history` instead",
+            );
         }
         scenario.temperature_k = t;
     }
@@ -95,8 +110,13 @@ pub fn run(args: &RunArgs) -> u8 {
 
     let kinetics = Kinetics::compile(mechanism);
     let options = integration_options(&scenario, absolute, !args.allow_negative);
-    let result = reactor::integrate(
+    let model = match reactor_model(&scenario) {
+        Ok(m) => m,
+        Err(e) => return bad_flag(&e),
+    };
+    let result = reactor::simulate(
         &kinetics,
+        &model,
         scenario.temperature_k,
         &resolved.initial_concentrations_mol_per_m3,
         &resolved.output_times_s,
@@ -132,6 +152,8 @@ pub fn run(args: &RunArgs) -> u8 {
             elapsed.as_secs_f64(),
             &output,
         );
+        print_ignition(&scenario, &resolved, mechanism, &profiles);
+        println!("{CAUTION}");
     }
     match failure {
         Some(message) => {
@@ -144,6 +166,93 @@ pub fn run(args: &RunArgs) -> u8 {
             EXIT_INTEGRATION_FAILED
         }
         None => EXIT_OK,
+    }
+}
+
+/// The reactor model of a scenario.
+pub fn reactor_model(scenario: &Scenario) -> Result<ReactorModel, String> {
+    let kind = scenario.reactor;
+    let constraint = if kind.constant_pressure() {
+        Constraint::ConstantPressure
+    } else {
+        Constraint::ConstantVolume
+    };
+    let energy = if kind.adiabatic() {
+        Energy::Adiabatic
+    } else if kind.prescribed() {
+        let points = scenario.temperature_history.clone().unwrap_or_default();
+        let (times, temps) = points.into_iter().unzip();
+        Energy::Prescribed(TemperatureHistory::new(times, temps).map_err(|e| e.to_string())?)
+    } else {
+        Energy::Isothermal
+    };
+    Ok(ReactorModel { constraint, energy })
+}
+
+/// The ignition criterion of a scenario: its `[ignition]` choice, or the largest dT/dt for
+/// adiabatic kinds; `None` otherwise.
+pub fn ignition_criterion(
+    scenario: &Scenario,
+    ignition_species: Option<usize>,
+) -> Option<IgnitionCriterion> {
+    match &scenario.ignition {
+        Some(IgnitionChoice::MaxTemperatureRate) => Some(IgnitionCriterion::MaxTemperatureRate),
+        Some(IgnitionChoice::SpeciesPeak(_)) => {
+            ignition_species.map(IgnitionCriterion::SpeciesMaximum)
+        }
+        Some(IgnitionChoice::TemperatureRise(k)) => Some(IgnitionCriterion::TemperatureRise(*k)),
+        None if scenario.reactor.adiabatic() => Some(IgnitionCriterion::MaxTemperatureRate),
+        None => None,
+    }
+}
+
+/// Words for a criterion in the run summary.
+fn criterion_words(c: IgnitionCriterion, mechanism: &Mechanism) -> String {
+    match c {
+        IgnitionCriterion::MaxTemperatureRate => "maximum of dT/dt".to_string(),
+        IgnitionCriterion::SpeciesMaximum(i) => format!(
+            "peak of {}",
+            mechanism.species.get(i).map_or("?", |s| s.name.as_str())
+        ),
+        IgnitionCriterion::TemperatureRise(k) => format!("temperature rise of {k} K"),
+    }
+}
+
+/// Prints the ignition delay and, for an adiabatic run whose temperature rose by more than
+/// [`RUNAWAY_RISE_K`], the hazard caution.
+fn print_ignition(
+    scenario: &Scenario,
+    resolved: &stoik::mechanism::ResolvedScenario,
+    mechanism: &Mechanism,
+    profiles: &Profiles,
+) {
+    if let Some(criterion) = ignition_criterion(scenario, resolved.ignition_species) {
+        match ignition_delay(profiles, criterion) {
+            Some(IgnitionDelay { delay_s, .. }) => println!(
+                "ignition delay: {delay_s:.6e} s ({})",
+                criterion_words(criterion, mechanism)
+            ),
+            None => println!(
+                "ignition delay: none found by the {} within the simulated time",
+                criterion_words(criterion, mechanism)
+            ),
+        }
+    }
+    let rise = profiles
+        .temperatures_k
+        .iter()
+        .fold(f64::NEG_INFINITY, |m, &t| m.max(t))
+        - profiles.temperatures_k.first().copied().unwrap_or(0.0);
+    if scenario.reactor.adiabatic() && rise > RUNAWAY_RISE_K {
+        let has = |name: &str| mechanism.species.iter().any(|s| s.name == name);
+        let hydrogen = if has("H2") && has("O2") {
+            " Hydrogen-oxygen mixtures are explosive."
+        } else {
+            ""
+        };
+        println!(
+            "CAUTION: ignition or thermal runaway detected (temperature rise {rise:.0} K). This mixture is flammable or explosive under these conditions.{hydrogen}"
+        );
     }
 }
 
@@ -207,9 +316,7 @@ pub fn write_csv(
     write_profiles(
         &mut w,
         mechanism,
-        &profiles.times_s,
-        &profiles.concentrations_mol_per_m3,
-        scenario.temperature_k,
+        profiles,
         unit.to_si_factor(),
         unit.label(),
     )?;
@@ -225,11 +332,11 @@ fn print_summary(
 ) {
     let unit = scenario.output_concentration_unit;
     println!(
-        "{}: {} species, {} steps; isothermal constant volume at {} K",
+        "{}: {} species, {} steps; {}",
         scenario.title.as_deref().unwrap_or("scenario"),
         mechanism.species.len(),
         mechanism.steps.len(),
-        scenario.temperature_k
+        describe_reactor(scenario)
     );
     let (Some(first), Some(last), Some(t_end)) = (
         profiles.concentrations_mol_per_m3.first(),
@@ -239,7 +346,13 @@ fn print_summary(
         println!("no output rows");
         return;
     };
-    println!("final state at t = {t_end:.6e} s [{}]:", unit.label());
+    let rows = profiles.times_s.len();
+    println!(
+        "final state at t = {t_end:.6e} s: T = {:.2} K, P = {:.6e} Pa; concentrations [{}]:",
+        profiles.temperatures_k.last().copied().unwrap_or(f64::NAN),
+        profiles.pressure_pa(rows - 1).unwrap_or(f64::NAN),
+        unit.label()
+    );
     let mut order: Vec<usize> = (0..last.len()).collect();
     order.sort_by(|&a, &b| last[b].total_cmp(&last[a]));
     for &i in order.iter().take(12) {
@@ -252,9 +365,20 @@ fn print_summary(
     if order.len() > 12 {
         println!("  ... {} more species in the CSV", order.len() - 12);
     }
-    if !mechanism.elements.is_empty() {
-        let start = mechanism.element_totals(first);
-        let end = mechanism.element_totals(last);
+    // At constant pressure the volume changes: compare element amounts per unit mass.
+    let per_mass = scenario.reactor.constant_pressure();
+    let masses = crate::csv_out::molar_masses_kg_per_mol(mechanism);
+    if !mechanism.elements.is_empty() && (!per_mass || masses.is_some()) {
+        let totals = |row: &[f64]| {
+            let mut t = mechanism.element_totals(row);
+            if let (true, Some(m)) = (per_mass, &masses) {
+                let density: f64 = row.iter().zip(m).map(|(c, m)| c * m).sum();
+                t.iter_mut().for_each(|x| *x /= density);
+            }
+            t
+        };
+        let start = totals(first);
+        let end = totals(last);
         let drifts: Vec<String> = mechanism
             .elements
             .iter()
@@ -296,9 +420,32 @@ fn print_summary(
         output.display(),
         profiles.times_s.len(),
         // time, species, temperature, pressure, and density when every species has atoms
-        mechanism.species.len()
+        2 * mechanism.species.len()
             + 3
             + usize::from(mechanism.species.iter().all(|s| s.composition.is_some()))
     );
-    println!("{CAUTION}");
+}
+
+/// One line on the reactor of a scenario.
+fn describe_reactor(scenario: &Scenario) -> String {
+    let kind = scenario.reactor;
+    let held = if kind.constant_pressure() {
+        "constant pressure"
+    } else {
+        "constant volume"
+    };
+    match kind {
+        ReactorKind::IsothermalConstantVolume | ReactorKind::IsothermalConstantPressure => {
+            format!("isothermal {held} at {} K", scenario.temperature_k)
+        }
+        ReactorKind::AdiabaticConstantVolume | ReactorKind::AdiabaticConstantPressure => {
+            format!("adiabatic {held}, starting at {} K", scenario.temperature_k)
+        }
+        ReactorKind::PrescribedConstantVolume | ReactorKind::PrescribedConstantPressure => {
+            format!(
+                "{held}, temperature prescribed through {} points",
+                scenario.temperature_history.as_ref().map_or(0, Vec::len)
+            )
+        }
+    }
 }

@@ -92,6 +92,13 @@ impl Nasa7 {
         cp_over_r(self.coefficients_at(t_k), t_k)
     }
 
+    /// Temperature derivative of the dimensionless heat capacity, d(cp/R)/dT, in 1/K at
+    /// `t_k` (K).
+    pub fn cp_slope_over_r(&self, t_k: f64) -> f64 {
+        let a = self.coefficients_at(t_k);
+        a[1] + t_k * (2.0 * a[2] + t_k * (3.0 * a[3] + t_k * 4.0 * a[4]))
+    }
+
     /// Dimensionless enthalpy H/(R T) at `t_k` (K).
     pub fn h_over_rt(&self, t_k: f64) -> f64 {
         h_over_rt(self.coefficients_at(t_k), t_k)

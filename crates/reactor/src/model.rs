@@ -1,0 +1,476 @@
+//! Reactor models: what is held constant (volume or pressure) and how the temperature evolves
+//! (held, solved from the energy balance, or prescribed), and their equations.
+//!
+//! All models are closed ideal-gas batch reactors with the molar concentrations `c` (mol/m3)
+//! as state; when the energy balance is solved the temperature `T` (K) is appended as the
+//! last state. With `w(c, T)` the net production rates of the kinetics:
+//!
+//! - constant volume: `dc_i/dt = w_i`;
+//! - constant pressure: `dc_i/dt = w_i - c_i g`, with the relative expansion rate
+//!   `g = d ln V/dt = sum_k w_k / C + (dT/dt) / T`, `C = sum_k c_k` (ideal gas,
+//!   `V = n R T / P` at fixed `P`);
+//! - adiabatic: `dT/dt = -sum_i e_i w_i / sum_i c_i k_i`, with `e_i` the molar internal
+//!   energy `u_i = h_i - R T` and `k_i = cv_i = cp_i - R` at constant volume, or the molar
+//!   enthalpy `h_i` and `k_i = cp_i` at constant pressure (first law for a closed system:
+//!   `U` resp. `H` is conserved);
+//! - prescribed: `T(t)` piecewise linear through given points, `dT/dt` its slope;
+//! - isothermal: `dT/dt = 0`.
+//!
+//! The Jacobian with respect to `(c, T)` is written analytically (see [`ModelJacobian`]):
+//! the kinetics' `dw/dc`, its temperature column `dw/dT` from the Arrhenius and van 't Hoff
+//! slopes of the rate constants, the energy row from differentiating the quotient above, and
+//! at constant pressure the dense rank-one term `-c_i dg/dc_k`.
+
+use stoik_kinetics::{JacobianPattern, Kinetics, RateConstants};
+use stoik_thermo::Nasa7;
+
+use crate::ReactorError;
+
+/// Molar gas constant R in J/(mol K).
+const R: f64 = stoik_kinetics::GAS_CONSTANT;
+
+/// What a closed reactor holds constant besides its contents.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Constraint {
+    /// Rigid vessel: the volume is fixed; the pressure follows from the ideal-gas law.
+    #[default]
+    ConstantVolume,
+    /// Free piston: the pressure is fixed; the volume follows from the ideal-gas law.
+    ConstantPressure,
+}
+
+/// How the temperature of a closed reactor evolves.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub enum Energy {
+    /// Held at the initial temperature (an ideal thermostat).
+    #[default]
+    Isothermal,
+    /// No heat exchange: the temperature is solved from the energy balance (species
+    /// thermochemistry needed for every species).
+    Adiabatic,
+    /// Follows a prescribed history.
+    Prescribed(TemperatureHistory),
+}
+
+/// A piecewise-linear temperature history `T(t)`: linear between the given points, held at
+/// the first value before the first time and at the last value after the last time.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TemperatureHistory {
+    times_s: Vec<f64>,
+    temperatures_k: Vec<f64>,
+}
+
+impl TemperatureHistory {
+    /// A history through the points (`times_s[i]` in s, `temperatures_k[i]` in K): at least
+    /// one point, equal lengths, times finite and strictly increasing, temperatures finite
+    /// and positive.
+    pub fn new(times_s: Vec<f64>, temperatures_k: Vec<f64>) -> Result<Self, ReactorError> {
+        if times_s.is_empty() || times_s.len() != temperatures_k.len() {
+            return Err(ReactorError::BadTemperatureHistory(format!(
+                "need the same number (at least one) of times and temperatures, got {} and {}",
+                times_s.len(),
+                temperatures_k.len()
+            )));
+        }
+        if let Some(i) = (0..times_s.len())
+            .find(|&i| !times_s[i].is_finite() || (i > 0 && times_s[i] <= times_s[i - 1]))
+        {
+            return Err(ReactorError::BadTemperatureHistory(format!(
+                "times must be finite and strictly increasing: time {} is {} s",
+                i + 1,
+                times_s[i]
+            )));
+        }
+        if let Some(i) = temperatures_k
+            .iter()
+            .position(|t| !(t.is_finite() && *t > 0.0))
+        {
+            return Err(ReactorError::BadTemperatureHistory(format!(
+                "temperatures must be finite and positive: temperature {} is {} K",
+                i + 1,
+                temperatures_k[i]
+            )));
+        }
+        Ok(TemperatureHistory {
+            times_s,
+            temperatures_k,
+        })
+    }
+
+    /// The points' times (s).
+    pub fn times_s(&self) -> &[f64] {
+        &self.times_s
+    }
+
+    /// The points' temperatures (K).
+    pub fn temperatures_k(&self) -> &[f64] {
+        &self.temperatures_k
+    }
+
+    /// Index `i` of the segment `(t_i, t_{i+1}]` containing `t_s`, or `None` outside.
+    fn segment(&self, t_s: f64) -> Option<usize> {
+        let t = &self.times_s;
+        if t.len() < 2 || t_s <= t[0] || t_s > t[t.len() - 1] {
+            return None;
+        }
+        // First point at or after t_s, minus one.
+        Some(t.partition_point(|&x| x < t_s) - 1)
+    }
+
+    /// Temperature (K) at `t_s` (s).
+    pub fn temperature_at(&self, t_s: f64) -> f64 {
+        let (t, v) = (&self.times_s, &self.temperatures_k);
+        match self.segment(t_s) {
+            Some(i) => v[i] + (v[i + 1] - v[i]) * (t_s - t[i]) / (t[i + 1] - t[i]),
+            None if t_s <= t[0] => v[0],
+            None => v[v.len() - 1],
+        }
+    }
+
+    /// dT/dt (K/s) at `t_s` (s): the slope of the segment `(t_i, t_{i+1}]` containing it
+    /// (so at a breakpoint, the slope of the segment that ends there), 0 outside.
+    pub fn slope_at(&self, t_s: f64) -> f64 {
+        let (t, v) = (&self.times_s, &self.temperatures_k);
+        match self.segment(t_s) {
+            Some(i) => (v[i + 1] - v[i]) / (t[i + 1] - t[i]),
+            None => 0.0,
+        }
+    }
+
+    /// Breakpoints strictly inside `(from_s, to_s)` (s), where the slope jumps.
+    pub(crate) fn breakpoints_between(
+        &self,
+        from_s: f64,
+        to_s: f64,
+    ) -> impl Iterator<Item = f64> + '_ {
+        self.times_s
+            .iter()
+            .copied()
+            .filter(move |&t| t > from_s && t < to_s)
+    }
+}
+
+/// A closed batch reactor: the constraint and the temperature model.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ReactorModel {
+    /// Constant volume or constant pressure.
+    pub constraint: Constraint,
+    /// Isothermal, adiabatic or prescribed temperature.
+    pub energy: Energy,
+}
+
+impl ReactorModel {
+    /// The isothermal constant-volume reactor (the default).
+    pub fn isothermal_constant_volume() -> Self {
+        ReactorModel::default()
+    }
+
+    /// Whether the temperature is a state of the integration (adiabatic models).
+    pub fn solves_energy(&self) -> bool {
+        matches!(self.energy, Energy::Adiabatic)
+    }
+
+    /// Number of integrated states for `n_species` species: `n_species`, plus one for the
+    /// temperature when the energy balance is solved.
+    pub fn n_states(&self, n_species: usize) -> usize {
+        n_species + usize::from(self.solves_energy())
+    }
+
+    /// The temperature (K) at time `t_s` (s) for a state `y` (concentrations, then the
+    /// temperature if solved); `held_k` is the isothermal temperature.
+    pub(crate) fn temperature(&self, t_s: f64, y: &[f64], n_species: usize, held_k: f64) -> f64 {
+        match &self.energy {
+            Energy::Isothermal => held_k,
+            Energy::Adiabatic => y.get(n_species).copied().unwrap_or(held_k),
+            Energy::Prescribed(history) => history.temperature_at(t_s),
+        }
+    }
+}
+
+/// Per-species thermochemistry of the energy balance, one entry per species, checked.
+pub(crate) fn energy_thermo(
+    kinetics: &Kinetics,
+    model: &ReactorModel,
+) -> Result<Vec<Nasa7>, ReactorError> {
+    if !model.solves_energy() {
+        return Ok(Vec::new());
+    }
+    kinetics
+        .species_thermo()
+        .iter()
+        .enumerate()
+        .map(|(i, t)| t.ok_or(ReactorError::MissingThermo { species: i }))
+        .collect()
+}
+
+/// The Jacobian pattern of the model's state (compressed sparse column) and, for each entry
+/// of the kinetics pattern, its position in the state pattern.
+///
+/// - isothermal or prescribed at constant volume: the kinetics pattern itself;
+/// - adiabatic at constant volume: each column gains the temperature row, and a full
+///   temperature column is appended (an arrow pattern);
+/// - constant pressure: full (the expansion term couples every pair of species).
+pub(crate) fn state_pattern(
+    kinetics: &Kinetics,
+    model: &ReactorModel,
+) -> (JacobianPattern, Vec<usize>) {
+    let kin = kinetics.jacobian_pattern();
+    let n = kin.n;
+    let m = model.n_states(n);
+    match (model.constraint, model.solves_energy()) {
+        (Constraint::ConstantVolume, false) => (kin.clone(), (0..kin.nnz()).collect()),
+        (Constraint::ConstantVolume, true) => {
+            let mut column_starts = Vec::with_capacity(m + 1);
+            let mut row_indices = Vec::with_capacity(kin.nnz() + n + m);
+            let mut map = Vec::with_capacity(kin.nnz());
+            column_starts.push(0);
+            for col in 0..n {
+                for p in kin.column_starts[col]..kin.column_starts[col + 1] {
+                    map.push(row_indices.len());
+                    row_indices.push(kin.row_indices[p]);
+                }
+                row_indices.push(n);
+                column_starts.push(row_indices.len());
+            }
+            row_indices.extend(0..m);
+            column_starts.push(row_indices.len());
+            (
+                JacobianPattern {
+                    n: m,
+                    column_starts,
+                    row_indices,
+                },
+                map,
+            )
+        }
+        (Constraint::ConstantPressure, _) => {
+            let pattern = JacobianPattern {
+                n: m,
+                column_starts: (0..=m).map(|j| j * m).collect(),
+                row_indices: (0..m * m).map(|p| p % m).collect(),
+            };
+            let mut map = Vec::with_capacity(kin.nnz());
+            for col in 0..n {
+                for p in kin.column_starts[col]..kin.column_starts[col + 1] {
+                    map.push(col * m + kin.row_indices[p]);
+                }
+            }
+            (pattern, map)
+        }
+    }
+}
+
+/// Scratch of the model's right-hand side and Jacobian, allocated once per solver.
+#[derive(Debug, Clone)]
+pub(crate) struct ModelScratch {
+    /// Kinetics Jacobian values (kinetics pattern order).
+    kin_values: Vec<f64>,
+    /// Rate-constant slopes dk/dT.
+    slopes: RateConstants,
+    /// dw/dT per species.
+    dw_dt: Vec<f64>,
+    /// Energy weight e_i (J/mol) and heat capacity k_i (J/(mol K)) per species.
+    energy: Vec<f64>,
+    capacity: Vec<f64>,
+    /// Per column k: sum_i dw_i/dc_k and sum_i e_i dw_i/dc_k.
+    column_sum: Vec<f64>,
+    column_energy: Vec<f64>,
+}
+
+impl ModelScratch {
+    pub(crate) fn new(kinetics: &Kinetics) -> Self {
+        let n = kinetics.n_species();
+        ModelScratch {
+            kin_values: vec![0.0; kinetics.jacobian_pattern().nnz()],
+            slopes: kinetics.rate_constants(300.0),
+            dw_dt: vec![0.0; n],
+            energy: vec![0.0; n],
+            capacity: vec![0.0; n],
+            column_sum: vec![0.0; n],
+            column_energy: vec![0.0; n],
+        }
+    }
+}
+
+/// Energy weight `e_i` (J/mol) and heat capacity `k_i` (J/(mol K)) of species with polynomials
+/// `thermo` at `t` (K): internal energy and cv at constant volume, enthalpy and cp at constant
+/// pressure; also `dk_i/dT` (J/(mol K^2)).
+#[inline]
+fn energy_terms(thermo: &Nasa7, t: f64, constraint: Constraint) -> (f64, f64, f64) {
+    let h = R * t * thermo.h_over_rt(t);
+    let cp = R * thermo.cp_over_r(t);
+    let dcp = R * thermo.cp_slope_over_r(t);
+    match constraint {
+        Constraint::ConstantVolume => (h - R * t, cp - R, dcp),
+        Constraint::ConstantPressure => (h, cp, dcp),
+    }
+}
+
+/// The model's equations on flat slices.
+pub(crate) struct ModelEquations<'a> {
+    pub kinetics: &'a Kinetics,
+    pub model: &'a ReactorModel,
+    pub thermo: &'a [Nasa7],
+}
+
+impl ModelEquations<'_> {
+    /// `dT/dt` (K/s) of an adiabatic model at `(c, t)` with production rates `w`.
+    fn adiabatic_rate(&self, c: &[f64], w: &[f64], temperature_k: f64) -> (f64, f64) {
+        let mut release = 0.0;
+        let mut capacity = 0.0;
+        for ((thermo, &ci), &wi) in self.thermo.iter().zip(c).zip(w) {
+            let (e, k, _) = energy_terms(thermo, temperature_k, self.model.constraint);
+            release += e * wi;
+            capacity += ci * k;
+        }
+        (-release / capacity, capacity)
+    }
+
+    /// The state derivative `f = dy/dt` at time `t_s` for state `y`, given the rate
+    /// constants `k` at the model temperature `temperature_k`. No allocation.
+    pub fn rhs(&self, k: &RateConstants, t_s: f64, temperature_k: f64, y: &[f64], f: &mut [f64]) {
+        let n = self.kinetics.n_species();
+        let (c, w) = (&y[..n], &mut f[..n]);
+        self.kinetics.production_rates(k, c, w);
+        let temperature_rate = match &self.model.energy {
+            Energy::Isothermal => 0.0,
+            Energy::Prescribed(history) => history.slope_at(t_s),
+            Energy::Adiabatic => self.adiabatic_rate(c, w, temperature_k).0,
+        };
+        if self.model.constraint == Constraint::ConstantPressure {
+            let total: f64 = c.iter().sum();
+            let w_total: f64 = w.iter().sum();
+            let g = w_total / total + temperature_rate / temperature_k;
+            for (wi, ci) in w.iter_mut().zip(c) {
+                *wi -= ci * g;
+            }
+        }
+        if self.model.solves_energy() {
+            f[n] = temperature_rate;
+        }
+    }
+
+    /// Overwrites `values` (state-pattern order, see [`state_pattern`] with `map`) with the
+    /// analytic Jacobian `df/dy` at `(t_s, y)`. `k` are the rate constants at
+    /// `temperature_k`. No allocation.
+    #[allow(clippy::too_many_arguments)]
+    pub fn jacobian(
+        &self,
+        k: &RateConstants,
+        t_s: f64,
+        temperature_k: f64,
+        y: &[f64],
+        map: &[usize],
+        scratch: &mut ModelScratch,
+        values: &mut [f64],
+    ) {
+        let kinetics = self.kinetics;
+        let n = kinetics.n_species();
+        let m = self.model.n_states(n);
+        let c = &y[..n];
+        let t = temperature_k;
+        let constraint = self.model.constraint;
+        let energy_solved = self.model.solves_energy();
+        kinetics.jacobian_sparse(k, c, &mut scratch.kin_values);
+        values.iter_mut().for_each(|v| *v = 0.0);
+        for (&pos, &v) in map.iter().zip(&scratch.kin_values) {
+            values[pos] = v;
+        }
+        if constraint == Constraint::ConstantVolume && !energy_solved {
+            return;
+        }
+        // Per-column sums of the kinetics Jacobian (plain and energy-weighted).
+        let kin = kinetics.jacobian_pattern();
+        if energy_solved {
+            for (i, thermo) in self.thermo.iter().enumerate() {
+                let (e, cap, _) = energy_terms(thermo, t, constraint);
+                scratch.energy[i] = e;
+                scratch.capacity[i] = cap;
+            }
+        }
+        for col in 0..n {
+            let (mut sum, mut weighted) = (0.0, 0.0);
+            for p in kin.column_starts[col]..kin.column_starts[col + 1] {
+                let v = scratch.kin_values[p];
+                sum += v;
+                if energy_solved {
+                    weighted += scratch.energy[kin.row_indices[p]] * v;
+                }
+            }
+            scratch.column_sum[col] = sum;
+            scratch.column_energy[col] = weighted;
+        }
+        // Production rates (needed for dT/dt and the expansion rate); reuse dw_dt as w.
+        let w = &mut scratch.dw_dt;
+        kinetics.production_rates(k, c, w);
+        let w_total: f64 = w.iter().sum();
+        let (temperature_rate, capacity_total) = match &self.model.energy {
+            Energy::Isothermal => (0.0, 0.0),
+            Energy::Prescribed(history) => (history.slope_at(t_s), 0.0),
+            Energy::Adiabatic => self.adiabatic_rate(c, w, t),
+        };
+        // Temperature derivatives: the energy row a_k = d(dT/dt)/dc_k and corner a_T.
+        let (mut a_t, mut release_slope, mut dw_total_dt) = (0.0, 0.0, 0.0);
+        if energy_solved {
+            // sum_i k_i w_i (de_i/dT = k_i) and sum_i c_i dk_i/dT
+            let mut capacity_release = 0.0;
+            let mut capacity_slope = 0.0;
+            for (i, thermo) in self.thermo.iter().enumerate() {
+                capacity_release += scratch.capacity[i] * w[i];
+                capacity_slope += c[i] * energy_terms(thermo, t, constraint).2;
+            }
+            kinetics.evaluate_rate_constant_slopes(t, k, &mut scratch.slopes);
+            kinetics.production_rate_slopes(k, &scratch.slopes, c, &mut scratch.dw_dt);
+            let dw_dt = &scratch.dw_dt;
+            for (i, &d) in dw_dt.iter().enumerate() {
+                release_slope += scratch.energy[i] * d;
+                dw_total_dt += d;
+            }
+            a_t = -(capacity_release + release_slope + temperature_rate * capacity_slope)
+                / capacity_total;
+        }
+        let energy_row = |col: usize| -> f64 {
+            -(scratch.column_energy[col] + temperature_rate * scratch.capacity[col])
+                / capacity_total
+        };
+        match constraint {
+            Constraint::ConstantVolume => {
+                // Arrow pattern: the temperature row closes each species column; the
+                // temperature column is stored last.
+                let mut pos = 0;
+                for col in 0..n {
+                    pos += kin.column_starts[col + 1] - kin.column_starts[col];
+                    values[pos] = energy_row(col);
+                    pos += 1;
+                }
+                values[pos..pos + n].copy_from_slice(&scratch.dw_dt);
+                values[pos + n] = a_t;
+            }
+            Constraint::ConstantPressure => {
+                let total: f64 = c.iter().sum();
+                let g = w_total / total + temperature_rate / t;
+                for col in 0..n {
+                    let mut dg = scratch.column_sum[col] / total - w_total / (total * total);
+                    if energy_solved {
+                        let a_k = energy_row(col);
+                        dg += a_k / t;
+                        values[col * m + n] = a_k;
+                    }
+                    let column = &mut values[col * m..col * m + n];
+                    for (v, ci) in column.iter_mut().zip(c) {
+                        *v -= ci * dg;
+                    }
+                    column[col] -= g;
+                }
+                if energy_solved {
+                    let dg_dt = dw_total_dt / total + a_t / t - temperature_rate / (t * t);
+                    let column = &mut values[n * m..n * m + m];
+                    for i in 0..n {
+                        column[i] = scratch.dw_dt[i] - c[i] * dg_dt;
+                    }
+                    column[n] = a_t;
+                }
+            }
+        }
+    }
+}

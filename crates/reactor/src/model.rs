@@ -474,3 +474,115 @@ impl ModelEquations<'_> {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn hydrogen() -> Kinetics {
+        let path = concat!(
+            env!("CARGO_MANIFEST_DIR"),
+            "/../../mechanisms/hydrogen-oxygen.toml"
+        );
+        let file = stoik_mechanism::load_mechanism(std::path::Path::new(path))
+            .unwrap_or_else(|e| panic!("{e}"));
+        Kinetics::compile(&file.mechanism)
+    }
+
+    /// A state in the middle of an ignition: every species present, T = 1500 K.
+    fn state(n: usize, with_temperature: bool) -> Vec<f64> {
+        let mut y: Vec<f64> = (0..n)
+            .map(|i| 0.05 + 0.9 * ((i * 7 + 3) % 11) as f64 / 11.0)
+            .collect();
+        if with_temperature {
+            y.push(1500.0);
+        }
+        y
+    }
+
+    fn models() -> Vec<ReactorModel> {
+        let history = TemperatureHistory::new(vec![0.0, 1e-3, 2e-3], vec![1000.0, 1600.0, 1400.0])
+            .unwrap_or_else(|e| panic!("{e}"));
+        let mut out = Vec::new();
+        for constraint in [Constraint::ConstantVolume, Constraint::ConstantPressure] {
+            for energy in [
+                Energy::Isothermal,
+                Energy::Adiabatic,
+                Energy::Prescribed(history.clone()),
+            ] {
+                out.push(ReactorModel { constraint, energy });
+            }
+        }
+        out
+    }
+
+    /// The analytic Jacobian of every model against central differences of the right-hand
+    /// side (step 1e-6 relative; the standard second-order check, common practice).
+    #[test]
+    fn analytic_jacobian_matches_central_differences_for_every_model() {
+        let kinetics = hydrogen();
+        let n = kinetics.n_species();
+        for model in models() {
+            let thermo = energy_thermo(&kinetics, &model).unwrap_or_else(|e| panic!("{e}"));
+            let eq = ModelEquations {
+                kinetics: &kinetics,
+                model: &model,
+                thermo: &thermo,
+            };
+            let m = model.n_states(n);
+            let t_s = 0.6e-3;
+            let y = state(n, model.solves_energy());
+            let temp = model.temperature(t_s, &y, n, 1500.0);
+            let (pattern, map) = state_pattern(&kinetics, &model);
+            let mut scratch = ModelScratch::new(&kinetics);
+            let mut values = vec![0.0; pattern.nnz()];
+            let k = kinetics.rate_constants(temp);
+            eq.jacobian(&k, t_s, temp, &y, &map, &mut scratch, &mut values);
+            let f = |y: &[f64]| {
+                let temp = model.temperature(t_s, y, n, 1500.0);
+                let k = kinetics.rate_constants(temp);
+                let mut out = vec![0.0; m];
+                eq.rhs(&k, t_s, temp, y, &mut out);
+                out
+            };
+            let mut worst: f64 = 0.0;
+            let largest = values.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+            for col in 0..m {
+                let h = 1e-6 * y[col].abs().max(1e-3);
+                let (mut yp, mut ym) = (y.clone(), y.clone());
+                yp[col] += h;
+                ym[col] -= h;
+                let (fp, fm) = (f(&yp), f(&ym));
+                for row in 0..m {
+                    let fd = (fp[row] - fm[row]) / (2.0 * h);
+                    let analytic = pattern.position(row, col).map_or(0.0, |p| values[p]);
+                    // Floor: rounding in the differences is about eps |f| / h, far above
+                    // 1e-5 of the small entries of a column whose rates are large.
+                    let scale = fd.abs().max(analytic.abs()).max(1e-6 * largest);
+                    worst = worst.max((fd - analytic).abs() / scale);
+                }
+            }
+            assert!(
+                worst < 1e-5,
+                "{model:?}: worst relative Jacobian error {worst:e}"
+            );
+        }
+    }
+
+    /// The piecewise-linear history: linear between points, held outside, slope of the
+    /// segment ending at a breakpoint.
+    #[test]
+    fn temperature_history_interpolates_linearly() {
+        let h = TemperatureHistory::new(vec![0.0, 2.0, 4.0], vec![300.0, 700.0, 500.0])
+            .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(h.temperature_at(-1.0), 300.0);
+        assert_eq!(h.temperature_at(1.0), 500.0);
+        assert_eq!(h.temperature_at(3.0), 600.0);
+        assert_eq!(h.temperature_at(9.0), 500.0);
+        assert_eq!(h.slope_at(2.0), 200.0);
+        assert_eq!(h.slope_at(2.5), -100.0);
+        assert_eq!(h.slope_at(5.0), 0.0);
+        assert!(TemperatureHistory::new(vec![0.0, 0.0], vec![300.0, 400.0]).is_err());
+        assert!(TemperatureHistory::new(vec![0.0], vec![-3.0]).is_err());
+    }
+}

@@ -37,6 +37,7 @@ fn check_accepts_the_bundled_mechanisms_and_scenarios() {
         "hires.scenario.toml",
         "oregonator.scenario.toml",
         "annotated-example.toml",
+        "hydrogen-oxygen.scenario.toml",
     ] {
         let path = repo().join("mechanisms").join(file);
         let out = stoik(&["check", "--strict", path.to_str().unwrap()], &repo());
@@ -109,7 +110,7 @@ fn run_writes_csv_with_units_and_a_summary() {
     let mut lines = csv.lines();
     assert_eq!(
         lines.next(),
-        Some("time [s],A [mol/m3],B [mol/m3],C [mol/m3],temperature [K],pressure [Pa]")
+        Some("time [s],A [mol/m3],B [mol/m3],C [mol/m3],temperature [K],pressure [Pa],A [mole fraction],B [mole fraction],C [mole fraction]")
     );
     // 68 log-spaced points plus t = 0 (scenario grid).
     let rows: Vec<Vec<f64>> = lines
@@ -302,4 +303,115 @@ fn a_run_outside_a_species_thermo_range_is_warned_about() {
         "{err}"
     );
     assert!(err.contains("`H`'s thermochemistry"), "{err}");
+}
+
+/// The hydrogen-oxygen demo: an adiabatic constant-volume ignition reported with its delay
+/// and the hazard caution; the CSV's state columns obey the ideal-gas law, P = sum(c) R T,
+/// and the mole fractions are c_i / sum(c).
+#[test]
+fn adiabatic_run_reports_ignition_delay_and_the_explosion_caution() {
+    let dir = scratch("h2");
+    let scenario = repo().join("mechanisms/hydrogen-oxygen.scenario.toml");
+    let out = stoik(&["run", scenario.to_str().unwrap(), "-o", "h2.csv"], &dir);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let stdout = text(&out.stdout);
+    // The delay itself is checked against scipy's Radau in tests/scipy/ignition_check.py
+    // (run from .ci/run); here: it is reported, with the hazard caution.
+    let delay: f64 = stdout
+        .lines()
+        .find_map(|l| l.strip_prefix("ignition delay: "))
+        .and_then(|l| l.split_whitespace().next())
+        .and_then(|x| x.parse().ok())
+        .unwrap_or(f64::NAN);
+    assert!(delay > 1e-5 && delay < 2e-3, "{stdout}");
+    assert!(
+        stdout.contains("Hydrogen-oxygen mixtures are explosive"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("licensed engineering review"), "{stdout}");
+    let csv = std::fs::read_to_string(dir.join("h2.csv")).unwrap();
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let (t_col, p_col) = (col("temperature [K]"), col("pressure [Pa]"));
+    let species = ["H2", "O2", "H2O", "OH", "H", "O", "HO2", "AR", "N2"];
+    for line in lines {
+        let row: Vec<f64> = line.split(',').map(|x| x.parse().unwrap()).collect();
+        let c: Vec<f64> = species
+            .iter()
+            .map(|s| row[col(&format!("{s} [mol/m3]"))])
+            .collect();
+        let total: f64 = c.iter().sum();
+        // Ideal-gas law (textbook): P = sum(c) R T.
+        let p = total * 8.314462618 * row[t_col];
+        assert!(((row[p_col] - p) / p).abs() < 1e-8);
+        for (s, ci) in species.iter().zip(&c) {
+            let x = row[col(&format!("{s} [mole fraction]"))];
+            assert!((x - ci / total).abs() < 1e-8);
+        }
+    }
+}
+
+/// Constant-pressure and prescribed-temperature kinds from the binary: the pressure column
+/// stays at the scenario's 1 atm (ideal gas at fixed P) and the temperature column follows the
+/// history exactly at its points.
+#[test]
+fn constant_pressure_and_prescribed_kinds_run_from_the_binary() {
+    let dir = scratch("kinds");
+    let mech = repo().join("mechanisms/hydrogen-oxygen.toml");
+    let write = |name: &str, reactor: &str| {
+        let text = format!(
+            "stoik_scenario = 1\nmechanism = {mech:?}\n[reactor]\n{reactor}\npressure = \"1 atm\"\n\
+             [initial]\nmole_fractions = {{ H2 = 0.1, O2 = 0.05, AR = 0.85 }}\n\
+             [output]\nend_time = \"1 ms\"\ntimes = [\"0.25 ms\", \"0.5 ms\", \"0.75 ms\"]\n"
+        );
+        std::fs::write(dir.join(name), text).unwrap();
+    };
+    write(
+        "cp.scenario.toml",
+        "kind = \"adiabatic-constant-pressure\"\ntemperature = \"1100 K\"",
+    );
+    write(
+        "ramp.scenario.toml",
+        "kind = \"prescribed-temperature-constant-pressure\"\ntemperature_history = { times = [\"0 ms\", \"0.5 ms\"], temperatures = [\"900 K\", \"1300 K\"] }",
+    );
+    for (name, temps) in [
+        ("cp", None),
+        ("ramp", Some([900.0, 1100.0, 1300.0, 1300.0, 1300.0])),
+    ] {
+        let out = stoik(
+            &[
+                "run",
+                &format!("{name}.scenario.toml"),
+                "-o",
+                &format!("{name}.csv"),
+            ],
+            &dir,
+        );
+        assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+        let csv = std::fs::read_to_string(dir.join(format!("{name}.csv"))).unwrap();
+        let mut lines = csv.lines();
+        let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+        let col = |h: &str| header.iter().position(|x| *x == h).unwrap();
+        let rows: Vec<Vec<f64>> = lines
+            .map(|l| l.split(',').map(|x| x.parse().unwrap()).collect())
+            .collect();
+        assert_eq!(rows.len(), 5);
+        for (i, row) in rows.iter().enumerate() {
+            // Held to the integration's accuracy (default rtol 1e-6): sum(c) = P/(R T) is
+            // implied by the equations, not imposed.
+            let p = row[col("pressure [Pa]")];
+            assert!((p - 101325.0).abs() < 1e-5 * 101325.0, "{name}: P = {p}");
+            if let Some(t) = temps {
+                assert!((row[col("temperature [K]")] - t[i]).abs() < 1e-9);
+            }
+        }
+        if name == "cp" {
+            let last = rows.last().unwrap()[col("temperature [K]")];
+            assert!(
+                last > 2000.0,
+                "adiabatic constant pressure did not ignite: {last} K"
+            );
+        }
+    }
 }

@@ -35,7 +35,7 @@ fn parabola_vertex(x: [f64; 3], y: [f64; 3]) -> f64 {
     let d1 = (y[1] - y[0]) / (x[1] - x[0]);
     let d2 = (y[2] - y[1]) / (x[2] - x[1]);
     let a = (d2 - d1) / (x[2] - x[0]);
-    if !(a < 0.0) {
+    if a >= 0.0 || a.is_nan() {
         return x[1];
     }
     (0.5 * (x[0] + x[1]) - d1 / (2.0 * a)).clamp(x[0], x[2])
@@ -69,7 +69,7 @@ pub fn ignition_delay(profiles: &Profiles, criterion: IgnitionCriterion) -> Opti
     let temperature_rise_k = temps.iter().fold(f64::NEG_INFINITY, |m, &t| m.max(t)) - temp0;
     let at = match criterion {
         IgnitionCriterion::MaxTemperatureRate => {
-            if !(temperature_rise_k >= 1.0) {
+            if temperature_rise_k < 1.0 || temperature_rise_k.is_nan() {
                 return None;
             }
             if profiles.temperature_rates_k_per_s.len() == times.len() {

@@ -87,7 +87,13 @@ pub fn run(args: &RunArgs) -> u8 {
     }
     let mechanism = &file.mechanism;
     if !args.quiet {
-        for line in thermo_range_warnings(mechanism, scenario.temperature_k) {
+        let (low, high) = match &scenario.temperature_history {
+            Some(points) => points.iter().fold((f64::INFINITY, 0.0f64), |(lo, hi), p| {
+                (lo.min(p.1), hi.max(p.1))
+            }),
+            None => (scenario.temperature_k, scenario.temperature_k),
+        };
+        for line in thermo_range_warnings(mechanism, low, high) {
             eprintln!("{line}");
         }
     }
@@ -134,6 +140,17 @@ pub fn run(args: &RunArgs) -> u8 {
         }
     };
     let elapsed = started.elapsed();
+    if scenario.reactor.adiabatic() && !args.quiet {
+        let (low, high) = profiles
+            .temperatures_k
+            .iter()
+            .fold((f64::INFINITY, 0.0f64), |(lo, hi), &t| {
+                (lo.min(t), hi.max(t))
+            });
+        for line in thermo_range_warnings(mechanism, low, high) {
+            eprintln!("{line}");
+        }
+    }
 
     let output = args
         .output
@@ -258,15 +275,22 @@ fn print_ignition(
 
 /// Warnings for species whose thermochemistry is used outside the temperature range of its
 /// polynomials (it then extrapolates).
-pub fn thermo_range_warnings(mechanism: &Mechanism, temperature_k: f64) -> Vec<String> {
+///
+/// `low_k` to `high_k` (K) is the temperature span of the run.
+pub fn thermo_range_warnings(mechanism: &Mechanism, low_k: f64, high_k: f64) -> Vec<String> {
+    let span = if low_k == high_k {
+        format!("at {low_k} K")
+    } else {
+        format!("between {low_k:.1} and {high_k:.1} K")
+    };
     mechanism
         .species
         .iter()
         .filter_map(|s| {
             let p = s.thermo.as_ref()?;
-            (temperature_k < p.t_low_k || temperature_k > p.t_high_k).then(|| {
+            (low_k < p.t_low_k || high_k > p.t_high_k).then(|| {
                 format!(
-                    "warning: the run at {temperature_k} K leaves the range of species `{}`'s thermochemistry ({} to {} K); its polynomials are extrapolated",
+                    "warning: the run {span} leaves the range of species `{}`'s thermochemistry ({} to {} K); its polynomials are extrapolated",
                     s.name, p.t_low_k, p.t_high_k
                 )
             })

@@ -18,6 +18,7 @@ use stoik::reactor::{integrate, IntegrationOptions, LinearAlgebra};
 
 fn robertson() -> Mechanism {
     let sp = |name: &str| Species {
+        collision_diameter_m: None,
         name: name.into(),
         composition: None,
         note: None,

@@ -39,6 +39,7 @@ impl Rng {
 
 fn species(name: String) -> Species {
     Species {
+        collision_diameter_m: None,
         name,
         composition: None,
         note: None,

@@ -112,26 +112,85 @@ pub const COLLISION_LIMIT_TEMPERATURES_K: [f64; 28] = {
     grid
 };
 
-/// Warnings for bimolecular rate constants above the gas-kinetic collision limit
-/// [`COLLISION_LIMIT_M3_PER_MOL_S`] anywhere on [`COLLISION_LIMIT_TEMPERATURES_K`].
+/// Boltzmann constant in J/K (SI 2019 exact value).
+const BOLTZMANN: f64 = stoik_mechanism::BOLTZMANN;
+
+/// Hard-sphere collision rate constant in m3/(mol s) (collision theory, e.g. Atkins'
+/// *Physical Chemistry*): k = N_A sigma sqrt(8 k_B T / (pi mu)) with the cross-section
+/// sigma = pi ((d_a + d_b)/2)^2 from the diameters `d_a_m`, `d_b_m` (m) and the reduced mass
+/// mu = m_a m_b / (m_a + m_b) from the molar masses (kg/mol), at `temperature_k` (K).
+pub fn hard_sphere_rate_constant(
+    d_a_m: f64,
+    d_b_m: f64,
+    m_a_kg_per_mol: f64,
+    m_b_kg_per_mol: f64,
+    temperature_k: f64,
+) -> f64 {
+    let d = 0.5 * (d_a_m + d_b_m);
+    let sigma = std::f64::consts::PI * d * d;
+    let mu = m_a_kg_per_mol * m_b_kg_per_mol / (m_a_kg_per_mol + m_b_kg_per_mol) / AVOGADRO;
+    let speed = (8.0 * BOLTZMANN * temperature_k / (std::f64::consts::PI * mu)).sqrt();
+    AVOGADRO * sigma * speed
+}
+
+/// The hard-sphere limit of a direction whose two colliding molecules are `pair` (species
+/// indices), when both have a collision diameter and a composition.
+fn pair_limit(mechanism: &Mechanism, pair: Option<(usize, usize)>, t: f64) -> Option<f64> {
+    let (a, b) = pair?;
+    let da = mechanism.species[a].collision_diameter_m?;
+    let db = mechanism.species[b].collision_diameter_m?;
+    let ma = mechanism.molar_mass_kg_per_mol(a)?;
+    let mb = mechanism.molar_mass_kg_per_mol(b)?;
+    Some(hard_sphere_rate_constant(da, db, ma, mb, t))
+}
+
+/// The two colliding molecules of a side with coefficients summing to 2 (`A + B` or `2 A`).
+fn colliding_pair(terms: &[stoik_mechanism::StoichTerm]) -> Option<(usize, usize)> {
+    match terms {
+        [one] if (one.coefficient - 2.0).abs() < 1e-12 => Some((one.species, one.species)),
+        [a, b] if a.coefficient == 1.0 && b.coefficient == 1.0 => Some((a.species, b.species)),
+        _ => None,
+    }
+}
+
+/// Warnings for bimolecular rate constants above the gas-kinetic collision limit anywhere on
+/// [`COLLISION_LIMIT_TEMPERATURES_K`].
 ///
+/// The limit is the hard-sphere collision rate constant ([`hard_sphere_rate_constant`]) at
+/// each temperature when both colliding species have `collision_diameter_nm` and a
+/// composition, and otherwise the common-practice constant [`COLLISION_LIMIT_M3_PER_MOL_S`].
 /// A direction counts as bimolecular when its overall order is 2, a third body counting
-/// one (so `A + B` and `A (+M)` do, `A + B (+M)` does not). The reverse direction of a
-/// reversible step is checked with its explicit parameters or, without them, with
-/// kr = kf / Kc from thermochemistry. Each warning names `file_label` and the step's
-/// location and shows the largest k, its temperature and the limit.
+/// one (so `A + B` and `A (+M)` do, `A + B (+M)` does not); the hard-sphere limit applies to
+/// two colliding molecules without a third body. The reverse direction of a reversible step
+/// is checked with its explicit parameters or, without them, with kr = kf / Kc from
+/// thermochemistry. Each warning names `file_label` and the step's location and shows the
+/// k that exceeds the limit most (by ratio), its temperature and the limit there.
 pub fn collision_limit_warnings(mechanism: &Mechanism, file_label: &str) -> Vec<Diagnostic> {
     let kinetics = Kinetics::compile(mechanism);
     let mut k = kinetics.rate_constants(COLLISION_LIMIT_TEMPERATURES_K[0]);
-    // (largest k, its temperature) per step, forward and reverse.
-    let mut worst = vec![[(0.0f64, 0.0f64); 2]; mechanism.steps.len()];
+    let pairs: Vec<[Option<(usize, usize)>; 2]> = mechanism
+        .steps
+        .iter()
+        .map(|s| {
+            if s.third_body.is_some() {
+                [None, None]
+            } else {
+                [colliding_pair(&s.reactants), colliding_pair(&s.products)]
+            }
+        })
+        .collect();
+    // (largest k / limit, k, limit, T, hard sphere?) per step, forward and reverse.
+    let mut worst = vec![[(0.0f64, 0.0f64, 0.0f64, 0.0f64, false); 2]; mechanism.steps.len()];
     for &t in &COLLISION_LIMIT_TEMPERATURES_K {
         kinetics.evaluate_rate_constants(t, &mut k);
         for (j, w) in worst.iter_mut().enumerate() {
             for (direction, value) in [k.forward[j], k.reverse[j]].into_iter().enumerate() {
+                let hard = pair_limit(mechanism, pairs[j][direction], t);
+                let limit = hard.unwrap_or(COLLISION_LIMIT_M3_PER_MOL_S);
+                let ratio = value / limit;
                 // NaN (missing thermochemistry) never compares greater.
-                if value > w[direction].0 {
-                    w[direction] = (value, t);
+                if ratio > w[direction].0 {
+                    w[direction] = (ratio, value, limit, t, hard.is_some());
                 }
             }
         }
@@ -143,13 +202,24 @@ pub fn collision_limit_warnings(mechanism: &Mechanism, file_label: &str) -> Vec<
             ("forward", is_two(step.forward_order())),
             ("reverse", step.reversible && is_two(step.reverse_order())),
         ];
-        for ((direction, bimolecular), &(k_max, t_max)) in directions.into_iter().zip(w) {
-            if !bimolecular || k_max <= COLLISION_LIMIT_M3_PER_MOL_S {
+        for ((direction, bimolecular), &(ratio, k_max, limit, t_max, hard)) in
+            directions.into_iter().zip(w)
+        {
+            if !bimolecular || ratio <= 1.0 {
                 continue;
             }
             let per_molecule = k_max * 1e6 / AVOGADRO;
+            let which = if hard {
+                format!(
+                    "the hard-sphere collision rate constant from the species' collision diameters, {limit:.3e} m3/(mol s) there"
+                )
+            } else {
+                format!(
+                    "the gas-kinetic collision limit of about {limit:.3e} m3/(mol s) (1e-10 cm3/(molecule s))"
+                )
+            };
             let message = format!(
-                "{direction} rate constant of bimolecular step `{}` reaches {k_max:.3e} m3/(mol s) ({per_molecule:.3e} cm3/(molecule s)) at {t_max} K, above the gas-kinetic collision limit of about {COLLISION_LIMIT_M3_PER_MOL_S:.3e} m3/(mol s) (1e-10 cm3/(molecule s))",
+                "{direction} rate constant of bimolecular step `{}` reaches {k_max:.3e} m3/(mol s) ({per_molecule:.3e} cm3/(molecule s)) at {t_max} K, {ratio:.2} times {which}",
                 step.equation
             );
             out.push(

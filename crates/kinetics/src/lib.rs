@@ -30,8 +30,8 @@ mod energetics;
 mod pattern;
 
 pub use energetics::{
-    collision_limit_warnings, step_energetics, StepEnergetics, COLLISION_LIMIT_M3_PER_MOL_S,
-    COLLISION_LIMIT_TEMPERATURES_K,
+    collision_limit_warnings, hard_sphere_rate_constant, step_energetics, StepEnergetics,
+    COLLISION_LIMIT_M3_PER_MOL_S, COLLISION_LIMIT_TEMPERATURES_K,
 };
 pub use pattern::JacobianPattern;
 use stoik_mechanism::Mechanism;

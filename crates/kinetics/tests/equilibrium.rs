@@ -259,3 +259,42 @@ fn collision_limit_checks_thermochemical_reverse_rates() {
         warnings[0].message
     );
 }
+
+/// Hard-sphere collision theory (Atkins' *Physical Chemistry* worked example, cross-sections
+/// from memory: sigma(H2) = 0.27 nm2, sigma(C2H4) = 0.64 nm2, so d = sqrt(sigma / pi)); the
+/// reference value A = 6.971e11 dm3 mol-1 s-1 at 628 K is recomputed from the formula
+/// (shared/reference, section 4).
+#[test]
+fn hard_sphere_rate_constant_matches_the_collision_theory_example() {
+    let d = |sigma_nm2: f64| (sigma_nm2 / std::f64::consts::PI).sqrt() * 1e-9;
+    // Molar masses from IUPAC standard atomic weights (H 1.008, C 12.011).
+    let k = stoik_kinetics::hard_sphere_rate_constant(d(0.27), d(0.64), 2.016e-3, 28.054e-3, 628.0);
+    let expected = 6.971e11 * 1e-3; // dm3 -> m3
+    assert!((k / expected - 1.0).abs() < 1e-3, "{k:e} vs {expected:e}");
+}
+
+/// With collision diameters the limit is the hard-sphere rate constant at each temperature:
+/// k = 5e13 cm3/(mol s) is below the common-practice constant (6.02e13) but above the hard-
+/// sphere value for two H atoms of diameter 0.08 nm at 300 K,
+/// N_A pi d^2 sqrt(8 k_B T / (pi mu)) = 4.3e13 cm3/(mol s) (formula evaluated in the test).
+#[test]
+fn collision_diameters_give_a_temperature_dependent_hard_sphere_limit() {
+    let text = |diameters: &str| {
+        format!(
+            "stoik_mechanism = 1\n[[species]]\nname = \"H\"\natoms = {{ H = 1 }}\n{diameters}\n[[species]]\nname = \"H2\"\natoms = {{ H = 2 }}\n[[step]]\nequation = \"H + H -> H2\"\nforward = {{ prefactor = 5e13 }}\n"
+        )
+    };
+    assert!(collision_limit_warnings(&load(&text("")), "h.toml").is_empty());
+    let warnings = collision_limit_warnings(&load(&text("collision_diameter_nm = 0.08")), "h.toml");
+    assert_eq!(warnings.len(), 1, "{warnings:?}");
+    let mu = 1.008e-3 / 2.0 / AVOGADRO;
+    let speed = (8.0 * 1.380649e-23 * 300.0 / (std::f64::consts::PI * mu)).sqrt();
+    let limit = AVOGADRO * std::f64::consts::PI * 0.08e-9 * 0.08e-9 * speed;
+    let m = &warnings[0].message;
+    assert!(m.contains("at 300 K"), "{m}");
+    assert!(m.contains("hard-sphere"), "{m}");
+    assert!(
+        m.contains(&format!("{limit:.3e} m3/(mol s) there")),
+        "{m} vs {limit:.3e}"
+    );
+}

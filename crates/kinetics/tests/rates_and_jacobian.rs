@@ -7,6 +7,7 @@ use stoik_mechanism::{Arrhenius, Mechanism, Species, Step, StoichTerm, ThirdBody
 
 fn species(name: &str) -> Species {
     Species {
+        collision_diameter_m: None,
         name: name.to_string(),
         composition: None,
         note: None,

@@ -114,7 +114,7 @@ const TOP_KEYS: &[&str] = &[
     "thermo_files",
 ];
 const UNITS_KEYS: &[&str] = &["amount", "length", "time", "activation_energy"];
-const SPECIES_KEYS: &[&str] = &["name", "atoms", "note", "thermo"];
+const SPECIES_KEYS: &[&str] = &["name", "atoms", "note", "thermo", "collision_diameter_nm"];
 const STEP_KEYS: &[&str] = &[
     "equation",
     "forward",
@@ -404,6 +404,20 @@ impl Loader<'_> {
         let note = table
             .get("note")
             .and_then(|v| self.r.string("note", v).map(str::to_string));
+        let collision_diameter_m = table.get("collision_diameter_nm").and_then(|v| {
+            let d = self.r.number("collision_diameter_nm", v)?;
+            match positive_finite_problem(d) {
+                None => Some(d * 1e-9),
+                Some(problem) => {
+                    self.r.error(
+                        v.span().start,
+                        format!("`collision_diameter_nm` {problem}; it must be positive and finite (nm)"),
+                        Some("e.g. collision_diameter_nm = 0.35".to_string()),
+                    );
+                    None
+                }
+            }
+        });
         let Some((name, name_at)) = name else {
             return;
         };
@@ -441,6 +455,7 @@ impl Loader<'_> {
             note,
             location,
             thermo,
+            collision_diameter_m,
         });
     }
 

@@ -46,6 +46,9 @@ pub struct Species {
     /// mechanism gives none; then reversible steps of this species need explicit reverse
     /// rate parameters.
     pub thermo: Option<stoik_thermo::Nasa7>,
+    /// Hard-sphere collision diameter in m (file: `collision_diameter_nm`), used for the
+    /// collision-limit plausibility check; `None` when not given.
+    pub collision_diameter_m: Option<f64>,
 }
 
 /// One species with its stoichiometric coefficient on one side of a step.
@@ -186,6 +189,18 @@ impl Mechanism {
     /// Index of the species called `name`, if any.
     pub fn species_index(&self, name: &str) -> Option<usize> {
         self.species.iter().position(|s| s.name == name)
+    }
+
+    /// Molar mass (kg/mol) of species `species` from its composition and the standard
+    /// atomic weights; `None` for an abstract species or an index out of range.
+    pub fn molar_mass_kg_per_mol(&self, species: usize) -> Option<f64> {
+        let atoms = self.species.get(species)?.composition.as_ref()?;
+        Some(
+            atoms
+                .iter()
+                .map(|&(e, n)| n * self.elements[e].atomic_weight_kg_per_mol)
+                .sum(),
+        )
     }
 
     /// Element totals (mol/m3 of atoms) for concentrations `concentrations_mol_per_m3`,

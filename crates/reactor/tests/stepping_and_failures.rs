@@ -340,6 +340,7 @@ fn hydrogen_dissociation_conserves_atoms() {
             .iter()
             .zip([2.0, 1.0])
             .map(|(name, atoms)| Species {
+                collision_diameter_m: None,
                 name: name.to_string(),
                 composition: Some(vec![(0, atoms)]),
                 note: None,

@@ -65,6 +65,7 @@ pub fn mechanism(names: &[&str], steps: Vec<Step>) -> Mechanism {
         species: names
             .iter()
             .map(|name| Species {
+                collision_diameter_m: None,
                 name: name.to_string(),
                 composition: None,
                 note: None,

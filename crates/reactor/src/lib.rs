@@ -2,12 +2,17 @@
 //!
 //! Closed batch reactors integrated in time with diffsol's BDF method.
 //!
-//! The reactor implemented so far is **isothermal and at constant volume**: the state is
-//! the vector of molar concentrations `c` (mol/m3, in the species order of the mechanism)
-//! and obeys `dc/dt = w(c)`, with `w` the net production rates of
-//! [`stoik_kinetics::Kinetics::production_rates`] evaluated with rate constants fixed at the
-//! reactor temperature.
+//! A [`ReactorModel`] says what is held constant (volume or pressure) and how the
+//! temperature evolves (held, solved from the energy balance, or prescribed as a
+//! piecewise-linear history); see the `model` module's equations. The state is the vector of
+//! molar concentrations `c` (mol/m3, in the species order of the mechanism), plus the
+//! temperature (K) when the energy balance is solved. The default model is isothermal at
+//! constant volume, `dc/dt = w(c)`, with `w` the net production rates of
+//! [`stoik_kinetics::Kinetics::production_rates`].
 //!
+//! - [`simulate`] runs any model from an initial state to a list of output times and returns
+//!   [`Profiles`] (concentrations and temperatures, dT/dt, statistics); [`ignition_delay`]
+//!   reads an ignition delay off them.
 //! - [`integrate`] runs from an initial state to a list of output times and returns
 //!   [`Profiles`] (concentrations at exactly those times, plus [`SolverStats`]).
 //! - [`BatchSystem`] sets a compiled mechanism up once (kinetics copy, rate constants,

@@ -763,7 +763,8 @@ pub(crate) fn integrate(
 /// diagonal pivot is rejected (its pivoting fallback is built then).
 /// [`LinearAlgebra::SparseFaer`] relies on faer sizing its numeric LU storage on the first
 /// factorization and reusing it afterwards (pivoting that needed more fill would grow it). The
-/// test `tests/allocations.rs` counts allocations on both paths: zero per round
+/// With a prescribed temperature history, each call that spans breakpoints allocates their
+/// list. The test `tests/allocations.rs` counts allocations on both paths: zero per round
 /// of `advance_to` + `set_state` + `set_temperature` after the first.
 pub struct BatchIntegrator<'a> {
     session: Session<'a>,

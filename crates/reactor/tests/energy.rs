@@ -357,3 +357,60 @@ fn ignition_delay_criteria_recover_known_times() {
     assert!(ignition_delay(&profiles, IgnitionCriterion::SpeciesMaximum(1)).is_none());
     assert!(ignition_delay(&profiles, IgnitionCriterion::TemperatureRise(2000.0)).is_none());
 }
+
+/// The stepping session on an adiabatic system: the temperature is a state that the session
+/// reports and can set; stepping in two halves gives the one-go result (first law closed
+/// form as above: complete A -> B at constant volume ends at (2.5 T0 + 6000 K) / 3.5).
+#[test]
+fn stepping_session_carries_the_temperature_state() {
+    let mech = constant_cp_mechanism("A -> B", 1e6, 0.0, 8000.0);
+    let kinetics = Kinetics::compile(&mech);
+    let m = model(Constraint::ConstantVolume, Energy::Adiabatic);
+    let opts = options(2, 1e-10, 1e-14);
+    let mut system = stoik_reactor::BatchSystem::with_model(&kinetics, &m, 600.0, &opts)
+        .unwrap_or_else(|e| panic!("{e}"));
+    let mut session = system
+        .integrator(&[40.0, 0.0])
+        .unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(session.temperature(), 600.0);
+    assert_eq!(session.full_state().len(), 3);
+    session.advance_to(50.0).unwrap_or_else(|e| panic!("{e}"));
+    session.advance_to(100.0).unwrap_or_else(|e| panic!("{e}"));
+    let expected = (2.5 * 600.0 + 6000.0) / 3.5;
+    assert!(((session.temperature() - expected) / expected).abs() < 1e-8);
+    // Setting the temperature state: all A is gone, so it stays where it is put.
+    session
+        .set_temperature(1000.0)
+        .unwrap_or_else(|e| panic!("{e}"));
+    session.advance_to(110.0).unwrap_or_else(|e| panic!("{e}"));
+    assert!((session.temperature() - 1000.0).abs() < 1e-6);
+    // A prescribed history cannot be overridden.
+    let history = TemperatureHistory::new(vec![0.0], vec![500.0]).unwrap_or_else(|e| panic!("{e}"));
+    let p = model(Constraint::ConstantVolume, Energy::Prescribed(history));
+    let mut system = stoik_reactor::BatchSystem::with_model(&kinetics, &p, 600.0, &opts)
+        .unwrap_or_else(|e| panic!("{e}"));
+    assert_eq!(system.temperature(), 500.0);
+    assert!(system.set_temperature(700.0).is_err());
+}
+
+/// The energy balance needs every species' thermochemistry: a clear error, not a panic.
+#[test]
+fn adiabatic_model_without_thermochemistry_is_refused() {
+    let text = "stoik_mechanism = 1\n[[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n[[step]]\nequation = \"A -> B\"\nforward = { prefactor = 1 }\n";
+    let mech = parse_mechanism(text, "x.toml")
+        .unwrap_or_else(|e| panic!("{e}"))
+        .mechanism;
+    let kinetics = Kinetics::compile(&mech);
+    let err = simulate(
+        &kinetics,
+        &model(Constraint::ConstantVolume, Energy::Adiabatic),
+        300.0,
+        &[1.0, 0.0],
+        &[0.0, 1.0],
+        &options(2, 1e-6, 1e-12),
+    )
+    .err()
+    .map(|e| e.to_string())
+    .unwrap_or_default();
+    assert!(err.contains("species 0 has no thermochemistry"), "{err}");
+}

@@ -15,6 +15,7 @@
 //! above 99% (scatter inconsistent with the stated uncertainties).
 
 use crate::data::{RateData, COLLISION_LIMIT_M3_PER_MOL_S};
+use crate::output::sci;
 use crate::stats::{chi_square_cdf, normal_quantile, student_t_quantile};
 use crate::FitError;
 use nalgebra::{DMatrix, DVector};
@@ -250,7 +251,9 @@ impl fmt::Display for FitWarning {
                 limit_cm3_per_molecule_s,
             } => write!(
                 f,
-                "the fitted second-order k reaches {rate_constant_cm3_per_molecule_s:.3e} cm3 molecule-1 s-1 at {temperature_k:.1} K, above the gas-kinetic collision limit of about {limit_cm3_per_molecule_s:.0e} cm3 molecule-1 s-1"
+                "the fitted second-order k reaches {} cm3 molecule-1 s-1 at {temperature_k:.1} K, above the gas-kinetic collision limit of about {} cm3 molecule-1 s-1",
+                sci(rate_constant_cm3_per_molecule_s, 3),
+                sci(limit_cm3_per_molecule_s, 0)
             ),
             FitWarning::ChiSquare {
                 chi_square,
@@ -264,12 +267,15 @@ impl fmt::Display for FitWarning {
                 };
                 write!(
                     f,
-                    "chi-square {chi_square:.3} for {degrees_of_freedom} degree(s) of freedom (probability of a larger one {p_value:.2e}): the scatter is {how}"
+                    "chi-square {chi_square:.3} for {degrees_of_freedom} degree(s) of freedom (probability of a larger one {}): the scatter is {how}",
+                    sci(p_value, 2)
                 )
             }
             FitWarning::PressuresDiffer { min_pa, max_pa } => write!(
                 f,
-                "pressures range from {min_pa:.4e} to {max_pa:.4e} Pa but the fit treats k as pressure-independent (pressure-dependent forms are not fitted)"
+                "pressures range from {} to {} Pa but the fit treats k as pressure-independent (pressure-dependent forms are not fitted)",
+                sci(min_pa, 4),
+                sci(max_pa, 4)
             ),
         }
     }
@@ -472,7 +478,7 @@ pub fn fit_rate_constants(data: &RateData, options: &FitOptions) -> Result<RateF
     };
     let s = &svd.singular_values;
     let s_max = s.max();
-    if !(s.min() > s_max * 1e-13) {
+    if s.min().is_nan() || s.min() <= s_max * 1e-13 {
         return Err(FitError::Degenerate);
     }
     let s_inv = s.map(|v| 1.0 / v);
@@ -598,7 +604,7 @@ fn warnings(fit: &RateFit, data: &RateData, weighted: bool) -> Vec<FitWarning> {
     let (t_min, t_max) = fit.temperature_range_k;
     if fit.model == Model::ModifiedArrhenius {
         let half_width = fit.quantile * fit.standard_errors()[1];
-        if !(half_width <= 1.0) {
+        if half_width.is_nan() || half_width > 1.0 {
             out.push(FitWarning::NarrowRangeForExponent {
                 t_min_k: t_min,
                 t_max_k: t_max,
@@ -652,7 +658,7 @@ fn warnings(fit: &RateFit, data: &RateData, weighted: bool) -> Vec<FitWarning> {
         p_value,
     } = fit.scatter
     {
-        if p_value < 0.01 || p_value > 0.99 {
+        if !(0.01..=0.99).contains(&p_value) && !p_value.is_nan() {
             out.push(FitWarning::ChiSquare {
                 chi_square,
                 degrees_of_freedom: fit.degrees_of_freedom,

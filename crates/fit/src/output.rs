@@ -8,6 +8,22 @@ use stoik_mechanism::equation::parse_equation;
 use stoik_mechanism::units::EnergyUnit;
 use stoik_mechanism::GAS_CONSTANT;
 
+/// `value` in scientific notation with `decimals` decimals and a signed two-digit exponent,
+/// e.g. `1.079063e+12`.
+pub(crate) fn sci(value: f64, decimals: usize) -> String {
+    let text = format!("{value:.decimals$e}");
+    match text.split_once('e') {
+        Some((mantissa, exponent)) => {
+            let (sign, digits) = match exponent.strip_prefix('-') {
+                Some(d) => ('-', d),
+                None => ('+', exponent),
+            };
+            format!("{mantissa}e{sign}{digits:0>2}")
+        }
+        None => text,
+    }
+}
+
 /// Number of temperatures in the printed band table.
 const BAND_ROWS: usize = 7;
 
@@ -73,14 +89,21 @@ pub fn report_text(fit: &RateFit, data: &RateData) -> String {
     let (lo, hi) = fit.interval(0);
     let _ = writeln!(
         s,
-        "{:<28} {:>14.6e} {:>12} {:>30}",
+        "{:<28} {:>14} {:>12} {:>30}",
         format!("A [{}]", unit_with_exponent(data, fit.model)),
-        ln_a_data.exp(),
-        format!("x/ {:.4}", se[0].exp()),
+        sci(ln_a_data.exp(), 6),
+        {
+            let factor = se[0].exp();
+            if factor < 1e4 {
+                format!("x/ {factor:.4}")
+            } else {
+                format!("x/ {}", sci(factor, 3))
+            }
+        },
         format!(
-            "[{:.4e}, {:.4e}]",
-            (lo + to_data.ln()).exp(),
-            (hi + to_data.ln()).exp()
+            "[{}, {}]",
+            sci((lo + to_data.ln()).exp(), 4),
+            sci((hi + to_data.ln()).exp(), 4)
         )
     );
     let _ = writeln!(
@@ -123,7 +146,9 @@ pub fn report_text(fit: &RateFit, data: &RateData) -> String {
 
     let _ = writeln!(s);
     let _ = writeln!(s, "covariance ({}; Ea in J/mol):", names.join(", "));
-    write_matrix(&mut s, names, &fit.covariance, |v| format!("{v:>14.6e}"));
+    write_matrix(&mut s, names, &fit.covariance, |v| {
+        format!("{:>14}", sci(v, 6))
+    });
     let _ = writeln!(s, "correlation:");
     write_matrix(&mut s, names, &fit.correlation(), |v| format!("{v:>14.6}"));
 
@@ -137,12 +162,18 @@ pub fn report_text(fit: &RateFit, data: &RateData) -> String {
     let r_se = r.covariance.diagonal().map(|v| v.max(0.0).sqrt());
     let _ = writeln!(
         s,
-        "  k_ref = {:.6e} {} (ln k_ref std. error {:.6}, {conf:.0}% interval [{:.4e}, {:.4e}])",
-        (r.parameters[0] + to_data.ln()).exp(),
+        "  k_ref = {} {} (ln k_ref std. error {:.6}, {conf:.0}% interval [{}, {}])",
+        sci((r.parameters[0] + to_data.ln()).exp(), 6),
         unit.label,
         r_se[0],
-        (r.parameters[0] + to_data.ln() - fit.quantile * r_se[0]).exp(),
-        (r.parameters[0] + to_data.ln() + fit.quantile * r_se[0]).exp(),
+        sci(
+            (r.parameters[0] + to_data.ln() - fit.quantile * r_se[0]).exp(),
+            4
+        ),
+        sci(
+            (r.parameters[0] + to_data.ln() + fit.quantile * r_se[0]).exp(),
+            4
+        ),
     );
     let mut ref_names: Vec<&str> = names.to_vec();
     ref_names[0] = "ln k_ref";
@@ -164,11 +195,11 @@ pub fn report_text(fit: &RateFit, data: &RateData) -> String {
     for q in &fit.residuals {
         let _ = writeln!(
             s,
-            "{:>6} {:>10.2} {:>14.6e} {:>14.6e} {:>12.6} {:>10.4} {:>12.3}",
+            "{:>6} {:>10.2} {:>14} {:>14} {:>12.6} {:>10.4} {:>12.3}",
             q.line,
             q.temperature_k,
-            q.measured_si * to_data,
-            q.fitted_si * to_data,
+            sci(q.measured_si * to_data, 6),
+            sci(q.fitted_si * to_data, 6),
             q.ln_residual,
             q.leverage,
             q.studentized
@@ -189,11 +220,11 @@ pub fn report_text(fit: &RateFit, data: &RateData) -> String {
     for b in fit.band(BAND_ROWS) {
         let _ = writeln!(
             s,
-            "{:>10.2} {:>14.6e} {:>14.6e} {:>14.6e}",
+            "{:>10.2} {:>14} {:>14} {:>14}",
             b.temperature_k,
-            b.lower_si * to_data,
-            b.fitted_si * to_data,
-            b.upper_si * to_data
+            sci(b.lower_si * to_data, 6),
+            sci(b.fitted_si * to_data, 6),
+            sci(b.upper_si * to_data, 6)
         );
     }
     let _ = writeln!(s);
@@ -369,7 +400,8 @@ pub fn mechanism_snippet(
     let _ = writeln!(s, "equation = {}", toml_string(&equation_text));
     let _ = writeln!(
         s,
-        "forward = {{ prefactor = {prefactor:.10e}, temperature_exponent = {:.8}, activation_energy = {ea_kj:.8} }}",
+        "forward = {{ prefactor = {}, temperature_exponent = {:.8}, activation_energy = {ea_kj:.8} }}",
+        sci(prefactor, 10),
         fit.temperature_exponent()
     );
     if let Some(line) = orders_line {
@@ -460,7 +492,12 @@ pub fn svg_plot(fit: &RateFit, data: &RateData) -> String {
         s,
         "<text x=\"{}\" y=\"24\" text-anchor=\"middle\" font-size=\"14\">{}: Ea = {:.2} kJ/mol ({}, {:.0}% band)</text>",
         W / 2.0,
-        xml_escape(&data.source),
+        xml_escape(
+            std::path::Path::new(&data.source)
+                .file_name()
+                .map_or(data.source.clone(), |n| n.to_string_lossy().into_owned())
+                .as_str()
+        ),
         fit.activation_energy_j_per_mol() / 1e3,
         match fit.model {
             Model::Arrhenius => "two-parameter Arrhenius",

@@ -208,7 +208,7 @@ fn invert_increasing(cdf: impl Fn(f64) -> f64, p: f64, lower_bound: f64) -> f64 
 /// Quantile of Student's t with `dof` degrees of freedom: the t with P(T <= t) = `p`,
 /// 0 < p < 1 (NaN outside).
 pub fn student_t_quantile(p: f64, dof: f64) -> f64 {
-    if !(p > 0.0 && p < 1.0) || !(dof > 0.0) {
+    if !(p > 0.0 && p < 1.0 && dof > 0.0) {
         return f64::NAN;
     }
     if p < 0.5 {
@@ -232,7 +232,7 @@ pub fn normal_quantile(p: f64) -> f64 {
 /// Quantile of the chi-square distribution with `dof` degrees of freedom (NaN for p outside
 /// (0, 1)).
 pub fn chi_square_quantile(p: f64, dof: f64) -> f64 {
-    if !(p > 0.0 && p < 1.0) || !(dof > 0.0) {
+    if !(p > 0.0 && p < 1.0 && dof > 0.0) {
         return f64::NAN;
     }
     invert_increasing(|x| chi_square_cdf(x, dof), p, 0.0)

@@ -476,3 +476,56 @@ fn report_and_plot_show_the_fit() {
     assert!(svg.contains("1000 K / T"));
     assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
 }
+
+#[test]
+fn standard_errors_and_residual_statistics_match_simple_regression_closed_forms() {
+    // Closed forms of simple linear regression y = a + b x (any statistics textbook; common
+    // practice): s^2 = SSR/(N-2), se(b) = s/sqrt(Sxx), se(a) = s sqrt(1/N + xbar^2/Sxx),
+    // leverage h_i = 1/N + (x_i - xbar)^2/Sxx, externally studentized residual
+    // r_i / (s_(i) sqrt(1 - h_i)) with s_(i)^2 = (SSR - r_i^2/(1 - h_i))/(N - 3).
+    // Applied to ln k on x = -1/(R T) for the ethanal data (Atkins' Physical Chemistry, data
+    // from memory), computed here in plain arithmetic.
+    let (data, fit) = fit_text(ETHANAL, Model::Arrhenius);
+    let x: Vec<f64> = data
+        .points
+        .iter()
+        .map(|p| -1.0 / (GAS_CONSTANT * p.temperature_k))
+        .collect();
+    let y: Vec<f64> = data
+        .points
+        .iter()
+        .map(|p| p.rate_constant_si.ln())
+        .collect();
+    let n = x.len() as f64;
+    let (mx, my) = (x.iter().sum::<f64>() / n, y.iter().sum::<f64>() / n);
+    let sxx: f64 = x.iter().map(|v| (v - mx).powi(2)).sum();
+    let sxy: f64 = x.iter().zip(&y).map(|(a, b)| (a - mx) * (b - my)).sum();
+    let b = sxy / sxx;
+    let a = my - b * mx;
+    let r: Vec<f64> = x.iter().zip(&y).map(|(xi, yi)| yi - a - b * xi).collect();
+    let ssr: f64 = r.iter().map(|v| v * v).sum();
+    let s = (ssr / (n - 2.0)).sqrt();
+    let se = fit.standard_errors();
+    assert!(rel(fit.parameters[0], a) < 1e-12);
+    assert!(rel(fit.parameters[1], b) < 1e-12);
+    assert!(
+        rel(se[1], s / sxx.sqrt()) < 1e-9,
+        "{} vs {}",
+        se[1],
+        s / sxx.sqrt()
+    );
+    assert!(rel(se[0], s * (1.0 / n + mx * mx / sxx).sqrt()) < 1e-9);
+    for (i, res) in fit.residuals.iter().enumerate() {
+        let h = 1.0 / n + (x[i] - mx).powi(2) / sxx;
+        let s_i = ((ssr - r[i] * r[i] / (1.0 - h)) / (n - 3.0)).sqrt();
+        assert!((res.leverage - h).abs() < 1e-12);
+        assert!(rel(res.studentized, r[i] / (s_i * (1.0 - h).sqrt())) < 1e-8);
+    }
+    // Band at T: fitted ln k +- t se(ln k(T)) with se^2 = s^2 (1/N + (x(T) - xbar)^2/Sxx).
+    let band = fit.band(3);
+    let t = band[1].temperature_k;
+    let xt = -1.0 / (GAS_CONSTANT * t);
+    let half = fit.quantile * s * (1.0 / n + (xt - mx).powi(2) / sxx).sqrt();
+    assert!(rel(band[1].upper_si.ln() - band[1].fitted_si.ln(), half) < 1e-8);
+    assert!(rel(band[1].fitted_si.ln() - band[1].lower_si.ln(), half) < 1e-8);
+}

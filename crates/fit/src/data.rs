@@ -289,7 +289,10 @@ pub fn parse_rate_data(text: &str, file_label: &str) -> Result<RateData, FitErro
             let t = l.trim();
             !t.is_empty() && !t.starts_with('#')
         });
-    let Some((header_line, header)) = lines.next() else {
+    let Some((header_line, header)) = lines
+        .next()
+        .map(|(n, l)| (n, l.trim_start_matches('\u{feff}')))
+    else {
         diagnostics.push(
             Diagnostic::error(file_label, None, "no header line and no data")
                 .with_help("the first line should be e.g. `temperature [K], rate_constant [s-1]`"),

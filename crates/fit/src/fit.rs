@@ -220,7 +220,7 @@ impl fmt::Display for FitWarning {
         match *self {
             FitWarning::FewPoints { points, parameters } => write!(
                 f,
-                "{points} points for {parameters} parameters: fewer than parameters + 2 = {}; the uncertainties rest on {} degree(s) of freedom",
+                "{points} points for {parameters} parameters: fewer than parameters + 2 = {}; only {} degree(s) of freedom are left to check the fit",
                 parameters + 2,
                 points.saturating_sub(parameters)
             ),
@@ -395,8 +395,8 @@ pub fn correlation(covariance: &DMatrix<f64>) -> DMatrix<f64> {
 /// Fits `data` with `options`.
 ///
 /// Errors: a confidence outside (0, 1) or a non-positive reference temperature
-/// ([`FitError::BadOption`]); uncertainties on some points but not on others
-/// ([`FitError::BadOption`]); fewer points than parameters, or no more points than parameters
+/// ([`FitError::BadOption`]); uncertainties on some points but not on others, or a point
+/// with a non-positive or non-finite T, k or uncertainty ([`FitError::BadOption`]); fewer points than parameters, or no more points than parameters
 /// without uncertainties ([`FitError::TooFewPoints`]); fewer distinct temperatures than
 /// parameters ([`FitError::TooFewTemperatures`]); a rank-deficient design
 /// ([`FitError::Degenerate`]).
@@ -416,6 +416,17 @@ pub fn fit_rate_constants(data: &RateData, options: &FitOptions) -> Result<RateF
                 "reference temperature {t} K is not positive"
             )));
         }
+    }
+    let usable = |v: f64| v > 0.0 && v.is_finite();
+    if let Some(q) = data.points.iter().find(|q| {
+        !usable(q.temperature_k)
+            || !usable(q.rate_constant_si)
+            || q.ln_uncertainty.is_some_and(|u| !usable(u))
+    }) {
+        return Err(FitError::BadOption(format!(
+            "the point of line {} needs T > 0 K, k > 0 and an uncertainty > 0, all finite (T = {} K, k = {}, uncertainty of ln k = {:?})",
+            q.line, q.temperature_k, q.rate_constant_si, q.ln_uncertainty
+        )));
     }
     let with_uncertainty = data
         .points

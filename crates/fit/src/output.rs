@@ -65,6 +65,13 @@ pub fn report_text(fit: &RateFit, data: &RateData) -> String {
                 fit.degrees_of_freedom, fit.quantile
             );
         }
+        Scatter::FromUncertainties { .. } if fit.degrees_of_freedom == 0 => {
+            let _ = writeln!(
+                s,
+                "scatter: the stated uncertainties, taken as known; as many points as parameters, so nothing is left to test them; {conf:.0}% intervals use the normal quantile z = {:.4}",
+                fit.quantile
+            );
+        }
         Scatter::FromUncertainties {
             chi_square,
             p_value,
@@ -195,14 +202,18 @@ pub fn report_text(fit: &RateFit, data: &RateData) -> String {
     for q in &fit.residuals {
         let _ = writeln!(
             s,
-            "{:>6} {:>10.2} {:>14} {:>14} {:>12.6} {:>10.4} {:>12.3}",
+            "{:>6} {:>10.2} {:>14} {:>14} {:>12.6} {:>10.4} {:>12}",
             q.line,
             q.temperature_k,
             sci(q.measured_si * to_data, 6),
             sci(q.fitted_si * to_data, 6),
             q.ln_residual,
             q.leverage,
-            q.studentized
+            if q.studentized.is_finite() {
+                format!("{:.3}", q.studentized)
+            } else {
+                "-".to_string()
+            }
         );
     }
 
@@ -336,7 +347,11 @@ pub fn mechanism_snippet(
         None => {
             placeholder = true;
             let reactants: Vec<String> = (1..=order).map(|i| format!("R{i}")).collect();
-            format!("{} -> P", reactants.join(" + "))
+            if order == 0 {
+                "-> P".to_string()
+            } else {
+                format!("{} -> P", reactants.join(" + "))
+            }
         }
     };
     let units = data

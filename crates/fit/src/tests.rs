@@ -475,6 +475,16 @@ fn report_and_plot_show_the_fit() {
     assert!(svg.contains("class=\"band\""));
     assert!(svg.contains("1000 K / T"));
     assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
+    assert_eq!(svg.matches("class=\"error-bar\"").count(), 0);
+    // With uncertainties every point gets an error bar of one standard uncertainty: a factor
+    // 1.2 spans ln k +- ln 1.2 (definition of the factor column).
+    let csv = "temperature [K], rate_constant [cm3 molecule-1 s-1], uncertainty [factor]\n\
+               250, 2.1e-13, 1.2\n300, 5.5e-13, 1.2\n400, 2.2e-12, 1.2\n500, 5.0e-12, 1.2\n";
+    let (data, fit) = fit_text(csv, Model::Arrhenius);
+    assert!(rel(data.points[0].ln_uncertainty.unwrap(), 1.2f64.ln()) < 1e-15);
+    let svg = svg_plot(&fit, &data);
+    assert_eq!(svg.matches("class=\"error-bar\"").count(), 4);
+    assert_eq!(svg.matches("class=\"data\"").count(), 4);
 }
 
 #[test]
@@ -528,4 +538,39 @@ fn standard_errors_and_residual_statistics_match_simple_regression_closed_forms(
     let half = fit.quantile * s * (1.0 / n + (xt - mx).powi(2) / sxx).sqrt();
     assert!(rel(band[1].upper_si.ln() - band[1].fitted_si.ln(), half) < 1e-8);
     assert!(rel(band[1].fitted_si.ln() - band[1].lower_si.ln(), half) < 1e-8);
+}
+
+#[test]
+fn hand_built_data_is_checked_and_understated_uncertainties_are_flagged() {
+    // A point with k = 0 built through the library (not the CSV reader) is refused: ln 0 is
+    // undefined.
+    let temps = [400.0, 500.0, 600.0, 700.0];
+    let mut data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, None));
+    data.points[2].rate_constant_si = 0.0;
+    let err = fit_rate_constants(&data, &FitOptions::default()).unwrap_err();
+    assert!(messages(err).starts_with("the point of line 4 needs T > 0 K, k > 0"));
+
+    // Scatter of 0.3 in ln k with stated uncertainties of 1 %: chi-square far above its
+    // degrees of freedom (chi-square distribution, common practice: the 99th percentile with
+    // 8 dof is 20.09), so the fit warns.
+    let temps: Vec<f64> = (0..10).map(|i| 400.0 + 60.0 * i as f64).collect();
+    let mut rng = Rng(3);
+    let dev: Vec<f64> = (0..10).map(|_| 0.3 * rng.normal()).collect();
+    let data = synthetic(&temps, 20.0, 0.0, 50_000.0, |i| (dev[i], Some(0.01)));
+    let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
+    let Scatter::FromUncertainties { chi_square, .. } = fit.scatter else {
+        panic!("weighted fit expected");
+    };
+    assert!(chi_square > 20.09);
+    // Chi-square = sum of squared weighted residuals (definition).
+    let direct: f64 = fit
+        .residuals
+        .iter()
+        .map(|r| (r.ln_residual / 0.01).powi(2))
+        .sum();
+    assert!(rel(chi_square, direct) < 1e-10);
+    assert!(fit.warnings.iter().any(|w| matches!(
+        w,
+        FitWarning::ChiSquare { p_value, degrees_of_freedom: 8, .. } if *p_value < 0.01
+    )));
 }

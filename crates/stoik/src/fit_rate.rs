@@ -27,6 +27,10 @@ pub fn fit_rate(args: &FitRateArgs) -> u8 {
     };
     let fit = match fit_rate_constants(&data, &options) {
         Ok(f) => f,
+        Err(e @ FitError::BadOption(_)) => {
+            eprintln!("error: {e}");
+            return EXIT_BAD_INPUT;
+        }
         Err(e) => {
             eprintln!("{label}: error: {e}");
             return EXIT_BAD_INPUT;

@@ -133,7 +133,7 @@ pub struct Residual {
 pub struct ReferenceForm {
     /// Reference temperature T_ref in K.
     pub temperature_k: f64,
-    /// Parameters: ln(k_ref in SI), [n,] Ea in J/mol (same order as [`Model::parameter_names`],
+    /// Parameters: ln(k_ref in SI), (n,) Ea in J/mol (same order as [`Model::parameter_names`],
     /// with ln k_ref in place of ln A).
     pub parameters: DVector<f64>,
     /// Their covariance matrix.
@@ -295,7 +295,7 @@ pub struct RateFit {
     pub quantile: f64,
     /// Degrees of freedom, N - p.
     pub degrees_of_freedom: usize,
-    /// ln(A in SI units, per K^n), [n,] Ea in J/mol.
+    /// ln(A in SI units, per K^n), (n,) Ea in J/mol.
     pub parameters: DVector<f64>,
     /// Covariance matrix of [`RateFit::parameters`].
     pub covariance: DMatrix<f64>,

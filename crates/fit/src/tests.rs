@@ -574,3 +574,32 @@ fn hand_built_data_is_checked_and_understated_uncertainties_are_flagged() {
         FitWarning::ChiSquare { p_value, degrees_of_freedom: 8, .. } if *p_value < 0.01
     )));
 }
+
+#[test]
+fn absolute_uncertainties_convert_units_and_pressures_are_reported() {
+    // An absolute uncertainty is converted to the rate constant's unit before dividing:
+    // 100 cm3 mol-1 s-1 = 0.1 dm3 mol-1 s-1 (1 dm3 = 1000 cm3), so sigma(ln k) = 0.1 for
+    // k = 1 dm3 mol-1 s-1 and 0.05 for k = 2 (first-order propagation, sigma_ln = u/k).
+    // 760 Torr = 101325 Pa, 1 atm (definitions).
+    let csv = "temperature [K], rate_constant [dm3 mol-1 s-1], uncertainty [cm3 mol-1 s-1], pressure [Torr]\n\
+               300, 1.0, 100, 76\n400, 2.0, 100, 760\n500, 3.0, 100, 760\n";
+    let data = parse_rate_data(csv, "abs.csv").unwrap();
+    assert!(rel(data.points[0].ln_uncertainty.unwrap(), 0.1) < 1e-12);
+    assert!(rel(data.points[1].ln_uncertainty.unwrap(), 0.05) < 1e-12);
+    assert!(rel(data.points[1].pressure_pa.unwrap(), 101_325.0) < 1e-15);
+    let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
+    assert!(fit.warnings.iter().any(|w| matches!(
+        w,
+        FitWarning::PressuresDiffer { min_pa, max_pa }
+            if rel(*min_pa, 10_132.5) < 1e-12 && rel(*max_pa, 101_325.0) < 1e-12
+    )));
+    // An absolute uncertainty of another order is refused at its header column.
+    let err = parse_rate_data(
+        "temperature [K], rate_constant [s-1], uncertainty [cm3 mol-1 s-1]\n300, 1, 0.1\n",
+        "o.csv",
+    )
+    .unwrap_err();
+    assert!(messages(err).contains(
+        "o.csv:1:39: error: uncertainty unit `cm3 mol-1 s-1` is of order 2 but the rate constant's is of order 1"
+    ));
+}

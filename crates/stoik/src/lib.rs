@@ -8,7 +8,8 @@
 //! - [`mechanism`]: the SI mechanism model, the TOML mechanism and scenario formats, validation;
 //! - [`kinetics`]: a mechanism compiled to flat arrays (rates, production rates, Jacobians);
 //! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics;
-//! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables.
+//! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables;
+//! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties.
 //!
 //! A process model compiles a mechanism once and integrates it many times:
 //!
@@ -40,6 +41,7 @@
 
 #![warn(missing_docs)]
 
+pub use stoik_fit as fit;
 pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;
 pub use stoik_reactor as reactor;

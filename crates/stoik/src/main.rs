@@ -4,6 +4,7 @@ mod batch;
 mod check;
 mod csv_out;
 mod energetics;
+mod fit_rate;
 mod fit_thermo;
 mod run;
 
@@ -25,7 +26,7 @@ pub const EXIT_INTEGRATION_FAILED: u8 = 3;
     name = "stoik",
     version,
     about = "Simulate chemical reaction mechanisms: TOML mechanism + scenario in, concentration-time profiles out.",
-    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure.\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
+    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --svg ethanal.svg\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure.\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -66,6 +67,48 @@ enum Command {
         after_help = "Examples:\n  stoik energetics mechanisms/annotated-example.toml --temperature-k 298.15"
     )]
     Energetics(EnergeticsArgs),
+    /// Fit Arrhenius parameters to measured rate constants: parameters with uncertainties,
+    /// warnings, a mechanism snippet and a plot.
+    #[command(
+        after_help = "Examples:\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --equation \"CH3CHO -> CH4 + CO\" --svg ethanal.svg --snippet ethanal-step.toml\n  stoik fit-rate data.csv --model modified --reference-temperature-k 1000 --confidence 0.9\n\nThe CSV starts with a header naming columns with units in brackets, e.g.\n  temperature [K], rate_constant [cm3 molecule-1 s-1], uncertainty [factor]\nColumns: temperature (K, C), rate_constant (its unit sets the reaction order), optional\nuncertainty (factor, %, or an absolute rate-constant unit) and pressure. '#' starts a comment line."
+    )]
+    FitRate(FitRateArgs),
+}
+
+/// Flags of `stoik fit-rate`.
+#[derive(clap::Args)]
+pub struct FitRateArgs {
+    /// Rate-data CSV (temperature, rate_constant, optional uncertainty and pressure).
+    pub data: PathBuf,
+    /// The form fitted.
+    #[arg(long, value_enum, default_value = "arrhenius")]
+    pub model: ModelArg,
+    /// Reference temperature of the decorrelated form, in K [default: harmonic mean of the
+    /// data's temperatures].
+    #[arg(long)]
+    pub reference_temperature_k: Option<f64>,
+    /// Equation of the step in the snippet, e.g. "CH3CHO -> CH4 + CO" [default: a placeholder
+    /// to edit].
+    #[arg(long)]
+    pub equation: Option<String>,
+    /// Write a plot of ln k against 1000/T (data, fit, confidence band) to this SVG file.
+    #[arg(long)]
+    pub svg: Option<PathBuf>,
+    /// Write the fitted step as a mechanism-file snippet to this file.
+    #[arg(long)]
+    pub snippet: Option<PathBuf>,
+    /// Confidence level of intervals and band.
+    #[arg(long, default_value_t = 0.95)]
+    pub confidence: f64,
+}
+
+/// The rate-constant form on the command line.
+#[derive(Clone, Copy, ValueEnum)]
+pub enum ModelArg {
+    /// k = A exp(-Ea/(R T)): ln k linear in 1/T.
+    Arrhenius,
+    /// k = A T^n exp(-Ea/(R T)): ln k linear in 1, ln T, 1/T.
+    Modified,
 }
 
 /// Flags of `stoik energetics`.
@@ -173,6 +216,7 @@ fn main() -> ExitCode {
         Command::Batch(args) => batch::batch(&args),
         Command::FitThermo(args) => fit_thermo::fit_thermo(&args),
         Command::Energetics(args) => energetics::energetics(&args),
+        Command::FitRate(args) => fit_rate::fit_rate(&args),
     };
     ExitCode::from(status)
 }

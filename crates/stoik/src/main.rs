@@ -209,6 +209,14 @@ pub enum LinearAlgebraArg {
 }
 
 fn main() -> ExitCode {
+    // Piping into `head` and the like: end quietly like other command-line tools when the
+    // reader goes away, instead of panicking on the failed write (Rust ignores SIGPIPE).
+    #[cfg(unix)]
+    // SAFETY: restoring the default disposition of SIGPIPE at start-up, before any thread
+    // exists, has no preconditions.
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
+    }
     let cli = Cli::parse();
     let status = match cli.command {
         Command::Check { file, strict } => check::check(&file, strict),

@@ -44,6 +44,7 @@ fn bench_ignition(c: &mut Criterion) {
             ReactorModel {
                 constraint: Constraint::ConstantVolume,
                 energy: Energy::Adiabatic,
+                ..Default::default()
             },
         ),
         (
@@ -51,6 +52,7 @@ fn bench_ignition(c: &mut Criterion) {
             ReactorModel {
                 constraint: Constraint::ConstantPressure,
                 energy: Energy::Adiabatic,
+                ..Default::default()
             },
         ),
     ];

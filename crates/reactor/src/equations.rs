@@ -154,6 +154,10 @@ pub(crate) struct BatchEquations<M: Backend> {
     /// The Jacobian pattern of the state and the position of each kinetics entry in it.
     state_pattern: JacobianPattern,
     pattern_map: Vec<usize>,
+    /// Per species: held at a fixed concentration (box conditions).
+    fixed_mask: Vec<bool>,
+    /// Position of each diagonal entry in the state pattern.
+    diagonal_positions: Vec<usize>,
     /// Scratch for Jacobian values in state-pattern order, allocated once.
     jac_values: RefCell<Vec<f64>>,
     scratch: RefCell<ModelScratch>,
@@ -179,7 +183,18 @@ impl<M: Backend> BatchEquations<M> {
         let (state_pattern, pattern_map) = state_pattern(&kinetics, &model);
         let sparsity = M::pattern_sparsity(&state_pattern);
         let scratch = ModelScratch::new(&kinetics);
+        let mut fixed_mask = vec![false; state_pattern.n];
+        for &i in &model.conditions.fixed_species {
+            if let Some(f) = fixed_mask.get_mut(i) {
+                *f = true;
+            }
+        }
+        let diagonal_positions = (0..state_pattern.n)
+            .map(|i| state_pattern.position(i, i).unwrap_or(usize::MAX))
+            .collect();
         Self {
+            fixed_mask,
+            diagonal_positions,
             rate_constants: RefCell::new(rate_constants),
             rates_at_k: Cell::new(temperature_k),
             held_k: Cell::new(temperature_k),
@@ -247,13 +262,62 @@ impl<M: Backend> BatchEquations<M> {
     /// evaluation. No allocation.
     pub(crate) fn state_derivative(&self, t_s: f64, y: &[f64], f: &mut [f64]) {
         self.rhs_evaluations.set(self.rhs_evaluations.get() + 1);
-        let temperature_k = self.temperature_at(t_s, y);
-        self.rates_at(temperature_k);
+        let temperature_k = self.rates_for(t_s, y);
         let k = self.rate_constants.borrow();
         if self.is_plain() {
             self.kinetics.production_rates(&k, y, f);
         } else {
             self.model_equations().rhs(&k, t_s, temperature_k, y, f);
+        }
+        let n = self.kinetics.n_species();
+        self.model.conditions.apply_to_rhs(&y[..n], &mut f[..n]);
+    }
+
+    /// Makes the rate constants those at time `t_s` and state `y` (temperature, then the
+    /// photolysis rates of the box conditions); returns the temperature (K).
+    fn rates_for(&self, t_s: f64, y: &[f64]) -> f64 {
+        let temperature_k = self.temperature_at(t_s, y);
+        self.rates_at(temperature_k);
+        if !self.model.conditions.photolysis.is_empty() {
+            self.model
+                .conditions
+                .apply_photolysis(t_s, &mut self.rate_constants.borrow_mut().forward);
+        }
+        temperature_k
+    }
+
+    /// Box conditions in the Jacobian: deposition on the diagonal, zero rows for fixed
+    /// species; `dense` is the dimension of a column-major dense matrix, `None` for values
+    /// in state-pattern order.
+    fn box_jacobian(&self, values: &mut [f64], dense: Option<usize>) {
+        let conditions = &self.model.conditions;
+        if conditions.deposition.is_empty() && conditions.fixed_species.is_empty() {
+            return;
+        }
+        for &(i, d) in &conditions.deposition {
+            let pos = match dense {
+                Some(m) => i * m + i,
+                None => self.diagonal_positions[i],
+            };
+            if let Some(v) = values.get_mut(pos) {
+                *v -= d;
+            }
+        }
+        match dense {
+            Some(m) => {
+                for &i in &conditions.fixed_species {
+                    for col in 0..m {
+                        values[col * m + i] = 0.0;
+                    }
+                }
+            }
+            None => {
+                for (v, &row) in values.iter_mut().zip(&self.state_pattern.row_indices) {
+                    if self.fixed_mask[row] {
+                        *v = 0.0;
+                    }
+                }
+            }
         }
     }
 
@@ -267,7 +331,8 @@ impl<M: Backend> BatchEquations<M> {
                 let mut y = c.to_vec();
                 y.push(temperature_k);
                 let mut f = vec![0.0; y.len()];
-                let k = self.kinetics.rate_constants(temperature_k);
+                let mut k = self.kinetics.rate_constants(temperature_k);
+                self.model.conditions.apply_photolysis(t_s, &mut k.forward);
                 self.model_equations()
                     .rhs(&k, t_s, temperature_k, &y, &mut f);
                 f[c.len()]
@@ -282,8 +347,7 @@ impl<M: Backend> BatchEquations<M> {
 
     /// Writes the Jacobian at `(t_s, y)` into `values` (state-pattern order).
     fn jacobian_values(&self, t_s: f64, y: &[f64], values: &mut [f64]) {
-        let temperature_k = self.temperature_at(t_s, y);
-        self.rates_at(temperature_k);
+        let temperature_k = self.rates_for(t_s, y);
         let k = self.rate_constants.borrow();
         if self.is_plain() {
             self.kinetics.jacobian_sparse(&k, y, values);
@@ -298,6 +362,8 @@ impl<M: Backend> BatchEquations<M> {
                 values,
             );
         }
+        drop(k);
+        self.box_jacobian(values, None);
     }
 
     /// Writes the Jacobian at `(t_s, y)` into `jac`; `false` if `jac` has an unexpected shape.
@@ -309,10 +375,10 @@ impl<M: Backend> BatchEquations<M> {
             JacobianTarget::Sparse(values) => self.jacobian_values(t_s, y, values),
             JacobianTarget::Dense(data) => {
                 if self.is_plain() {
-                    let temperature_k = self.temperature_at(t_s, y);
-                    self.rates_at(temperature_k);
+                    self.rates_for(t_s, y);
                     self.kinetics
                         .jacobian_dense(&self.rate_constants.borrow(), y, data);
+                    self.box_jacobian(data, Some(self.state_pattern.n));
                 } else {
                     let mut values = self.jac_values.borrow_mut();
                     self.jacobian_values(t_s, y, &mut values);

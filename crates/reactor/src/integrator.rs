@@ -524,6 +524,18 @@ impl BatchSystem {
         options: &IntegrationOptions,
     ) -> Result<BatchSystem, ReactorError> {
         validate_options(kinetics, temperature_k, options)?;
+        let conditions = &model.conditions;
+        conditions.validate(kinetics.n_species(), kinetics.n_steps())?;
+        let needs_closed_volume = !conditions.fixed_species.is_empty()
+            || !conditions.emissions.is_empty()
+            || !conditions.deposition.is_empty();
+        if needs_closed_volume
+            && (model.constraint != Constraint::ConstantVolume || model.solves_energy())
+        {
+            return Err(ReactorError::BadBoxConditions(
+                "fixed species, emissions and deposition need constant volume without the energy balance".into(),
+            ));
+        }
         let mut used = options.linear_algebra.resolve(kinetics);
         if model.constraint == Constraint::ConstantPressure {
             used = LinearAlgebra::Dense;

@@ -36,6 +36,7 @@
 
 #![warn(missing_docs)]
 
+mod atmosphere;
 mod batch;
 mod equations;
 mod fixed_lu;
@@ -46,6 +47,7 @@ mod model;
 pub use batch::{integrate_batch, integrate_batch_serial, BatchCase, BatchError};
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
+pub use atmosphere::{BoxConditions, PhotolysisRate, SolarGeometry};
 pub use model::{Constraint, Energy, ReactorModel, TemperatureHistory};
 
 use stoik_kinetics::Kinetics;
@@ -271,6 +273,9 @@ pub enum ReactorError {
         /// Species index.
         species: usize,
     },
+    /// Box conditions are malformed or combined with a model that cannot take them.
+    #[error("bad box conditions: {0}")]
+    BadBoxConditions(String),
     /// The temperature follows a prescribed history and cannot be set.
     #[error("the temperature follows a prescribed history and cannot be set")]
     TemperaturePrescribed,

@@ -24,6 +24,7 @@
 use stoik_kinetics::{JacobianPattern, Kinetics, RateConstants};
 use stoik_thermo::Nasa7;
 
+use crate::atmosphere::BoxConditions;
 use crate::ReactorError;
 
 /// Molar gas constant R in J/(mol K).
@@ -150,13 +151,18 @@ impl TemperatureHistory {
     }
 }
 
-/// A closed batch reactor: the constraint and the temperature model.
+/// A batch reactor: the constraint, the temperature model and (optionally) box-model
+/// conditions.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct ReactorModel {
     /// Constant volume or constant pressure.
     pub constraint: Constraint,
     /// Isothermal, adiabatic or prescribed temperature.
     pub energy: Energy,
+    /// Fixed species, emissions, deposition and photolysis (empty for a closed reactor).
+    /// Fixed species, emissions and deposition need constant volume without the energy
+    /// balance; photolysis goes with any model.
+    pub conditions: BoxConditions,
 }
 
 impl ReactorModel {
@@ -510,7 +516,11 @@ mod tests {
                 Energy::Adiabatic,
                 Energy::Prescribed(history.clone()),
             ] {
-                out.push(ReactorModel { constraint, energy });
+                out.push(ReactorModel {
+                    constraint,
+                    energy,
+                    ..Default::default()
+                });
             }
         }
         out

@@ -10,7 +10,11 @@ use stoik_reactor::{
 };
 
 fn model(constraint: Constraint, energy: Energy) -> ReactorModel {
-    ReactorModel { constraint, energy }
+    ReactorModel {
+        constraint,
+        energy,
+        ..Default::default()
+    }
 }
 
 fn options(n: usize, rtol: f64, atol: f64) -> IntegrationOptions {

@@ -203,7 +203,11 @@ pub fn reactor_model(scenario: &Scenario) -> Result<ReactorModel, String> {
     } else {
         Energy::Isothermal
     };
-    Ok(ReactorModel { constraint, energy })
+    Ok(ReactorModel {
+        constraint,
+        energy,
+        ..Default::default()
+    })
 }
 
 /// The ignition criterion of a scenario: its `[ignition]` choice, or the largest dT/dt for

@@ -1,0 +1,223 @@
+//! Box-model conditions: species held at fixed concentration, constant emissions,
+//! first-order deposition, and photolysis rate coefficients prescribed as functions of time
+//! (tabulated, or following the sun).
+
+use crate::ReactorError;
+
+/// Seconds per day.
+const DAY_S: f64 = 86_400.0;
+
+/// Where and when the sun is: the geometry of [`PhotolysisRate::Diurnal`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SolarGeometry {
+    /// Latitude in degrees (north positive, -90 to 90).
+    pub latitude_deg: f64,
+    /// Day of the year at t = 0 (1 = 1 January); advances with the run.
+    pub day_of_year: f64,
+    /// Local solar time at t = 0, in s after midnight (43,200 s = solar noon).
+    pub start_solar_time_s: f64,
+}
+
+impl SolarGeometry {
+    /// Solar declination (radians) on day `day` of the year: the approximation of Cooper
+    /// (1969), delta = 23.45 deg sin(360 deg (284 + day) / 365), as given in atmospheric
+    /// chemistry textbooks (e.g. Seinfeld & Pandis, *Atmospheric Chemistry and Physics*).
+    pub fn declination_rad(day: f64) -> f64 {
+        (23.45f64).to_radians() * (2.0 * std::f64::consts::PI * (284.0 + day) / 365.0).sin()
+    }
+
+    /// Cosine of the solar zenith angle at run time `t_s` (s): cos(chi) = sin(phi) sin(delta)
+    /// + cos(phi) cos(delta) cos(h), with latitude phi, declination delta and hour angle
+    /// h = 15 deg per hour from solar noon (spherical astronomy; e.g. Seinfeld & Pandis,
+    /// section on solar zenith angle). Negative at night.
+    pub fn cos_zenith(&self, t_s: f64) -> f64 {
+        let clock = self.start_solar_time_s + t_s;
+        let day = self.day_of_year + (clock / DAY_S).floor();
+        let time_of_day = clock.rem_euclid(DAY_S);
+        let hour_angle = 2.0 * std::f64::consts::PI * (time_of_day - 0.5 * DAY_S) / DAY_S;
+        let phi = self.latitude_deg.to_radians();
+        let delta = Self::declination_rad(day);
+        phi.sin() * delta.sin() + phi.cos() * delta.cos() * hour_angle.cos()
+    }
+}
+
+/// A photolysis rate coefficient J(t) (1/s) that replaces a step's forward rate constant.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PhotolysisRate {
+    /// J linear between tabulated points (run time in s, J in 1/s), held at the first value
+    /// before the first time and at the last after the last.
+    Table {
+        /// Times (s), strictly increasing.
+        times_s: Vec<f64>,
+        /// J (1/s) at those times, >= 0.
+        rates_per_s: Vec<f64>,
+    },
+    /// J = scale cos(chi)^cos_power exp(-sec_factor / cos(chi)) while the sun is up
+    /// (cos(chi) > 0), 0 at night: the zenith-angle parameterization of Jenkin et al. (1997),
+    /// Atmos. Environ. 31, 81, and Saunders et al. (2003), Atmos. Chem. Phys. 3, 161.
+    Diurnal {
+        /// Scale factor (1/s).
+        scale_per_s: f64,
+        /// Exponent of cos(chi) (dimensionless).
+        cos_power: f64,
+        /// Factor of sec(chi) in the exponential (dimensionless).
+        sec_factor: f64,
+        /// The sun's geometry.
+        sun: SolarGeometry,
+    },
+}
+
+impl PhotolysisRate {
+    /// J (1/s) at run time `t_s` (s).
+    pub fn rate_at(&self, t_s: f64) -> f64 {
+        match self {
+            PhotolysisRate::Table {
+                times_s,
+                rates_per_s,
+            } => {
+                let (Some(&first), Some(&last)) = (times_s.first(), times_s.last()) else {
+                    return 0.0;
+                };
+                if t_s <= first {
+                    return rates_per_s[0];
+                }
+                if t_s >= last {
+                    return rates_per_s[rates_per_s.len() - 1];
+                }
+                let i = times_s.partition_point(|&x| x <= t_s) - 1;
+                let f = (t_s - times_s[i]) / (times_s[i + 1] - times_s[i]);
+                rates_per_s[i] + f * (rates_per_s[i + 1] - rates_per_s[i])
+            }
+            PhotolysisRate::Diurnal {
+                scale_per_s,
+                cos_power,
+                sec_factor,
+                sun,
+            } => {
+                let mu = sun.cos_zenith(t_s);
+                if mu <= 0.0 {
+                    0.0
+                } else {
+                    scale_per_s * mu.powf(*cos_power) * (-sec_factor / mu).exp()
+                }
+            }
+        }
+    }
+
+    fn validate(&self) -> Result<(), String> {
+        match self {
+            PhotolysisRate::Table {
+                times_s,
+                rates_per_s,
+            } => {
+                if times_s.is_empty() || times_s.len() != rates_per_s.len() {
+                    return Err(format!(
+                        "a photolysis table needs as many rates as times (at least one), got {} and {}",
+                        times_s.len(),
+                        rates_per_s.len()
+                    ));
+                }
+                if times_s
+                    .windows(2)
+                    .any(|w| !(w[1] > w[0]) || !w[0].is_finite() || !w[1].is_finite())
+                {
+                    return Err("photolysis table times must be finite and increasing".into());
+                }
+                if rates_per_s.iter().any(|r| !(r.is_finite() && *r >= 0.0)) {
+                    return Err("photolysis rates must be finite and >= 0".into());
+                }
+                Ok(())
+            }
+            PhotolysisRate::Diurnal {
+                scale_per_s,
+                cos_power,
+                sec_factor,
+                sun,
+            } => {
+                let ok = scale_per_s.is_finite()
+                    && *scale_per_s >= 0.0
+                    && cos_power.is_finite()
+                    && sec_factor.is_finite()
+                    && sun.latitude_deg.abs() <= 90.0
+                    && sun.day_of_year.is_finite()
+                    && sun.start_solar_time_s.is_finite();
+                if ok {
+                    Ok(())
+                } else {
+                    Err("diurnal photolysis needs a finite scale >= 0, finite exponents, a latitude within +-90 deg and finite day and start time".into())
+                }
+            }
+        }
+    }
+}
+
+/// Box-model conditions of a constant-volume reactor. Empty by default.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct BoxConditions {
+    /// Species (indices) held at their initial concentration: they enter the rates but their
+    /// concentration does not change (dc/dt = 0).
+    pub fixed_species: Vec<usize>,
+    /// Constant emissions as (species, rate in mol/(m3 s)), added to dc/dt.
+    pub emissions: Vec<(usize, f64)>,
+    /// First-order losses as (species, rate constant in 1/s): dc/dt -= k c.
+    pub deposition: Vec<(usize, f64)>,
+    /// Steps (indices) whose forward rate constant is the photolysis rate J(t) (1/s) instead
+    /// of their Arrhenius expression; the steps must be irreversible and first order.
+    pub photolysis: Vec<(usize, PhotolysisRate)>,
+}
+
+impl BoxConditions {
+    /// Whether there is nothing to apply.
+    pub fn is_empty(&self) -> bool {
+        self.fixed_species.is_empty()
+            && self.emissions.is_empty()
+            && self.deposition.is_empty()
+            && self.photolysis.is_empty()
+    }
+
+    /// Checks indices (against `n_species` and `n_steps`) and values.
+    pub(crate) fn validate(&self, n_species: usize, n_steps: usize) -> Result<(), ReactorError> {
+        let bad = |m: String| Err(ReactorError::BadBoxConditions(m));
+        if let Some(&i) = self.fixed_species.iter().find(|&&i| i >= n_species) {
+            return bad(format!("fixed species index {i} is out of range"));
+        }
+        for &(i, e) in &self.emissions {
+            if i >= n_species || !e.is_finite() {
+                return bad(format!("emission ({i}, {e} mol/(m3 s)) is invalid"));
+            }
+        }
+        for &(i, d) in &self.deposition {
+            if i >= n_species || !(d.is_finite() && d >= 0.0) {
+                return bad(format!("deposition ({i}, {d} 1/s) is invalid"));
+            }
+        }
+        for (j, rate) in &self.photolysis {
+            if *j >= n_steps {
+                return bad(format!("photolysis step index {j} is out of range"));
+            }
+            rate.validate().or_else(bad)?;
+        }
+        Ok(())
+    }
+
+    /// Overwrites the forward rate constants of the photolysis steps with J(`t_s`).
+    pub(crate) fn apply_photolysis(&self, t_s: f64, forward: &mut [f64]) {
+        for (j, rate) in &self.photolysis {
+            forward[*j] = rate.rate_at(t_s);
+        }
+    }
+
+    /// Adds emissions and deposition to `f` (mol/(m3 s)) at concentrations `c` and zeroes
+    /// the derivative of fixed species.
+    pub(crate) fn apply_to_rhs(&self, c: &[f64], f: &mut [f64]) {
+        for &(i, e) in &self.emissions {
+            f[i] += e;
+        }
+        for &(i, d) in &self.deposition {
+            f[i] -= d * c[i];
+        }
+        for &i in &self.fixed_species {
+            f[i] = 0.0;
+        }
+    }
+}

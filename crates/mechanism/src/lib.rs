@@ -15,6 +15,7 @@ pub mod equation;
 pub mod mechanism_file;
 pub mod model;
 pub mod scenario;
+pub mod scenario_box;
 pub mod suggest;
 pub mod thermo_file;
 mod toml_walk;
@@ -29,6 +30,7 @@ pub use scenario::{
     load_scenario, parse_scenario, IgnitionChoice, LinearAlgebraChoice, OutputTimes, ReactorKind,
     ResolvedScenario, Scenario,
 };
+pub use scenario_box::{PhotolysisForm, ResolvedBox, Sun};
 pub use suggest::nearest_name;
 pub use thermo_file::{load_thermo, parse_thermo, ThermoEntry, ThermoFile};
 pub use units::ConcentrationUnit;

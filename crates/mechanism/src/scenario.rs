@@ -5,6 +5,7 @@
 //! [`Scenario::resolve`] then matches species names against a loaded [`Mechanism`] and turns
 //! the initial state, tolerances and output grid into per-species SI vectors.
 
+use crate::scenario_box::{read_box, BoxSpec, ResolvedBox};
 use crate::suggest::nearest_name;
 use crate::toml_walk::{parse_document, positive_finite_problem, show_number, Report, Value};
 use crate::units::{
@@ -167,11 +168,11 @@ impl LinearAlgebraChoice {
 
 /// A species-name-keyed value from the file, kept with its location for later resolution.
 #[derive(Debug, Clone, PartialEq)]
-struct NamedValue {
-    name: String,
+pub(crate) struct NamedValue {
+    pub(crate) name: String,
     /// mol/m3 for concentrations and tolerances; dimensionless for mole fractions.
-    value: f64,
-    location: SourceLocation,
+    pub(crate) value: f64,
+    pub(crate) location: SourceLocation,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -220,6 +221,7 @@ pub struct Scenario {
     initial: InitialState,
     tolerance_overrides: Vec<NamedValue>,
     ignition_species: Option<NamedValue>,
+    box_spec: BoxSpec,
     file: String,
 }
 
@@ -234,6 +236,8 @@ pub struct ResolvedScenario {
     pub output_times_s: Vec<f64>,
     /// Mechanism index of the `[ignition]` species (criterion `species-peak`).
     pub ignition_species: Option<usize>,
+    /// Box-model conditions (`[box]`, `[sun]`, `[[photolysis]]`), empty when not given.
+    pub box_conditions: ResolvedBox,
 }
 
 /// Reads and parses the scenario file at `path`; the mechanism path is resolved against the
@@ -278,6 +282,9 @@ const TOP_KEYS: &[&str] = &[
     "output",
     "solver",
     "ignition",
+    "box",
+    "sun",
+    "photolysis",
 ];
 const REACTOR_KEYS: &[&str] = &["kind", "temperature", "pressure", "temperature_history"];
 const HISTORY_KEYS: &[&str] = &["times", "temperatures"];
@@ -301,7 +308,7 @@ fn concentration_to_si(value: f64, unit: &str) -> Option<f64> {
 }
 
 /// Reads a quantity: a number in `default_unit` or a string "VALUE UNIT".
-fn quantity(
+pub(crate) fn quantity(
     r: &mut Report<'_>,
     key: &str,
     value: &Value<'_>,
@@ -374,7 +381,7 @@ fn concentration_unit(
 }
 
 /// Reads a table of species name -> value, converting each value with `read`.
-fn named_values(
+pub(crate) fn named_values(
     r: &mut Report<'_>,
     table: &DeTable<'_>,
     mut read: impl FnMut(&mut Report<'_>, &str, &Value<'_>) -> Option<f64>,
@@ -825,6 +832,7 @@ fn read_scenario(
             None => None,
         };
     }
+    let box_spec = read_box(r, root);
     if !history_ok {
         return None;
     }
@@ -837,6 +845,7 @@ fn read_scenario(
         temperature_history: history,
         ignition: ignition?,
         ignition_species,
+        box_spec: box_spec?,
         pressure_pa: if pressure_given {
             Some(pressure_pa?)
         } else {
@@ -1239,6 +1248,9 @@ impl Scenario {
             .ignition_species
             .as_ref()
             .and_then(|named| lookup(named, "[ignition] species", &mut diagnostics));
+        let box_conditions = self
+            .box_spec
+            .resolve(mechanism, &self.file, &mut diagnostics);
         let output_times_s = match self.output_times_s() {
             Ok(t) => t,
             Err(message) => {
@@ -1252,6 +1264,7 @@ impl Scenario {
                 absolute_tolerances_mol_per_m3: tolerances,
                 output_times_s,
                 ignition_species,
+                box_conditions,
             })
         } else {
             diagnostics.sort_by_key(|d| d.location.map(|l| (l.line, l.column)).unwrap_or((0, 0)));

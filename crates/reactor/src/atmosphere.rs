@@ -26,9 +26,9 @@ impl SolarGeometry {
         (23.45f64).to_radians() * (2.0 * std::f64::consts::PI * (284.0 + day) / 365.0).sin()
     }
 
-    /// Cosine of the solar zenith angle at run time `t_s` (s): cos(chi) = sin(phi) sin(delta)
-    /// + cos(phi) cos(delta) cos(h), with latitude phi, declination delta and hour angle
-    /// h = 15 deg per hour from solar noon (spherical astronomy; e.g. Seinfeld & Pandis,
+    /// Cosine of the solar zenith angle at run time `t_s` (s):
+    /// cos(chi) = sin(phi) sin(delta) + cos(phi) cos(delta) cos(h), with latitude phi,
+    /// declination delta and hour angle h = 15 deg per hour from solar noon (spherical astronomy; e.g. Seinfeld & Pandis,
     /// section on solar zenith angle). Negative at night.
     pub fn cos_zenith(&self, t_s: f64) -> f64 {
         let clock = self.start_solar_time_s + t_s;
@@ -117,10 +117,11 @@ impl PhotolysisRate {
                         rates_per_s.len()
                     ));
                 }
-                if times_s
-                    .windows(2)
-                    .any(|w| !(w[1] > w[0]) || !w[0].is_finite() || !w[1].is_finite())
-                {
+                if times_s.windows(2).any(|w| {
+                    w[1].partial_cmp(&w[0]) != Some(std::cmp::Ordering::Greater)
+                        || !w[0].is_finite()
+                        || !w[1].is_finite()
+                }) {
                     return Err("photolysis table times must be finite and increasing".into());
                 }
                 if rates_per_s.iter().any(|r| !(r.is_finite() && *r >= 0.0)) {

@@ -44,10 +44,10 @@ mod ignition;
 mod integrator;
 mod model;
 
+pub use atmosphere::{BoxConditions, PhotolysisRate, SolarGeometry};
 pub use batch::{integrate_batch, integrate_batch_serial, BatchCase, BatchError};
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
-pub use atmosphere::{BoxConditions, PhotolysisRate, SolarGeometry};
 pub use model::{Constraint, Energy, ReactorModel, TemperatureHistory};
 
 use stoik_kinetics::Kinetics;

@@ -83,7 +83,7 @@ pub fn batch(args: &BatchArgs) -> u8 {
                 Some(t) => format!("{}-{t}K.csv", scenario_stem(path)),
                 None => format!("{}.csv", scenario_stem(path)),
             };
-            let model = match reactor_model(&scenario) {
+            let model = match reactor_model(&scenario, &resolved) {
                 Ok(m) => m,
                 Err(e) => {
                     eprintln!("{}: error: {e}", path.display());

@@ -12,9 +12,11 @@ use stoik::mechanism::{
     load_mechanism, load_scenario, IgnitionChoice, LinearAlgebraChoice, Mechanism, ReactorKind,
     Scenario,
 };
+use stoik::mechanism::{PhotolysisForm, ResolvedScenario};
 use stoik::reactor::{
-    self, ignition_delay, Constraint, Energy, IgnitionCriterion, IgnitionDelay, IntegrationOptions,
-    LinearAlgebra, Profiles, ReactorModel, TemperatureHistory,
+    self, ignition_delay, BoxConditions, Constraint, Energy, IgnitionCriterion, IgnitionDelay,
+    IntegrationOptions, LinearAlgebra, PhotolysisRate, Profiles, ReactorModel, SolarGeometry,
+    TemperatureHistory,
 };
 
 /// Temperature rise (K) above which an adiabatic run counts as an ignition or runaway for
@@ -116,7 +118,7 @@ pub fn run(args: &RunArgs) -> u8 {
 
     let kinetics = Kinetics::compile(mechanism);
     let options = integration_options(&scenario, absolute, !args.allow_negative);
-    let model = match reactor_model(&scenario) {
+    let model = match reactor_model(&scenario, &resolved) {
         Ok(m) => m,
         Err(e) => return bad_flag(&e),
     };
@@ -187,7 +189,10 @@ pub fn run(args: &RunArgs) -> u8 {
 }
 
 /// The reactor model of a scenario.
-pub fn reactor_model(scenario: &Scenario) -> Result<ReactorModel, String> {
+pub fn reactor_model(
+    scenario: &Scenario,
+    resolved: &ResolvedScenario,
+) -> Result<ReactorModel, String> {
     let kind = scenario.reactor;
     let constraint = if kind.constant_pressure() {
         Constraint::ConstantPressure
@@ -203,10 +208,44 @@ pub fn reactor_model(scenario: &Scenario) -> Result<ReactorModel, String> {
     } else {
         Energy::Isothermal
     };
+    let b = &resolved.box_conditions;
+    let sun = b.sun.map(|s| SolarGeometry {
+        latitude_deg: s.latitude_deg,
+        day_of_year: s.day_of_year,
+        start_solar_time_s: s.start_solar_time_s,
+    });
+    let mut photolysis = Vec::with_capacity(b.photolysis.len());
+    for (step, form) in &b.photolysis {
+        let rate = match form {
+            PhotolysisForm::Table {
+                times_s,
+                rates_per_s,
+            } => PhotolysisRate::Table {
+                times_s: times_s.clone(),
+                rates_per_s: rates_per_s.clone(),
+            },
+            PhotolysisForm::Diurnal {
+                scale_per_s,
+                cos_power,
+                sec_factor,
+            } => PhotolysisRate::Diurnal {
+                scale_per_s: *scale_per_s,
+                cos_power: *cos_power,
+                sec_factor: *sec_factor,
+                sun: sun.ok_or("a diurnal photolysis rate needs a [sun] section")?,
+            },
+        };
+        photolysis.push((*step, rate));
+    }
     Ok(ReactorModel {
         constraint,
         energy,
-        ..Default::default()
+        conditions: BoxConditions {
+            fixed_species: b.fixed_species.clone(),
+            emissions: b.emissions_mol_per_m3_s.clone(),
+            deposition: b.deposition_per_s.clone(),
+            photolysis,
+        },
     })
 }
 

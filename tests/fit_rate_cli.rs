@@ -3,29 +3,12 @@
 // Reference values are quoted with every digit their source publishes.
 #![allow(clippy::excessive_precision)]
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+mod common;
 
-fn stoik(args: &[&str], dir: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stoik"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("the stoik binary starts")
-}
+use common::{repo, stoik, text};
 
-fn repo() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-}
-
-fn scratch(name: &str) -> PathBuf {
-    let dir = std::env::temp_dir().join(format!("stoik-fit-rate-{}-{name}", std::process::id()));
-    std::fs::create_dir_all(&dir).expect("scratch folder");
-    dir
-}
-
-fn text(bytes: &[u8]) -> String {
-    String::from_utf8_lossy(bytes).into_owned()
+fn scratch(name: &str) -> std::path::PathBuf {
+    common::scratch("fit-rate", name)
 }
 
 /// The first number after `label` at the start of a line of `report`.

@@ -166,6 +166,58 @@ impl LinearAlgebraChoice {
     }
 }
 
+/// Species names of a mechanism, for resolving the names a scenario uses.
+pub(crate) struct SpeciesLookup<'m> {
+    index: HashMap<&'m str, usize>,
+    mechanism: &'m Mechanism,
+    file: &'m str,
+}
+
+impl<'m> SpeciesLookup<'m> {
+    pub(crate) fn new(mechanism: &'m Mechanism, file: &'m str) -> Self {
+        let index = mechanism
+            .species
+            .iter()
+            .enumerate()
+            .map(|(i, s)| (s.name.as_str(), i))
+            .collect();
+        SpeciesLookup {
+            index,
+            mechanism,
+            file,
+        }
+    }
+
+    /// The index of `named`'s species, or an error (located, with the nearest species name)
+    /// pushed to `diagnostics`; `what` names the place in the scenario.
+    pub(crate) fn find(
+        &self,
+        named: &NamedValue,
+        what: &str,
+        diagnostics: &mut Vec<Diagnostic>,
+    ) -> Option<usize> {
+        let found = self.index.get(named.name.as_str()).copied();
+        if found.is_none() {
+            let mut d = Diagnostic::error(
+                self.file,
+                Some(named.location),
+                format!(
+                    "unknown species `{}` in {what}: the mechanism does not declare it",
+                    named.name
+                ),
+            );
+            if let Some(near) = nearest_name(
+                &named.name,
+                self.mechanism.species.iter().map(|s| s.name.as_str()),
+            ) {
+                d = d.with_help(format!("did you mean `{near}`?"));
+            }
+            diagnostics.push(d);
+        }
+        found
+    }
+}
+
 /// A species-name-keyed value from the file, kept with its location for later resolution.
 #[derive(Debug, Clone, PartialEq)]
 pub(crate) struct NamedValue {
@@ -1154,34 +1206,11 @@ impl Scenario {
     /// mechanism species name.
     pub fn resolve(&self, mechanism: &Mechanism) -> Result<ResolvedScenario, LoadError> {
         let mut diagnostics = Vec::new();
-        let index: HashMap<&str, usize> = mechanism
-            .species
-            .iter()
-            .enumerate()
-            .map(|(i, s)| (s.name.as_str(), i))
-            .collect();
-        let n = mechanism.species.len();
+        let species = SpeciesLookup::new(mechanism, &self.file);
         let lookup = |named: &NamedValue, what: &str, diagnostics: &mut Vec<Diagnostic>| {
-            let found = index.get(named.name.as_str()).copied();
-            if found.is_none() {
-                let mut d = Diagnostic::error(
-                    &self.file,
-                    Some(named.location),
-                    format!(
-                        "unknown species `{}` in {what}: the mechanism does not declare it",
-                        named.name
-                    ),
-                );
-                if let Some(near) = nearest_name(
-                    &named.name,
-                    mechanism.species.iter().map(|s| s.name.as_str()),
-                ) {
-                    d = d.with_help(format!("did you mean `{near}`?"));
-                }
-                diagnostics.push(d);
-            }
-            found
+            species.find(named, what, diagnostics)
         };
+        let n = mechanism.species.len();
 
         let mut initial = vec![0.0; n];
         let temperature_ok = positive_finite_problem(self.temperature_k).is_none();
@@ -1248,9 +1277,9 @@ impl Scenario {
             .ignition_species
             .as_ref()
             .and_then(|named| lookup(named, "[ignition] species", &mut diagnostics));
-        let box_conditions = self
-            .box_spec
-            .resolve(mechanism, &self.file, &mut diagnostics);
+        let box_conditions =
+            self.box_spec
+                .resolve(mechanism, &species, &self.file, &mut diagnostics);
         let output_times_s = match self.output_times_s() {
             Ok(t) => t,
             Err(message) => {

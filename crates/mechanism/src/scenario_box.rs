@@ -2,14 +2,12 @@
 //! `[sun]` (where and when) and `[[photolysis]]` (steps whose rate coefficient is a
 //! photolysis rate J(t)).
 
-use std::collections::HashMap;
-
 use toml::de::{DeTable, DeValue};
 use toml::Spanned;
 
 use crate::diagnostics::Diagnostic;
 use crate::model::Mechanism;
-use crate::scenario::{named_values, quantity, NamedValue};
+use crate::scenario::{named_values, quantity, NamedValue, SpeciesLookup};
 use crate::suggest::nearest_name;
 use crate::toml_walk::{show_number, Report};
 use crate::units::{time_to_s, ConcentrationUnit};
@@ -384,36 +382,12 @@ impl BoxSpec {
     pub(crate) fn resolve(
         &self,
         mechanism: &Mechanism,
+        species: &SpeciesLookup<'_>,
         file: &str,
         diagnostics: &mut Vec<Diagnostic>,
     ) -> ResolvedBox {
-        let index: HashMap<&str, usize> = mechanism
-            .species
-            .iter()
-            .enumerate()
-            .map(|(i, s)| (s.name.as_str(), i))
-            .collect();
-        let mut lookup = |named: &NamedValue, what: &str| -> Option<usize> {
-            let found = index.get(named.name.as_str()).copied();
-            if found.is_none() {
-                let mut d = Diagnostic::error(
-                    file,
-                    Some(named.location),
-                    format!(
-                        "unknown species `{}` in {what}: the mechanism does not declare it",
-                        named.name
-                    ),
-                );
-                if let Some(near) = nearest_name(
-                    &named.name,
-                    mechanism.species.iter().map(|s| s.name.as_str()),
-                ) {
-                    d = d.with_help(format!("did you mean `{near}`?"));
-                }
-                diagnostics.push(d);
-            }
-            found
-        };
+        let mut lookup =
+            |named: &NamedValue, what: &str| species.find(named, what, &mut *diagnostics);
         let mut out = ResolvedBox {
             sun: self.sun,
             ..Default::default()

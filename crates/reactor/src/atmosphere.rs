@@ -3,75 +3,51 @@
 //! (tabulated, or following the sun).
 
 use crate::ReactorError;
+pub use stoik_mechanism::{PhotolysisForm, Sun};
 
 /// Seconds per day.
 const DAY_S: f64 = 86_400.0;
 
-/// Where and when the sun is: the geometry of [`PhotolysisRate::Diurnal`].
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct SolarGeometry {
-    /// Latitude in degrees (north positive, -90 to 90).
-    pub latitude_deg: f64,
-    /// Day of the year at t = 0 (1 = 1 January); advances with the run.
-    pub day_of_year: f64,
-    /// Local solar time at t = 0, in s after midnight (43,200 s = solar noon).
-    pub start_solar_time_s: f64,
+/// Solar declination (radians) on day `day` of the year: the approximation of Cooper (1969),
+/// delta = 23.45 deg sin(360 deg (284 + day) / 365), as given in atmospheric chemistry
+/// textbooks (e.g. Seinfeld & Pandis, *Atmospheric Chemistry and Physics*).
+pub fn solar_declination_rad(day: f64) -> f64 {
+    (23.45f64).to_radians() * (2.0 * std::f64::consts::PI * (284.0 + day) / 365.0).sin()
 }
 
-impl SolarGeometry {
-    /// Solar declination (radians) on day `day` of the year: the approximation of Cooper
-    /// (1969), delta = 23.45 deg sin(360 deg (284 + day) / 365), as given in atmospheric
-    /// chemistry textbooks (e.g. Seinfeld & Pandis, *Atmospheric Chemistry and Physics*).
-    pub fn declination_rad(day: f64) -> f64 {
-        (23.45f64).to_radians() * (2.0 * std::f64::consts::PI * (284.0 + day) / 365.0).sin()
-    }
-
-    /// Cosine of the solar zenith angle at run time `t_s` (s):
-    /// cos(chi) = sin(phi) sin(delta) + cos(phi) cos(delta) cos(h), with latitude phi,
-    /// declination delta and hour angle h = 15 deg per hour from solar noon (spherical astronomy; e.g. Seinfeld & Pandis,
-    /// section on solar zenith angle). Negative at night.
-    pub fn cos_zenith(&self, t_s: f64) -> f64 {
-        let clock = self.start_solar_time_s + t_s;
-        let day = self.day_of_year + (clock / DAY_S).floor();
-        let time_of_day = clock.rem_euclid(DAY_S);
-        let hour_angle = 2.0 * std::f64::consts::PI * (time_of_day - 0.5 * DAY_S) / DAY_S;
-        let phi = self.latitude_deg.to_radians();
-        let delta = Self::declination_rad(day);
-        phi.sin() * delta.sin() + phi.cos() * delta.cos() * hour_angle.cos()
-    }
+/// Cosine of the solar zenith angle for `sun` at run time `t_s` (s):
+/// cos(chi) = sin(phi) sin(delta) + cos(phi) cos(delta) cos(h), with latitude phi,
+/// declination delta ([`solar_declination_rad`] of the day reached) and hour angle h = 15 deg
+/// per hour from local solar noon (spherical astronomy; e.g. Seinfeld & Pandis). Negative at
+/// night.
+pub fn cos_solar_zenith(sun: &Sun, t_s: f64) -> f64 {
+    let clock = sun.start_solar_time_s + t_s;
+    let day = sun.day_of_year + (clock / DAY_S).floor();
+    let time_of_day = clock.rem_euclid(DAY_S);
+    let hour_angle = 2.0 * std::f64::consts::PI * (time_of_day - 0.5 * DAY_S) / DAY_S;
+    let phi = sun.latitude_deg.to_radians();
+    let delta = solar_declination_rad(day);
+    phi.sin() * delta.sin() + phi.cos() * delta.cos() * hour_angle.cos()
 }
 
-/// A photolysis rate coefficient J(t) (1/s) that replaces a step's forward rate constant.
+/// A photolysis rate coefficient J(t) (1/s) that replaces a step's forward rate constant:
+/// the scenario's form ([`PhotolysisForm`]: a table in run time, or the zenith-angle form
+/// J = scale cos(chi)^cos_power exp(-sec_factor / cos(chi)) of Jenkin et al. (1997),
+/// Atmos. Environ. 31, 81, and Saunders et al. (2003), Atmos. Chem. Phys. 3, 161, zero at
+/// night) with the sun it needs.
 #[derive(Debug, Clone, PartialEq)]
-pub enum PhotolysisRate {
-    /// J linear between tabulated points (run time in s, J in 1/s), held at the first value
-    /// before the first time and at the last after the last.
-    Table {
-        /// Times (s), strictly increasing.
-        times_s: Vec<f64>,
-        /// J (1/s) at those times, >= 0.
-        rates_per_s: Vec<f64>,
-    },
-    /// J = scale cos(chi)^cos_power exp(-sec_factor / cos(chi)) while the sun is up
-    /// (cos(chi) > 0), 0 at night: the zenith-angle parameterization of Jenkin et al. (1997),
-    /// Atmos. Environ. 31, 81, and Saunders et al. (2003), Atmos. Chem. Phys. 3, 161.
-    Diurnal {
-        /// Scale factor (1/s).
-        scale_per_s: f64,
-        /// Exponent of cos(chi) (dimensionless).
-        cos_power: f64,
-        /// Factor of sec(chi) in the exponential (dimensionless).
-        sec_factor: f64,
-        /// The sun's geometry.
-        sun: SolarGeometry,
-    },
+pub struct PhotolysisRate {
+    /// Table or zenith-angle form.
+    pub form: PhotolysisForm,
+    /// Where and when the sun is (needed by the zenith-angle form).
+    pub sun: Option<Sun>,
 }
 
 impl PhotolysisRate {
-    /// J (1/s) at run time `t_s` (s).
+    /// J (1/s) at run time `t_s` (s); 0 for a zenith-angle form without a sun.
     pub fn rate_at(&self, t_s: f64) -> f64 {
-        match self {
-            PhotolysisRate::Table {
+        match &self.form {
+            PhotolysisForm::Table {
                 times_s,
                 rates_per_s,
             } => {
@@ -88,13 +64,15 @@ impl PhotolysisRate {
                 let f = (t_s - times_s[i]) / (times_s[i + 1] - times_s[i]);
                 rates_per_s[i] + f * (rates_per_s[i + 1] - rates_per_s[i])
             }
-            PhotolysisRate::Diurnal {
+            PhotolysisForm::Diurnal {
                 scale_per_s,
                 cos_power,
                 sec_factor,
-                sun,
             } => {
-                let mu = sun.cos_zenith(t_s);
+                let Some(sun) = &self.sun else {
+                    return 0.0;
+                };
+                let mu = cos_solar_zenith(sun, t_s);
                 if mu <= 0.0 {
                     0.0
                 } else {
@@ -105,8 +83,8 @@ impl PhotolysisRate {
     }
 
     fn validate(&self) -> Result<(), String> {
-        match self {
-            PhotolysisRate::Table {
+        match &self.form {
+            PhotolysisForm::Table {
                 times_s,
                 rates_per_s,
             } => {
@@ -117,11 +95,9 @@ impl PhotolysisRate {
                         rates_per_s.len()
                     ));
                 }
-                if times_s.windows(2).any(|w| {
-                    w[1].partial_cmp(&w[0]) != Some(std::cmp::Ordering::Greater)
-                        || !w[0].is_finite()
-                        || !w[1].is_finite()
-                }) {
+                let increasing = times_s.iter().all(|t| t.is_finite())
+                    && times_s.windows(2).all(|w| w[1] > w[0]);
+                if !increasing {
                     return Err("photolysis table times must be finite and increasing".into());
                 }
                 if rates_per_s.iter().any(|r| !(r.is_finite() && *r >= 0.0)) {
@@ -129,23 +105,25 @@ impl PhotolysisRate {
                 }
                 Ok(())
             }
-            PhotolysisRate::Diurnal {
+            PhotolysisForm::Diurnal {
                 scale_per_s,
                 cos_power,
                 sec_factor,
-                sun,
             } => {
-                let ok = scale_per_s.is_finite()
+                let sun_ok = self.sun.is_some_and(|s| {
+                    s.latitude_deg.abs() <= 90.0
+                        && s.day_of_year.is_finite()
+                        && s.start_solar_time_s.is_finite()
+                });
+                if sun_ok
+                    && scale_per_s.is_finite()
                     && *scale_per_s >= 0.0
                     && cos_power.is_finite()
                     && sec_factor.is_finite()
-                    && sun.latitude_deg.abs() <= 90.0
-                    && sun.day_of_year.is_finite()
-                    && sun.start_solar_time_s.is_finite();
-                if ok {
+                {
                     Ok(())
                 } else {
-                    Err("diurnal photolysis needs a finite scale >= 0, finite exponents, a latitude within +-90 deg and finite day and start time".into())
+                    Err("zenith-angle photolysis needs a sun (latitude within +-90 deg, finite day and start time), a finite scale >= 0 and finite exponents".into())
                 }
             }
         }

@@ -44,7 +44,9 @@ mod ignition;
 mod integrator;
 mod model;
 
-pub use atmosphere::{BoxConditions, PhotolysisRate, SolarGeometry};
+pub use atmosphere::{
+    cos_solar_zenith, solar_declination_rad, BoxConditions, PhotolysisForm, PhotolysisRate, Sun,
+};
 pub use batch::{integrate_batch, integrate_batch_serial, BatchCase, BatchError};
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};

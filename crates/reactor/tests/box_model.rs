@@ -5,8 +5,8 @@ use std::path::Path;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::{load_mechanism, parse_mechanism, Mechanism};
 use stoik_reactor::{
-    simulate, BoxConditions, IntegrationOptions, PhotolysisRate, Profiles, ReactorModel,
-    SolarGeometry,
+    cos_solar_zenith, simulate, solar_declination_rad, BoxConditions, IntegrationOptions,
+    PhotolysisForm, PhotolysisRate, Profiles, ReactorModel, Sun,
 };
 
 fn mechanism(text: &str) -> Mechanism {
@@ -85,9 +85,12 @@ fn tabulated_photolysis_rate_is_interpolated_linearly() {
     let conditions = BoxConditions {
         photolysis: vec![(
             0,
-            PhotolysisRate::Table {
-                times_s: vec![0.0, t1],
-                rates_per_s: vec![0.0, j1],
+            PhotolysisRate {
+                form: PhotolysisForm::Table {
+                    times_s: vec![0.0, t1],
+                    rates_per_s: vec![0.0, j1],
+                },
+                sun: None,
             },
         )],
         ..Default::default()
@@ -111,28 +114,30 @@ fn tabulated_photolysis_rate_is_interpolated_linearly() {
 /// is 23.45 deg sin(360 deg 456/365) = 23.45 deg (Cooper 1969 approximation).
 #[test]
 fn solar_zenith_angle_and_diurnal_photolysis() {
-    let sun = SolarGeometry {
+    let sun = Sun {
         latitude_deg: 48.0,
         day_of_year: 172.0,
         start_solar_time_s: 0.0,
     };
-    let delta = SolarGeometry::declination_rad(172.0);
+    let delta = solar_declination_rad(172.0);
     assert!(
         (delta.to_degrees() - 23.45 * (2.0 * std::f64::consts::PI * 456.0 / 365.0).sin()).abs()
             < 1e-12
     );
     let phi = 48f64.to_radians();
-    assert!((sun.cos_zenith(12.0 * 3600.0) - (phi - delta).cos()).abs() < 1e-12);
-    assert!((sun.cos_zenith(0.0) + (phi + delta).cos()).abs() < 1e-12);
+    assert!((cos_solar_zenith(&sun, 12.0 * 3600.0) - (phi - delta).cos()).abs() < 1e-12);
+    assert!((cos_solar_zenith(&sun, 0.0) + (phi + delta).cos()).abs() < 1e-12);
     let h0 = (-phi.tan() * delta.tan()).acos();
     let sunrise_s = 12.0 * 3600.0 - h0 / (2.0 * std::f64::consts::PI) * 86_400.0;
-    assert!(sun.cos_zenith(sunrise_s).abs() < 1e-12);
+    assert!(cos_solar_zenith(&sun, sunrise_s).abs() < 1e-12);
     // J = scale mu^m exp(-n / mu) by day, 0 by night.
-    let rate = PhotolysisRate::Diurnal {
-        scale_per_s: 1e-2,
-        cos_power: 0.25,
-        sec_factor: 0.3,
-        sun,
+    let rate = PhotolysisRate {
+        form: PhotolysisForm::Diurnal {
+            scale_per_s: 1e-2,
+            cos_power: 0.25,
+            sec_factor: 0.3,
+        },
+        sun: Some(sun),
     };
     let mu = (phi - delta).cos();
     let noon = 1e-2 * mu.powf(0.25) * (-0.3 / mu).exp();
@@ -172,7 +177,7 @@ fn elements_not_carried_by_fixed_species_are_conserved() {
     ] {
         c0[index(name)] = x * per_cm3;
     }
-    let sun = SolarGeometry {
+    let sun = Sun {
         latitude_deg: 48.0,
         day_of_year: 172.0,
         start_solar_time_s: 0.0,
@@ -182,20 +187,24 @@ fn elements_not_carried_by_fixed_species_are_conserved() {
         photolysis: vec![
             (
                 0,
-                PhotolysisRate::Diurnal {
-                    scale_per_s: 1.165e-2,
-                    cos_power: 0.244,
-                    sec_factor: 0.267,
-                    sun,
+                PhotolysisRate {
+                    form: PhotolysisForm::Diurnal {
+                        scale_per_s: 1.165e-2,
+                        cos_power: 0.244,
+                        sec_factor: 0.267,
+                    },
+                    sun: Some(sun),
                 },
             ),
             (
                 3,
-                PhotolysisRate::Diurnal {
-                    scale_per_s: 6.073e-5,
-                    cos_power: 1.743,
-                    sec_factor: 0.474,
-                    sun,
+                PhotolysisRate {
+                    form: PhotolysisForm::Diurnal {
+                        scale_per_s: 6.073e-5,
+                        cos_power: 1.743,
+                        sec_factor: 0.474,
+                    },
+                    sun: Some(sun),
                 },
             ),
         ],

@@ -8,15 +8,14 @@ use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 use stoik::kinetics::Kinetics;
+use stoik::mechanism::ResolvedScenario;
 use stoik::mechanism::{
     load_mechanism, load_scenario, IgnitionChoice, LinearAlgebraChoice, Mechanism, ReactorKind,
     Scenario,
 };
-use stoik::mechanism::{PhotolysisForm, ResolvedScenario};
 use stoik::reactor::{
     self, ignition_delay, BoxConditions, Constraint, Energy, IgnitionCriterion, IgnitionDelay,
-    IntegrationOptions, LinearAlgebra, PhotolysisRate, Profiles, ReactorModel, SolarGeometry,
-    TemperatureHistory,
+    IntegrationOptions, LinearAlgebra, PhotolysisRate, Profiles, ReactorModel, TemperatureHistory,
 };
 
 /// Temperature rise (K) above which an adiabatic run counts as an ignition or runaway for
@@ -209,34 +208,19 @@ pub fn reactor_model(
         Energy::Isothermal
     };
     let b = &resolved.box_conditions;
-    let sun = b.sun.map(|s| SolarGeometry {
-        latitude_deg: s.latitude_deg,
-        day_of_year: s.day_of_year,
-        start_solar_time_s: s.start_solar_time_s,
-    });
-    let mut photolysis = Vec::with_capacity(b.photolysis.len());
-    for (step, form) in &b.photolysis {
-        let rate = match form {
-            PhotolysisForm::Table {
-                times_s,
-                rates_per_s,
-            } => PhotolysisRate::Table {
-                times_s: times_s.clone(),
-                rates_per_s: rates_per_s.clone(),
-            },
-            PhotolysisForm::Diurnal {
-                scale_per_s,
-                cos_power,
-                sec_factor,
-            } => PhotolysisRate::Diurnal {
-                scale_per_s: *scale_per_s,
-                cos_power: *cos_power,
-                sec_factor: *sec_factor,
-                sun: sun.ok_or("a diurnal photolysis rate needs a [sun] section")?,
-            },
-        };
-        photolysis.push((*step, rate));
-    }
+    let photolysis = b
+        .photolysis
+        .iter()
+        .map(|(step, form)| {
+            (
+                *step,
+                PhotolysisRate {
+                    form: form.clone(),
+                    sun: b.sun,
+                },
+            )
+        })
+        .collect();
     Ok(ReactorModel {
         constraint,
         energy,

@@ -572,6 +572,15 @@ mod tests {
                     worst = worst.max((fd - analytic).abs() / scale);
                 }
             }
+            let energy = match &model.energy {
+                Energy::Prescribed(_) => "prescribed",
+                Energy::Adiabatic => "adiabatic",
+                Energy::Isothermal => "isothermal",
+            };
+            eprintln!(
+                "{:?} {energy}: worst relative Jacobian error {worst:.1e}",
+                model.constraint
+            );
             assert!(
                 worst < 1e-5,
                 "{model:?}: worst relative Jacobian error {worst:e}"

@@ -901,14 +901,21 @@ impl Loader<'_> {
             note,
             location: Some(self.r.location(at)),
         };
-        step.forward.pre_exponential_si =
-            units.prefactor_to_si(forward.prefactor, step.forward_order());
+        // The bath gas of a pressure-dependent step does not add to the order of `forward`
+        // (`pressure_dependence` is set below, after the conversion).
+        let forward_order = if matches!(pressure_form, Some(Some(_))) && step.third_body.is_some()
+        {
+            step.forward_order() - 1.0
+        } else {
+            step.forward_order()
+        };
+        step.forward.pre_exponential_si = units.prefactor_to_si(forward.prefactor, forward_order);
         let reverse_order = step.reverse_order();
         if let (Some(rev), Some(raw)) = (step.reverse.as_mut(), reverse) {
             rev.pre_exponential_si = units.prefactor_to_si(raw.prefactor, reverse_order);
         }
         if let Some(Some((form, key_at))) = pressure_form {
-            if !self.apply_pressure_form(&mut step, form, units, key_at) {
+            if !self.apply_pressure_form(&mut step, form, units, forward_order, key_at) {
                 return None;
             }
         }

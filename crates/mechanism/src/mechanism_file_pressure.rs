@@ -487,16 +487,16 @@ impl Loader<'_> {
     }
 
     /// Converts the pressure form to SI and stores it in `step` (whose `forward` is already
-    /// in SI); warns about the clamp outside a pressure table. `false` if a converted value
+    /// in SI, for overall order `order`, the reactants' order); warns about the clamp outside a pressure table. `false` if a converted value
     /// is out of range (reported).
     pub(super) fn apply_pressure_form(
         &mut self,
         step: &mut Step,
         form: RawPressureForm,
         units: RateUnits,
+        order: f64,
         key_at: usize,
     ) -> bool {
-        let order = step.forward_order();
         let convert = |raw: &RawArrhenius, order: f64| Arrhenius {
             pre_exponential_si: units.prefactor_to_si(raw.prefactor, order),
             temperature_exponent: raw.temperature_exponent,

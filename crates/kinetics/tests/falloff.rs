@@ -454,3 +454,39 @@ fn reversible_troe_step_of_the_hydrogen_mechanism_matches_central_differences() 
     eprintln!("hydrogen-oxygen: Jacobian {jac:.2e}, dw/dT {temp:.2e}");
     assert!(jac < 1e-6 && temp < 1e-6, "{jac:e} {temp:e}");
 }
+
+#[test]
+fn collision_limit_checks_the_limit_in_the_reactants_own_order() {
+    // The gas-kinetic collision limit, about 1e-10 cm3/(molecule s) = 6.02e13 cm3/(mol s)
+    // (common practice), applies to bimolecular rate constants. A falloff step A + B (+M)
+    // is checked with kinf (order 2), not k0 (order 3); a chemically activated one with k0
+    // (order 2); a pressure table with its largest tabulated value. Units: mol, cm, s.
+    let mechanism = load(
+        "stoik_mechanism = 1\n\
+         [[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n[[species]]\nname = \"C\"\n\
+         [[species]]\nname = \"D\"\n\
+         [[step]]\nequation = \"A + B -> C\"\nforward = { prefactor = 1e14 }\n\
+         falloff = { low_pressure = { prefactor = 1e30 }, broadening = \"lindemann\" }\n\
+         third_body = {}\n\
+         [[step]]\nequation = \"A + C -> D\"\nforward = { prefactor = 1e13 }\n\
+         falloff = { low_pressure = { prefactor = 1e30 }, broadening = \"lindemann\" }\n\
+         third_body = {}\n\
+         [[step]]\nequation = \"B + C -> A + D\"\nforward = { prefactor = 2e14 }\n\
+         chemically_activated = { high_pressure = { prefactor = 1e3 }, broadening = \"lindemann\" }\n\
+         third_body = {}\n\
+         [[step]]\nequation = \"A + D -> B + C\"\npressure_table = [\n\
+         { pressure = \"1 atm\", prefactor = 1e13 },\n\
+         { pressure = \"10 atm\", prefactor = 5e13 },\n\
+         { pressure = \"10 atm\", prefactor = 5e13 },\n]\n",
+    );
+    let warnings = stoik_kinetics::collision_limit_warnings(&mechanism, "t.toml");
+    let flagged: Vec<String> = warnings
+        .iter()
+        .map(|d| d.message.split('`').nth(1).unwrap_or("").to_string())
+        .collect();
+    // kinf 1e14 > 6.02e13: flagged; kinf 1e13 with k0 1e30: not; chemically activated k0
+    // 2e14: flagged; table 5e13 + 5e13 = 1e14 at 10 atm: flagged.
+    assert_eq!(flagged, ["A + B -> C", "B + C -> A + D", "A + D -> B + C"]);
+    // The table's value shown is the summed one: 1e14 cm3/(mol s) = 1e8 m3/(mol s).
+    assert!(warnings[2].message.contains("1.000e8 m3/(mol s)"), "{}", warnings[2].message);
+}

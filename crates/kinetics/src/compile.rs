@@ -64,6 +64,7 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         third_body: Vec::with_capacity(n_steps),
         third_body_corrections: Vec::new(),
         needs_total: false,
+        pressure_steps: Vec::new(),
         falloff: Vec::new(),
         falloff_steps: Vec::new(),
         tables: Vec::new(),
@@ -234,6 +235,9 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
                 ThirdBodyKind::Table(k.tables.len() - 1)
             }
         };
+        if matches!(kind, ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_)) {
+            k.pressure_steps.push(j);
+        }
         k.third_body.push(kind);
         let columns = columns.finish();
         for &(col, _) in &columns {

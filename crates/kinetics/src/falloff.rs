@@ -200,7 +200,7 @@ impl CompiledFalloff {
         if clamped {
             phi = 0.0;
         }
-        let f = 10f64.powf(log10_f);
+        let f = (LN_10 * log10_f).exp();
         let one_plus = 1.0 + pr;
         // Derivatives with respect to Pr (phi = d log10 F / d log10 Pr = Pr d ln F / d Pr).
         let (g, dg_dpr) = if self.chemically_activated {

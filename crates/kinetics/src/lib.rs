@@ -186,6 +186,8 @@ pub struct Kinetics {
     pub(crate) third_body_corrections: Vec<(usize, f64)>,
     /// Some step needs the total concentration (mixture third body or pressure table).
     pub(crate) needs_total: bool,
+    /// Indices of the pressure-dependent steps (falloff, chemically activated, tables).
+    pub(crate) pressure_steps: Vec<usize>,
     /// Falloff and chemically activated steps, with the step index of each.
     pub(crate) falloff: Vec<CompiledFalloff>,
     pub(crate) falloff_steps: Vec<usize>,
@@ -444,8 +446,15 @@ impl Kinetics {
             ThirdBodyKind::Collider(collider) => {
                 collider.concentration(&self.third_body_corrections, c, total)
             }
-            _ => self.factor_derivatives(k, None, step, c, total).0,
+            _ => self.pressure_factor(k, step, c, total),
         }
+    }
+
+    /// The factor g of a pressure-dependent step, kept out of line so that the loops over
+    /// plain steps stay small.
+    #[inline(never)]
+    fn pressure_factor(&self, k: &RateConstants, step: usize, c: &[f64], total: f64) -> f64 {
+        self.factor_derivatives(k, None, step, c, total).0
     }
 
     /// The factor g of step `step`, `dg/d[M]` (for a pressure table: `dg/d(sum c)`), and
@@ -537,9 +546,27 @@ impl Kinetics {
     pub fn production_rates(&self, k: &RateConstants, c: &[f64], w: &mut [f64]) {
         w.iter_mut().for_each(|x| *x = 0.0);
         let total = self.total_concentration(c);
+        // Plain and third-body steps first, in a loop without calls; the pressure-dependent
+        // steps (skipped here) after it.
         for j in 0..self.n_steps {
+            let m = match self.third_body[j] {
+                ThirdBodyKind::None => 1.0,
+                ThirdBodyKind::Collider(collider) => {
+                    collider.concentration(&self.third_body_corrections, c, total)
+                }
+                ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_) => continue,
+            };
             let (fwd, rev) = self.directional_rates(k, j, c);
-            let q = self.third_body_concentration(k, j, c, total) * (fwd - rev);
+            let q = m * (fwd - rev);
+            if q != 0.0 {
+                for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
+                    w[s] += nu * q;
+                }
+            }
+        }
+        for &j in &self.pressure_steps {
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            let q = self.pressure_factor(k, j, c, total) * (fwd - rev);
             if q != 0.0 {
                 for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
                     w[s] += nu * q;

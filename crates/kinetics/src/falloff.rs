@@ -86,7 +86,12 @@ pub(crate) struct FalloffState {
 impl CompiledFalloff {
     /// The per-temperature state and its temperature slope, given the rate constant `kbase`
     /// of the limit kept in `Kinetics::forward` and its log slope (1/K).
-    pub(crate) fn state(&self, t: f64, kbase: f64, kbase_log_slope: f64) -> (FalloffState, FalloffState) {
+    pub(crate) fn state(
+        &self,
+        t: f64,
+        kbase: f64,
+        kbase_log_slope: f64,
+    ) -> (FalloffState, FalloffState) {
         let other = self.other_limit.evaluate(t);
         let other_log_slope = self.other_limit.log_slope(t);
         // ratio = k0/kinf; d ln ratio/dT = +-(d ln other - d ln base).
@@ -97,7 +102,12 @@ impl CompiledFalloff {
         };
         let (center, dcenter, offset, doffset) = match self.broadening {
             Broadening::Lindemann => (0.0, 0.0, 0.0, 0.0),
-            Broadening::Troe { a, t3_k, t1_k, t2_k } => {
+            Broadening::Troe {
+                a,
+                t3_k,
+                t1_k,
+                t2_k,
+            } => {
                 let e3 = (-t / t3_k).exp();
                 let e1 = (-t / t1_k).exp();
                 let mut fcent = (1.0 - a) * e3 + a * e1;
@@ -263,7 +273,7 @@ impl CompiledTable {
             return (f64::NEG_INFINITY, 0.0, 0.0);
         };
         // NaN (no pressure) takes the first point.
-        if !(ln_p > pts[0].ln_pressure) {
+        if ln_p.is_nan() || ln_p <= pts[0].ln_pressure {
             return (ks[0], 0.0, slope_at(0));
         }
         if ln_p >= pts[last].ln_pressure {

@@ -34,8 +34,8 @@ pub use energetics::{
     collision_limit_warnings, step_energetics, StepEnergetics, COLLISION_LIMIT_M3_PER_MOL_S,
     COLLISION_LIMIT_TEMPERATURES_K,
 };
-pub use pattern::JacobianPattern;
 use falloff::{Collider, CompiledFalloff, CompiledTable, FalloffState, TablePoint};
+pub use pattern::JacobianPattern;
 use stoik_mechanism::Mechanism;
 use stoik_thermo::Nasa7;
 

@@ -87,7 +87,12 @@ fn troe_centre_with_four_parameters_matches_the_reference() {
 fn sri_broadening_matches_the_reference() {
     // ../shared/reference/README.md section 3 (Stewart, Larson & Golden 1989):
     // F(Pr = 10, T = 1000 K; a = 0.45, b = 797 K, c = 979 K) = 0.7502518441.
-    let f = broadening(", sri = { a = 0.45, b = 797, c = 979 }", "sri", 10.0, 1000.0);
+    let f = broadening(
+        ", sri = { a = 0.45, b = 797, c = 979 }",
+        "sri",
+        10.0,
+        1000.0,
+    );
     assert!((f - 0.7502518441).abs() < 1e-9, "F {f}");
     // The 5-parameter form multiplies by d T^e (same source): d = 2, e = 0.5 at 1000 K
     // gives 2 sqrt(1000) times the 3-parameter value.
@@ -98,7 +103,10 @@ fn sri_broadening_matches_the_reference() {
         1000.0,
     );
     let expected = 0.7502518441 * 2.0 * 1000f64.sqrt();
-    assert!((f5 - expected).abs() < 1e-9 * expected, "F {f5} vs {expected}");
+    assert!(
+        (f5 - expected).abs() < 1e-9 * expected,
+        "F {f5} vs {expected}"
+    );
 }
 
 #[test]
@@ -129,7 +137,11 @@ fn every_falloff_form_tends_to_its_low_and_high_pressure_limits() {
             ", troe = { a = 0.6, t3 = 1e-30, t1 = 1e30 }",
             f64::NAN,
         ),
-        ("troe", ", troe = { a = 0.3, t3 = 1e-30, t1 = 1e30 }", f64::NAN),
+        (
+            "troe",
+            ", troe = { a = 0.3, t3 = 1e-30, t1 = 1e30 }",
+            f64::NAN,
+        ),
     ];
     for (form, extra, sri_bound) in forms {
         for (pr, low) in [(1e-150, true), (1e150, false)] {
@@ -265,7 +277,10 @@ fn pressure_table_is_exact_at_its_pressures_linear_in_ln_k_between_and_clamped_o
     ];
     for &(p, expected) in &at {
         let k = table_k(&kinetics, t, p);
-        assert!((k - expected).abs() < 1e-12 * expected, "{p} Pa: {k} vs {expected}");
+        assert!(
+            (k - expected).abs() < 1e-12 * expected,
+            "{p} Pa: {k} vs {expected}"
+        );
     }
     // Linear in ln k against ln P between them: a quarter of the way in ln P
     // (P = 0.1 atm * 10^0.25) gives ln k = 0.75 ln k(0.1) + 0.25 ln k(1).
@@ -488,5 +503,9 @@ fn collision_limit_checks_the_limit_in_the_reactants_own_order() {
     // 2e14: flagged; table 5e13 + 5e13 = 1e14 at 10 atm: flagged.
     assert_eq!(flagged, ["A + B -> C", "B + C -> A + D", "A + D -> B + C"]);
     // The table's value shown is the summed one: 1e14 cm3/(mol s) = 1e8 m3/(mol s).
-    assert!(warnings[2].message.contains("1.000e8 m3/(mol s)"), "{}", warnings[2].message);
+    assert!(
+        warnings[2].message.contains("1.000e8 m3/(mol s)"),
+        "{}",
+        warnings[2].message
+    );
 }

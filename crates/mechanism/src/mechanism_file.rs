@@ -903,8 +903,7 @@ impl Loader<'_> {
         };
         // The bath gas of a pressure-dependent step does not add to the order of `forward`
         // (`pressure_dependence` is set below, after the conversion).
-        let forward_order = if matches!(pressure_form, Some(Some(_))) && step.third_body.is_some()
-        {
+        let forward_order = if matches!(pressure_form, Some(Some(_))) && step.third_body.is_some() {
             step.forward_order() - 1.0
         } else {
             step.forward_order()

@@ -148,7 +148,9 @@ impl Loader<'_> {
             if let Some((k, _)) = table.get_key_value("forward") {
                 self.r.error(
                     k.span().start,
-                    format!("a step with `{name}` has no `forward`: `{name}` gives its rate constant"),
+                    format!(
+                        "a step with `{name}` has no `forward`: `{name}` gives its rate constant"
+                    ),
                     Some("remove `forward`".to_string()),
                 );
                 ok = false;
@@ -210,13 +212,11 @@ impl Loader<'_> {
             );
             return None;
         };
-        let kind = self.r.one_of(
-            "broadening",
-            v,
-            "broadening",
-            BROADENING_NAMES,
-            |t| BROADENING_NAMES.iter().position(|&n| n == t),
-        )?;
+        let kind = self
+            .r
+            .one_of("broadening", v, "broadening", BROADENING_NAMES, |t| {
+                BROADENING_NAMES.iter().position(|&n| n == t)
+            })?;
         // The parameter table of the other forms must not be given.
         let mut ok = true;
         for (i, name) in ["troe", "sri"].into_iter().enumerate() {
@@ -228,7 +228,9 @@ impl Loader<'_> {
                             "`{name}` parameters are given but `broadening` is \"{}\"",
                             BROADENING_NAMES[kind]
                         ),
-                        Some(format!("write `broadening = \"{name}\"` or remove `{name}`")),
+                        Some(format!(
+                            "write `broadening = \"{name}\"` or remove `{name}`"
+                        )),
                     );
                     ok = false;
                 }
@@ -576,10 +578,9 @@ impl Loader<'_> {
                 high_pressure,
                 ..
             } => all_finite(low_pressure) && all_finite(high_pressure),
-            PressureDependence::Table { points } => points
-                .iter()
-                .flat_map(|p| &p.rate_sets)
-                .all(all_finite),
+            PressureDependence::Table { points } => {
+                points.iter().flat_map(|p| &p.rate_sets).all(all_finite)
+            }
         };
         if !fine {
             self.r.error(

@@ -67,7 +67,10 @@ fn annotated_example_loads_without_errors_or_warnings() {
         chemically_activated: false,
     }) = &falloff.pressure_dependence
     else {
-        panic!("step 12 is a falloff step: {:?}", falloff.pressure_dependence);
+        panic!(
+            "step 12 is a falloff step: {:?}",
+            falloff.pressure_dependence
+        );
     };
     assert!((low_pressure.pre_exponential_si / 4e5 - 1.0).abs() < 1e-12);
     assert_eq!(high_pressure, &falloff.forward);

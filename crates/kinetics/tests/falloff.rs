@@ -509,3 +509,79 @@ fn collision_limit_checks_the_limit_in_the_reactants_own_order() {
         warnings[2].message
     );
 }
+
+#[test]
+fn reversible_falloff_step_obeys_detailed_balance_at_every_bath_gas_level() {
+    // Decision (docs/file-format.md): a reversible pressure-dependent step takes
+    // kr = kf(T, [M]) / Kc(T), so its net rate vanishes when [HO2] = Kc [H][O2] (detailed
+    // balance, common practice), whatever [M]. Kc from the species' thermochemistry.
+    let path = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../../mechanisms/hydrogen-oxygen.toml"
+    );
+    let mechanism = stoik_mechanism::load_mechanism(std::path::Path::new(path))
+        .unwrap_or_else(|e| panic!("{e}"))
+        .mechanism;
+    let step = mechanism
+        .steps
+        .iter()
+        .position(|s| s.equation == "H + O2 <=> HO2")
+        .expect("H + O2 <=> HO2");
+    let index = |name: &str| mechanism.species_index(name).expect(name);
+    let (h, o2, ho2, ar) = (index("H"), index("O2"), index("HO2"), index("AR"));
+    let kinetics = Kinetics::compile(&mechanism);
+    let t = 1200.0;
+    let k = kinetics.rate_constants(t);
+    let n = kinetics.n_steps();
+    let (mut kp, mut kc) = (vec![0.0; n], vec![0.0; n]);
+    kinetics.equilibrium_constants(t, &mut kp, &mut kc);
+    for argon in [0.1, 10.0, 1000.0] {
+        let mut c = vec![0.0; mechanism.species.len()];
+        c[h] = 1e-3;
+        c[o2] = 0.5;
+        c[ar] = argon;
+        c[ho2] = kc[step] * c[h] * c[o2];
+        let mut q = vec![0.0; n];
+        kinetics.rates_of_progress(&k, &c, &mut q);
+        let mut kf = vec![0.0; n];
+        kinetics.effective_forward_rate_constants(&k, &c, &mut kf);
+        let forward = kf[step] * c[h] * c[o2];
+        assert!(
+            q[step].abs() < 1e-12 * forward,
+            "[Ar] {argon}: net {} vs forward {forward}",
+            q[step]
+        );
+        // Off equilibrium the reverse is kf/Kc [HO2] at the same [M] as the forward rate
+        // (HO2 collides too, so kf is taken again): twice the equilibrium [HO2] gives
+        // q = kf [H][O2] (1 - 2).
+        c[ho2] *= 2.0;
+        kinetics.rates_of_progress(&k, &c, &mut q);
+        kinetics.effective_forward_rate_constants(&k, &c, &mut kf);
+        let forward = kf[step] * c[h] * c[o2];
+        assert!((q[step] + forward).abs() < 1e-12 * forward);
+    }
+}
+
+#[test]
+fn scaling_a_falloff_step_scales_its_rate_at_every_pressure() {
+    // Kinetics::scale_step multiplies both limits, so Pr and F are unchanged and k scales by
+    // the factor exactly (k = kinf Pr/(1+Pr) F with kinf -> f kinf, k0 -> f k0).
+    let mechanism = load(ALL_FORMS);
+    let mut kinetics = Kinetics::compile(&mechanism);
+    let c = all_forms_state(1.0);
+    let before = {
+        let k = kinetics.rate_constants(1200.0);
+        let mut out = vec![0.0; kinetics.n_steps()];
+        kinetics.effective_forward_rate_constants(&k, &c, &mut out);
+        out
+    };
+    for j in 0..kinetics.n_steps() {
+        assert!(kinetics.scale_step(j, 3.0));
+    }
+    let k = kinetics.rate_constants(1200.0);
+    let mut after = vec![0.0; kinetics.n_steps()];
+    kinetics.effective_forward_rate_constants(&k, &c, &mut after);
+    for (j, (a, b)) in after.iter().zip(&before).enumerate() {
+        assert!((a / b - 3.0).abs() < 1e-12, "step {j}: {a} / {b}");
+    }
+}

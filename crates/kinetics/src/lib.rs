@@ -457,6 +457,20 @@ impl Kinetics {
         self.factor_derivatives(k, None, step, c, total).0
     }
 
+    /// The factor g of a pressure-dependent step and dg/d[M] (tables: dg/d(sum c)), out of
+    /// line like [`Kinetics::pressure_factor`].
+    #[inline(never)]
+    fn pressure_factor_and_slope(
+        &self,
+        k: &RateConstants,
+        step: usize,
+        c: &[f64],
+        total: f64,
+    ) -> (f64, f64) {
+        let (g, dg, _) = self.factor_derivatives(k, None, step, c, total);
+        (g, dg)
+    }
+
     /// The factor g of step `step`, `dg/d[M]` (for a pressure table: `dg/d(sum c)`), and
     /// `dg/dT` at fixed concentrations (0 unless `slopes` is given).
     fn factor_derivatives(
@@ -589,11 +603,20 @@ impl Kinetics {
             if rows.is_empty() {
                 continue;
             }
-            let (m, dm, _) = self.factor_derivatives(k, None, j, c, total);
-            let (fwd_all, rev_all) = if dm != 0.0 {
-                self.directional_rates(k, j, c)
+            let (m, dm) = match self.third_body[j] {
+                ThirdBodyKind::None => (1.0, 0.0),
+                ThirdBodyKind::Collider(collider) => (
+                    collider.concentration(&self.third_body_corrections, c, total),
+                    1.0,
+                ),
+                _ => self.pressure_factor_and_slope(k, j, c, total),
+            };
+            // dg/d[M] times the rate without the factor: the per-unit-efficiency term.
+            let dg_term = if dm != 0.0 {
+                let (fwd_all, rev_all) = self.directional_rates(k, j, c);
+                dm * (fwd_all - rev_all)
             } else {
-                (0.0, 0.0)
+                0.0
             };
             let fwd_terms = &self.forward_terms[self.forward_start[j]..self.forward_start[j + 1]];
             let rev_terms = &self.reverse_terms[self.reverse_start[j]..self.reverse_start[j + 1]];
@@ -624,7 +647,7 @@ impl Kinetics {
                 }
                 dq *= m;
                 // d g/d c_col = dg/d[M] * d[M]/dc_col (efficiency).
-                dq += efficiency * dm * (fwd_all - rev_all);
+                dq += efficiency * dg_term;
                 if dq == 0.0 {
                     continue;
                 }

@@ -172,7 +172,19 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         };
         let kind = match (&step.pressure_dependence, collider) {
             (None, None) => ThirdBodyKind::None,
-            (None, Some(collider)) => ThirdBodyKind::Collider(collider),
+            (None, Some(Collider::Species(s))) => ThirdBodyKind::Species(s),
+            (
+                None,
+                Some(Collider::Mixture {
+                    default_efficiency,
+                    start,
+                    end,
+                }),
+            ) => ThirdBodyKind::Mixture {
+                default_efficiency,
+                start,
+                end,
+            },
             (
                 Some(PressureDependence::Falloff {
                     low_pressure,

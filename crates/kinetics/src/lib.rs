@@ -34,7 +34,7 @@ pub use energetics::{
     collision_limit_warnings, step_energetics, StepEnergetics, COLLISION_LIMIT_M3_PER_MOL_S,
     COLLISION_LIMIT_TEMPERATURES_K,
 };
-use falloff::{Collider, CompiledFalloff, CompiledTable, FalloffState, TablePoint};
+use falloff::{CompiledFalloff, CompiledTable, FalloffState, TablePoint};
 pub use pattern::JacobianPattern;
 use stoik_mechanism::Mechanism;
 use stoik_thermo::Nasa7;
@@ -155,8 +155,16 @@ impl CompiledArrhenius {
 pub(crate) enum ThirdBodyKind {
     /// g = 1.
     None,
-    /// g = [M].
-    Collider(Collider),
+    /// g = [M] = default * sum(c) + sum corrections; corrections in
+    /// `third_body_corrections[start..end]` (flat, like `Species`, so that the loops over
+    /// plain steps match on one level).
+    Mixture {
+        default_efficiency: f64,
+        start: usize,
+        end: usize,
+    },
+    /// g = [M] = c_species.
+    Species(usize),
     /// Falloff or chemically activated: index into `Kinetics::falloff`.
     Falloff(usize),
     /// Pressure table: index into `Kinetics::tables`.
@@ -432,6 +440,23 @@ impl Kinetics {
         }
     }
 
+    /// `[M] = default * total + sum corrections[start..end]` of a mixture third body.
+    #[inline(always)]
+    fn mixture_concentration(
+        &self,
+        default_efficiency: f64,
+        start: usize,
+        end: usize,
+        c: &[f64],
+        total: f64,
+    ) -> f64 {
+        let mut m = default_efficiency * total;
+        for &(s, delta) in &self.third_body_corrections[start..end] {
+            m += delta * c[s];
+        }
+        m
+    }
+
     /// The factor g of step `step` (1, [M], or the pressure-dependent factor).
     #[inline]
     fn third_body_concentration(
@@ -443,9 +468,12 @@ impl Kinetics {
     ) -> f64 {
         match self.third_body[step] {
             ThirdBodyKind::None => 1.0,
-            ThirdBodyKind::Collider(collider) => {
-                collider.concentration(&self.third_body_corrections, c, total)
-            }
+            ThirdBodyKind::Species(s) => c[s],
+            ThirdBodyKind::Mixture {
+                default_efficiency,
+                start,
+                end,
+            } => self.mixture_concentration(default_efficiency, start, end, c, total),
             _ => self.pressure_factor(k, step, c, total),
         }
     }
@@ -483,8 +511,13 @@ impl Kinetics {
     ) -> (f64, f64, f64) {
         match self.third_body[step] {
             ThirdBodyKind::None => (1.0, 0.0, 0.0),
-            ThirdBodyKind::Collider(collider) => (
-                collider.concentration(&self.third_body_corrections, c, total),
+            ThirdBodyKind::Species(s) => (c[s], 1.0, 0.0),
+            ThirdBodyKind::Mixture {
+                default_efficiency,
+                start,
+                end,
+            } => (
+                self.mixture_concentration(default_efficiency, start, end, c, total),
                 1.0,
                 0.0,
             ),
@@ -565,9 +598,12 @@ impl Kinetics {
         for j in 0..self.n_steps {
             let m = match self.third_body[j] {
                 ThirdBodyKind::None => 1.0,
-                ThirdBodyKind::Collider(collider) => {
-                    collider.concentration(&self.third_body_corrections, c, total)
-                }
+                ThirdBodyKind::Species(s) => c[s],
+                ThirdBodyKind::Mixture {
+                    default_efficiency,
+                    start,
+                    end,
+                } => self.mixture_concentration(default_efficiency, start, end, c, total),
                 ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_) => continue,
             };
             let (fwd, rev) = self.directional_rates(k, j, c);
@@ -605,8 +641,13 @@ impl Kinetics {
             }
             let (m, dm) = match self.third_body[j] {
                 ThirdBodyKind::None => (1.0, 0.0),
-                ThirdBodyKind::Collider(collider) => (
-                    collider.concentration(&self.third_body_corrections, c, total),
+                ThirdBodyKind::Species(s) => (c[s], 1.0),
+                ThirdBodyKind::Mixture {
+                    default_efficiency,
+                    start,
+                    end,
+                } => (
+                    self.mixture_concentration(default_efficiency, start, end, c, total),
                     1.0,
                 ),
                 _ => self.pressure_factor_and_slope(k, j, c, total),

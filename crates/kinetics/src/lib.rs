@@ -19,6 +19,12 @@
 //! [`collision_limit_warnings`] flags bimolecular rate constants above the gas-kinetic
 //! collision limit.
 //!
+//! Pressure-dependent steps (falloff with Lindemann, Troe, SRI or fixed-centre broadening,
+//! chemically activated steps, pressure tables) replace `M_j` by a factor formed from the
+//! current concentrations (see [`RateConstants`]); their Jacobian columns carry d k/d[M]
+//! (tables: d k/dP with P = (sum c) R T) and their temperature slopes the temperature
+//! dependence of k0/kinf, the broadening and, for tables, of P.
+//!
 //! Non-integer orders are evaluated on `max(c, 0)` (a negative concentration has no real
 //! non-integer power); integer orders use exact integer powers, so the right-hand side stays
 //! smooth through small negative excursions of the integrator.

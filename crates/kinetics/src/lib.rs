@@ -21,7 +21,7 @@
 //!
 //! Pressure-dependent steps (falloff with Lindemann, Troe, SRI or fixed-centre broadening,
 //! chemically activated steps, pressure tables) replace `M_j` by a factor formed from the
-//! current concentrations (see [`RateConstants`]); their Jacobian columns carry d k/d[M]
+//! current concentrations (see [`RateConstants`]); their Jacobian columns carry d k/d\[M\]
 //! (tables: d k/dP with P = (sum c) R T) and their temperature slopes the temperature
 //! dependence of k0/kinf, the broadening and, for tables, of P.
 //!

@@ -41,6 +41,7 @@ fn robertson() -> Mechanism {
         },
         reverse: None,
         third_body: None,
+        pressure_dependence: None,
         forward_orders: None,
         allow_duplicate: false,
         note: None,

@@ -105,6 +105,7 @@ pub fn synthetic_mechanism(n: usize, seed: u64) -> Mechanism {
             },
             reverse: None,
             third_body: None,
+            pressure_dependence: None,
             forward_orders: None,
             allow_duplicate: true,
             note: None,

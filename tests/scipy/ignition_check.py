@@ -204,6 +204,11 @@ class Mechanism:
         self.ord_f = np.zeros((nr, ns))  # forward orders (reaction_orders may replace)
         self.eff = np.zeros((nr, ns))  # third-body efficiencies
         self.has_tb = np.zeros(nr, dtype=bool)
+        # Falloff steps (docs/file-format.md): forward is kinf, k0 = falloff.low_pressure
+        # (one order higher), F from the Troe form (Gilbert, Luther & Troe 1983) or 1.
+        self.is_falloff = np.zeros(nr, dtype=bool)
+        self.k0_par = np.zeros((nr, 3))
+        self.troe = np.full((nr, 4), np.nan)  # a, T3, T1, T2 (NaN: absent / Lindemann)
         self.kf_par = np.zeros((nr, 3))
         self.kr_par = np.zeros((nr, 3))
         self.rev_mode = np.zeros(nr, dtype=int)  # 0 none, 1 explicit, 2 thermochemical
@@ -229,7 +234,19 @@ class Mechanism:
                     self.eff[j, :] = float(tb.get("default_efficiency", 1.0))
                     for n, e in tb.get("efficiency", {}).items():
                         self.eff[j, self.index[n]] = float(e)
-            extra = 1.0 if tb is not None else 0.0
+            for key in ("chemically_activated", "termolecular_300k", "pressure_table"):
+                if key in st:
+                    raise ValueError(f"this check does not implement `{key}`")
+            fo = st.get("falloff")
+            extra = 1.0 if tb is not None and fo is None else 0.0
+            if fo is not None:
+                self.is_falloff[j] = True
+                self.k0_par[j] = arrhenius_si(fo["low_pressure"], self.ord_f[j].sum() + 1.0, units)
+                if fo["broadening"] == "troe":
+                    tr = fo["troe"]
+                    self.troe[j] = [tr["a"], tr["t3"], tr["t1"], tr.get("t2", np.nan)]
+                elif fo["broadening"] != "lindemann":
+                    raise ValueError(f"this check does not implement broadening {fo['broadening']!r}")
             self.kf_par[j] = arrhenius_si(st["forward"], self.ord_f[j].sum() + extra, units)
             if "reverse" in st:
                 self.kr_par[j] = arrhenius_si(st["reverse"], self.nu_r[j].sum() + extra, units)
@@ -291,6 +308,22 @@ class Mechanism:
         rev = kr * np.prod(np.power(c[None, :], self.ord_r), axis=1)
         q = fwd - rev
         m = np.where(self.has_tb, self.eff @ c, 1.0)
+        if self.is_falloff.any():
+            # kf = kinf Pr/(1+Pr) F with Pr = k0 [M]/kinf; kr = kf/Kc scales alike.
+            k0 = self._arrh(self.k0_par, T)
+            for j in np.flatnonzero(self.is_falloff):
+                pr = k0[j] * m[j] / kf[j]
+                f = 1.0
+                a, t3, t1, t2 = self.troe[j]
+                if not math.isnan(a):
+                    fcent = (1 - a) * math.exp(-T / t3) + a * math.exp(-T / t1)
+                    if not math.isnan(t2):
+                        fcent += math.exp(-t2 / T)
+                    lf = math.log10(fcent)
+                    cc, nn = -0.4 - 0.67 * lf, 0.75 - 1.27 * lf
+                    u = math.log10(max(pr, 1e-300)) + cc
+                    f = 10.0 ** (lf / (1.0 + (u / (nn - 0.14 * u)) ** 2))
+                m[j] = pr / (1.0 + pr) * f
         return m * q
 
     def production(self, c, T):

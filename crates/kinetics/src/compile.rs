@@ -1,7 +1,17 @@
 //! Mechanism -> flat arrays.
 
+use crate::falloff::{Collider, CompiledFalloff, CompiledTable, TablePoint};
 use crate::{CompiledArrhenius, JacobianPattern, Kinetics, OrderTerm, ThirdBodyKind};
-use stoik_mechanism::{Arrhenius, Mechanism, StoichTerm, ThirdBody, GAS_CONSTANT};
+use stoik_mechanism::{
+    Arrhenius, Mechanism, PressureDependence, StoichTerm, ThirdBody, GAS_CONSTANT,
+};
+
+/// The Arrhenius factor of a pressure table's step: 1 (the table supplies the rate constant).
+const UNIT_RATE: CompiledArrhenius = CompiledArrhenius {
+    pre_exponential_si: 1.0,
+    temperature_exponent: 0.0,
+    activation_temperature_k: 0.0,
+};
 
 fn compile_arrhenius(p: &Arrhenius) -> CompiledArrhenius {
     CompiledArrhenius {
@@ -53,7 +63,13 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         net_terms: Vec::new(),
         third_body: Vec::with_capacity(n_steps),
         third_body_corrections: Vec::new(),
-        any_mixture_third_body: false,
+        needs_total: false,
+        pressure_steps: Vec::new(),
+        falloff: Vec::new(),
+        falloff_steps: Vec::new(),
+        tables: Vec::new(),
+        table_points: Vec::new(),
+        table_sets: Vec::new(),
         column_start: vec![0],
         columns: Vec::new(),
         entry_start: vec![0],
@@ -66,8 +82,22 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
     let mut pattern_entries: Vec<(usize, usize)> = Vec::new();
     let mut slot_of_species = vec![usize::MAX; n_species];
 
-    for step in &mechanism.steps {
-        k.forward.push(compile_arrhenius(&step.forward));
+    for (j, step) in mechanism.steps.iter().enumerate() {
+        let forward = match &step.pressure_dependence {
+            None => compile_arrhenius(&step.forward),
+            Some(PressureDependence::Falloff {
+                low_pressure,
+                high_pressure,
+                chemically_activated,
+                ..
+            }) => compile_arrhenius(if *chemically_activated {
+                low_pressure
+            } else {
+                high_pressure
+            }),
+            Some(PressureDependence::Table { .. }) => UNIT_RATE,
+        };
+        k.forward.push(forward);
         k.reverse.push(step.reverse.as_ref().map(compile_arrhenius));
 
         let forward_orders = match &step.forward_orders {
@@ -111,17 +141,18 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         for &(s, _) in forward_orders.iter().chain(&reverse_orders) {
             columns.add(s, 0.0);
         }
-        let kind = match &step.third_body {
-            None => ThirdBodyKind::None,
+        // The collider's columns carry d[M]/dc (the efficiency).
+        let collider = match &step.third_body {
+            None => None,
             Some(ThirdBody::Species(s)) => {
                 columns.add(*s, 1.0);
-                ThirdBodyKind::Species(*s)
+                Some(Collider::Species(*s))
             }
             Some(ThirdBody::Mixture {
                 default_efficiency,
                 efficiencies,
             }) => {
-                k.any_mixture_third_body = true;
+                k.needs_total = true;
                 let start = k.third_body_corrections.len();
                 for (s, e) in efficiency_by_species(n_species, *default_efficiency, efficiencies) {
                     if e != *default_efficiency {
@@ -132,13 +163,93 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
                     }
                 }
                 let end = k.third_body_corrections.len();
-                ThirdBodyKind::Mixture {
+                Some(Collider::Mixture {
                     default_efficiency: *default_efficiency,
                     start,
                     end,
-                }
+                })
             }
         };
+        let kind = match (&step.pressure_dependence, collider) {
+            (None, None) => ThirdBodyKind::None,
+            (None, Some(Collider::Species(s))) => ThirdBodyKind::Species(s),
+            (
+                None,
+                Some(Collider::Mixture {
+                    default_efficiency,
+                    start,
+                    end,
+                }),
+            ) => ThirdBodyKind::Mixture {
+                default_efficiency,
+                start,
+                end,
+            },
+            (
+                Some(PressureDependence::Falloff {
+                    low_pressure,
+                    high_pressure,
+                    broadening,
+                    chemically_activated,
+                }),
+                collider,
+            ) => {
+                let other = if *chemically_activated {
+                    high_pressure
+                } else {
+                    low_pressure
+                };
+                // The loader requires a bath gas; without one, every species collides.
+                let collider = match collider {
+                    Some(collider) => collider,
+                    None => {
+                        k.needs_total = true;
+                        for s in 0..n_species {
+                            columns.add(s, 1.0);
+                        }
+                        Collider::Mixture {
+                            default_efficiency: 1.0,
+                            start: 0,
+                            end: 0,
+                        }
+                    }
+                };
+                k.falloff.push(CompiledFalloff {
+                    other_limit: compile_arrhenius(other),
+                    chemically_activated: *chemically_activated,
+                    broadening: *broadening,
+                    collider,
+                });
+                k.falloff_steps.push(j);
+                ThirdBodyKind::Falloff(k.falloff.len() - 1)
+            }
+            (Some(PressureDependence::Table { points }), _) => {
+                // P = (sum c) R T: every species is a column with d(sum c)/dc = 1.
+                k.needs_total = true;
+                for s in 0..n_species {
+                    columns.add(s, 1.0);
+                }
+                let start = k.table_points.len();
+                for point in points {
+                    let set_start = k.table_sets.len();
+                    k.table_sets
+                        .extend(point.rate_sets.iter().map(compile_arrhenius));
+                    k.table_points.push(TablePoint {
+                        ln_pressure: point.pressure_pa.ln(),
+                        set_start,
+                        set_end: k.table_sets.len(),
+                    });
+                }
+                k.tables.push(CompiledTable {
+                    start,
+                    end: k.table_points.len(),
+                });
+                ThirdBodyKind::Table(k.tables.len() - 1)
+            }
+        };
+        if matches!(kind, ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_)) {
+            k.pressure_steps.push(j);
+        }
         k.third_body.push(kind);
         let columns = columns.finish();
         for &(col, _) in &columns {

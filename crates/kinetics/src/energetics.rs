@@ -3,7 +3,7 @@
 //! ([`collision_limit_warnings`]).
 
 use crate::{Kinetics, GAS_CONSTANT, STANDARD_PRESSURE_PA};
-use stoik_mechanism::{Diagnostic, Mechanism, Step, AVOGADRO};
+use stoik_mechanism::{Diagnostic, Mechanism, PressureDependence, Step, AVOGADRO};
 
 /// Thermochemistry of one step at one temperature (net change products minus reactants; a
 /// third-body collider does not enter). All quantities per mole of reaction as written.
@@ -165,6 +165,13 @@ fn colliding_pair(terms: &[stoik_mechanism::StoichTerm]) -> Option<(usize, usize
 /// is checked with its explicit parameters or, without them, with kr = kf / Kc from
 /// thermochemistry. Each warning names `file_label` and the step's location and shows the
 /// k that exceeds the limit most (by ratio), its temperature and the limit there.
+///
+/// Pressure-dependent steps are checked in the limit whose units are the reactants' own
+/// (the bath gas does not count): a falloff step `A + B (+M) -> AB` with its high-pressure
+/// limit kinf (the largest value its rate constant reaches), a chemically activated step
+/// `A + B (+M) -> C + D` with its low-pressure limit k0 (likewise its largest value, as
+/// F/(1+Pr) <= 1 for the usual broadening forms), and a pressure table with the largest of
+/// its tabulated (summed) values.
 pub fn collision_limit_warnings(mechanism: &Mechanism, file_label: &str) -> Vec<Diagnostic> {
     let kinetics = Kinetics::compile(mechanism);
     let mut k = kinetics.rate_constants(COLLISION_LIMIT_TEMPERATURES_K[0]);
@@ -184,7 +191,20 @@ pub fn collision_limit_warnings(mechanism: &Mechanism, file_label: &str) -> Vec<
     for &t in &COLLISION_LIMIT_TEMPERATURES_K {
         kinetics.evaluate_rate_constants(t, &mut k);
         for (j, w) in worst.iter_mut().enumerate() {
-            for (direction, value) in [k.forward[j], k.reverse[j]].into_iter().enumerate() {
+            let mut forward = k.forward[j];
+            let mut reverse = k.reverse[j];
+            if let Some(PressureDependence::Table { points }) =
+                &mechanism.steps[j].pressure_dependence
+            {
+                // The compiled forward is 1; take the largest tabulated value.
+                let largest = points
+                    .iter()
+                    .map(|p| p.rate_sets.iter().map(|a| a.rate_constant(t)).sum::<f64>())
+                    .fold(0.0, f64::max);
+                reverse *= largest / forward;
+                forward = largest;
+            }
+            for (direction, value) in [forward, reverse].into_iter().enumerate() {
                 let hard = pair_limit(mechanism, pairs[j][direction], t);
                 let limit = hard.unwrap_or(COLLISION_LIMIT_M3_PER_MOL_S);
                 let ratio = value / limit;

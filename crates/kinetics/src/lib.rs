@@ -19,6 +19,12 @@
 //! [`collision_limit_warnings`] flags bimolecular rate constants above the gas-kinetic
 //! collision limit.
 //!
+//! Pressure-dependent steps (falloff with Lindemann, Troe, SRI or fixed-centre broadening,
+//! chemically activated steps, pressure tables) replace `M_j` by a factor formed from the
+//! current concentrations (see [`RateConstants`]); their Jacobian columns carry d k/d\[M\]
+//! (tables: d k/dP with P = (sum c) R T) and their temperature slopes the temperature
+//! dependence of k0/kinf, the broadening and, for tables, of P.
+//!
 //! Non-integer orders are evaluated on `max(c, 0)` (a negative concentration has no real
 //! non-integer power); integer orders use exact integer powers, so the right-hand side stays
 //! smooth through small negative excursions of the integrator.
@@ -27,12 +33,14 @@
 
 mod compile;
 mod energetics;
+mod falloff;
 mod pattern;
 
 pub use energetics::{
     collision_limit_warnings, hard_sphere_rate_constant, step_energetics, StepEnergetics,
     COLLISION_LIMIT_M3_PER_MOL_S, COLLISION_LIMIT_TEMPERATURES_K,
 };
+use falloff::{CompiledFalloff, CompiledTable, FalloffState, TablePoint};
 pub use pattern::JacobianPattern;
 use stoik_mechanism::Mechanism;
 use stoik_thermo::Nasa7;
@@ -45,14 +53,40 @@ pub const STANDARD_PRESSURE_PA: f64 = stoik_thermo::P_STANDARD_PA;
 
 /// Rate constants of every step at one temperature, in SI units
 /// ((mol/m3)^(1-m)/s for a direction of overall order m).
+///
+/// Pressure-dependent steps keep here the part that depends on temperature only; the
+/// factor that depends on the concentrations is formed at each evaluation (see
+/// [`Kinetics::effective_forward_rate_constants`]):
+/// - falloff step: `forward` is the high-pressure limit kinf, and kf = kinf Pr/(1+Pr) F;
+/// - chemically activated step: `forward` is the low-pressure limit k0, and
+///   kf = k0 F/(1+Pr);
+/// - pressure table: `forward` is 1 (in the step's units) and kf is the interpolated table
+///   value at the mixture's pressure.
+///
+/// Their reverse rate constants follow the same pattern (`reverse = forward / Kc`).
 #[derive(Debug, Clone, PartialEq)]
 pub struct RateConstants {
-    /// Forward rate constant of each step.
+    /// Forward rate constant of each step (for pressure-dependent steps, see above).
     pub forward: Vec<f64>,
     /// Reverse rate constant of each step; 0 for irreversible steps; `kf / Kc` for reversible
     /// steps without explicit reverse parameters (NaN if a species of such a step lacks
     /// thermochemistry, which the mechanism loader rules out).
     pub reverse: Vec<f64>,
+    /// Temperature (K) of the evaluation (pressure tables form P = (sum c) R T with it).
+    pub(crate) temperature_k: f64,
+    /// Per falloff step: k0/kinf and the broadening parameters at this temperature (in a
+    /// slopes object: their temperature derivatives).
+    pub(crate) falloff: Vec<FalloffState>,
+    /// Per pressure-table point: ln of the summed rate constant (in a slopes object: its
+    /// temperature derivative d ln k/dT, 1/K).
+    pub(crate) table_ln_k: Vec<f64>,
+}
+
+impl RateConstants {
+    /// The temperature (K) these rate constants were evaluated at.
+    pub fn temperature_k(&self) -> f64 {
+        self.temperature_k
+    }
 }
 
 /// One power-law factor `c_species^order` of a rate expression.
@@ -121,19 +155,26 @@ impl CompiledArrhenius {
     }
 }
 
-/// How a step's third-body concentration is formed.
+/// The concentration-dependent factor g of a step's rate of progress,
+/// `q = g (kf prod c^a - kr prod c^b)`.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) enum ThirdBodyKind {
+    /// g = 1.
     None,
-    /// `[M] = default * sum(c) + sum corrections`; corrections in
-    /// `third_body_corrections[start..end]`.
+    /// g = [M] = default * sum(c) + sum corrections; corrections in
+    /// `third_body_corrections[start..end]` (flat, like `Species`, so that the loops over
+    /// plain steps match on one level).
     Mixture {
         default_efficiency: f64,
         start: usize,
         end: usize,
     },
-    /// `[M] = c_species`.
+    /// g = [M] = c_species.
     Species(usize),
+    /// Falloff or chemically activated: index into `Kinetics::falloff`.
+    Falloff(usize),
+    /// Pressure table: index into `Kinetics::tables`.
+    Table(usize),
 }
 
 /// A mechanism compiled for fast evaluation. Build once with [`Kinetics::compile`], then
@@ -157,7 +198,17 @@ pub struct Kinetics {
     pub(crate) third_body: Vec<ThirdBodyKind>,
     /// (species, efficiency - default) for mixture third bodies.
     pub(crate) third_body_corrections: Vec<(usize, f64)>,
-    pub(crate) any_mixture_third_body: bool,
+    /// Some step needs the total concentration (mixture third body or pressure table).
+    pub(crate) needs_total: bool,
+    /// Indices of the pressure-dependent steps (falloff, chemically activated, tables).
+    pub(crate) pressure_steps: Vec<usize>,
+    /// Falloff and chemically activated steps, with the step index of each.
+    pub(crate) falloff: Vec<CompiledFalloff>,
+    pub(crate) falloff_steps: Vec<usize>,
+    /// Pressure tables, their points and rate sets.
+    pub(crate) tables: Vec<CompiledTable>,
+    pub(crate) table_points: Vec<TablePoint>,
+    pub(crate) table_sets: Vec<CompiledArrhenius>,
     /// CSR over steps: the species the step's rate depends on (Jacobian columns), unique;
     /// with their third-body efficiency (0 when only kinetic).
     pub(crate) column_start: Vec<usize>,
@@ -195,6 +246,10 @@ impl Kinetics {
         if let Some(reverse) = &mut self.reverse[step] {
             reverse.pre_exponential_si *= factor;
         }
+        // Both falloff limits scale, so that Pr (and F) stay the same.
+        if let ThirdBodyKind::Falloff(i) = self.third_body[step] {
+            self.falloff[i].other_limit.pre_exponential_si *= factor;
+        }
         true
     }
 
@@ -213,6 +268,9 @@ impl Kinetics {
         let mut out = RateConstants {
             forward: vec![0.0; self.n_steps],
             reverse: vec![0.0; self.n_steps],
+            temperature_k,
+            falloff: vec![FalloffState::default(); self.falloff.len()],
+            table_ln_k: vec![0.0; self.table_points.len()],
         };
         self.evaluate_rate_constants(temperature_k, &mut out);
         out
@@ -224,8 +282,17 @@ impl Kinetics {
     /// Reversible steps without explicit reverse parameters get `kr = kf / Kc(T)` (see
     /// [`Kinetics::equilibrium_constants`]), evaluated without allocating.
     pub fn evaluate_rate_constants(&self, temperature_k: f64, out: &mut RateConstants) {
+        out.temperature_k = temperature_k;
         for (k, p) in out.forward.iter_mut().zip(&self.forward) {
             *k = p.evaluate(temperature_k);
+        }
+        for (i, (f, &j)) in self.falloff.iter().zip(&self.falloff_steps).enumerate() {
+            let log_slope = self.forward[j].log_slope(temperature_k);
+            out.falloff[i] = f.state(temperature_k, out.forward[j], log_slope).0;
+        }
+        for (ln_k, point) in out.table_ln_k.iter_mut().zip(&self.table_points) {
+            let sets = &self.table_sets[point.set_start..point.set_end];
+            *ln_k = falloff::summed_sets(sets, temperature_k).0;
         }
         for (j, (k, p)) in out.reverse.iter_mut().zip(&self.reverse).enumerate() {
             *k = match p {
@@ -259,8 +326,17 @@ impl Kinetics {
         slopes: &mut RateConstants,
     ) {
         let t = temperature_k;
+        slopes.temperature_k = t;
         for (j, p) in self.forward.iter().enumerate() {
             slopes.forward[j] = k.forward[j] * p.log_slope(t);
+        }
+        for (i, (f, &j)) in self.falloff.iter().zip(&self.falloff_steps).enumerate() {
+            let log_slope = self.forward[j].log_slope(t);
+            slopes.falloff[i] = f.state(t, k.forward[j], log_slope).1;
+        }
+        for (dln_k, point) in slopes.table_ln_k.iter_mut().zip(&self.table_points) {
+            let sets = &self.table_sets[point.set_start..point.set_end];
+            *dln_k = falloff::summed_sets(sets, t).1;
         }
         for (j, p) in self.reverse.iter().enumerate() {
             slopes.reverse[j] = match p {
@@ -283,7 +359,9 @@ impl Kinetics {
     /// Writes `dw/dT` (mol/(m3 s K)) into `dw_dt` (length `n_species`): the temperature
     /// derivative of the net production rates at fixed concentrations `c` (mol/m3), given the
     /// rate constants `k` and their slopes from [`Kinetics::evaluate_rate_constant_slopes`].
-    /// Third-body concentrations do not depend on temperature at fixed `c`. No allocation.
+    /// Third-body concentrations do not depend on temperature at fixed `c`; falloff factors
+    /// do through k0/kinf and the broadening parameters, and pressure tables through both
+    /// the tabulated rate constants and the pressure P = (sum c) R T. No allocation.
     pub fn production_rate_slopes(
         &self,
         k: &RateConstants,
@@ -302,10 +380,11 @@ impl Kinetics {
             if k.reverse[j] != 0.0 {
                 dq -= rev / k.reverse[j] * slopes.reverse[j];
             }
+            let (g, _, dg_dt) = self.factor_derivatives(k, Some(slopes), j, c, total);
+            dq = dq * g + dg_dt * (fwd - rev);
             if dq == 0.0 {
                 continue;
             }
-            dq *= self.third_body_concentration(j, c, total);
             for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
                 dw_dt[s] += nu * dq;
             }
@@ -360,15 +439,39 @@ impl Kinetics {
 
     #[inline]
     fn total_concentration(&self, c: &[f64]) -> f64 {
-        if self.any_mixture_third_body {
+        if self.needs_total {
             c.iter().sum()
         } else {
             0.0
         }
     }
 
+    /// `[M] = default * total + sum corrections[start..end]` of a mixture third body.
+    #[inline(always)]
+    fn mixture_concentration(
+        &self,
+        default_efficiency: f64,
+        start: usize,
+        end: usize,
+        c: &[f64],
+        total: f64,
+    ) -> f64 {
+        let mut m = default_efficiency * total;
+        for &(s, delta) in &self.third_body_corrections[start..end] {
+            m += delta * c[s];
+        }
+        m
+    }
+
+    /// The factor g of step `step` (1, [M], or the pressure-dependent factor).
     #[inline]
-    fn third_body_concentration(&self, step: usize, c: &[f64], total: f64) -> f64 {
+    fn third_body_concentration(
+        &self,
+        k: &RateConstants,
+        step: usize,
+        c: &[f64],
+        total: f64,
+    ) -> f64 {
         match self.third_body[step] {
             ThirdBodyKind::None => 1.0,
             ThirdBodyKind::Species(s) => c[s],
@@ -376,13 +479,92 @@ impl Kinetics {
                 default_efficiency,
                 start,
                 end,
-            } => {
-                let mut m = default_efficiency * total;
-                for &(s, delta) in &self.third_body_corrections[start..end] {
-                    m += delta * c[s];
-                }
-                m
+            } => self.mixture_concentration(default_efficiency, start, end, c, total),
+            _ => self.pressure_factor(k, step, c, total),
+        }
+    }
+
+    /// The factor g of a pressure-dependent step, kept out of line so that the loops over
+    /// plain steps stay small.
+    #[inline(never)]
+    fn pressure_factor(&self, k: &RateConstants, step: usize, c: &[f64], total: f64) -> f64 {
+        self.factor_derivatives(k, None, step, c, total).0
+    }
+
+    /// The factor g of a pressure-dependent step and dg/d[M] (tables: dg/d(sum c)), out of
+    /// line like [`Kinetics::pressure_factor`].
+    #[inline(never)]
+    fn pressure_factor_and_slope(
+        &self,
+        k: &RateConstants,
+        step: usize,
+        c: &[f64],
+        total: f64,
+    ) -> (f64, f64) {
+        let (g, dg, _) = self.factor_derivatives(k, None, step, c, total);
+        (g, dg)
+    }
+
+    /// The factor g of step `step`, `dg/d[M]` (for a pressure table: `dg/d(sum c)`), and
+    /// `dg/dT` at fixed concentrations (0 unless `slopes` is given).
+    fn factor_derivatives(
+        &self,
+        k: &RateConstants,
+        slopes: Option<&RateConstants>,
+        step: usize,
+        c: &[f64],
+        total: f64,
+    ) -> (f64, f64, f64) {
+        match self.third_body[step] {
+            ThirdBodyKind::None => (1.0, 0.0, 0.0),
+            ThirdBodyKind::Species(s) => (c[s], 1.0, 0.0),
+            ThirdBodyKind::Mixture {
+                default_efficiency,
+                start,
+                end,
+            } => (
+                self.mixture_concentration(default_efficiency, start, end, c, total),
+                1.0,
+                0.0,
+            ),
+            ThirdBodyKind::Falloff(i) => {
+                let f = &self.falloff[i];
+                let m = f
+                    .collider
+                    .concentration(&self.third_body_corrections, c, total);
+                f.factor(&k.falloff[i], slopes.map(|s| &s.falloff[i]), m)
             }
+            ThirdBodyKind::Table(i) => {
+                let t = k.temperature_k;
+                let ln_p = (total * GAS_CONSTANT * t).ln();
+                let (ln_k, s, dln_k_dt) = self.tables[i].interpolate(
+                    &self.table_points,
+                    &k.table_ln_k,
+                    slopes.map(|s| s.table_ln_k.as_slice()),
+                    ln_p,
+                );
+                let g = ln_k.exp();
+                // P = total R T: d ln P/d total = 1/total, d ln P/dT = 1/T.
+                let dg_dtotal = if s == 0.0 { 0.0 } else { g * s / total };
+                let dg_dt = match slopes {
+                    Some(_) => g * (dln_k_dt + s / t),
+                    None => 0.0,
+                };
+                (g, dg_dtotal, dg_dt)
+            }
+        }
+    }
+
+    /// Writes the effective forward rate constant of every step into `out` (length
+    /// `n_steps`) at concentrations `c` (mol/m3): the coefficient of the forward power
+    /// product, `q_forward = out[j] prod_i c_i^a_ij`. For a third-body step it includes
+    /// `[M]`; for a falloff step it is kinf Pr/(1+Pr) F, for a chemically activated step
+    /// k0 F/(1+Pr), for a pressure table the interpolated value at P = (sum c) R T. Units
+    /// (mol/m3)^(1-m)/s with m the sum of the forward orders. No allocation.
+    pub fn effective_forward_rate_constants(&self, k: &RateConstants, c: &[f64], out: &mut [f64]) {
+        let total = self.total_concentration(c);
+        for (j, o) in out.iter_mut().enumerate().take(self.n_steps) {
+            *o = k.forward[j] * self.third_body_concentration(k, j, c, total);
         }
     }
 
@@ -408,7 +590,7 @@ impl Kinetics {
         let total = self.total_concentration(c);
         for (j, qj) in q.iter_mut().enumerate().take(self.n_steps) {
             let (fwd, rev) = self.directional_rates(k, j, c);
-            *qj = self.third_body_concentration(j, c, total) * (fwd - rev);
+            *qj = self.third_body_concentration(k, j, c, total) * (fwd - rev);
         }
     }
 
@@ -417,9 +599,30 @@ impl Kinetics {
     pub fn production_rates(&self, k: &RateConstants, c: &[f64], w: &mut [f64]) {
         w.iter_mut().for_each(|x| *x = 0.0);
         let total = self.total_concentration(c);
+        // Plain and third-body steps first, in a loop without calls; the pressure-dependent
+        // steps (skipped here) after it.
         for j in 0..self.n_steps {
+            let m = match self.third_body[j] {
+                ThirdBodyKind::None => 1.0,
+                ThirdBodyKind::Species(s) => c[s],
+                ThirdBodyKind::Mixture {
+                    default_efficiency,
+                    start,
+                    end,
+                } => self.mixture_concentration(default_efficiency, start, end, c, total),
+                ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_) => continue,
+            };
             let (fwd, rev) = self.directional_rates(k, j, c);
-            let q = self.third_body_concentration(j, c, total) * (fwd - rev);
+            let q = m * (fwd - rev);
+            if q != 0.0 {
+                for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
+                    w[s] += nu * q;
+                }
+            }
+        }
+        for &j in &self.pressure_steps {
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            let q = self.pressure_factor(k, j, c, total) * (fwd - rev);
             if q != 0.0 {
                 for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
                     w[s] += nu * q;
@@ -442,12 +645,25 @@ impl Kinetics {
             if rows.is_empty() {
                 continue;
             }
-            let m = self.third_body_concentration(j, c, total);
-            let has_third_body = !matches!(self.third_body[j], ThirdBodyKind::None);
-            let (fwd_all, rev_all) = if has_third_body {
-                self.directional_rates(k, j, c)
+            let (m, dm) = match self.third_body[j] {
+                ThirdBodyKind::None => (1.0, 0.0),
+                ThirdBodyKind::Species(s) => (c[s], 1.0),
+                ThirdBodyKind::Mixture {
+                    default_efficiency,
+                    start,
+                    end,
+                } => (
+                    self.mixture_concentration(default_efficiency, start, end, c, total),
+                    1.0,
+                ),
+                _ => self.pressure_factor_and_slope(k, j, c, total),
+            };
+            // dg/d[M] times the rate without the factor: the per-unit-efficiency term.
+            let dg_term = if dm != 0.0 {
+                let (fwd_all, rev_all) = self.directional_rates(k, j, c);
+                dm * (fwd_all - rev_all)
             } else {
-                (0.0, 0.0)
+                0.0
             };
             let fwd_terms = &self.forward_terms[self.forward_start[j]..self.forward_start[j + 1]];
             let rev_terms = &self.reverse_terms[self.reverse_start[j]..self.reverse_start[j + 1]];
@@ -477,7 +693,8 @@ impl Kinetics {
                     }
                 }
                 dq *= m;
-                dq += efficiency * (fwd_all - rev_all);
+                // d g/d c_col = dg/d[M] * d[M]/dc_col (efficiency).
+                dq += efficiency * dg_term;
                 if dq == 0.0 {
                     continue;
                 }

@@ -40,6 +40,7 @@ fn step(reactants: Vec<StoichTerm>, products: Vec<StoichTerm>, k: f64) -> Step {
         forward: arrhenius(k),
         reverse: None,
         third_body: None,
+        pressure_dependence: None,
         forward_orders: None,
         allow_duplicate: false,
         note: None,

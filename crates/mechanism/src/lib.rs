@@ -24,7 +24,8 @@ pub mod units;
 pub use diagnostics::{Diagnostic, Diagnostics, LoadError, Severity};
 pub use mechanism_file::{load_mechanism, parse_mechanism, parse_mechanism_in, MechanismFile};
 pub use model::{
-    Arrhenius, Element, Mechanism, SourceLocation, Species, Step, StoichTerm, ThirdBody,
+    Arrhenius, Broadening, Element, Mechanism, PressureDependence, PressurePoint, SourceLocation,
+    Species, Step, StoichTerm, ThirdBody,
 };
 pub use scenario::{
     load_scenario, parse_scenario, IgnitionChoice, LinearAlgebraChoice, OutputTimes, ReactorKind,

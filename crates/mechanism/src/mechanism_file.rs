@@ -124,6 +124,10 @@ const STEP_KEYS: &[&str] = &[
     "allow_duplicate",
     "units",
     "note",
+    "falloff",
+    "chemically_activated",
+    "termolecular_300k",
+    "pressure_table",
 ];
 const ARRHENIUS_KEYS: &[&str] = &["prefactor", "temperature_exponent", "activation_energy"];
 const THIRD_BODY_KEYS: &[&str] = &["efficiency", "default_efficiency", "species"];
@@ -577,9 +581,19 @@ impl Loader<'_> {
     }
 
     fn read_arrhenius(&mut self, key: &str, value: &Value<'_>) -> Option<RawArrhenius> {
+        self.read_arrhenius_keys(key, value, ARRHENIUS_KEYS)
+    }
+
+    /// Reads an Arrhenius table whose keys may be `allowed` (the Arrhenius keys and others
+    /// read elsewhere).
+    fn read_arrhenius_keys(
+        &mut self,
+        key: &str,
+        value: &Value<'_>,
+        allowed: &[&str],
+    ) -> Option<RawArrhenius> {
         let table = self.r.table(key, value)?;
-        self.r
-            .check_keys(table, ARRHENIUS_KEYS, &format!("`{key}`"));
+        self.r.check_keys(table, allowed, &format!("`{key}`"));
         let mut ok = true;
         let prefactor = match table.get("prefactor") {
             None => {
@@ -787,7 +801,18 @@ impl Loader<'_> {
         let reversible = sides.as_ref().map(|s| s.2);
 
         // Rate parameters.
+        let pressure_form = self.read_pressure_form(table);
+        let implied_forward = match &pressure_form {
+            Some(Some((form, _))) => form.implied_forward(),
+            _ => None,
+        };
+        // `termolecular_300k` and `pressure_table` replace `forward` (a problem with them was
+        // reported already).
+        let forward_implied = ["termolecular_300k", "pressure_table"]
+            .iter()
+            .any(|&k| table.contains_key(k));
         let forward = match table.get("forward") {
+            None if forward_implied => implied_forward,
             None => {
                 self.r.error(
                     at,
@@ -885,16 +910,28 @@ impl Loader<'_> {
                 activation_energy_j_per_mol: units.activation_energy_to_si(r.activation_energy),
             }),
             third_body,
+            pressure_dependence: None,
             forward_orders,
             allow_duplicate,
             note,
             location: Some(self.r.location(at)),
         };
-        step.forward.pre_exponential_si =
-            units.prefactor_to_si(forward.prefactor, step.forward_order());
+        // The bath gas of a pressure-dependent step does not add to the order of `forward`
+        // (`pressure_dependence` is set below, after the conversion).
+        let forward_order = if matches!(pressure_form, Some(Some(_))) && step.third_body.is_some() {
+            step.forward_order() - 1.0
+        } else {
+            step.forward_order()
+        };
+        step.forward.pre_exponential_si = units.prefactor_to_si(forward.prefactor, forward_order);
         let reverse_order = step.reverse_order();
         if let (Some(rev), Some(raw)) = (step.reverse.as_mut(), reverse) {
             rev.pre_exponential_si = units.prefactor_to_si(raw.prefactor, reverse_order);
+        }
+        if let Some(Some((form, key_at))) = pressure_form {
+            if !self.apply_pressure_form(&mut step, form, units, forward_order, key_at) {
+                return None;
+            }
         }
         let converted = [Some(step.forward), step.reverse];
         for arrhenius in converted.iter().flatten() {
@@ -1198,6 +1235,9 @@ fn bad_species_name(name: &str) -> Option<&'static str> {
         None
     }
 }
+
+#[path = "mechanism_file_pressure.rs"]
+mod pressure;
 
 #[cfg(test)]
 #[path = "mechanism_file_tests.rs"]

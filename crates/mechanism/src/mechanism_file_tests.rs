@@ -1,7 +1,7 @@
 //! Unit tests of the mechanism loader.
 
 use super::*;
-use crate::{SourceLocation, AVOGADRO, GAS_CONSTANT};
+use crate::{PressureDependence, SourceLocation, AVOGADRO, GAS_CONSTANT};
 
 fn load(text: &str) -> MechanismFile {
     match parse_mechanism(text, "test.toml") {
@@ -371,4 +371,67 @@ fn large_mechanism_loads_with_all_species_and_steps() {
     assert_eq!(file.mechanism.steps.len(), steps);
     assert_eq!(file.mechanism.elements.len(), 2);
     assert_eq!(file.warnings.warning_count(), 0);
+}
+
+#[test]
+fn pressure_table_sorts_groups_and_converts_its_sets() {
+    // A + B -> C, order 2, cm3/(mol s) -> m3/(mol s) is x 1e-6 (common practice); 1 atm =
+    // 101325 Pa and 1 bar = 1e5 Pa by definition. Entries out of order; two at 1 atm.
+    let file = load(&format!(
+        "stoik_mechanism = 1\n{SPECIES_AB}\n[[step]]\nequation = \"A + B -> C\"\n\
+         pressure_table = [\n\
+         {{ pressure = \"1 atm\", prefactor = 2e12 }},\n\
+         {{ pressure = \"1 bar\", prefactor = 1e12, temperature_exponent = 0.5 }},\n\
+         {{ pressure = \"101325 Pa\", prefactor = 3e12, activation_energy = 1000 }},\n]\n"
+    ));
+    let step = &file.mechanism.steps[0];
+    let Some(PressureDependence::Table { points }) = &step.pressure_dependence else {
+        panic!("a pressure table: {:?}", step.pressure_dependence);
+    };
+    let pressures: Vec<f64> = points.iter().map(|p| p.pressure_pa).collect();
+    assert_eq!(pressures, [1e5, 101_325.0]);
+    assert_eq!(points[0].rate_sets.len(), 1);
+    assert!(rel(points[0].rate_sets[0].pre_exponential_si, 1e6) < 1e-12);
+    assert_eq!(points[1].rate_sets.len(), 2);
+    assert!(rel(points[1].rate_sets[1].pre_exponential_si, 3e6) < 1e-12);
+    // `forward` copies the first set at the highest pressure (for reports).
+    assert!(rel(step.forward.pre_exponential_si, 2e6) < 1e-12);
+    assert_eq!(step.forward_order(), 2.0);
+    // One warning: the clamp outside 1e5 Pa .. 101325 Pa.
+    assert_eq!(file.warnings.0.len(), 1, "{}", file.warnings);
+}
+
+#[test]
+fn falloff_limits_take_orders_one_apart_and_the_bath_gas_does_not_count() {
+    // A + B (+M) -> C: kinf order 2 (cm3/(mol s) x 1e-6), k0 order 3 ((cm3/mol)^2/s x 1e-12);
+    // chemically activated A + B (+M) -> C + C: k0 order 2, kinf order 1 (1/s, unchanged).
+    let file = load(&format!(
+        "stoik_mechanism = 1\n{SPECIES_AB}\n\
+         [[step]]\nequation = \"A + B -> C\"\nforward = {{ prefactor = 1e13 }}\n\
+         falloff = {{ low_pressure = {{ prefactor = 1e18 }}, broadening = \"lindemann\" }}\n\
+         third_body = {{ species = \"C\" }}\n\
+         [[step]]\nequation = \"A + B -> C + C\"\nforward = {{ prefactor = 1e13 }}\n\
+         chemically_activated = {{ high_pressure = {{ prefactor = 1e9 }}, broadening = \"lindemann\" }}\n\
+         third_body = {{}}\n"
+    ));
+    let steps = &file.mechanism.steps;
+    for (step, k0, kinf) in [(&steps[0], 1e6, 1e7), (&steps[1], 1e7, 1e9)] {
+        assert_eq!(step.forward_order(), 2.0);
+        let Some(PressureDependence::Falloff {
+            low_pressure,
+            high_pressure,
+            ..
+        }) = &step.pressure_dependence
+        else {
+            panic!("falloff");
+        };
+        assert!(
+            rel(low_pressure.pre_exponential_si, k0) < 1e-12,
+            "{low_pressure:?}"
+        );
+        assert!(
+            rel(high_pressure.pre_exponential_si, kinf) < 1e-12,
+            "{high_pressure:?}"
+        );
+    }
 }

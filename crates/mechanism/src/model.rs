@@ -100,6 +100,95 @@ pub enum ThirdBody {
     Species(usize),
 }
 
+/// The broadening factor F of a falloff step, a function of the reduced pressure
+/// `Pr = k0 [M] / kinf` and the temperature. Temperatures are in K.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Broadening {
+    /// F = 1 (Lindemann-Hinshelwood).
+    Lindemann,
+    /// Troe form (Gilbert, Luther & Troe, Ber. Bunsenges. Phys. Chem. 87, 169, 1983):
+    /// log10 F = log10 Fcent / (1 + ((log10 Pr + c) / (n - 0.14 (log10 Pr + c)))^2) with
+    /// c = -0.4 - 0.67 log10 Fcent, n = 0.75 - 1.27 log10 Fcent and
+    /// Fcent = (1 - a) exp(-T/T3) + a exp(-T/T1) + exp(-T2/T) (the last term only in the
+    /// 4-parameter form).
+    Troe {
+        /// Weight a (dimensionless).
+        a: f64,
+        /// T3 in K (positive).
+        t3_k: f64,
+        /// T1 in K (positive).
+        t1_k: f64,
+        /// T2 in K; `None` for the 3-parameter form.
+        t2_k: Option<f64>,
+    },
+    /// SRI form (Stewart, Larson & Golden, Combust. Flame 75, 25, 1989):
+    /// F = d [a exp(-b/T) + exp(-T/c)]^X T^e with X = 1 / (1 + (log10 Pr)^2); the
+    /// 3-parameter form has d = 1 and e = 0.
+    Sri {
+        /// a (dimensionless).
+        a: f64,
+        /// b in K.
+        b_k: f64,
+        /// c in K (positive).
+        c_k: f64,
+        /// d (dimensionless, positive).
+        d: f64,
+        /// e (dimensionless temperature exponent).
+        e: f64,
+    },
+    /// A temperature-independent centre: F = Fc^(1 / (1 + (log10 Pr)^2)), the form of the
+    /// atmospheric evaluations (JPL Publication 19-5, Burkholder et al. 2019, section 2,
+    /// with Fc = 0.6).
+    FixedCenter {
+        /// Fc (dimensionless, in (0, 1]).
+        center: f64,
+    },
+}
+
+/// One tabulated pressure of a pressure table with the Arrhenius sets that apply there
+/// (their rate constants add).
+#[derive(Debug, Clone, PartialEq)]
+pub struct PressurePoint {
+    /// Pressure in Pa (positive).
+    pub pressure_pa: f64,
+    /// One or more rate-constant sets, summed; SI units of the step's forward order.
+    pub rate_sets: Vec<Arrhenius>,
+}
+
+/// How a step's forward rate constant depends on pressure (through the bath-gas
+/// concentration `[M]` or the total pressure).
+#[derive(Debug, Clone, PartialEq)]
+pub enum PressureDependence {
+    /// Falloff between a low-pressure limit k0 and a high-pressure limit kinf with reduced
+    /// pressure `Pr = k0 [M] / kinf`, `[M]` from [`Step::third_body`]:
+    /// - unimolecular/recombination falloff (`chemically_activated == false`):
+    ///   `k = kinf Pr / (1 + Pr) F`; [`Step::forward`] is a copy of `high_pressure`;
+    /// - chemically activated step (`chemically_activated == true`):
+    ///   `k = k0 / (1 + Pr) F`; [`Step::forward`] is a copy of `low_pressure`.
+    ///
+    /// The low-pressure prefactor's order is one higher than the high-pressure one's.
+    Falloff {
+        /// k0: (mol/m3)^(-m)/s for a falloff step of reactant order m, (mol/m3)^(1-m)/s for
+        /// a chemically activated one.
+        low_pressure: Arrhenius,
+        /// kinf: (mol/m3)^(1-m)/s for a falloff step, (mol/m3)^(2-m)/s for a chemically
+        /// activated one.
+        high_pressure: Arrhenius,
+        /// Broadening factor F.
+        broadening: Broadening,
+        /// Whether this is a chemically activated step (see above).
+        chemically_activated: bool,
+    },
+    /// Rate constants tabulated at several pressures, `ln k` interpolated linearly in
+    /// `ln P` and held at the nearest end outside the table. The pressure is the ideal-gas
+    /// pressure of the mixture, `P = (sum_i c_i) R T`. [`Step::forward`] is a copy of the
+    /// first set at the highest pressure (for reports).
+    Table {
+        /// Points in increasing, distinct pressure (at least one).
+        points: Vec<PressurePoint>,
+    },
+}
+
 /// An elementary (or global) step.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Step {
@@ -117,8 +206,13 @@ pub struct Step {
     /// step with `None` takes its reverse rate constant from thermochemistry:
     /// kr(T) = kf(T) / Kc(T), which needs [`Species::thermo`] for all its species.
     pub reverse: Option<Arrhenius>,
-    /// Collision partner, for third-body steps.
+    /// Collision partner, for third-body steps; for a falloff step the bath gas whose
+    /// concentration `[M]` enters the reduced pressure (it then multiplies no rate).
     pub third_body: Option<ThirdBody>,
+    /// Pressure dependence of the forward rate constant (`None`: plain Arrhenius). A
+    /// reversible pressure-dependent step takes its reverse rate constant from
+    /// thermochemistry, kr = kf / Kc (it has no explicit `reverse`).
+    pub pressure_dependence: Option<PressureDependence>,
     /// Explicit forward reaction orders as (species index, order); `None` means the orders
     /// equal the reactant stoichiometric coefficients.
     pub forward_orders: Option<Vec<(usize, f64)>>,
@@ -155,20 +249,32 @@ impl Step {
         self.reversible && self.reverse.is_none()
     }
 
-    /// Overall forward order m (sum of forward orders, plus one for a third body): the
-    /// pre-exponential factor has units (mol/m3)^(1-m)/s.
+    /// Overall forward order m (sum of forward orders, plus one for a third body that
+    /// multiplies the rate): [`Step::forward`]'s pre-exponential factor has units
+    /// (mol/m3)^(1-m)/s. The bath gas of a pressure-dependent step does not count.
     pub fn forward_order(&self) -> f64 {
         let base: f64 = match &self.forward_orders {
             Some(orders) => orders.iter().map(|(_, o)| o).sum(),
             None => self.reactants.iter().map(|t| t.coefficient).sum(),
         };
-        base + if self.third_body.is_some() { 1.0 } else { 0.0 }
+        base + self.third_body_order()
     }
 
-    /// Overall reverse order (sum of product coefficients, plus one for a third body).
+    /// Overall reverse order (sum of product coefficients, plus one for a third body that
+    /// multiplies the rate).
     pub fn reverse_order(&self) -> f64 {
         let base: f64 = self.products.iter().map(|t| t.coefficient).sum();
-        base + if self.third_body.is_some() { 1.0 } else { 0.0 }
+        base + self.third_body_order()
+    }
+
+    /// 1 when a third body multiplies the rate (a third-body step that is not pressure
+    /// dependent), else 0.
+    fn third_body_order(&self) -> f64 {
+        if self.third_body.is_some() && self.pressure_dependence.is_none() {
+            1.0
+        } else {
+            0.0
+        }
     }
 }
 

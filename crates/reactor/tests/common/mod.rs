@@ -41,6 +41,7 @@ pub fn arrhenius_step(reactants: &[(usize, f64)], products: &[(usize, f64)], k: 
         forward: k,
         reverse: None,
         third_body: None,
+        pressure_dependence: None,
         forward_orders: None,
         allow_duplicate: false,
         note: None,

@@ -80,6 +80,9 @@ pub struct RateConstants {
     /// Per pressure-table point: ln of the summed rate constant (in a slopes object: its
     /// temperature derivative d ln k/dT, 1/K).
     pub(crate) table_ln_k: Vec<f64>,
+    /// Per species: G0/(R T) at this temperature (empty when no step takes its reverse rate
+    /// constant from thermochemistry; NaN for a species without thermochemistry).
+    pub(crate) species_g_over_rt: Vec<f64>,
 }
 
 impl RateConstants {
@@ -146,6 +149,18 @@ impl CompiledArrhenius {
             k *= (-self.activation_temperature_k / temperature_k).exp();
         }
         k
+    }
+
+    /// k from ln T and 1/T computed once per temperature: A exp(n ln T - (Ea/R)/T).
+    #[inline]
+    fn evaluate_log(&self, ln_t: f64, inv_t: f64) -> f64 {
+        let exponent =
+            self.temperature_exponent * ln_t - self.activation_temperature_k * inv_t;
+        if exponent == 0.0 {
+            self.pre_exponential_si
+        } else {
+            self.pre_exponential_si * exponent.exp()
+        }
     }
 
     /// d ln k / dT = (n + Ea/(R T)) / T in 1/K.
@@ -271,6 +286,11 @@ impl Kinetics {
             temperature_k,
             falloff: vec![FalloffState::default(); self.falloff.len()],
             table_ln_k: vec![0.0; self.table_points.len()],
+            species_g_over_rt: if self.reverse_from_thermo.iter().any(|&r| r) {
+                vec![0.0; self.n_species]
+            } else {
+                Vec::new()
+            },
         };
         self.evaluate_rate_constants(temperature_k, &mut out);
         out
@@ -283,8 +303,10 @@ impl Kinetics {
     /// [`Kinetics::equilibrium_constants`]), evaluated without allocating.
     pub fn evaluate_rate_constants(&self, temperature_k: f64, out: &mut RateConstants) {
         out.temperature_k = temperature_k;
+        let ln_t = temperature_k.ln();
+        let inv_t = 1.0 / temperature_k;
         for (k, p) in out.forward.iter_mut().zip(&self.forward) {
-            *k = p.evaluate(temperature_k);
+            *k = p.evaluate_log(ln_t, inv_t);
         }
         for (i, (f, &j)) in self.falloff.iter().zip(&self.falloff_steps).enumerate() {
             let log_slope = self.forward[j].log_slope(temperature_k);
@@ -294,15 +316,24 @@ impl Kinetics {
             let sets = &self.table_sets[point.set_start..point.set_end];
             *ln_k = falloff::summed_sets(sets, temperature_k).0;
         }
+        // G0/(R T) of every species once, for the steps whose kr = kf / Kc.
+        for (g, thermo) in out.species_g_over_rt.iter_mut().zip(&self.species_thermo) {
+            *g = thermo.as_ref().map_or(f64::NAN, |th| {
+                th.h_over_rt(temperature_k) - th.s_over_r(temperature_k)
+            });
+        }
+        let ln_p0_over_rt = (STANDARD_PRESSURE_PA / GAS_CONSTANT).ln() - ln_t;
         for (j, (k, p)) in out.reverse.iter_mut().zip(&self.reverse).enumerate() {
             *k = match p {
-                Some(p) => p.evaluate(temperature_k),
+                Some(p) => p.evaluate_log(ln_t, inv_t),
                 None if self.reverse_from_thermo[j] => {
-                    match self.ln_equilibrium_constants(j, temperature_k) {
-                        // kr = kf / Kc, in logarithms so that huge Kc do not overflow first.
-                        Some((_, ln_kc)) => out.forward[j] * (-ln_kc).exp(),
-                        None => f64::NAN,
+                    // ln Kc = -dG0/(R T) + dn ln(P0/(R T)) (see `ln_equilibrium_constants`);
+                    // kr = kf / Kc in logarithms so that huge Kc do not overflow first.
+                    let mut ln_kc = self.delta_moles[j] * ln_p0_over_rt;
+                    for &(s, nu) in &self.net_terms[self.net_start[j]..self.net_start[j + 1]] {
+                        ln_kc -= nu * out.species_g_over_rt[s];
                     }
+                    out.forward[j] * (-ln_kc).exp()
                 }
                 None => 0.0,
             };

@@ -154,8 +154,7 @@ impl CompiledArrhenius {
     /// k from ln T and 1/T computed once per temperature: A exp(n ln T - (Ea/R)/T).
     #[inline]
     fn evaluate_log(&self, ln_t: f64, inv_t: f64) -> f64 {
-        let exponent =
-            self.temperature_exponent * ln_t - self.activation_temperature_k * inv_t;
+        let exponent = self.temperature_exponent * ln_t - self.activation_temperature_k * inv_t;
         if exponent == 0.0 {
             self.pre_exponential_si
         } else {

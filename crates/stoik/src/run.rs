@@ -163,12 +163,17 @@ pub fn run(args: &RunArgs) -> u8 {
     }
 
     if !args.quiet {
+        let b = &resolved.box_conditions;
+        let open_box = !(b.fixed_species.is_empty()
+            && b.emissions_mol_per_m3_s.is_empty()
+            && b.deposition_per_s.is_empty());
         print_summary(
             &scenario,
             mechanism,
             &profiles,
             elapsed.as_secs_f64(),
             &output,
+            open_box,
         );
         print_ignition(&scenario, &resolved, mechanism, &profiles);
         println!("{CAUTION}");
@@ -380,6 +385,7 @@ fn print_summary(
     profiles: &Profiles,
     wall_s: f64,
     output: &std::path::Path,
+    open_box: bool,
 ) {
     let unit = scenario.output_concentration_unit;
     println!(
@@ -437,8 +443,13 @@ fn print_summary(
             .filter(|(_, (s, _))| **s != 0.0)
             .map(|(e, (s, f))| format!("{} {:.1e}", e.symbol, ((f - s) / s).abs()))
             .collect();
+        let note = if open_box {
+            " (an open box: fixed species, emissions and deposition change element totals)"
+        } else {
+            ""
+        };
         println!(
-            "element balance, relative drift start -> end: {}",
+            "element balance, relative drift start -> end: {}{note}",
             drifts.join(", ")
         );
     }

@@ -5,7 +5,7 @@
 
 mod common;
 
-use common::{repo, stoik, text};
+use common::{repo, stoik, text, Table};
 
 fn scratch(name: &str) -> std::path::PathBuf {
     common::scratch("cli", name)
@@ -312,14 +312,11 @@ fn adiabatic_run_reports_ignition_delay_and_the_explosion_caution() {
         "{stdout}"
     );
     assert!(stdout.contains("licensed engineering review"), "{stdout}");
-    let csv = std::fs::read_to_string(dir.join("h2.csv")).unwrap();
-    let mut lines = csv.lines();
-    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
-    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let table = Table::read(&dir.join("h2.csv"));
+    let col = |name: &str| table.col(name);
     let (t_col, p_col) = (col("temperature [K]"), col("pressure [Pa]"));
     let species = ["H2", "O2", "H2O", "OH", "H", "O", "HO2", "AR", "N2"];
-    for line in lines {
-        let row: Vec<f64> = line.split(',').map(|x| x.parse().unwrap()).collect();
+    for row in &table.rows {
         let c: Vec<f64> = species
             .iter()
             .map(|s| row[col(&format!("{s} [mol/m3]"))])
@@ -372,13 +369,9 @@ fn constant_pressure_and_prescribed_kinds_run_from_the_binary() {
             &dir,
         );
         assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
-        let csv = std::fs::read_to_string(dir.join(format!("{name}.csv"))).unwrap();
-        let mut lines = csv.lines();
-        let header: Vec<&str> = lines.next().unwrap().split(',').collect();
-        let col = |h: &str| header.iter().position(|x| *x == h).unwrap();
-        let rows: Vec<Vec<f64>> = lines
-            .map(|l| l.split(',').map(|x| x.parse().unwrap()).collect())
-            .collect();
+        let table = Table::read(&dir.join(format!("{name}.csv")));
+        let col = |h: &str| table.col(h);
+        let rows = &table.rows;
         assert_eq!(rows.len(), 5);
         for (i, row) in rows.iter().enumerate() {
             // Held to the integration's accuracy (default rtol 1e-6): sum(c) = P/(R T) is
@@ -409,13 +402,9 @@ fn urban_box_shows_the_diurnal_cycle() {
     let scenario = repo().join("mechanisms/urban-box.scenario.toml");
     let out = stoik(&["run", scenario.to_str().unwrap(), "-o", "box.csv"], &dir);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
-    let csv = std::fs::read_to_string(dir.join("box.csv")).unwrap();
-    let mut lines = csv.lines();
-    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
-    let col = |h: &str| header.iter().position(|x| *x == h).unwrap();
-    let rows: Vec<Vec<f64>> = lines
-        .map(|l| l.split(',').map(|x| x.parse().unwrap()).collect())
-        .collect();
+    let table = Table::read(&dir.join("box.csv"));
+    let col = |h: &str| table.col(h);
+    let rows = &table.rows;
     let at_hour = |h: f64| {
         rows.iter()
             .find(|r| (r[0] - h * 3600.0).abs() < 1.0)

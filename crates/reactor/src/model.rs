@@ -300,15 +300,14 @@ impl ModelScratch {
 
 /// Energy weight `e_i` (J/mol) and heat capacity `k_i` (J/(mol K)) of species with polynomials
 /// `thermo` at `t` (K): internal energy and cv at constant volume, enthalpy and cp at constant
-/// pressure; also `dk_i/dT` (J/(mol K^2)).
+/// pressure.
 #[inline]
-fn energy_terms(thermo: &Nasa7, t: f64, constraint: Constraint) -> (f64, f64, f64) {
+fn energy_terms(thermo: &Nasa7, t: f64, constraint: Constraint) -> (f64, f64) {
     let h = R * t * thermo.h_over_rt(t);
     let cp = R * thermo.cp_over_r(t);
-    let dcp = R * thermo.cp_slope_over_r(t);
     match constraint {
-        Constraint::ConstantVolume => (h - R * t, cp - R, dcp),
-        Constraint::ConstantPressure => (h, cp, dcp),
+        Constraint::ConstantVolume => (h - R * t, cp - R),
+        Constraint::ConstantPressure => (h, cp),
     }
 }
 
@@ -325,7 +324,7 @@ impl ModelEquations<'_> {
         let mut release = 0.0;
         let mut capacity = 0.0;
         for ((thermo, &ci), &wi) in self.thermo.iter().zip(c).zip(w) {
-            let (e, k, _) = energy_terms(thermo, temperature_k, self.model.constraint);
+            let (e, k) = energy_terms(thermo, temperature_k, self.model.constraint);
             release += e * wi;
             capacity += ci * k;
         }
@@ -389,7 +388,7 @@ impl ModelEquations<'_> {
         let kin = kinetics.jacobian_pattern();
         if energy_solved {
             for (i, thermo) in self.thermo.iter().enumerate() {
-                let (e, cap, _) = energy_terms(thermo, t, constraint);
+                let (e, cap) = energy_terms(thermo, t, constraint);
                 scratch.energy[i] = e;
                 scratch.capacity[i] = cap;
             }
@@ -423,7 +422,8 @@ impl ModelEquations<'_> {
             let mut capacity_slope = 0.0;
             for (i, thermo) in self.thermo.iter().enumerate() {
                 capacity_release += scratch.capacity[i] * w[i];
-                capacity_slope += c[i] * energy_terms(thermo, t, constraint).2;
+                // dk_i/dT = dcp_i/dT for cv = cp - R and for cp alike.
+                capacity_slope += c[i] * R * thermo.cp_slope_over_r(t);
             }
             kinetics.evaluate_rate_constant_slopes(t, k, &mut scratch.slopes);
             kinetics.production_rate_slopes(k, &scratch.slopes, c, &mut scratch.dw_dt);

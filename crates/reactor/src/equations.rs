@@ -161,6 +161,8 @@ pub(crate) struct BatchEquations<M: Backend> {
     /// Scratch for Jacobian values in state-pattern order, allocated once.
     jac_values: RefCell<Vec<f64>>,
     scratch: RefCell<ModelScratch>,
+    /// Compensation terms of the production-rate sums (one per species).
+    carry: RefCell<Vec<f64>>,
     pub(crate) rhs_evaluations: Cell<usize>,
     pub(crate) jacobian_evaluations: Cell<usize>,
     /// Enforce non-negativity in the step acceptance (see `IntegrationOptions::non_negative`).
@@ -201,6 +203,7 @@ impl<M: Backend> BatchEquations<M> {
             initial,
             jac_values: RefCell::new(vec![0.0; state_pattern.nnz()]),
             scratch: RefCell::new(scratch),
+            carry: RefCell::new(vec![0.0; kinetics.n_species()]),
             state_pattern,
             pattern_map,
             kinetics,
@@ -264,10 +267,12 @@ impl<M: Backend> BatchEquations<M> {
         self.rhs_evaluations.set(self.rhs_evaluations.get() + 1);
         let temperature_k = self.rates_for(t_s, y);
         let k = self.rate_constants.borrow();
+        let carry = &mut self.carry.borrow_mut();
         if self.is_plain() {
-            self.kinetics.production_rates(&k, y, f);
+            self.kinetics.production_rates_compensated(&k, y, f, carry);
         } else {
-            self.model_equations().rhs(&k, t_s, temperature_k, y, f);
+            self.model_equations()
+                .rhs(&k, t_s, temperature_k, y, f, carry);
         }
         let n = self.kinetics.n_species();
         self.model.conditions.apply_to_rhs(&y[..n], &mut f[..n]);
@@ -331,10 +336,11 @@ impl<M: Backend> BatchEquations<M> {
                 let mut y = c.to_vec();
                 y.push(temperature_k);
                 let mut f = vec![0.0; y.len()];
+                let mut carry = vec![0.0; c.len()];
                 let mut k = self.kinetics.rate_constants(temperature_k);
                 self.model.conditions.apply_photolysis(t_s, &mut k.forward);
                 self.model_equations()
-                    .rhs(&k, t_s, temperature_k, &y, &mut f);
+                    .rhs(&k, t_s, temperature_k, &y, &mut f, &mut carry);
                 f[c.len()]
             }
         }

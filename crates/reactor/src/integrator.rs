@@ -128,6 +128,10 @@ where
     let mut consecutive_rejections = 0;
     while next < outputs.len() {
         let t_before = solver.state().t;
+        // The smallest step allowed is relative to the time reached: diffsol's default is an
+        // absolute 2.2e-16 s, which refused valid runs whose natural first steps are shorter
+        // (species starting at zero with tiny absolute tolerances; docs/solver-fidelity.md).
+        *solver.config_mut().as_base_mut().minimum_timestep = minimum_step(t_before);
         let reason = solver.step()?;
         let t = solver.state().t;
         // Non-negativity in the step acceptance: a step whose solution goes more negative
@@ -175,6 +179,17 @@ where
     }
     Ok(())
 }
+
+/// The smallest step size (s) allowed at time `t_s`: ten units of round-off of `t_s` (a
+/// shorter step would not change the time it is added to; scipy's `solve_ivp` uses the same
+/// bound), and never below [`ABSOLUTE_MINIMUM_STEP_S`].
+pub(crate) fn minimum_step(t_s: f64) -> f64 {
+    (10.0 * f64::EPSILON * t_s.abs()).max(ABSOLUTE_MINIMUM_STEP_S)
+}
+
+/// The absolute floor of the step size (s): far below any chemical time scale, and well above
+/// the subnormal range so that products with rates stay normal.
+pub(crate) const ABSOLUTE_MINIMUM_STEP_S: f64 = 1e-200;
 
 /// Retries of one step that goes negative before it is accepted anyway (its negative value is
 /// then reported in [`SolverStats::most_negative_concentration_mol_per_m3`]).
@@ -463,6 +478,7 @@ fn build_problem<M: Backend>(
         .build_from_eqn(eqn)
         .map_err(|e| ReactorError::Setup(e.to_string()))?;
     problem.ode_options.max_number_timesteps = options.max_steps;
+    problem.ode_options.min_timestep = ABSOLUTE_MINIMUM_STEP_S;
     Ok(problem)
 }
 

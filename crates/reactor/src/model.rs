@@ -332,11 +332,20 @@ impl ModelEquations<'_> {
     }
 
     /// The state derivative `f = dy/dt` at time `t_s` for state `y`, given the rate
-    /// constants `k` at the model temperature `temperature_k`. No allocation.
-    pub fn rhs(&self, k: &RateConstants, t_s: f64, temperature_k: f64, y: &[f64], f: &mut [f64]) {
+    /// constants `k` at the model temperature `temperature_k`. `carry` is scratch of length
+    /// `n_species` for the compensated sums of the production rates. No allocation.
+    pub fn rhs(
+        &self,
+        k: &RateConstants,
+        t_s: f64,
+        temperature_k: f64,
+        y: &[f64],
+        f: &mut [f64],
+        carry: &mut [f64],
+    ) {
         let n = self.kinetics.n_species();
         let (c, w) = (&y[..n], &mut f[..n]);
-        self.kinetics.production_rates(k, c, w);
+        self.kinetics.production_rates_compensated(k, c, w, carry);
         let temperature_rate = match &self.model.energy {
             Energy::Isothermal => 0.0,
             Energy::Prescribed(history) => history.slope_at(t_s),
@@ -552,7 +561,8 @@ mod tests {
                 let temp = model.temperature(t_s, y, n, 1500.0);
                 let k = kinetics.rate_constants(temp);
                 let mut out = vec![0.0; m];
-                eq.rhs(&k, t_s, temp, y, &mut out);
+                let mut carry = vec![0.0; n];
+                eq.rhs(&k, t_s, temp, y, &mut out, &mut carry);
                 out
             };
             let mut worst: f64 = 0.0;

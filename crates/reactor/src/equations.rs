@@ -19,6 +19,7 @@ use stoik_thermo::Nasa7;
 
 use crate::fixed_lu::FixedPatternSolver;
 use crate::model::{state_pattern, Constraint, Energy, ModelEquations, ModelScratch, ReactorModel};
+use crate::watch::Quantity;
 
 /// A host linear-algebra backend: how to see diffsol's vectors as slices and how to write
 /// the analytic Jacobian into its matrix type.
@@ -251,6 +252,24 @@ impl<M: Backend> BatchEquations<M> {
     pub(crate) fn temperature_at(&self, t_s: f64, y: &[f64]) -> f64 {
         self.model
             .temperature(t_s, y, self.kinetics.n_species(), self.held_k.get())
+    }
+
+    /// The value of `quantity` at time `t_s` (s) and state `y`; `f` is scratch of the state's
+    /// length (a right-hand-side evaluation for dT/dt of an energy-solving model). No
+    /// allocation.
+    pub(crate) fn quantity(&self, quantity: Quantity, t_s: f64, y: &[f64], f: &mut [f64]) -> f64 {
+        match quantity {
+            Quantity::Concentration(i) => y.get(i).copied().unwrap_or(f64::NAN),
+            Quantity::Temperature => self.temperature_at(t_s, y),
+            Quantity::TemperatureRate => match &self.model.energy {
+                Energy::Isothermal => 0.0,
+                Energy::Prescribed(history) => history.slope_at(t_s),
+                Energy::Adiabatic => {
+                    self.state_derivative(t_s, y, f);
+                    f[self.kinetics.n_species()]
+                }
+            },
+        }
     }
 
     fn model_equations(&self) -> ModelEquations<'_> {

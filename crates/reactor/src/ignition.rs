@@ -1,6 +1,8 @@
-//! Ignition delay from a profile, by one of three common-practice criteria, interpolated
-//! between output points.
+//! Ignition delay from a profile, by one of three common-practice criteria: located on the
+//! solver's own steps when the run watched for it ([`IgnitionCriterion::watches`]), otherwise
+//! interpolated between output points.
 
+use crate::watch::{Quantity, Watch};
 use crate::Profiles;
 
 /// How the moment of ignition is defined (all common practice).
@@ -18,6 +20,25 @@ pub enum IgnitionCriterion {
     TemperatureRise(f64),
 }
 
+impl IgnitionCriterion {
+    /// What a run should locate on its solver steps (add to
+    /// [`IntegrationOptions::watch`](crate::IntegrationOptions::watch)) so that
+    /// [`ignition_delay`] is accurate to the integration tolerance whatever the output grid:
+    /// the maximum of dT/dt or of the species, or the crossing of `initial_temperature_k`
+    /// (K) plus the rise; the maximum temperature rides along for the rise report.
+    pub fn watches(&self, initial_temperature_k: f64) -> Vec<Watch> {
+        let main = match *self {
+            IgnitionCriterion::MaxTemperatureRate => Watch::Maximum(Quantity::TemperatureRate),
+            IgnitionCriterion::SpeciesMaximum(i) => Watch::Maximum(Quantity::Concentration(i)),
+            IgnitionCriterion::TemperatureRise(rise_k) => Watch::Crossing {
+                quantity: Quantity::Temperature,
+                value: initial_temperature_k + rise_k,
+            },
+        };
+        vec![main, Watch::Maximum(Quantity::Temperature)]
+    }
+}
+
 /// An ignition delay and how it was found.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct IgnitionDelay {
@@ -27,6 +48,9 @@ pub struct IgnitionDelay {
     pub criterion: IgnitionCriterion,
     /// Largest temperature rise over the profile (K): max T - T(t0).
     pub temperature_rise_k: f64,
+    /// Whether the delay was located on the solver's own steps (accurate to the integration
+    /// tolerance) rather than interpolated between output times.
+    pub on_solver_steps: bool,
 }
 
 /// Abscissa of the vertex of the parabola through three points (x increasing); the middle
@@ -62,11 +86,38 @@ fn peak_time(times: &[f64], values: &[f64]) -> Option<f64> {
 /// ignition by that criterion: no temperature rise of at least 1 K with an interior maximum
 /// of dT/dt, no interior maximum of the species, or the threshold never crossed. The delay
 /// is measured from the first output time.
+///
+/// When the run located the criterion on its solver steps (the watches of
+/// [`IgnitionCriterion::watches`] were in its options), those results are used: accurate to
+/// the integration tolerance and independent of the output grid. Otherwise the delay is
+/// interpolated between output times, and its accuracy depends on how fine the grid is near
+/// ignition.
 pub fn ignition_delay(profiles: &Profiles, criterion: IgnitionCriterion) -> Option<IgnitionDelay> {
     let times = &profiles.times_s;
     let temps = &profiles.temperatures_k;
     let (&t0, &temp0) = (times.first()?, temps.first()?);
-    let temperature_rise_k = temps.iter().fold(f64::NEG_INFINITY, |m, &t| m.max(t)) - temp0;
+    let grid_max = temps.iter().fold(f64::NEG_INFINITY, |m, &t| m.max(t));
+    let located_max = profiles
+        .located(Watch::Maximum(Quantity::Temperature))
+        .map_or(f64::NEG_INFINITY, |l| l.value);
+    let temperature_rise_k = grid_max.max(located_max) - temp0;
+    if let Some(found) = criterion
+        .watches(temp0)
+        .first()
+        .and_then(|w| profiles.located(*w))
+    {
+        let usable = match criterion {
+            IgnitionCriterion::MaxTemperatureRate => temperature_rise_k >= 1.0 && found.interior,
+            IgnitionCriterion::SpeciesMaximum(_) => found.interior,
+            IgnitionCriterion::TemperatureRise(_) => true,
+        };
+        return usable.then_some(IgnitionDelay {
+            delay_s: found.time_s - t0,
+            criterion,
+            temperature_rise_k,
+            on_solver_steps: true,
+        });
+    }
     let at = match criterion {
         IgnitionCriterion::MaxTemperatureRate => {
             if temperature_rise_k < 1.0 || temperature_rise_k.is_nan() {
@@ -109,5 +160,6 @@ pub fn ignition_delay(profiles: &Profiles, criterion: IgnitionCriterion) -> Opti
         delay_s: at - t0,
         criterion,
         temperature_rise_k,
+        on_solver_steps: false,
     })
 }

@@ -30,6 +30,7 @@ use stoik_kinetics::Kinetics;
 use crate::equations::{pattern_is_valid, Backend, BatchEquations};
 use crate::fixed_lu::FixedPatternSolver;
 use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
+use crate::watch::{Quantity, Watch, Watcher};
 use crate::{
     IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra, Profiles,
     ReactorError, SolverStats,
@@ -108,10 +109,13 @@ fn most_negative(c: &[f64], so_far: &mut f64) {
 /// Steps `solver` to `outputs.last()` (a stop time, hit exactly) and hands every output time
 /// with its state to `record`: by interpolation inside the steps, by the state itself at the
 /// stop. Outputs must lie strictly after the solver's time and increase strictly.
+#[allow(clippy::too_many_arguments)]
 fn drive<'a, M, S>(
     solver: &mut S,
     outputs: &[f64],
     buffer: &mut M::V,
+    scratch: &mut [f64],
+    mut watcher: Option<&mut Watcher>,
     record: &mut dyn FnMut(f64, &[f64]),
     negative: &mut f64,
     rejections: &mut usize,
@@ -161,6 +165,26 @@ where
         }
         consecutive_rejections = 0;
         most_negative(M::slice(solver.state().y), negative);
+        if let Some(watcher) = watcher.as_deref_mut() {
+            let solver = &*solver;
+            let mut at = |tq: f64, q: Quantity| {
+                let eqn = &solver.problem().eqn;
+                let n = eqn.kinetics.n_species();
+                if tq == t && q == Quantity::TemperatureRate && eqn.model.solves_energy() {
+                    // At a step end the solver's own derivative serves to bracket a maximum
+                    // (the refinement inside the bracket evaluates the model exactly); it saves
+                    // one right-hand side per step.
+                    M::slice(solver.state().dy)[n]
+                } else if tq == t {
+                    eqn.quantity(q, t, M::slice(solver.state().y), scratch)
+                } else if solver.interpolate_inplace(tq, buffer).is_ok() {
+                    eqn.quantity(q, tq, M::slice(buffer), scratch)
+                } else {
+                    f64::NAN
+                }
+            };
+            watcher.after_step(t, &mut at);
+        }
         let stopped = matches!(reason, OdeSolverStopReason::TstopReached);
         while next < outputs.len() && (outputs[next] < t || (stopped && outputs[next] <= t)) {
             if outputs[next] == t {
@@ -332,6 +356,7 @@ where
     fn advance(
         &mut self,
         outputs: &[f64],
+        watcher: Option<&mut Watcher>,
         record: &mut dyn FnMut(f64, &[f64]),
         negative: &mut f64,
         rejections: &mut usize,
@@ -350,6 +375,8 @@ where
             &mut self.solver,
             outputs,
             &mut self.buffer,
+            &mut self.probe_w,
+            watcher,
             record,
             negative,
             rejections,
@@ -392,6 +419,18 @@ where
         // Re-evaluates the solver's cached right-hand-side Jacobian at the new state, in
         // place; the returned borrow is released at once.
         drop(self.solver.jacobian());
+    }
+
+    /// `quantity` at the current state (no allocation).
+    fn quantity_now(&mut self, quantity: Quantity) -> f64 {
+        let t = self.time();
+        let eqn = &self.solver.problem().eqn;
+        eqn.quantity(
+            quantity,
+            t,
+            M::slice(self.solver.state().y),
+            &mut self.probe_w,
+        )
     }
 
     fn set_temperature(&mut self, temperature_k: f64) {
@@ -515,6 +554,8 @@ pub struct BatchSystem {
     linear_algebra_used: LinearAlgebra,
     n_species: usize,
     max_steps: usize,
+    /// Quantities to locate on the solver's steps in [`integrate`](Self::integrate).
+    watches: Vec<Watch>,
 }
 
 impl BatchSystem {
@@ -580,6 +621,7 @@ impl BatchSystem {
             },
             n_species: kinetics.n_species(),
             max_steps: options.max_steps,
+            watches: options.watch.clone(),
         })
     }
 
@@ -666,6 +708,7 @@ impl BatchSystem {
             session,
             linear_algebra_used,
             stats,
+            watcher: Watcher::default(),
         };
         integrator.refresh_stats();
         Ok(integrator)
@@ -698,6 +741,7 @@ impl BatchSystem {
         let model = self.model.clone();
         let n = self.n_species;
         let held_k = self.temperature();
+        let watches = self.watches.clone();
         let mut integrator = self.open(t0, initial_mol_per_m3)?;
         let mut profiles = Profiles {
             times_s: Vec::with_capacity(output_times_s.len()),
@@ -706,6 +750,7 @@ impl BatchSystem {
             temperature_rates_k_per_s: Vec::new(),
             stats: SolverStats::default(),
             linear_algebra_used: integrator.linear_algebra_used,
+            located: Vec::new(),
         };
         let (times, rows, temperatures) = (
             &mut profiles.times_s,
@@ -718,7 +763,9 @@ impl BatchSystem {
             temperatures.push(model.temperature(t, y, n, held_k));
         };
         record(t0, integrator.full_state());
+        integrator.watch(&watches);
         let result = integrator.run(&output_times_s[1..], &mut record);
+        profiles.located = integrator.watcher.results();
         profiles.stats = integrator.stats;
         let time_s = integrator.time();
         drop(integrator);
@@ -798,6 +845,8 @@ pub struct BatchIntegrator<'a> {
     session: Session<'a>,
     linear_algebra_used: LinearAlgebra,
     stats: SolverStats,
+    /// Quantities located on the solver's steps (empty for a stepping session).
+    watcher: Watcher,
 }
 
 impl BatchIntegrator<'_> {
@@ -830,12 +879,24 @@ impl BatchIntegrator<'_> {
                         temperature_rates_k_per_s: Vec::new(),
                         stats: self.stats,
                         linear_algebra_used: self.linear_algebra_used,
+                        located: Vec::new(),
                     },
                 }
                 .into());
             }
         }
         Ok(self.state())
+    }
+
+    /// Starts locating `watches` on the solver's steps from the current state.
+    fn watch(&mut self, watches: &[Watch]) {
+        self.watcher = Watcher::new(watches);
+        let t = self.time();
+        let session = &mut self.session;
+        self.watcher.start(
+            t,
+            &mut |q| with_stepper!(&mut *session, s => s.quantity_now(q)),
+        );
     }
 
     /// Steps through `outputs` (strictly after the current time, increasing), recording each;
@@ -870,6 +931,8 @@ impl BatchIntegrator<'_> {
                 break;
             }
             with_stepper!(&mut self.session, s => s.restart(None, None));
+            // The interpolant starts afresh at the breakpoint.
+            self.watcher.restarted();
             from = upto;
         }
         if result.is_ok() && from < outputs.len() {
@@ -892,8 +955,8 @@ impl BatchIntegrator<'_> {
     ) -> Result<(), String> {
         let negative = &mut self.stats.most_negative_concentration_mol_per_m3;
         let rejections = &mut self.stats.negative_step_rejections;
-        let result =
-            with_stepper!(&mut self.session, s => s.advance(outputs, record, negative, rejections));
+        let watcher = (!self.watcher.is_empty()).then_some(&mut self.watcher);
+        let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, record, negative, rejections));
         let reason = result.map_err(|e| e.to_string());
         most_negative(
             with_stepper!(&self.session, s => s.state()),

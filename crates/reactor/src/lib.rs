@@ -43,6 +43,7 @@ mod fixed_lu;
 mod ignition;
 mod integrator;
 mod model;
+mod watch;
 
 pub use atmosphere::{
     cos_solar_zenith, solar_declination_rad, BoxConditions, PhotolysisForm, PhotolysisRate, Sun,
@@ -51,6 +52,7 @@ pub use batch::{integrate_batch, integrate_batch_serial, BatchCase, BatchError};
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
 pub use model::{Constraint, Energy, ReactorModel, TemperatureHistory};
+pub use watch::{Located, Quantity, Watch};
 
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::Mechanism;
@@ -128,6 +130,11 @@ pub struct IntegrationOptions {
     /// row. The right-hand side is never clipped, so the Jacobian stays exact. The
     /// projection can change element totals by at most the absolute tolerances.
     pub non_negative: bool,
+    /// Quantities to locate on the solver's own steps during [`integrate`] and
+    /// [`simulate`] (maxima and threshold crossings, refined on the solver's interpolant to
+    /// the integration tolerance, independent of the output grid); the results are in
+    /// [`Profiles::located`]. Empty by default. Stepping sessions ignore them.
+    pub watch: Vec<Watch>,
 }
 
 impl IntegrationOptions {
@@ -141,6 +148,7 @@ impl IntegrationOptions {
             linear_algebra: LinearAlgebra::Auto,
             max_steps: 100_000,
             non_negative: true,
+            watch: Vec::new(),
         }
     }
 }
@@ -187,6 +195,19 @@ pub struct Profiles {
     /// The linear algebra actually used ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
     /// [`LinearAlgebra::SparseFaer`]).
     pub linear_algebra_used: LinearAlgebra,
+    /// Each watch of [`IntegrationOptions::watch`] with what it found on the solver's steps
+    /// (`None`: a crossing not reached); on a failure, what was found up to it.
+    pub located: Vec<(Watch, Option<Located>)>,
+}
+
+impl Profiles {
+    /// What `watch` found, if it was watched and found.
+    pub fn located(&self, watch: Watch) -> Option<Located> {
+        self.located
+            .iter()
+            .find(|(w, _)| *w == watch)
+            .and_then(|(_, found)| *found)
+    }
 }
 
 /// An integration that stopped before its end: the solver reported an error.

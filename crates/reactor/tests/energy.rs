@@ -340,6 +340,7 @@ fn ignition_delay_criteria_recover_known_times() {
             .collect(),
         stats: SolverStats::default(),
         linear_algebra_used: Default::default(),
+        located: Vec::new(),
     };
     let delay = |c| {
         ignition_delay(&profiles, c)

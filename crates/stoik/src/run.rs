@@ -116,11 +116,19 @@ pub fn run(args: &RunArgs) -> u8 {
     }
 
     let kinetics = Kinetics::compile(mechanism);
-    let options = integration_options(&scenario, absolute, !args.allow_negative);
+    let mut options = integration_options(&scenario, absolute, !args.allow_negative);
     let model = match reactor_model(&scenario, &resolved) {
         Ok(m) => m,
         Err(e) => return bad_flag(&e),
     };
+    // The ignition delay is located on the solver's own steps, not on the output grid.
+    if let Some(criterion) = ignition_criterion(&scenario, resolved.ignition_species) {
+        let initial_k = match &model.energy {
+            Energy::Prescribed(history) => history.temperature_at(0.0),
+            _ => scenario.temperature_k,
+        };
+        options.watch.extend(criterion.watches(initial_k));
+    }
     let result = reactor::simulate(
         &kinetics,
         &model,
@@ -357,6 +365,7 @@ pub fn integration_options(
         },
         max_steps: scenario.max_steps,
         non_negative,
+        watch: Vec::new(),
     }
 }
 

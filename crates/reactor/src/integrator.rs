@@ -28,12 +28,13 @@ use diffsol::{
 use stoik_kinetics::Kinetics;
 
 use crate::equations::{pattern_is_valid, Backend, BatchEquations};
+use crate::failure::Diagnosis;
 use crate::fixed_lu::FixedPatternSolver;
 use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
 use crate::watch::{Quantity, Watch, Watcher};
 use crate::{
-    IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra, Profiles,
-    ReactorError, SolverStats,
+    FastestComponent, IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra,
+    Profiles, ReactorError, SolverStats,
 };
 
 /// Checks the options and the temperature of a [`BatchSystem`].
@@ -421,6 +422,32 @@ where
         drop(self.solver.jacobian());
     }
 
+    /// The state component changing fastest relative to its error weight at the current
+    /// state: the largest |f_i| / (atol_i + rtol |y_i|), with its value and rate.
+    fn fastest_component(&mut self) -> Option<FastestComponent> {
+        let t = self.time();
+        let problem = self.solver.problem();
+        let y = M::slice(self.solver.state().y);
+        problem.eqn.state_derivative(t, y, &mut self.probe_w);
+        let atol = M::slice(&problem.atol);
+        let rtol = problem.rtol;
+        let n = problem.eqn.kinetics.n_species();
+        (0..y.len())
+            .map(|i| {
+                let weight = atol[i] + rtol * y[i].abs();
+                (i, (self.probe_w[i] / weight).abs())
+            })
+            .filter(|(_, r)| r.is_finite())
+            .max_by(|a, b| a.1.total_cmp(&b.1))
+            .map(|(i, r)| FastestComponent {
+                index: (i < n).then_some(i),
+                value: y[i],
+                rate_per_s: self.probe_w[i],
+                absolute_tolerance: atol[i],
+                relative_rate_per_s: r,
+            })
+    }
+
     /// `quantity` at the current state (no allocation).
     fn quantity_now(&mut self, quantity: Quantity) -> f64 {
         let t = self.time();
@@ -772,9 +799,11 @@ impl BatchSystem {
         profiles.temperature_rates_k_per_s = self.temperature_rates(&profiles);
         match result {
             Ok(()) => Ok(profiles),
-            Err(reason) => Err(IntegrationFailure {
+            Err(d) => Err(IntegrationFailure {
                 time_s,
-                reason,
+                reason: d.message,
+                kind: d.kind,
+                fastest: d.fastest,
                 partial: profiles,
             }
             .into()),
@@ -867,11 +896,13 @@ impl BatchIntegrator<'_> {
         }
         if t_s > now {
             let mut record = |_: f64, _: &[f64]| {};
-            if let Err(reason) = self.run(&[t_s], &mut record) {
+            if let Err(d) = self.run(&[t_s], &mut record) {
                 let time_s = self.time();
                 return Err(IntegrationFailure {
                     time_s,
-                    reason,
+                    reason: d.message,
+                    kind: d.kind,
+                    fastest: d.fastest,
                     partial: Profiles {
                         times_s: vec![time_s],
                         concentrations_mol_per_m3: vec![self.state().to_vec()],
@@ -904,7 +935,11 @@ impl BatchIntegrator<'_> {
     ///
     /// A prescribed temperature history's breakpoints inside the interval become stop
     /// times (the slope dT/dt jumps there): the solver stops exactly on each and restarts.
-    fn run(&mut self, outputs: &[f64], record: &mut dyn FnMut(f64, &[f64])) -> Result<(), String> {
+    fn run(
+        &mut self,
+        outputs: &[f64],
+        record: &mut dyn FnMut(f64, &[f64]),
+    ) -> Result<(), Diagnosis> {
         let now = self.time();
         let breakpoints: Vec<f64> = match (&self.session_model().energy, outputs.last()) {
             (Energy::Prescribed(history), Some(&end)) => {
@@ -952,12 +987,15 @@ impl BatchIntegrator<'_> {
         &mut self,
         outputs: &[f64],
         record: &mut dyn FnMut(f64, &[f64]),
-    ) -> Result<(), String> {
+    ) -> Result<(), Diagnosis> {
         let negative = &mut self.stats.most_negative_concentration_mol_per_m3;
         let rejections = &mut self.stats.negative_step_rejections;
         let watcher = (!self.watcher.is_empty()).then_some(&mut self.watcher);
         let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, record, negative, rejections));
-        let reason = result.map_err(|e| e.to_string());
+        let reason = result.map_err(|e| {
+            let fastest = with_stepper!(&mut self.session, s => s.fastest_component());
+            Diagnosis::new(&e, fastest)
+        });
         most_negative(
             with_stepper!(&self.session, s => s.state()),
             &mut self.stats.most_negative_concentration_mol_per_m3,

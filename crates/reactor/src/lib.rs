@@ -39,6 +39,7 @@
 mod atmosphere;
 mod batch;
 mod equations;
+mod failure;
 mod fixed_lu;
 mod ignition;
 mod integrator;
@@ -210,14 +211,60 @@ impl Profiles {
     }
 }
 
+/// What kind of failure stopped an integration.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FailureKind {
+    /// The budget of accepted steps per call ([`IntegrationOptions::max_steps`]) ran out.
+    StepBudget {
+        /// Accepted steps taken in the call.
+        steps: usize,
+    },
+    /// The step size fell to the round-off level of the time reached (ten units of
+    /// round-off of t).
+    StepSizeTooSmall,
+    /// The local error test rejected too many attempts at one step.
+    ErrorTestFailures {
+        /// Rejected attempts counted by the solver.
+        count: usize,
+    },
+    /// Newton's iteration failed to converge too many times in one step.
+    NewtonFailures {
+        /// Failures in the step.
+        count: usize,
+    },
+    /// Any other solver error (see [`IntegrationFailure::reason`]).
+    Other,
+}
+
+/// The state component that changed fastest relative to its error weight when an
+/// integration failed: the largest |dy_i/dt| / (atol_i + rtol |y_i|).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FastestComponent {
+    /// Species index (mechanism order), or `None` for the temperature state.
+    pub index: Option<usize>,
+    /// Its value (mol/m3, or K for the temperature).
+    pub value: f64,
+    /// Its time derivative (mol/(m3 s), or K/s).
+    pub rate_per_s: f64,
+    /// Its absolute tolerance (mol/m3 or K).
+    pub absolute_tolerance: f64,
+    /// |rate| / (atol + rtol |value|): tolerance units per second (1/s).
+    pub relative_rate_per_s: f64,
+}
+
 /// An integration that stopped before its end: the solver reported an error.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
-#[error("integration failed at t = {time_s} s: {reason}")]
+#[error("integration failed at t = {time_s:e} s: {reason}")]
 pub struct IntegrationFailure {
     /// Time reached (s): the end of the last accepted step.
     pub time_s: f64,
-    /// The solver's message.
+    /// What happened, in words.
     pub reason: String,
+    /// What happened, as a kind.
+    pub kind: FailureKind,
+    /// The component changing fastest relative to its tolerance at the failure; see
+    /// [`IntegrationFailure::advice`] for a user-facing explanation with species names.
+    pub fastest: Option<FastestComponent>,
     /// The output rows produced before the failure (for [`BatchIntegrator`], the single row
     /// of the state at `time_s`), with the statistics up to the failure.
     pub partial: Profiles,

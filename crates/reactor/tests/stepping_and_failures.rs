@@ -9,8 +9,8 @@ use stoik_kinetics::Kinetics;
 use stoik_mechanism::model::{Element, Mechanism, Species};
 use stoik_mechanism::GAS_CONSTANT;
 use stoik_reactor::{
-    element_balance, integrate, BatchSystem, IntegrationError, IntegrationOptions, LinearAlgebra,
-    ReactorError,
+    element_balance, integrate, BatchSystem, FailureKind, IntegrationError, IntegrationOptions,
+    LinearAlgebra, ReactorError,
 };
 
 #[test]
@@ -203,8 +203,24 @@ fn step_limit_failure_keeps_partial_profile_and_names_time() {
     );
     let message = err.to_string();
     assert!(
-        message.starts_with(&format!("integration failed at t = {} s: ", failure.time_s)),
+        message.starts_with(&format!(
+            "integration failed at t = {:e} s: ",
+            failure.time_s
+        )),
         "{message}"
+    );
+    // The failure says why, in terms a user can act on.
+    assert_eq!(failure.kind, FailureKind::StepBudget { steps: 10 });
+    let fastest = failure
+        .fastest
+        .expect("the fastest-changing component is named");
+    assert!(fastest.index.is_some_and(|i| i < 3));
+    let names = ["A", "B", "C"].map(String::from);
+    let advice = failure.advice(&names);
+    assert!(advice.contains("max_steps"), "{advice}");
+    assert!(
+        advice.contains(&format!("{} = ", names[fastest.index.unwrap_or(0)])),
+        "{advice}"
     );
     // The rows before the failure are kept: t = 0 and (if reached) 1e-6, never 40.
     let partial = &failure.partial;

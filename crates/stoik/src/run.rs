@@ -140,7 +140,8 @@ pub fn run(args: &RunArgs) -> u8 {
     let (profiles, failure) = match result {
         Ok(p) => (p, None),
         Err(reactor::IntegrationError::Failed(f)) => {
-            let message = f.to_string();
+            let names: Vec<String> = mechanism.species.iter().map(|s| s.name.clone()).collect();
+            let message = format!("{f}\n{}", f.advice(&names));
             (f.partial, Some(message))
         }
         Err(e) => {

@@ -95,6 +95,7 @@ pub fn options(
         linear_algebra,
         max_steps: 100_000,
         non_negative: true,
+        watch: Vec::new(),
     }
 }
 

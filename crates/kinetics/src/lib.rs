@@ -195,6 +195,10 @@ pub(crate) enum ThirdBodyKind {
 /// evaluate as often as needed; every evaluation routine is allocation-free.
 #[derive(Debug, Clone)]
 pub struct Kinetics {
+    /// Coefficient vectors (one per species) of the linear combinations of concentrations
+    /// that every step leaves unchanged: a basis of the left null space of the net
+    /// stoichiometric matrix.
+    pub(crate) conserved: Vec<Vec<f64>>,
     pub(crate) n_species: usize,
     pub(crate) n_steps: usize,
     pub(crate) forward: Vec<CompiledArrhenius>,
@@ -246,6 +250,14 @@ impl Kinetics {
     /// Compiles `mechanism` (whose indices the loaders have validated).
     pub fn compile(mechanism: &Mechanism) -> Kinetics {
         compile::compile(mechanism)
+    }
+
+    /// The conserved linear combinations of concentrations: coefficient vectors `l` (one
+    /// entry per species, dimensionless) with `l . w(c) = 0` for every state, a basis of the
+    /// left null space of the net stoichiometric matrix (element totals, moieties). Integrators
+    /// use them to keep the invariants from drifting.
+    pub fn conserved_combinations(&self) -> &[Vec<f64>] {
+        &self.conserved
     }
 
     /// Multiplies the forward and reverse pre-exponential factors of step `step` by `factor`

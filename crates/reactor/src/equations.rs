@@ -168,6 +168,8 @@ pub(crate) struct BatchEquations<M: Backend> {
     pub(crate) jacobian_evaluations: Cell<usize>,
     /// Enforce non-negativity in the step acceptance (see `IntegrationOptions::non_negative`).
     pub(crate) non_negative: bool,
+    /// Linear invariants of the state kept by projection (coefficients over the state).
+    pub(crate) laws: Vec<Vec<f64>>,
     sparsity: Option<M::Sparsity>,
     ctx: M::C,
 }
@@ -212,6 +214,7 @@ impl<M: Backend> BatchEquations<M> {
             thermo,
             rhs_evaluations: Cell::new(0),
             jacobian_evaluations: Cell::new(0),
+            laws: Vec::new(),
             non_negative: true,
             sparsity,
             ctx: M::C::default(),

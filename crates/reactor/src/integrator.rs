@@ -30,6 +30,7 @@ use stoik_kinetics::Kinetics;
 use crate::equations::{pattern_is_valid, Backend, BatchEquations};
 use crate::failure::Diagnosis;
 use crate::fixed_lu::FixedPatternSolver;
+use crate::invariants::Invariants;
 use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
 use crate::watch::{Quantity, Watch, Watcher};
 use crate::{
@@ -117,6 +118,8 @@ fn drive<'a, M, S>(
     buffer: &mut M::V,
     scratch: &mut [f64],
     mut watcher: Option<&mut Watcher>,
+    mut invariants: Option<&mut Invariants>,
+    projections: &mut usize,
     record: &mut dyn FnMut(f64, &[f64]),
     negative: &mut f64,
     rejections: &mut usize,
@@ -165,6 +168,29 @@ where
             continue;
         }
         consecutive_rejections = 0;
+        // Linear invariants back on their values when round-off has moved them (see the
+        // `invariants` module); the solver restarts from the corrected state.
+        if let Some(inv) = invariants.as_deref_mut() {
+            let problem = solver.problem();
+            let atol = M::slice(&problem.atol);
+            let mut corrected = false;
+            {
+                let y = M::slice(solver.state().y);
+                scratch[..y.len()].copy_from_slice(y);
+                if inv.project(&mut scratch[..y.len()], atol, problem.rtol) {
+                    corrected = true;
+                }
+            }
+            if corrected {
+                let state = solver.state_mut();
+                let y = M::slice_mut(state.y);
+                let m = y.len();
+                y.copy_from_slice(&scratch[..m]);
+                problem.eqn.state_derivative(t, y, M::slice_mut(state.dy));
+                solver.set_stop_time(t_end)?;
+                *projections += 1;
+            }
+        }
         most_negative(M::slice(solver.state().y), negative);
         if let Some(watcher) = watcher.as_deref_mut() {
             let solver = &*solver;
@@ -297,6 +323,8 @@ struct Stepper<M: Backend, S> {
     probe_w: Vec<f64>,
     /// Accepted steps allowed per call.
     max_steps: usize,
+    /// The state's linear invariants, kept by projection (`None`: none, or not kept).
+    invariants: Option<Invariants>,
     /// The equations' right-hand-side and Jacobian counters when the session began.
     rhs_base: usize,
     jacobian_base: usize,
@@ -322,7 +350,12 @@ where
         let jacobian_base = problem.eqn.jacobian_evaluations.get();
         let solver = make(problem).map_err(|e| ReactorError::Setup(e.to_string()))?;
         let n = initial.len();
+        let mut invariants = Invariants::new(&problem.eqn.laws, n);
+        if let Some(inv) = invariants.as_mut() {
+            inv.set_reference(initial);
+        }
         Ok(Stepper {
+            invariants,
             solver,
             buffer: M::V::zeros(n, problem.eqn.context().clone()),
             probe_y: vec![0.0; n],
@@ -358,6 +391,7 @@ where
         &mut self,
         outputs: &[f64],
         watcher: Option<&mut Watcher>,
+        projections: &mut usize,
         record: &mut dyn FnMut(f64, &[f64]),
         negative: &mut f64,
         rejections: &mut usize,
@@ -378,6 +412,8 @@ where
             &mut self.buffer,
             &mut self.probe_w,
             watcher,
+            self.invariants.as_mut(),
+            projections,
             record,
             negative,
             rejections,
@@ -405,6 +441,11 @@ where
         }
         let t = *state.t;
         let y = M::slice(state.y);
+        if c.is_some() {
+            if let Some(inv) = self.invariants.as_mut() {
+                inv.set_reference(y);
+            }
+        }
         let dy = M::slice_mut(state.dy);
         eqn.state_derivative(t, y, dy);
         *state.h = initial_step(
@@ -531,6 +572,9 @@ fn build_problem<M: Backend>(
         vec![0.0; m],
     );
     eqn.non_negative = options.non_negative;
+    if options.keep_invariants {
+        eqn.laws = state_laws(kinetics, model);
+    }
     if !eqn.has_valid_structure() {
         return Err(ReactorError::BadPattern);
     }
@@ -546,6 +590,19 @@ fn build_problem<M: Backend>(
     problem.ode_options.max_number_timesteps = options.max_steps;
     problem.ode_options.min_timestep = ABSOLUTE_MINIMUM_STEP_S;
     Ok(problem)
+}
+
+/// The conserved combinations of a model's state: the kinetics' own for a closed reactor at
+/// constant volume (the temperature state, if any, takes no part); none at constant pressure
+/// (the volume changes, so concentrations are not conserved) or with box conditions that add
+/// or remove species or hold them fixed.
+fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
+    let c = &model.conditions;
+    let open = !c.fixed_species.is_empty() || !c.emissions.is_empty() || !c.deposition.is_empty();
+    if open || model.constraint != Constraint::ConstantVolume {
+        return Vec::new();
+    }
+    kinetics.conserved_combinations().to_vec()
 }
 
 /// Absolute tolerance of the temperature state (K); the relative tolerance times the
@@ -990,8 +1047,9 @@ impl BatchIntegrator<'_> {
     ) -> Result<(), Diagnosis> {
         let negative = &mut self.stats.most_negative_concentration_mol_per_m3;
         let rejections = &mut self.stats.negative_step_rejections;
+        let projections = &mut self.stats.invariant_projections;
         let watcher = (!self.watcher.is_empty()).then_some(&mut self.watcher);
-        let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, record, negative, rejections));
+        let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, projections, record, negative, rejections));
         let reason = result.map_err(|e| {
             let fastest = with_stepper!(&mut self.session, s => s.fastest_component());
             Diagnosis::new(&e, fastest)

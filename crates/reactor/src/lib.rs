@@ -43,6 +43,7 @@ mod failure;
 mod fixed_lu;
 mod ignition;
 mod integrator;
+mod invariants;
 mod model;
 mod watch;
 
@@ -136,6 +137,12 @@ pub struct IntegrationOptions {
     /// the integration tolerance, independent of the output grid); the results are in
     /// [`Profiles::located`]. Empty by default. Stepping sessions ignore them.
     pub watch: Vec<Watch>,
+    /// Keep the mechanism's conserved combinations ([`Kinetics::conserved_combinations`]:
+    /// element totals, moieties) on their initial values (default `true`): when round-off
+    /// has moved one by more than a hundredth of the error weights of its species, the state
+    /// is projected back (the smallest correction in the error-weighted norm) and the solver
+    /// restarts from it. Applies to closed constant-volume reactors without box conditions.
+    pub keep_invariants: bool,
 }
 
 impl IntegrationOptions {
@@ -150,6 +157,7 @@ impl IntegrationOptions {
             max_steps: 100_000,
             non_negative: true,
             watch: Vec::new(),
+            keep_invariants: true,
         }
     }
 }
@@ -176,6 +184,9 @@ pub struct SolverStats {
     /// Most negative concentration (mol/m3) seen in the state after any accepted step or at
     /// any output time; 0 if none went below zero.
     pub most_negative_concentration_mol_per_m3: f64,
+    /// Times the state was projected back onto the conserved combinations (see
+    /// [`IntegrationOptions::keep_invariants`]); each restarts the solver at first order.
+    pub invariant_projections: usize,
 }
 
 /// Concentration-time profiles of one run.

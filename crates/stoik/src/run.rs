@@ -367,6 +367,7 @@ pub fn integration_options(
         max_steps: scenario.max_steps,
         non_negative,
         watch: Vec::new(),
+        keep_invariants: true,
     }
 }
 

@@ -96,6 +96,7 @@ pub fn options(
         max_steps: 100_000,
         non_negative: true,
         watch: Vec::new(),
+        keep_invariants: true,
     }
 }
 

@@ -201,3 +201,170 @@ fn cell(value: f64, column: &str, i: usize, time_s: f64) -> Result<String, CsvEr
         value,
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+    use stoik::mechanism::parse_mechanism;
+    use stoik::reactor::{LinearAlgebra, SolverStats};
+
+    /// `number` read back by Rust's parser (correctly rounded, IEEE 754) gives the same bits.
+    fn round_trips(v: f64) -> bool {
+        number(v)
+            .and_then(|t| t.parse::<f64>().ok())
+            .map(f64::to_bits)
+            == Some(v.to_bits())
+    }
+
+    #[test]
+    fn extremes_round_trip_bit_for_bit() {
+        // IEEE 754 binary64 limits: largest finite, smallest normal, smallest subnormal, the
+        // largest subnormal, signed zeros, and neighbours of 1 (one unit in the last place).
+        for v in [
+            f64::MAX,
+            f64::MIN,
+            f64::MIN_POSITIVE,
+            -f64::MIN_POSITIVE,
+            f64::from_bits(1),
+            -f64::from_bits(1),
+            f64::from_bits((1 << 52) - 1),
+            0.0,
+            -0.0,
+            1.0 + f64::EPSILON,
+            1.0 - f64::EPSILON / 2.0,
+            0.1,
+            1e-300,
+            8.314462618,
+        ] {
+            assert!(round_trips(v), "{v:e} -> {:?}", number(v));
+        }
+        // The forms themselves (Rust's LowerExp, shortest digits).
+        assert_eq!(number(600.0).as_deref(), Some("6e2"));
+        assert_eq!(number(101325.0).as_deref(), Some("1.01325e5"));
+        assert_eq!(number(-0.0).as_deref(), Some("-0e0"));
+        assert_eq!(number(f64::from_bits(1)).as_deref(), Some("5e-324"));
+        assert_eq!(number(f64::NAN), None);
+        assert_eq!(number(f64::INFINITY), None);
+        assert_eq!(number(f64::NEG_INFINITY), None);
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(20_000))]
+
+        /// Any finite f64 (every bit pattern: negatives, subnormals, extremes).
+        #[test]
+        fn any_finite_f64_round_trips(bits in any::<u64>()) {
+            let v = f64::from_bits(bits);
+            prop_assume!(v.is_finite());
+            prop_assert!(round_trips(v), "{:e} -> {:?}", v, number(v));
+        }
+
+        /// Subnormals of either sign (exponent field zero).
+        #[test]
+        fn subnormals_round_trip(mantissa in 1u64..(1 << 52), negative in any::<bool>()) {
+            let v = f64::from_bits(mantissa | (u64::from(negative) << 63));
+            prop_assert!(round_trips(v), "{:e} -> {:?}", v, number(v));
+        }
+    }
+
+    fn two_species() -> Mechanism {
+        let text = "stoik_mechanism = 1\n[units]\nlength = \"m\"\n[[species]]\nname = \"A\"\n\
+                    [[species]]\nname = \"B\"\n[[step]]\nequation = \"A -> B\"\n\
+                    forward = { prefactor = 2.0 }\n";
+        parse_mechanism(text, "<test>").expect("valid").mechanism
+    }
+
+    fn profiles(rows: Vec<Vec<f64>>) -> Profiles {
+        let n = rows.len();
+        Profiles {
+            times_s: (0..n).map(|i| i as f64 * 0.5).collect(),
+            concentrations_mol_per_m3: rows,
+            temperatures_k: vec![300.0; n],
+            temperature_rates_k_per_s: vec![0.0; n],
+            stats: SolverStats::default(),
+            linear_algebra_used: LinearAlgebra::Dense,
+        }
+    }
+
+    fn write(p: &Profiles) -> Result<(String, CsvNotes), CsvError> {
+        let mut out = Vec::new();
+        let notes = write_profiles(&mut out, &two_species(), p, 1.0, "mol/m3")?;
+        Ok((String::from_utf8(out).expect("UTF-8"), notes))
+    }
+
+    #[test]
+    fn a_zero_total_gives_undefined_mole_fractions_and_a_note() {
+        // Row 2 has no molecules: x = c / sum(c) is 0/0 there; rows 1 and 3 are ordinary.
+        let (csv, notes) = write(&profiles(vec![
+            vec![1.0, 3.0],
+            vec![0.0, 0.0],
+            vec![0.25, 0.0],
+        ]))
+        .expect("written");
+        let lines: Vec<&str> = csv.lines().collect();
+        // x_A = 1/4 and x_B = 3/4 exactly; P = 4 mol/m3 * R * 300 K (ideal gas, textbook).
+        assert_eq!(
+            lines[1],
+            format!(
+                "0e0,1e0,3e0,3e2,{:e},2.5e-1,7.5e-1",
+                4.0 * 8.314462618 * 300.0
+            )
+        );
+        assert_eq!(lines[2], "5e-1,0e0,0e0,3e2,0e0,nan,nan");
+        assert_eq!(
+            lines[3],
+            format!(
+                "1e0,2.5e-1,0e0,3e2,{:e},1e0,0e0",
+                0.25 * 8.314462618 * 300.0
+            )
+        );
+        assert_eq!(notes.undefined_mole_fraction_rows, vec![2]);
+        let warning = notes.warning("out.csv").expect("a warning");
+        assert!(
+            warning.contains("1 row(s) (first: data row 2)"),
+            "{warning}"
+        );
+        assert!(warning.contains("written as `nan`"), "{warning}");
+        // The marker reads back as NaN in Rust.
+        assert!(UNDEFINED.parse::<f64>().expect("a float").is_nan());
+    }
+
+    #[test]
+    fn a_non_finite_value_refuses_the_file_naming_column_and_row() {
+        for bad in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+            let err = write(&profiles(vec![
+                vec![1.0, 0.0],
+                vec![1.0, 0.0],
+                vec![1.0, bad],
+            ]))
+            .expect_err("refused");
+            match &err {
+                CsvError::NonFinite {
+                    column,
+                    row,
+                    time_s,
+                    value,
+                } => {
+                    assert_eq!(column, "B [mol/m3]");
+                    assert_eq!(*row, 3);
+                    assert_eq!(*time_s, 1.0);
+                    assert_eq!(value.to_bits(), bad.to_bits());
+                }
+                CsvError::Io(e) => panic!("unexpected I/O error {e}"),
+            }
+            let message = err.to_string();
+            assert!(
+                message.contains("column `B [mol/m3]`, data row 3 (line 4, t = 1e0 s)"),
+                "{message}"
+            );
+        }
+        // A finite concentration whose pressure overflows (1e306 mol/m3 * R * 300 K > f64::MAX).
+        let err = write(&profiles(vec![vec![1e306, 0.0]])).expect_err("refused");
+        assert!(
+            err.to_string()
+                .contains("column `pressure [Pa]`, data row 1"),
+            "{err}"
+        );
+    }
+}

@@ -104,6 +104,15 @@ pub enum FitError {
     /// uncertainties.
     #[error("{0}")]
     BadOption(String),
+    /// A fitted value to be written in the mechanism snippet is NaN or infinite (e.g. a
+    /// prefactor beyond the range of `f64`); stoik writes finite numbers only.
+    #[error("the fitted {quantity} is {value}, not a finite number; no snippet is written")]
+    NonFinite {
+        /// Which value (`prefactor`, `temperature_exponent`, `activation_energy`).
+        quantity: String,
+        /// The value (NaN or infinite).
+        value: f64,
+    },
     /// The equation given for the mechanism snippet cannot be used.
     #[error("equation `{equation}`: {message}")]
     Equation {

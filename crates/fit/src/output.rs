@@ -7,6 +7,7 @@ use std::fmt::Write as _;
 use stoik_mechanism::equation::parse_equation;
 use stoik_mechanism::units::EnergyUnit;
 use stoik_mechanism::GAS_CONSTANT;
+use stoik_thermo::{toml_float, toml_string};
 
 /// `value` in scientific notation with `decimals` decimals and a signed two-digit exponent,
 /// e.g. `1.079063e+12`.
@@ -269,25 +270,21 @@ fn write_matrix(
     }
 }
 
-/// Quotes `text` as a TOML basic string.
-fn toml_string(text: &str) -> String {
-    let mut out = String::from("\"");
-    for c in text.chars() {
-        match c {
-            '"' => out.push_str("\\\""),
-            '\\' => out.push_str("\\\\"),
-            '\n' => out.push_str("\\n"),
-            c if c.is_control() => {
-                let _ = write!(out, "\\u{:04X}", c as u32);
-            }
-            c => out.push(c),
-        }
-    }
-    out.push('"');
-    out
+/// `value` in the snippet's number form ([`toml_float`]: the shortest digits that read back
+/// as the same `f64`); [`FitError::NonFinite`] for NaN and infinities.
+fn number(quantity: &str, value: f64) -> Result<String, FitError> {
+    toml_float(value).ok_or_else(|| FitError::NonFinite {
+        quantity: quantity.to_string(),
+        value,
+    })
 }
 
 /// The fitted step as a `[[step]]` table of the mechanism format, ready to paste.
+///
+/// The prefactor, temperature exponent and activation energy are written with the shortest
+/// digits that read back as exactly the computed `f64` values ([`toml_float`]); strings and the
+/// `reaction_orders` key are quoted by the `toml` crate's serializer. The comments and the
+/// standard errors in the note are short forms for people.
 ///
 /// The rate constant keeps the data's amount and time units (`dm`/`L` volumes are written in
 /// cm, which mechanism files accept), Ea is in kJ/mol, and the note names the data file, its
@@ -297,8 +294,9 @@ fn toml_string(text: &str) -> String {
 /// the data's order and it has a single reactant species, `reaction_orders` gives that species
 /// the data's order.
 ///
-/// Errors ([`FitError::Equation`]): an unreadable or reversible equation, or reactant
-/// coefficients that do not match the order with several reactant species.
+/// Errors: [`FitError::Equation`] for an unreadable or reversible equation, or reactant
+/// coefficients that do not match the order with several reactant species;
+/// [`FitError::NonFinite`] when a fitted value to be written is NaN or infinite.
 pub fn mechanism_snippet(
     fit: &RateFit,
     data: &RateData,
@@ -331,7 +329,13 @@ pub fn mechanism_snippet(
                 let single = first.filter(|f| parsed.reactants.iter().all(|t| t.name == *f));
                 match single {
                     Some(name) => {
-                        orders_line = Some(format!("reaction_orders = {{ {name} = {order} }}"))
+                        // The serializer quotes names that are not bare TOML keys (`O(1D)`).
+                        let mut orders = toml::Table::new();
+                        orders.insert(name.to_string(), toml::Value::Integer(i64::from(order)));
+                        orders_line = Some(format!(
+                            "reaction_orders = {}",
+                            toml::Value::Table(orders)
+                        ))
                     }
                     None => {
                         return Err(bad(format!(
@@ -415,9 +419,10 @@ pub fn mechanism_snippet(
     let _ = writeln!(s, "equation = {}", toml_string(&equation_text));
     let _ = writeln!(
         s,
-        "forward = {{ prefactor = {}, temperature_exponent = {:.8}, activation_energy = {ea_kj:.8} }}",
-        sci(prefactor, 10),
-        fit.temperature_exponent()
+        "forward = {{ prefactor = {}, temperature_exponent = {}, activation_energy = {} }}",
+        number("prefactor", prefactor)?,
+        number("temperature_exponent", fit.temperature_exponent())?,
+        number("activation_energy", ea_kj)?
     );
     if let Some(line) = orders_line {
         let _ = writeln!(s, "{line}");

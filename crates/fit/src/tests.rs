@@ -339,7 +339,7 @@ fn the_snippet_parses_and_gives_back_the_fitted_rate_constant() {
     assert!(snippet.contains("length = \"cm\""));
     // A = 1.079e12 dm3 mol-1 s-1 = 1.079e15 cm3 mol-1 s-1 (1 dm3 = 1000 cm3).
     assert!(snippet.contains("prefactor = 1.079"));
-    assert!(snippet.contains("e+15"));
+    assert!(snippet.contains("e15,"), "{snippet}");
     let text = format!(
         "stoik_mechanism = 1\n[[species]]\nname = \"CH3CHO\"\n[[species]]\nname = \"CH4\"\n[[species]]\nname = \"CO\"\n{snippet}"
     );

@@ -2,6 +2,7 @@
 //! compiled once, integrated in parallel with a progress bar.
 
 use crate::check::report_load_error;
+use crate::csv_out::CsvError;
 use crate::run::{integration_options, reactor_model, scenario_stem, write_csv, CAUTION};
 use crate::{BatchArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
 use indicatif::{ProgressBar, ProgressStyle};
@@ -132,8 +133,8 @@ pub fn batch(args: &BatchArgs) -> u8 {
         let cases: Vec<BatchCase> = jobs.iter().map(|j| j.case.clone()).collect();
         let results = integrate_batch(&kinetics, &cases, &|| bar.inc(1));
         for (job, result) in jobs.iter().zip(results) {
-            let profiles = match result {
-                Ok(p) => p,
+            let (profiles, failed) = match result {
+                Ok(p) => (p, false),
                 Err(stoik::reactor::BatchError::Integration(
                     stoik::reactor::IntegrationError::Failed(f),
                 )) => {
@@ -141,7 +142,7 @@ pub fn batch(args: &BatchArgs) -> u8 {
                         eprintln!("{}: {f}; partial profile kept", job.output.display())
                     });
                     failures += 1;
-                    f.partial
+                    (f.partial, true)
                 }
                 Err(e) => {
                     bar.suspend(|| eprintln!("{}: error: {e}", job.output.display()));
@@ -149,9 +150,20 @@ pub fn batch(args: &BatchArgs) -> u8 {
                     continue;
                 }
             };
-            if let Err(e) = write_csv(&job.output, &file.mechanism, &profiles, &job.scenario) {
-                bar.suspend(|| eprintln!("error: cannot write {}: {e}", job.output.display()));
-                return EXIT_BAD_INPUT;
+            match write_csv(&job.output, &file.mechanism, &profiles, &job.scenario) {
+                Ok(notes) => {
+                    if let Some(w) = notes.warning(&job.output.display().to_string()) {
+                        bar.suspend(|| eprintln!("{w}"));
+                    }
+                }
+                Err(e @ CsvError::NonFinite { .. }) => {
+                    bar.suspend(|| eprintln!("error: {}: {e}", job.output.display()));
+                    failures += usize::from(!failed);
+                }
+                Err(e) => {
+                    bar.suspend(|| eprintln!("error: cannot write {}: {e}", job.output.display()));
+                    return EXIT_BAD_INPUT;
+                }
             }
         }
     }

@@ -59,7 +59,7 @@ pub fn fit_rate(args: &FitRateArgs) -> u8 {
     ];
     for (path, text) in outputs {
         if let Some(path) = path {
-            if let Err(e) = std::fs::write(path, text) {
+            if let Err(e) = crate::out_file::write_text(path, &text) {
                 eprintln!("error: cannot write {}: {e}", path.display());
                 return EXIT_BAD_INPUT;
             }

@@ -1,5 +1,7 @@
 //! `stoik fit-thermo`: NASA 7-coefficient polynomials fitted to tabulated cp, H - H(298.15 K)
 //! and S (NIST-JANAF tab-separated layout), written as a stoik thermo file with residuals.
+//! The file's numbers read back as the fitted `f64` values exactly; the printed table is a
+//! short form for people.
 
 use crate::{FitThermoArgs, EXIT_BAD_INPUT, EXIT_OK};
 use stoik::thermo::{fit_nasa7, read_janaf_tsv, thermo_file_entry, thermo_file_header};
@@ -81,9 +83,15 @@ pub fn fit_thermo(args: &FitThermoArgs) -> u8 {
             table.name,
             table.formula
         );
-        text.push_str(&thermo_file_entry(&name, &origin, &fit));
+        match thermo_file_entry(&name, &origin, &fit) {
+            Ok(entry) => text.push_str(&entry),
+            Err(e) => {
+                eprintln!("{}: error: {e}; nothing written", path.display());
+                return EXIT_BAD_INPUT;
+            }
+        }
     }
-    if let Err(e) = std::fs::write(&args.output, text) {
+    if let Err(e) = crate::out_file::write_text(&args.output, &text) {
         eprintln!("error: cannot write {}: {e}", args.output.display());
         return EXIT_BAD_INPUT;
     }

@@ -6,6 +6,7 @@ mod csv_out;
 mod energetics;
 mod fit_rate;
 mod fit_thermo;
+mod out_file;
 mod run;
 
 use clap::{Parser, Subcommand, ValueEnum};

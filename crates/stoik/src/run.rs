@@ -1,10 +1,9 @@
 //! `stoik run`: integrate a scenario and write its profiles.
 
 use crate::check::report_load_error;
-use crate::csv_out::write_profiles;
+use crate::csv_out::{write_profiles, CsvError, CsvNotes};
+use crate::out_file::write_atomically;
 use crate::{LinearAlgebraArg, RunArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
-use std::fs::File;
-use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 use stoik::kinetics::Kinetics;
@@ -166,9 +165,24 @@ pub fn run(args: &RunArgs) -> u8 {
         .output
         .clone()
         .unwrap_or_else(|| PathBuf::from(format!("{}.csv", scenario_stem(&args.scenario))));
-    if let Err(e) = write_csv(&output, mechanism, &profiles, &scenario) {
-        eprintln!("error: cannot write {}: {e}", output.display());
-        return EXIT_BAD_INPUT;
+    match write_csv(&output, mechanism, &profiles, &scenario) {
+        Ok(notes) => {
+            // Printed even with --quiet: the file holds undefined values.
+            if let Some(w) = notes.warning(&output.display().to_string()) {
+                eprintln!("{w}");
+            }
+        }
+        Err(e @ CsvError::NonFinite { .. }) => {
+            eprintln!("error: {}: {e}", output.display());
+            if let Some(message) = &failure {
+                eprintln!("error: {message}");
+            }
+            return EXIT_INTEGRATION_FAILED;
+        }
+        Err(e) => {
+            eprintln!("error: cannot write {}: {e}", output.display());
+            return EXIT_BAD_INPUT;
+        }
     }
 
     if !args.quiet {
@@ -286,8 +300,10 @@ fn print_ignition(
 ) {
     if let Some(criterion) = ignition_criterion(scenario, resolved.ignition_species) {
         match ignition_delay(profiles, criterion) {
+            // Read by scripts (tests/scipy/ignition_check.py): full precision, the shortest
+            // digits that read back as the same f64.
             Some(IgnitionDelay { delay_s, .. }) => println!(
-                "ignition delay: {delay_s:.6e} s ({})",
+                "ignition delay: {delay_s:e} s ({})",
                 criterion_words(criterion, mechanism)
             ),
             None => println!(
@@ -371,23 +387,18 @@ pub fn integration_options(
     }
 }
 
-/// Writes `profiles` as CSV in the scenario's output concentration unit.
+/// Writes `profiles` as CSV in the scenario's output concentration unit, atomically (nothing
+/// is left at `output` when the write fails or a value is not finite).
 pub fn write_csv(
     output: &Path,
     mechanism: &Mechanism,
     profiles: &Profiles,
     scenario: &Scenario,
-) -> std::io::Result<()> {
+) -> Result<CsvNotes, CsvError> {
     let unit = scenario.output_concentration_unit;
-    let mut w = BufWriter::new(File::create(output)?);
-    write_profiles(
-        &mut w,
-        mechanism,
-        profiles,
-        unit.to_si_factor(),
-        unit.label(),
-    )?;
-    w.flush()
+    write_atomically(output, |w| {
+        write_profiles(w, mechanism, profiles, unit.to_si_factor(), unit.label())
+    })
 }
 
 fn print_summary(

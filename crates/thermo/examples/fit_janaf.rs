@@ -101,7 +101,7 @@ fn run(dir: &std::path::Path, out: &std::path::Path) -> Result<(), Box<dyn std::
             name,
             &format!("JANAF table \"{}\" {}", table.name, table.formula),
             &fit,
-        ));
+        )?);
     }
     if let Some(parent) = out.parent() {
         if !parent.as_os_str().is_empty() {

@@ -35,6 +35,12 @@ pub enum FitError {
         /// Which value (and at which temperature) was not finite.
         what: String,
     },
+    /// A value to be written is NaN or infinite: stoik writes finite numbers only.
+    #[error("cannot write a non-finite number: {what}")]
+    NonFiniteOutput {
+        /// Which value (key and position) was not finite.
+        what: String,
+    },
     /// A temperature is zero or negative, or the temperature limits are out of order.
     #[error("invalid temperature: {what}")]
     InvalidTemperature {

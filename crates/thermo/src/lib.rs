@@ -8,6 +8,8 @@
 //! * [`read_janaf_tsv`]: a reader for NIST-JANAF tables (M. W. Chase Jr., *NIST-JANAF
 //!   Thermochemical Tables*, 4th ed., J. Phys. Chem. Ref. Data Monograph 9, 1998)
 //!   stored as tab-separated text.
+//! * [`thermo_file_entry`]: fitted polynomials as a stoik thermo file; [`toml_float`] is the
+//!   number form of every TOML file stoik writes (shortest digits that read back exactly).
 //!
 //! Units are SI throughout (K, J/mol, J/(mol K), Pa); every name that carries a
 //! dimensional quantity says its unit.
@@ -23,7 +25,10 @@ pub use error::FitError;
 pub use fit::{fit_nasa7, Nasa7Fit, ThermoPoint, MIN_POINTS_PER_RANGE};
 pub use janaf::{read_janaf_tsv, JanafRow, JanafTable};
 pub use nasa7::Nasa7;
-pub use write::{thermo_file_entry, thermo_file_header};
+pub use write::{
+    thermo_file_entry, thermo_file_header, toml_float, toml_string, PLAIN_DECIMAL_BELOW,
+    PLAIN_DECIMAL_FROM,
+};
 
 /// Molar gas constant R in J/(mol K) (exact since the 2019 SI redefinition:
 /// N_A k_B, CODATA).

@@ -158,7 +158,7 @@ fn cholesky_solve(g: &mut [f64], d: &mut [f64], k: usize) -> bool {
         for p in 0..j {
             diag -= g[j * k + p] * g[j * k + p];
         }
-        if !(diag > 1e-14) {
+        if diag.is_nan() || diag <= 1e-14 {
             return false;
         }
         let diag = diag.sqrt();

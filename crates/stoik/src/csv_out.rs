@@ -284,6 +284,7 @@ mod tests {
             temperature_rates_k_per_s: vec![0.0; n],
             stats: SolverStats::default(),
             linear_algebra_used: LinearAlgebra::Dense,
+            located: Vec::new(),
         }
     }
 

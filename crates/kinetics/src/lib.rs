@@ -25,6 +25,10 @@
 //! (tables: d k/dP with P = (sum c) R T) and their temperature slopes the temperature
 //! dependence of k0/kinf, the broadening and, for tables, of P.
 //!
+//! [`conservation_laws`] computes the conservation laws of a mechanism exactly: a readable
+//! basis (element totals, then moieties such as `A + B + C`) of the left null space of the
+//! net stoichiometric matrix.
+//!
 //! Non-integer orders are evaluated on `max(c, 0)` (a negative concentration has no real
 //! non-integer power); integer orders use exact integer powers, so the right-hand side stays
 //! smooth through small negative excursions of the integrator.
@@ -32,10 +36,12 @@
 #![warn(missing_docs)]
 
 mod compile;
+mod conservation;
 mod energetics;
 mod falloff;
 mod pattern;
 
+pub use conservation::{conservation_laws, ConservationError, ConservationLaw, LawKind};
 pub use energetics::{
     collision_limit_warnings, hard_sphere_rate_constant, step_energetics, StepEnergetics,
     COLLISION_LIMIT_M3_PER_MOL_S, COLLISION_LIMIT_TEMPERATURES_K,

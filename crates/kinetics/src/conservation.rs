@@ -1,0 +1,636 @@
+//! Conservation laws of a mechanism: a basis of the left null space of its net
+//! stoichiometric matrix.
+//!
+//! With `N` the net stoichiometric matrix (species x steps, `N_ij = nu''_ij - nu'_ij`), a
+//! closed constant-volume reactor obeys `dc/dt = N q(c)` whatever the rates `q`, so every
+//! vector `l` with `l^T N = 0` gives an invariant `l^T c` (common practice; e.g. Schuster &
+//! Hoefer, J. Chem. Soc. Faraday Trans. 87, 2561, 1991, cited from memory). The laws are computed exactly:
+//! stoichiometric coefficients (and atom counts) are read as fractions (`0.62` is 31/50) and
+//! eliminated in 128-bit integer arithmetic with overflow checks.
+//!
+//! The basis is chosen to be readable, in this order of preference:
+//! 1. element totals ("H atoms": atom counts of the element), for every element that the
+//!    steps balance (every element of a balanced mechanism);
+//! 2. semi-positive moieties of smallest support ("A + B + C"): the extreme rays of the cone
+//!    `{l >= 0 : l^T N = 0}`, found with the double-description method (skipped, with
+//!    nothing lost but readability, when the cone is too large to enumerate within a fixed
+//!    budget);
+//! 3. the remaining directions from the exact null-space basis, with integer coefficients
+//!    whose first nonzero one is positive ("Y2 - Y3 - Y4").
+//!
+//! A law that is a combination of laws already chosen is not repeated (with N2O4 <=> 2 NO2
+//! alone, "O atoms" is twice "N atoms" and only the latter is listed). The number of laws is
+//! always `n_species - rank(N)`.
+//!
+//! Species that something outside the steps changes or holds (box-model emissions,
+//! deposition and fixed species) are passed as `open_species`: each adds a column `e_i` to
+//! `N`, so no law involves them.
+
+use stoik_mechanism::Mechanism;
+
+/// Largest denominator accepted when a coefficient is read as a fraction: decimals with up
+/// to six decimal places and fractions such as 1/3 written to full f64 precision. (Larger
+/// bounds start to accept accidents: 245850922/78256779 is the f64 nearest pi.)
+const MAX_DENOMINATOR: i128 = 1_000_000;
+
+/// Limit on the number of extreme rays kept by the double-description method.
+const MAX_RAYS: usize = 2_000;
+
+/// Limit on the support comparisons of the double-description method (its work).
+const MAX_ADJACENCY_WORK: u64 = 200_000_000;
+
+/// Where a conservation law comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LawKind {
+    /// The total of an element (index into [`Mechanism::elements`]): coefficients are the
+    /// species' atom counts, the law's value is in mol of atoms per m3.
+    Element(usize),
+    /// A moiety: a combination of species with integer coefficients (gcd 1, first nonzero
+    /// one positive) that no step changes.
+    Moiety,
+}
+
+/// One conservation law `sum_i l_i c_i = constant` of a mechanism.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ConservationLaw {
+    /// Readable name: `"H atoms"` for an element total, the combination itself for a moiety
+    /// (`"A + B + C"`, `"2 X + Y"`, `"Y2 - Y3 - Y4"`).
+    pub name: String,
+    /// Element total or moiety.
+    pub kind: LawKind,
+    /// `l_i`, one per species in mechanism order (dimensionless: atoms per molecule for an
+    /// element, small integers for a moiety). `l^T N = 0` holds exactly.
+    pub coefficients: Vec<f64>,
+}
+
+impl ConservationLaw {
+    /// The law's value `sum_i l_i c_i` for concentrations `c` (mol/m3, one per species), in
+    /// mol/m3 (of atoms for an element total); compensated summation, so that the value
+    /// carries no more rounding than its terms.
+    pub fn value(&self, concentrations_mol_per_m3: &[f64]) -> f64 {
+        compensated_sum(
+            self.coefficients
+                .iter()
+                .zip(concentrations_mol_per_m3)
+                .filter(|(l, _)| **l != 0.0)
+                .map(|(l, c)| l * c),
+        )
+    }
+
+    /// The species with a nonzero coefficient, as (species index, `l_i`).
+    pub fn terms(&self) -> impl Iterator<Item = (usize, f64)> + '_ {
+        self.coefficients
+            .iter()
+            .enumerate()
+            .filter(|(_, l)| **l != 0.0)
+            .map(|(i, l)| (i, *l))
+    }
+}
+
+/// Neumaier's compensated sum.
+pub(crate) fn compensated_sum(values: impl Iterator<Item = f64>) -> f64 {
+    let (mut sum, mut compensation) = (0.0f64, 0.0f64);
+    for v in values {
+        let t = sum + v;
+        if sum.abs() >= v.abs() {
+            compensation += (sum - t) + v;
+        } else {
+            compensation += (v - t) + sum;
+        }
+        sum = t;
+    }
+    sum + compensation
+}
+
+/// Why the conservation laws could not be computed exactly.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ConservationError {
+    /// A stoichiometric coefficient or atom count is not a fraction with a denominator up to
+    /// 1e6 (the exact elimination needs rational numbers).
+    #[error("{what} {value} is not a fraction with a denominator up to 1e6; conservation laws need exact coefficients")]
+    NotAFraction {
+        /// Which number (e.g. "coefficient of `O2` in step 3").
+        what: String,
+        /// The value.
+        value: f64,
+    },
+    /// The exact elimination outgrew 128-bit integers.
+    #[error("the exact elimination of the stoichiometric matrix overflowed 128-bit integers")]
+    Overflow,
+    /// An open species index is out of range.
+    #[error("open species index {0} is out of range")]
+    SpeciesOutOfRange(usize),
+}
+
+/// Overflow of the exact arithmetic.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+struct Overflow;
+
+impl From<Overflow> for ConservationError {
+    fn from(_: Overflow) -> Self {
+        ConservationError::Overflow
+    }
+}
+
+/// A sparse integer vector: (index, value) pairs, indices increasing, values nonzero.
+type Row = Vec<(usize, i128)>;
+
+fn gcd(a: i128, b: i128) -> i128 {
+    let (mut a, mut b) = (a.unsigned_abs(), b.unsigned_abs());
+    while b != 0 {
+        (a, b) = (b, a % b);
+    }
+    // At most |i128::MIN|, which only arises from inputs we never build (|values| < 2^126).
+    i128::try_from(a).unwrap_or(i128::MAX)
+}
+
+/// `x` as the fraction p/q (q > 0) whose f64 quotient is exactly `x`, with the smallest
+/// denominator (a continued-fraction convergent; by Legendre's theorem every fraction that
+/// close with q <= 1e6 is one); `None` when there is none with q <= [`MAX_DENOMINATOR`].
+fn to_fraction(x: f64) -> Option<(i128, i128)> {
+    if !x.is_finite() {
+        return None;
+    }
+    if x.fract() == 0.0 && x.abs() < 1e15 {
+        return Some((x as i128, 1));
+    }
+    let sign = if x < 0.0 { -1 } else { 1 };
+    let y = x.abs();
+    if y >= 1e15 {
+        return None;
+    }
+    let (mut p0, mut q0, mut p1, mut q1) = (0i128, 1i128, 1i128, 0i128);
+    let mut r = y;
+    for _ in 0..64 {
+        let a = r.floor();
+        if a > 1e15 {
+            return None;
+        }
+        let a = a as i128;
+        let p2 = a.checked_mul(p1)?.checked_add(p0)?;
+        let q2 = a.checked_mul(q1)?.checked_add(q0)?;
+        if q2 > MAX_DENOMINATOR {
+            return None;
+        }
+        if p2 as f64 / q2 as f64 == y {
+            return Some((sign * p2, q2));
+        }
+        (p0, q0, p1, q1) = (p1, q1, p2, q2);
+        let frac = r - r.floor();
+        if frac == 0.0 {
+            return None;
+        }
+        r = 1.0 / frac;
+    }
+    None
+}
+
+/// Integer multiple (gcd of entries 1) of a sparse vector of fractions (sorted, unique indices).
+fn integer_row(entries: &[(usize, i128, i128)]) -> Result<Row, Overflow> {
+    let mut lcm: i128 = 1;
+    for &(_, _, q) in entries {
+        let g = gcd(lcm, q);
+        lcm = (lcm / g).checked_mul(q).ok_or(Overflow)?;
+    }
+    let mut row: Row = Vec::with_capacity(entries.len());
+    for &(i, p, q) in entries {
+        if p != 0 {
+            row.push((i, p.checked_mul(lcm / q).ok_or(Overflow)?));
+        }
+    }
+    normalize(&mut row);
+    Ok(row)
+}
+
+/// Divides a row by the gcd of its entries.
+fn normalize(row: &mut Row) {
+    let g = row.iter().fold(0, |g, &(_, v)| gcd(g, v));
+    if g > 1 {
+        row.iter_mut().for_each(|(_, v)| *v /= g);
+    }
+}
+
+/// `ca * a + cb * b`, zeros dropped.
+fn combine(a: &Row, ca: i128, b: &Row, cb: i128) -> Result<Row, Overflow> {
+    let mut out = Vec::with_capacity(a.len() + b.len());
+    let (mut i, mut j) = (0, 0);
+    while i < a.len() || j < b.len() {
+        let (col, v) = match (a.get(i), b.get(j)) {
+            (Some(&(ca_col, va)), Some(&(cb_col, vb))) if ca_col == cb_col => {
+                i += 1;
+                j += 1;
+                let x = ca.checked_mul(va).ok_or(Overflow)?;
+                let y = cb.checked_mul(vb).ok_or(Overflow)?;
+                (ca_col, x.checked_add(y).ok_or(Overflow)?)
+            }
+            (Some(&(ca_col, va)), Some(&(cb_col, _))) if ca_col < cb_col => {
+                i += 1;
+                (ca_col, ca.checked_mul(va).ok_or(Overflow)?)
+            }
+            (Some(&(ca_col, va)), None) => {
+                i += 1;
+                (ca_col, ca.checked_mul(va).ok_or(Overflow)?)
+            }
+            (_, Some(&(cb_col, vb))) => {
+                j += 1;
+                (cb_col, cb.checked_mul(vb).ok_or(Overflow)?)
+            }
+            (None, None) => break,
+        };
+        if v != 0 {
+            out.push((col, v));
+        }
+    }
+    Ok(out)
+}
+
+/// Dot product of two sparse rows.
+fn dot(a: &Row, b: &Row) -> Result<i128, Overflow> {
+    let (mut i, mut j, mut sum) = (0, 0, 0i128);
+    while i < a.len() && j < b.len() {
+        match a[i].0.cmp(&b[j].0) {
+            std::cmp::Ordering::Less => i += 1,
+            std::cmp::Ordering::Greater => j += 1,
+            std::cmp::Ordering::Equal => {
+                let p = a[i].1.checked_mul(b[j].1).ok_or(Overflow)?;
+                sum = sum.checked_add(p).ok_or(Overflow)?;
+                i += 1;
+                j += 1;
+            }
+        }
+    }
+    Ok(sum)
+}
+
+/// Rows in echelon form (distinct leading columns), built one row at a time.
+struct Echelon {
+    rows: Vec<Row>,
+    /// Per column: the row whose leading entry is there.
+    pivot_row: Vec<Option<usize>>,
+}
+
+impl Echelon {
+    fn new(n_columns: usize) -> Self {
+        Echelon {
+            rows: Vec::new(),
+            pivot_row: vec![None; n_columns],
+        }
+    }
+
+    /// Adds `row` when it is independent of the rows so far; returns whether it was.
+    fn insert(&mut self, mut row: Row) -> Result<bool, Overflow> {
+        while let Some(&(lead, v)) = row.first() {
+            match self.pivot_row[lead] {
+                Some(p) => {
+                    let pivot = &self.rows[p];
+                    let pv = pivot[0].1;
+                    let g = gcd(pv, v);
+                    row = combine(&row, pv / g, pivot, -(v / g))?;
+                    normalize(&mut row);
+                }
+                None => {
+                    self.pivot_row[lead] = Some(self.rows.len());
+                    self.rows.push(row);
+                    return Ok(true);
+                }
+            }
+        }
+        Ok(false)
+    }
+
+    /// A basis of the null space `{l : row . l = 0 for every row}`: one integer vector (gcd
+    /// 1) per column without a pivot, by back substitution.
+    fn null_space(&self) -> Result<Vec<Row>, Overflow> {
+        let n = self.pivot_row.len();
+        let mut by_lead: Vec<&Row> = self.rows.iter().collect();
+        by_lead.sort_by_key(|r| std::cmp::Reverse(r[0].0));
+        let mut basis = Vec::new();
+        for free in (0..n).filter(|&c| self.pivot_row[c].is_none()) {
+            let mut l = vec![0i128; n];
+            l[free] = 1;
+            for row in &by_lead {
+                let (lead, d) = row[0];
+                let mut s: i128 = 0;
+                for &(c, a) in &row[1..] {
+                    if l[c] != 0 {
+                        s = s
+                            .checked_add(a.checked_mul(l[c]).ok_or(Overflow)?)
+                            .ok_or(Overflow)?;
+                    }
+                }
+                if s == 0 {
+                    continue;
+                }
+                // l_lead = -s / d: scale l by |d / g| so that it stays integer.
+                let g = gcd(s, d);
+                let (s, d) = (s / g, d / g);
+                let scale = d.abs();
+                if scale != 1 {
+                    for x in l.iter_mut() {
+                        *x = x.checked_mul(scale).ok_or(Overflow)?;
+                    }
+                }
+                l[lead] = -s * d.signum();
+                let g = l.iter().fold(0, |g, &x| gcd(g, x));
+                if g > 1 {
+                    l.iter_mut().for_each(|x| *x /= g);
+                }
+            }
+            basis.push(
+                l.iter()
+                    .enumerate()
+                    .filter(|(_, x)| **x != 0)
+                    .map(|(i, x)| (i, *x))
+                    .collect(),
+            );
+        }
+        Ok(basis)
+    }
+}
+
+/// A ray of the double-description method: a semi-positive vector and its support.
+struct Ray {
+    l: Row,
+    support: Vec<u64>,
+}
+
+fn support_of(l: &Row, words: usize) -> Vec<u64> {
+    let mut s = vec![0u64; words];
+    for &(i, _) in l {
+        s[i / 64] |= 1 << (i % 64);
+    }
+    s
+}
+
+/// The extreme rays of `{l >= 0 : c . l = 0 for every constraint c}` over the species not
+/// in `closed_out` (double description: start from the unit vectors, intersect with one
+/// constraint at a time, combining adjacent pairs of opposite sign), or `None` when the work
+/// exceeds the budget.
+fn semi_positive_rays(
+    n: usize,
+    constraints: &[Row],
+    closed_out: &[bool],
+) -> Result<Option<Vec<Row>>, Overflow> {
+    let words = n.div_ceil(64);
+    let mut rays: Vec<Ray> = (0..n)
+        .filter(|&i| !closed_out[i])
+        .map(|i| {
+            let l = vec![(i, 1i128)];
+            Ray {
+                support: support_of(&l, words),
+                l,
+            }
+        })
+        .collect();
+    // Constraints with few sign pairs first keep the intermediate cones small.
+    let mut order: Vec<&Row> = constraints.iter().collect();
+    order.sort_by_key(|c| {
+        let pos = c.iter().filter(|(_, v)| *v > 0).count();
+        let neg = c.len() - pos;
+        pos * neg
+    });
+    let mut work: u64 = 0;
+    for constraint in order {
+        if rays.is_empty() {
+            break;
+        }
+        let mut residual = Vec::with_capacity(rays.len());
+        for ray in &rays {
+            residual.push(dot(&ray.l, constraint)?);
+        }
+        if residual.iter().all(|&r| r == 0) {
+            continue;
+        }
+        let positive: Vec<usize> = (0..rays.len()).filter(|&k| residual[k] > 0).collect();
+        let negative: Vec<usize> = (0..rays.len()).filter(|&k| residual[k] < 0).collect();
+        let mut next: Vec<Ray> = Vec::new();
+        for &p in &positive {
+            for &m in &negative {
+                let union: Vec<u64> = rays[p]
+                    .support
+                    .iter()
+                    .zip(&rays[m].support)
+                    .map(|(a, b)| a | b)
+                    .collect();
+                work += (rays.len() * words) as u64;
+                if work > MAX_ADJACENCY_WORK {
+                    return Ok(None);
+                }
+                let adjacent = rays.iter().enumerate().all(|(k, q)| {
+                    k == p || k == m || q.support.iter().zip(&union).any(|(s, u)| s & !u != 0)
+                });
+                if !adjacent {
+                    continue;
+                }
+                let mut l = combine(&rays[p].l, -residual[m], &rays[m].l, residual[p])?;
+                normalize(&mut l);
+                next.push(Ray {
+                    support: support_of(&l, words),
+                    l,
+                });
+                if next.len() > MAX_RAYS {
+                    return Ok(None);
+                }
+            }
+        }
+        for (k, ray) in rays.into_iter().enumerate() {
+            if residual[k] == 0 {
+                next.push(ray);
+            }
+        }
+        if next.len() > MAX_RAYS {
+            return Ok(None);
+        }
+        rays = next;
+    }
+    Ok(Some(rays.into_iter().map(|r| r.l).collect()))
+}
+
+/// The name of a moiety: `"A + 2 B - C"`.
+fn moiety_name(mechanism: &Mechanism, l: &Row) -> String {
+    let mut name = String::new();
+    for (k, &(i, v)) in l.iter().enumerate() {
+        let species = mechanism.species.get(i).map_or("?", |s| s.name.as_str());
+        let sign = match (k, v < 0) {
+            (0, false) => "",
+            (0, true) => "-",
+            (_, false) => " + ",
+            (_, true) => " - ",
+        };
+        name.push_str(sign);
+        if v.abs() != 1 {
+            name.push_str(&format!("{} ", v.abs()));
+        }
+        name.push_str(species);
+    }
+    name
+}
+
+/// The conservation laws of `mechanism` (a basis of the left null space of its net
+/// stoichiometric matrix, see the module documentation), with the species `open_species`
+/// exchanged with the surroundings or held fixed (no law involves them).
+///
+/// Third bodies do not enter (a collider is not changed by its step). The result has
+/// `n_species - rank([N, e_open])` laws; every law satisfies `l^T N = 0` exactly.
+pub fn conservation_laws(
+    mechanism: &Mechanism,
+    open_species: &[usize],
+) -> Result<Vec<ConservationLaw>, ConservationError> {
+    let n = mechanism.species.len();
+    let mut open = vec![false; n];
+    for &i in open_species {
+        *open
+            .get_mut(i)
+            .ok_or(ConservationError::SpeciesOutOfRange(i))? = true;
+    }
+    let name = |i: usize| mechanism.species.get(i).map_or("?", |s| s.name.as_str());
+
+    // The rows of N^T (one per step, integer, gcd 1, duplicates and opposite steps once).
+    let mut steps: Vec<Row> = Vec::new();
+    for (j, step) in mechanism.steps.iter().enumerate() {
+        let mut net: Vec<(usize, f64)> = Vec::new();
+        let terms = step
+            .products
+            .iter()
+            .map(|t| (t.species, t.coefficient))
+            .chain(step.reactants.iter().map(|t| (t.species, -t.coefficient)));
+        for (s, nu) in terms {
+            match net.iter_mut().find(|(t, _)| *t == s) {
+                Some(entry) => entry.1 += nu,
+                None => net.push((s, nu)),
+            }
+        }
+        net.sort_by_key(|&(s, _)| s);
+        let mut fractions = Vec::with_capacity(net.len());
+        for (s, nu) in net {
+            let (p, q) = to_fraction(nu).ok_or_else(|| ConservationError::NotAFraction {
+                what: format!("net coefficient of `{}` in step {}", name(s), j + 1),
+                value: nu,
+            })?;
+            fractions.push((s, p, q));
+        }
+        let mut row = integer_row(&fractions)?;
+        if row.first().is_some_and(|&(_, v)| v < 0) {
+            row.iter_mut().for_each(|(_, v)| *v = -*v);
+        }
+        if !row.is_empty() && !steps.contains(&row) {
+            steps.push(row);
+        }
+    }
+
+    let mut echelon = Echelon::new(n);
+    for (i, _) in open.iter().enumerate().filter(|(_, o)| **o) {
+        echelon.insert(vec![(i, 1)])?;
+    }
+    for row in &steps {
+        echelon.insert(row.clone())?;
+    }
+    let nullity = n - echelon.rows.len();
+    let mut laws = Vec::with_capacity(nullity);
+    if nullity == 0 {
+        return Ok(laws);
+    }
+    let in_null_space = |l: &Row| -> Result<bool, Overflow> {
+        if l.iter().any(|&(i, _)| open[i]) {
+            return Ok(false);
+        }
+        for row in &steps {
+            if dot(l, row)? != 0 {
+                return Ok(false);
+            }
+        }
+        Ok(true)
+    };
+    let mut chosen = Echelon::new(n);
+
+    // 1. Element totals.
+    for (e, element) in mechanism.elements.iter().enumerate() {
+        let mut fractions = Vec::new();
+        let mut counts = vec![0.0; n];
+        for (i, species) in mechanism.species.iter().enumerate() {
+            let count: f64 = species
+                .composition
+                .iter()
+                .flatten()
+                .filter(|(el, _)| *el == e)
+                .map(|(_, c)| c)
+                .sum();
+            if count != 0.0 {
+                let (p, q) = to_fraction(count).ok_or_else(|| ConservationError::NotAFraction {
+                    what: format!("number of {} atoms in `{}`", element.symbol, name(i)),
+                    value: count,
+                })?;
+                fractions.push((i, p, q));
+                counts[i] = count;
+            }
+        }
+        let l = integer_row(&fractions)?;
+        if !l.is_empty() && in_null_space(&l)? && chosen.insert(l)? {
+            laws.push(ConservationLaw {
+                name: format!("{} atoms", element.symbol),
+                kind: LawKind::Element(e),
+                coefficients: counts,
+            });
+        }
+    }
+
+    // 2. Semi-positive moieties of smallest support, 3. the exact null-space basis.
+    let mut candidates: Vec<Row> = Vec::new();
+    if laws.len() < nullity {
+        if let Some(mut rays) = semi_positive_rays(n, &steps, &open)? {
+            rays.sort_by_key(|l| (l.len(), l.iter().map(|&(_, v)| v).sum::<i128>(), l.clone()));
+            candidates.extend(rays);
+        }
+        for mut l in echelon.null_space()? {
+            if l.first().is_some_and(|&(_, v)| v < 0) {
+                l.iter_mut().for_each(|(_, v)| *v = -*v);
+            }
+            candidates.push(l);
+        }
+    }
+    for l in candidates {
+        if laws.len() == nullity {
+            break;
+        }
+        if chosen.insert(l.clone())? {
+            let mut coefficients = vec![0.0; n];
+            for &(i, v) in &l {
+                coefficients[i] = v as f64;
+            }
+            laws.push(ConservationLaw {
+                name: moiety_name(mechanism, &l),
+                kind: LawKind::Moiety,
+                coefficients,
+            });
+        }
+    }
+    Ok(laws)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn fractions_are_the_written_decimals() {
+        assert_eq!(to_fraction(0.62), Some((31, 50)));
+        assert_eq!(to_fraction(-1.5), Some((-3, 2)));
+        assert_eq!(to_fraction(1.0 / 3.0), Some((1, 3)));
+        assert_eq!(to_fraction(0.333), Some((333, 1000)));
+        assert_eq!(to_fraction(2.0), Some((2, 1)));
+        assert_eq!(to_fraction(0.123456), Some((1929, 15625)));
+        assert_eq!(to_fraction(std::f64::consts::PI), None);
+        assert_eq!(to_fraction(0.1234567), None);
+    }
+
+    #[test]
+    fn echelon_null_space_of_a_small_integer_matrix() {
+        // Rows (1, 2, 0) and (0, 3, 6): null space spanned by (4, -2, 1) (by hand:
+        // x2 = -2 x3, x1 = -2 x2 = 4 x3).
+        let mut e = Echelon::new(3);
+        assert!(e.insert(vec![(0, 1), (1, 2)]).unwrap());
+        assert!(e.insert(vec![(1, 3), (2, 6)]).unwrap());
+        assert!(!e.insert(vec![(0, 2), (1, 7), (2, 6)]).unwrap());
+        assert_eq!(e.null_space().unwrap(), vec![vec![(0, 4), (1, -2), (2, 1)]]);
+    }
+}

@@ -15,6 +15,9 @@
 //!   S + ES + P (common practice, any biochemistry text);
 //! - element totals of the ozone flask over a long run (conservation of atoms).
 
+#[path = "../benches/common/mod.rs"]
+mod synthetic;
+
 use std::path::Path;
 use stoik::kinetics::{conservation_laws, ConservationLaw, Kinetics, LawKind};
 use stoik::mechanism::{load_mechanism, load_scenario, parse_mechanism, Mechanism};
@@ -200,6 +203,17 @@ fn hydrogen_oxygen_conserves_its_element_totals() {
     let h = laws.iter().find(|l| l.name == "H atoms").unwrap();
     let h2o = m.species_index("H2O").unwrap();
     assert_eq!(h.coefficients[h2o], 2.0);
+}
+
+#[test]
+fn law_count_matches_the_rank_on_a_synthetic_mechanism() {
+    // 300 species, 900 random hub-shaped steps (the benchmarks' generator): no published
+    // laws, but the count must be n - rank(N) with rank from the floating-point elimination
+    // above, and every law exact.
+    let m = synthetic::synthetic_mechanism(300, 11);
+    let laws = conservation_laws(&m, &[]).unwrap();
+    check_null_space(&m, &laws);
+    assert!(!laws.is_empty());
 }
 
 #[test]
@@ -520,4 +534,53 @@ fn element_totals_are_conserved_over_a_long_run() {
     let o3 = mechanism.species_index("O3").unwrap();
     let last = profiles.concentrations_mol_per_m3.last().unwrap();
     assert!(last[o3] < 1e-3 * profiles.concentrations_mol_per_m3[0][o3]);
+}
+
+/// The `stoik run` summary lists each law with its drift and allowance (Robertson: A + B + C
+/// = 1, Hairer & Wanner) and says which species an open box leaves out.
+#[test]
+fn run_summary_lists_the_laws_with_their_drift() {
+    let dir = std::env::temp_dir().join(format!("stoik-conservation-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let run = |scenario: &str| {
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_stoik"))
+            .args(["run", mechanisms().join(scenario).to_str().unwrap()])
+            .args(["--output", dir.join("out.csv").to_str().unwrap()])
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(0));
+        let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
+        assert!(!stderr.contains("conserved quantity"), "{stderr}");
+        String::from_utf8_lossy(&out.stdout).into_owned()
+    };
+
+    let stdout = run("robertson.scenario.toml");
+    assert!(!stdout.contains("element balance"), "{stdout}");
+    let line = stdout
+        .lines()
+        .find(|l| l.trim_start().starts_with("A + B + C"))
+        .unwrap_or_else(|| panic!("{stdout}"));
+    // "  A + B + C     1.000000e0  drift 7.8e-15 (allowed 1.0e-8)"
+    let fields: Vec<&str> = line.split_whitespace().collect();
+    assert_eq!(fields[5].parse::<f64>().unwrap(), 1.0);
+    assert_eq!(fields[6], "drift");
+    let drift: f64 = fields[7].parse().unwrap();
+    let allowed: f64 = fields[9].trim_end_matches(')').parse().unwrap();
+    // Scenario rtol 1e-8 with atol 1e-14 on a law of size 1.
+    assert!((1e-8..1.01e-8).contains(&allowed), "{line}");
+    assert!(drift < 1e-13, "{line}");
+
+    // The urban box exchanges every species but O, O1D, OH, HO2, RO2 and CARB; by hand, its
+    // steps force l = 0 on those: O + O2 -> O3 gives l_O = 0, O1D -> O then l_O1D = 0,
+    // O1D + H2O -> 2 OH l_OH = 0, RH + OH + O2 -> RO2 + H2O l_RO2 = 0, HO2 + HO2 -> H2O2 + O2
+    // l_HO2 = 0, and RO2 + NO + O2 -> NO2 + CARB + HO2 l_CARB = 0.
+    let stdout = run("urban-box.scenario.toml");
+    assert!(
+        stdout.contains("conserved quantities: none (no combination of the other species is unchanged by every step)"),
+        "{stdout}"
+    );
+    assert!(
+        stdout.contains("(open box: NO, NO2, O3, RH, HNO3, H2O2, N2, O2, H2O exchange matter"),
+        "{stdout}"
+    );
 }

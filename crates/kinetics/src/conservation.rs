@@ -114,9 +114,10 @@ pub enum ConservationError {
         /// The value.
         value: f64,
     },
-    /// The exact elimination outgrew 128-bit integers.
-    #[error("the exact elimination of the stoichiometric matrix overflowed 128-bit integers")]
-    Overflow,
+    /// Some conservation law needs coefficients beyond the exact arithmetic (numerators and
+    /// denominators up to about 1e9 in the null-space basis, 128-bit integers elsewhere).
+    #[error("the conservation laws of this mechanism need coefficients too large for the exact arithmetic")]
+    TooLarge,
     /// An open species index is out of range.
     #[error("open species index {0} is out of range")]
     SpeciesOutOfRange(usize),
@@ -128,7 +129,7 @@ struct Overflow;
 
 impl From<Overflow> for ConservationError {
     fn from(_: Overflow) -> Self {
-        ConservationError::Overflow
+        ConservationError::TooLarge
     }
 }
 
@@ -297,44 +298,120 @@ impl Echelon {
         }
         Ok(false)
     }
+}
 
-    /// A basis of the null space `{l : row . l = 0 for every row}`: one integer vector (gcd
-    /// 1) per column without a pivot, by back substitution.
-    fn null_space(&self) -> Result<Vec<Row>, Overflow> {
+/// Primes below 2^62 for the modular elimination (2^62 - 57, - 87, - 117; checked with a
+/// deterministic Miller-Rabin test): sums of two residues fit in u64, products in u128.
+const PRIMES: [u64; 3] = [
+    4_611_686_018_427_387_847,
+    4_611_686_018_427_387_817,
+    4_611_686_018_427_387_787,
+];
+
+fn mul_mod(a: u64, b: u64, p: u64) -> u64 {
+    ((a as u128 * b as u128) % p as u128) as u64
+}
+
+fn pow_mod(mut a: u64, mut e: u64, p: u64) -> u64 {
+    let mut r = 1;
+    while e > 0 {
+        if e & 1 == 1 {
+            r = mul_mod(r, a, p);
+        }
+        a = mul_mod(a, a, p);
+        e >>= 1;
+    }
+    r
+}
+
+fn to_mod(v: i128, p: u64) -> u64 {
+    v.rem_euclid(p as i128) as u64
+}
+
+/// A sparse vector of residues modulo a prime (indices increasing, values nonzero).
+type ModRow = Vec<(usize, u64)>;
+
+/// `a + c b` modulo `p`, zeros dropped.
+fn axpy_mod(a: &ModRow, c: u64, b: &ModRow, p: u64) -> ModRow {
+    let mut out = Vec::with_capacity(a.len() + b.len());
+    let (mut i, mut j) = (0, 0);
+    while i < a.len() || j < b.len() {
+        let take_a = j >= b.len() || (i < a.len() && a[i].0 <= b[j].0);
+        let take_b = i >= a.len() || (j < b.len() && b[j].0 <= a[i].0);
+        let (col, mut v) = if take_a {
+            (a[i].0, a[i].1)
+        } else {
+            (b[j].0, 0)
+        };
+        if take_a {
+            i += 1;
+        }
+        if take_b {
+            v = (v + mul_mod(c, b[j].1, p)) % p;
+            j += 1;
+        }
+        if v != 0 {
+            out.push((col, v));
+        }
+    }
+    out
+}
+
+/// Rows modulo a prime in echelon form with monic leading entries: the rank and a null
+/// space without coefficient growth (exact integer elimination can outgrow any fixed width
+/// on large mechanisms).
+struct ModEchelon {
+    p: u64,
+    rows: Vec<ModRow>,
+    pivot_row: Vec<Option<usize>>,
+}
+
+impl ModEchelon {
+    fn new(n_columns: usize, p: u64) -> Self {
+        ModEchelon {
+            p,
+            rows: Vec::new(),
+            pivot_row: vec![None; n_columns],
+        }
+    }
+
+    fn insert(&mut self, row: &Row) {
+        let p = self.p;
+        let mut r: ModRow = row
+            .iter()
+            .map(|&(i, v)| (i, to_mod(v, p)))
+            .filter(|&(_, v)| v != 0)
+            .collect();
+        while let Some(&(lead, v)) = r.first() {
+            match self.pivot_row[lead] {
+                Some(k) => r = axpy_mod(&r, p - v, &self.rows[k], p),
+                None => {
+                    let inv = pow_mod(v, p - 2, p);
+                    r.iter_mut().for_each(|(_, x)| *x = mul_mod(*x, inv, p));
+                    self.pivot_row[lead] = Some(self.rows.len());
+                    self.rows.push(r);
+                    return;
+                }
+            }
+        }
+    }
+
+    /// A basis of the null space modulo p: per column without a pivot, the vector with 1
+    /// there, 0 at the other such columns, by back substitution.
+    fn null_space(&self) -> Vec<ModRow> {
+        let p = self.p;
         let n = self.pivot_row.len();
-        let mut by_lead: Vec<&Row> = self.rows.iter().collect();
+        let mut by_lead: Vec<&ModRow> = self.rows.iter().collect();
         by_lead.sort_by_key(|r| std::cmp::Reverse(r[0].0));
         let mut basis = Vec::new();
         for free in (0..n).filter(|&c| self.pivot_row[c].is_none()) {
-            let mut l = vec![0i128; n];
+            let mut l = vec![0u64; n];
             l[free] = 1;
             for row in &by_lead {
-                let (lead, d) = row[0];
-                let mut s: i128 = 0;
-                for &(c, a) in &row[1..] {
-                    if l[c] != 0 {
-                        s = s
-                            .checked_add(a.checked_mul(l[c]).ok_or(Overflow)?)
-                            .ok_or(Overflow)?;
-                    }
-                }
-                if s == 0 {
-                    continue;
-                }
-                // l_lead = -s / d: scale l by |d / g| so that it stays integer.
-                let g = gcd(s, d);
-                let (s, d) = (s / g, d / g);
-                let scale = d.abs();
-                if scale != 1 {
-                    for x in l.iter_mut() {
-                        *x = x.checked_mul(scale).ok_or(Overflow)?;
-                    }
-                }
-                l[lead] = -s * d.signum();
-                let g = l.iter().fold(0, |g, &x| gcd(g, x));
-                if g > 1 {
-                    l.iter_mut().for_each(|x| *x /= g);
-                }
+                let s = row[1..]
+                    .iter()
+                    .fold(0u64, |s, &(c, a)| (s + mul_mod(a, l[c], p)) % p);
+                l[row[0].0] = (p - s) % p;
             }
             basis.push(
                 l.iter()
@@ -344,8 +421,46 @@ impl Echelon {
                     .collect(),
             );
         }
-        Ok(basis)
+        basis
     }
+}
+
+/// The fraction r/s (|r|, s <= sqrt(p/2), s > 0) congruent to `x` modulo `p`, if any
+/// (rational reconstruction by the half-extended Euclidean algorithm, common practice in
+/// computer algebra).
+fn reconstruct(x: u64, p: u64) -> Option<(i128, i128)> {
+    let bound = ((p / 2) as f64).sqrt() as i128;
+    let (mut r0, mut r1) = (p as i128, x as i128);
+    let (mut s0, mut s1) = (0i128, 1i128);
+    while r1 > bound {
+        let q = r0 / r1;
+        (r0, r1) = (r1, r0 - q * r1);
+        (s0, s1) = (s1, s0 - q * s1);
+    }
+    if s1 == 0 || s1.abs() > bound {
+        return None;
+    }
+    let (r, s) = if s1 < 0 { (-r1, -s1) } else { (r1, s1) };
+    (gcd(r, s) == 1).then_some((r, s))
+}
+
+/// An integer vector (gcd 1) proportional to the rational vector whose residues modulo `p`
+/// are `v`, when its entries have small enough numerators and denominators.
+fn lift(v: &ModRow, p: u64) -> Option<Row> {
+    let mut denominator: i128 = 1;
+    let mut out: Row = Vec::with_capacity(v.len());
+    for &(i, a) in v {
+        let (r, s) = reconstruct(mul_mod(a, to_mod(denominator, p), p), p)?;
+        if s != 1 {
+            for (_, x) in out.iter_mut() {
+                *x = x.checked_mul(s)?;
+            }
+            denominator = denominator.checked_mul(s)?;
+        }
+        out.push((i, r));
+    }
+    normalize(&mut out);
+    Some(out)
 }
 
 /// A ray of the double-description method: a semi-positive vector and its support.
@@ -518,29 +633,57 @@ pub fn conservation_laws(
         }
     }
 
-    let mut echelon = Echelon::new(n);
-    for (i, _) in open.iter().enumerate().filter(|(_, o)| **o) {
-        echelon.insert(vec![(i, 1)])?;
-    }
+    // The elimination runs on permuted columns: species in few steps first, so that pivots
+    // fall on them and the species in many steps (radical pools, hubs) fill in last.
+    let mut count = vec![0usize; n];
     for row in &steps {
-        echelon.insert(row.clone())?;
+        for &(i, _) in row {
+            count[i] += 1;
+        }
     }
-    let nullity = n - echelon.rows.len();
+    let mut species_at: Vec<usize> = (0..n).collect();
+    species_at.sort_by_key(|&i| (count[i], i));
+    let mut position_of = vec![0usize; n];
+    for (p, &i) in species_at.iter().enumerate() {
+        position_of[i] = p;
+    }
+    let permute = |row: &Row, map: &[usize]| -> Row {
+        let mut out: Row = row.iter().map(|&(i, v)| (map[i], v)).collect();
+        out.sort_unstable_by_key(|&(i, _)| i);
+        out
+    };
+    let in_null_space = |l: &Row| -> bool {
+        !l.iter().any(|&(i, _)| open[i])
+            && steps.iter().all(|row| dot(l, row).is_ok_and(|d| d == 0))
+    };
+    // Rank and null space modulo a prime, lifted to integers and verified exactly: lifted
+    // vectors that all verify prove the rank (rank mod p never exceeds the rank over the
+    // rationals, and the lifted vectors are independent).
+    let mut found = None;
+    for &prime in &PRIMES {
+        let mut echelon = ModEchelon::new(n, prime);
+        for (i, _) in open.iter().enumerate().filter(|(_, o)| **o) {
+            echelon.insert(&vec![(position_of[i], 1)]);
+        }
+        for row in &steps {
+            echelon.insert(&permute(row, &position_of));
+        }
+        let lifted: Vec<Option<Row>> = echelon
+            .null_space()
+            .iter()
+            .map(|v| lift(v, prime).map(|l| permute(&l, &species_at)))
+            .collect();
+        if lifted.iter().flatten().all(&in_null_space) {
+            found = Some(lifted);
+            break;
+        }
+    }
+    let lifted = found.ok_or(ConservationError::TooLarge)?;
+    let nullity = lifted.len();
     let mut laws = Vec::with_capacity(nullity);
     if nullity == 0 {
         return Ok(laws);
     }
-    let in_null_space = |l: &Row| -> Result<bool, Overflow> {
-        if l.iter().any(|&(i, _)| open[i]) {
-            return Ok(false);
-        }
-        for row in &steps {
-            if dot(l, row)? != 0 {
-                return Ok(false);
-            }
-        }
-        Ok(true)
-    };
     let mut chosen = Echelon::new(n);
 
     // 1. Element totals.
@@ -565,7 +708,7 @@ pub fn conservation_laws(
             }
         }
         let l = integer_row(&fractions)?;
-        if !l.is_empty() && in_null_space(&l)? && chosen.insert(l)? {
+        if !l.is_empty() && in_null_space(&l) && chosen.insert(l)? {
             laws.push(ConservationLaw {
                 name: format!("{} atoms", element.symbol),
                 kind: LawKind::Element(e),
@@ -577,11 +720,12 @@ pub fn conservation_laws(
     // 2. Semi-positive moieties of smallest support, 3. the exact null-space basis.
     let mut candidates: Vec<Row> = Vec::new();
     if laws.len() < nullity {
-        if let Some(mut rays) = semi_positive_rays(n, &steps, &open)? {
+        // Overflow in the enumeration only costs readability: skip it.
+        if let Ok(Some(mut rays)) = semi_positive_rays(n, &steps, &open) {
             rays.sort_by_key(|l| (l.len(), l.iter().map(|&(_, v)| v).sum::<i128>(), l.clone()));
             candidates.extend(rays);
         }
-        for mut l in echelon.null_space()? {
+        for mut l in lifted.into_iter().flatten() {
             if l.first().is_some_and(|&(_, v)| v < 0) {
                 l.iter_mut().for_each(|(_, v)| *v = -*v);
             }
@@ -604,6 +748,11 @@ pub fn conservation_laws(
             });
         }
     }
+    // Short only when some null-space vector could not be lifted and no readable law
+    // replaced it.
+    if laws.len() < nullity {
+        return Err(ConservationError::TooLarge);
+    }
     Ok(laws)
 }
 
@@ -624,13 +773,40 @@ mod tests {
     }
 
     #[test]
-    fn echelon_null_space_of_a_small_integer_matrix() {
+    fn null_space_of_a_small_integer_matrix() {
         // Rows (1, 2, 0) and (0, 3, 6): null space spanned by (4, -2, 1) (by hand:
-        // x2 = -2 x3, x1 = -2 x2 = 4 x3).
-        let mut e = Echelon::new(3);
-        assert!(e.insert(vec![(0, 1), (1, 2)]).unwrap());
-        assert!(e.insert(vec![(1, 3), (2, 6)]).unwrap());
-        assert!(!e.insert(vec![(0, 2), (1, 7), (2, 6)]).unwrap());
-        assert_eq!(e.null_space().unwrap(), vec![vec![(0, 4), (1, -2), (2, 1)]]);
+        // x2 = -2 x3, x1 = -2 x2 = 4 x3); the third row is 2 (1, 2, 0) + (0, 3, 6).
+        let rows: [Row; 3] = [
+            vec![(0, 1), (1, 2)],
+            vec![(1, 3), (2, 6)],
+            vec![(0, 2), (1, 7), (2, 6)],
+        ];
+        let mut exact = Echelon::new(3);
+        let independent: Vec<bool> = rows
+            .iter()
+            .map(|r| exact.insert(r.clone()).unwrap())
+            .collect();
+        assert_eq!(independent, [true, true, false]);
+        for p in PRIMES {
+            let mut e = ModEchelon::new(3, p);
+            rows.iter().for_each(|r| e.insert(r));
+            let basis = e.null_space();
+            assert_eq!(basis.len(), 1);
+            assert_eq!(lift(&basis[0], p), Some(vec![(0, 4), (1, -2), (2, 1)]));
+        }
+    }
+
+    #[test]
+    fn rational_reconstruction_recovers_small_fractions() {
+        let p = PRIMES[0];
+        for (r, s) in [
+            (3i128, 7i128),
+            (-5, 2),
+            (-999_999_937, 1_000_000_007),
+            (0, 1),
+        ] {
+            let x = mul_mod(to_mod(r, p), pow_mod(to_mod(s, p), p - 2, p), p);
+            assert_eq!(reconstruct(x, p), Some((r, s)));
+        }
     }
 }

@@ -68,10 +68,10 @@ pub fn report_lines(
         .filter_map(|&i| mechanism.species.get(i).map(|s| s.name.as_str()))
         .collect();
     if drifts.is_empty() {
-        lines.push(
-            "conserved quantities: none (no combination of species is unchanged by every step)"
-                .to_string(),
-        );
+        let which = if open.is_empty() { "" } else { "other " };
+        lines.push(format!(
+            "conserved quantities: none (no combination of the {which}species is unchanged by every step)"
+        ));
     } else {
         lines.push(format!(
             "conserved quantities [{unit}], initial value and largest drift relative to the quantity's size:"
@@ -83,16 +83,21 @@ pub fn report_lines(
             .max()
             .unwrap_or(0);
         for d in drifts.iter().take(MAX_LISTED) {
-            let (drift, allowed) = if d.scale > 0.0 {
-                (d.relative_drift, d.allowed / d.scale)
+            let drift = if d.scale > 0.0 {
+                format!(
+                    "drift {:.1e} (allowed {:.1e}){}",
+                    d.relative_drift,
+                    d.allowed / d.scale,
+                    if d.exceeded { "  EXCEEDED" } else { "" }
+                )
             } else {
-                (0.0, 0.0)
+                // Every species of the law stayed at exactly zero.
+                "(none present)".to_string()
             };
             lines.push(format!(
-                "  {:<width$} {:>14.6e}  drift {drift:.1e} (allowed {allowed:.1e}){}",
+                "  {:<width$} {:>14.6e}  {drift}",
                 short(&d.name),
                 d.initial_value,
-                if d.exceeded { "  EXCEEDED" } else { "" }
             ));
         }
         if drifts.len() > MAX_LISTED {

@@ -217,6 +217,31 @@ fn law_count_matches_the_rank_on_a_synthetic_mechanism() {
 }
 
 #[test]
+fn dependent_element_totals_are_listed_once() {
+    // N2O4 <=> 2 NO2 alone: the O total (2 NO2 + 4 N2O4) is twice the N total (NO2 + 2 N2O4);
+    // the null space has dimension 2 - 1 = 1 (by hand).
+    let m = inline(
+        r#"
+[[species]]
+name = "NO2"
+atoms = { N = 1, O = 2 }
+[[species]]
+name = "N2O4"
+atoms = { N = 2, O = 4 }
+[[step]]
+equation = "N2O4 <=> 2 NO2"
+forward = { prefactor = 1.0e5 }
+reverse = { prefactor = 1.0e3 }
+"#,
+    );
+    let laws = conservation_laws(&m, &[]).unwrap();
+    check_null_space(&m, &laws);
+    assert_eq!(names(&laws), ["N atoms"]);
+    assert_eq!(laws[0].coefficients, [1.0, 2.0]);
+    assert_eq!(laws[0].kind, LawKind::Element(0));
+}
+
+#[test]
 fn michaelis_menten_conserves_enzyme_and_substrate() {
     let m = inline(
         r#"
@@ -323,6 +348,19 @@ reverse = { prefactor = 1.0 }
         },
         ..ReactorModel::default()
     };
+    // Fixing D and depositing A leave nothing: A + B loses A, C + D loses D.
+    let closed_off = ReactorModel {
+        conditions: BoxConditions {
+            fixed_species: vec![3],
+            deposition: vec![(0, 0.1)],
+            ..BoxConditions::default()
+        },
+        ..ReactorModel::default()
+    };
+    let conservation = ReactorConservation::new(&m, &closed_off).unwrap();
+    assert_eq!(conservation.open_species, [0, 3]);
+    assert!(conservation.laws.is_empty());
+
     let conservation = ReactorConservation::new(&m, &model).unwrap();
     assert_eq!(conservation.open_species, [2]);
     assert_eq!(names(&conservation.laws), ["A + B"]);

@@ -4,9 +4,15 @@
 //! With `N` the net stoichiometric matrix (species x steps, `N_ij = nu''_ij - nu'_ij`), a
 //! closed constant-volume reactor obeys `dc/dt = N q(c)` whatever the rates `q`, so every
 //! vector `l` with `l^T N = 0` gives an invariant `l^T c` (common practice; e.g. Schuster &
-//! Hoefer, J. Chem. Soc. Faraday Trans. 87, 2561, 1991, cited from memory). The laws are computed exactly:
-//! stoichiometric coefficients (and atom counts) are read as fractions (`0.62` is 31/50) and
-//! eliminated in 128-bit integer arithmetic with overflow checks.
+//! Hoefer, J. Chem. Soc. Faraday Trans. 87, 2561, 1991, cited from memory).
+//!
+//! The laws are computed exactly. Stoichiometric coefficients and atom counts are read as
+//! fractions (`0.62` is 31/50). The rank and a null-space basis come from a sparse
+//! elimination modulo a 62-bit prime (no coefficient growth, species in few steps pivoted
+//! first), lifted to integers by rational reconstruction and verified against every step in
+//! checked 128-bit integer arithmetic; a verified basis proves the rank. Readable candidates
+//! (element totals, moieties) are tested in exact integer arithmetic too. A mechanism whose
+//! laws would need coefficients beyond that reach gives [`ConservationError::TooLarge`].
 //!
 //! The basis is chosen to be readable, in this order of preference:
 //! 1. element totals ("H atoms": atom counts of the element), for every element that the
@@ -19,8 +25,8 @@
 //!    whose first nonzero one is positive ("Y2 - Y3 - Y4").
 //!
 //! A law that is a combination of laws already chosen is not repeated (with N2O4 <=> 2 NO2
-//! alone, "O atoms" is twice "N atoms" and only the latter is listed). The number of laws is
-//! always `n_species - rank(N)`.
+//! alone, the O total is twice the N total and only the element listed first in the
+//! mechanism is reported). The number of laws is always `n_species - rank(N)`.
 //!
 //! Species that something outside the steps changes or holds (box-model emissions,
 //! deposition and fixed species) are passed as `open_species`: each adds a column `e_i` to

@@ -201,7 +201,8 @@ impl ReactorConservation {
 
     /// The drift of every law along `profiles` integrated with `options` (its relative and
     /// absolute tolerances enter the allowance); one entry per law, in order. An empty
-    /// profile gives zero drifts.
+    /// profile gives zero drifts; per unit mass, rows without mass (density not positive) are
+    /// skipped.
     pub fn drifts(
         &self,
         profiles: &Profiles,
@@ -209,7 +210,10 @@ impl ReactorConservation {
     ) -> Vec<ConservationDrift> {
         let rows = &profiles.concentrations_mol_per_m3;
         let divisors: Vec<f64> = rows.iter().map(|c| self.basis.divisor(c)).collect();
-        let smallest_divisor = divisors.iter().fold(f64::INFINITY, |m, &d| m.min(d));
+        let smallest_divisor = divisors
+            .iter()
+            .filter(|d| **d > 0.0 && d.is_finite())
+            .fold(f64::INFINITY, |m, &d| m.min(d));
         let stats = &profiles.stats;
         self.laws
             .iter()
@@ -218,13 +222,22 @@ impl ReactorConservation {
                 let mut max_drift: f64 = 0.0;
                 let mut time_of_max_drift_s = profiles.times_s.first().copied().unwrap_or(0.0);
                 let mut scale: f64 = 0.0;
+                let mut first = true;
                 for (r, c) in rows.iter().enumerate() {
-                    let value = law.value(c) / divisors[r];
-                    let size: f64 =
-                        law.terms().map(|(i, l)| (l * c[i]).abs()).sum::<f64>() / divisors[r];
+                    let divisor = divisors[r];
+                    if !(divisor > 0.0 && divisor.is_finite()) {
+                        continue; // a per-mass row without mass
+                    }
+                    let value = law.value(c) / divisor;
+                    let size: f64 = law
+                        .terms()
+                        .map(|(i, l)| (l * c.get(i).copied().unwrap_or(0.0)).abs())
+                        .sum::<f64>()
+                        / divisor;
                     scale = scale.max(size);
-                    if r == 0 {
+                    if first {
                         initial_value = value;
+                        first = false;
                     } else if (value - initial_value).abs() > max_drift {
                         max_drift = (value - initial_value).abs();
                         time_of_max_drift_s = profiles.times_s.get(r).copied().unwrap_or(0.0);
@@ -241,10 +254,10 @@ impl ReactorConservation {
                                 .unwrap_or(0.0)
                     })
                     .sum::<f64>()
-                    / if rows.is_empty() {
-                        1.0
-                    } else {
+                    / if smallest_divisor.is_finite() {
                         smallest_divisor
+                    } else {
+                        1.0
                     };
                 let projections = stats.negative_step_rejections as f64;
                 let allowed = options.relative_tolerance * scale

@@ -78,7 +78,7 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Kinetics {
         species_thermo: mechanism.species.iter().map(|s| s.thermo).collect(),
         reverse_from_thermo: Vec::with_capacity(n_steps),
         delta_moles: Vec::with_capacity(n_steps),
-        conserved: Vec::new(),
+        conserved: std::sync::OnceLock::new(),
     };
     let mut pattern_entries: Vec<(usize, usize)> = Vec::new();
     let mut slot_of_species = vec![usize::MAX; n_species];

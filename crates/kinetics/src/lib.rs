@@ -25,6 +25,10 @@
 //! (tables: d k/dP with P = (sum c) R T) and their temperature slopes the temperature
 //! dependence of k0/kinf, the broadening and, for tables, of P.
 //!
+//! [`conservation_laws`] computes the conservation laws of a mechanism exactly: a readable
+//! basis (element totals, then moieties such as `A + B + C`) of the left null space of the
+//! net stoichiometric matrix.
+//!
 //! Non-integer orders are evaluated on `max(c, 0)` (a negative concentration has no real
 //! non-integer power); integer orders use exact integer powers, so the right-hand side stays
 //! smooth through small negative excursions of the integrator.
@@ -32,10 +36,12 @@
 #![warn(missing_docs)]
 
 mod compile;
+mod conservation;
 mod energetics;
 mod falloff;
 mod pattern;
 
+pub use conservation::{conservation_laws, ConservationError, ConservationLaw, LawKind};
 pub use energetics::{
     collision_limit_warnings, hard_sphere_rate_constant, step_energetics, StepEnergetics,
     COLLISION_LIMIT_M3_PER_MOL_S, COLLISION_LIMIT_TEMPERATURES_K,
@@ -197,8 +203,9 @@ pub(crate) enum ThirdBodyKind {
 pub struct Kinetics {
     /// Coefficient vectors (one per species) of the linear combinations of concentrations
     /// that every step leaves unchanged: a basis of the left null space of the net
-    /// stoichiometric matrix.
-    pub(crate) conserved: Vec<Vec<f64>>,
+    /// stoichiometric matrix. Computed on first use (exact elimination; about 0.1 s at 1,000
+    /// species), so that compiling stays cheap for callers that never integrate.
+    pub(crate) conserved: std::sync::OnceLock<Vec<Vec<f64>>>,
     pub(crate) n_species: usize,
     pub(crate) n_steps: usize,
     pub(crate) forward: Vec<CompiledArrhenius>,
@@ -256,8 +263,19 @@ impl Kinetics {
     /// entry per species, dimensionless) with `l . w(c) = 0` for every state, a basis of the
     /// left null space of the net stoichiometric matrix (element totals, moieties). Integrators
     /// use them to keep the invariants from drifting.
+    ///
+    /// The basis is exact (integer coefficients, verified against every step) but not chosen
+    /// for readability; [`conservation_laws`] gives named, readable laws of a mechanism. It is
+    /// computed on the first call and kept. Empty when the mechanism conserves nothing or its
+    /// coefficients are not simple fractions.
     pub fn conserved_combinations(&self) -> &[Vec<f64>] {
-        &self.conserved
+        self.conserved.get_or_init(|| {
+            conservation::conserved_basis(
+                self.n_species,
+                (0..self.n_steps)
+                    .map(|j| &self.net_terms[self.net_start[j]..self.net_start[j + 1]]),
+            )
+        })
     }
 
     /// Multiplies the forward and reverse pre-exponential factors of step `step` by `factor`

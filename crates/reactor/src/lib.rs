@@ -20,7 +20,11 @@
 //! - [`BatchIntegrator`], opened on a [`BatchSystem`], is the stepping interface for process
 //!   models (operator splitting): advance to a time, change the state (e.g. add a feed) or the
 //!   temperature, continue. It keeps one live solver and does not allocate in steady use.
-//! - [`element_balance`] checks the element invariants of a closed reactor on a profile.
+//! - [`ReactorConservation`] holds the conservation laws of a mechanism in a reactor (element
+//!   totals and moieties, with a box model's open species left out; per unit mass at
+//!   constant pressure) and measures their drift along a profile against the allowance of
+//!   the tolerances ([`ConservationDrift`]).
+//! - [`element_balance`] reports the element totals at the start and end of a profile.
 //!
 //! Numerics (see the design notes): the Jacobian is filled analytically from the kinetics in
 //! one pass, into a dense matrix (nalgebra, LU with partial pivoting) for small systems or into
@@ -38,6 +42,7 @@
 
 mod atmosphere;
 mod batch;
+mod conservation;
 mod equations;
 mod failure;
 mod fixed_lu;
@@ -51,6 +56,10 @@ pub use atmosphere::{
     cos_solar_zenith, solar_declination_rad, BoxConditions, PhotolysisForm, PhotolysisRate, Sun,
 };
 pub use batch::{integrate_batch, integrate_batch_serial, BatchCase, BatchError};
+pub use conservation::{
+    ConservationBasis, ConservationCheckError, ConservationDrift, ReactorConservation,
+    ROUNDING_PER_STEP,
+};
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
 pub use model::{Constraint, Energy, ReactorModel, TemperatureHistory};

@@ -1,7 +1,9 @@
 //! `stoik batch`: many scenarios (optionally each at several temperatures) over mechanisms
-//! compiled once, integrated in parallel with a progress bar.
+//! compiled once, integrated in parallel with a progress bar. A run whose conserved
+//! quantities drift more than its tolerances allow gets a warning line.
 
 use crate::check::report_load_error;
+use crate::conservation_out::conservation_report;
 use crate::csv_out::CsvError;
 use crate::run::{integration_options, reactor_model, scenario_stem, write_csv, CAUTION};
 use crate::{BatchArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
@@ -150,6 +152,17 @@ pub fn batch(args: &BatchArgs) -> u8 {
                     continue;
                 }
             };
+            if !args.quiet {
+                let report = conservation_report(
+                    &file.mechanism,
+                    &job.case.model,
+                    &profiles,
+                    &job.case.options,
+                );
+                for warning in &report.warnings {
+                    bar.suspend(|| eprintln!("{}: {warning}", job.output.display()));
+                }
+            }
             match write_csv(&job.output, &file.mechanism, &profiles, &job.scenario) {
                 Ok(notes) => {
                     if let Some(w) = notes.warning(&job.output.display().to_string()) {

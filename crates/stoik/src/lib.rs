@@ -6,8 +6,10 @@
 //!
 //! This facade re-exports the layers, each usable on its own:
 //! - [`mechanism`]: the SI mechanism model, the TOML mechanism and scenario formats, validation;
-//! - [`kinetics`]: a mechanism compiled to flat arrays (rates, production rates, Jacobians);
-//! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics;
+//! - [`kinetics`]: a mechanism compiled to flat arrays (rates, production rates, Jacobians),
+//!   and its conservation laws ([`kinetics::conservation_laws`]);
+//! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics,
+//!   the drift of the conservation laws along a profile ([`reactor::ReactorConservation`]);
 //! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables;
 //! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties.
 //!

@@ -2,6 +2,7 @@
 
 mod batch;
 mod check;
+mod conservation_out;
 mod csv_out;
 mod energetics;
 mod fit_rate;

@@ -186,18 +186,19 @@ pub fn run(args: &RunArgs) -> u8 {
     }
 
     if !args.quiet {
-        let b = &resolved.box_conditions;
-        let open_box = !(b.fixed_species.is_empty()
-            && b.emissions_mol_per_m3_s.is_empty()
-            && b.deposition_per_s.is_empty());
+        let conservation =
+            crate::conservation_out::conservation_report(mechanism, &model, &profiles, &options);
         print_summary(
             &scenario,
             mechanism,
             &profiles,
             elapsed.as_secs_f64(),
             &output,
-            open_box,
+            &conservation.lines,
         );
+        for warning in &conservation.warnings {
+            eprintln!("{warning}");
+        }
         print_ignition(&scenario, &resolved, mechanism, &profiles);
         println!("{CAUTION}");
     }
@@ -407,7 +408,7 @@ fn print_summary(
     profiles: &Profiles,
     wall_s: f64,
     output: &std::path::Path,
-    open_box: bool,
+    conservation: &[String],
 ) {
     let unit = scenario.output_concentration_unit;
     println!(
@@ -417,7 +418,7 @@ fn print_summary(
         mechanism.steps.len(),
         describe_reactor(scenario)
     );
-    let (Some(first), Some(last), Some(t_end)) = (
+    let (Some(_), Some(last), Some(t_end)) = (
         profiles.concentrations_mol_per_m3.first(),
         profiles.concentrations_mol_per_m3.last(),
         profiles.times_s.last(),
@@ -444,36 +445,8 @@ fn print_summary(
     if order.len() > 12 {
         println!("  ... {} more species in the CSV", order.len() - 12);
     }
-    // At constant pressure the volume changes: compare element amounts per unit mass.
-    let per_mass = scenario.reactor.constant_pressure();
-    let masses = crate::csv_out::molar_masses_kg_per_mol(mechanism);
-    if !mechanism.elements.is_empty() && (!per_mass || masses.is_some()) {
-        let totals = |row: &[f64]| {
-            let mut t = mechanism.element_totals(row);
-            if let (true, Some(m)) = (per_mass, &masses) {
-                let density: f64 = row.iter().zip(m).map(|(c, m)| c * m).sum();
-                t.iter_mut().for_each(|x| *x /= density);
-            }
-            t
-        };
-        let start = totals(first);
-        let end = totals(last);
-        let drifts: Vec<String> = mechanism
-            .elements
-            .iter()
-            .zip(start.iter().zip(&end))
-            .filter(|(_, (s, _))| **s != 0.0)
-            .map(|(e, (s, f))| format!("{} {:.1e}", e.symbol, ((f - s) / s).abs()))
-            .collect();
-        let note = if open_box {
-            " (an open box: fixed species, emissions and deposition change element totals)"
-        } else {
-            ""
-        };
-        println!(
-            "element balance, relative drift start -> end: {}{note}",
-            drifts.join(", ")
-        );
+    for line in conservation {
+        println!("{line}");
     }
     let s = &profiles.stats;
     println!(
@@ -490,6 +463,12 @@ fn print_summary(
         println!(
             "steps retried because a concentration went below minus its absolute tolerance: {}",
             s.negative_step_rejections
+        );
+    }
+    if s.invariant_projections > 0 {
+        println!(
+            "state projected back onto its conserved quantities (round-off drift above 1 % of the error weights): {} times",
+            s.invariant_projections
         );
     }
     if s.most_negative_concentration_mol_per_m3 < 0.0 {

@@ -385,6 +385,7 @@ pub fn integration_options(
         non_negative,
         watch: Vec::new(),
         keep_invariants: true,
+        newton_tolerance: None,
     }
 }
 

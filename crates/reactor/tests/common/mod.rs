@@ -97,6 +97,7 @@ pub fn options(
         non_negative: true,
         watch: Vec::new(),
         keep_invariants: true,
+        newton_tolerance: None,
     }
 }
 

@@ -78,6 +78,20 @@ fn robertson_bench(c: &mut Criterion) {
             black_box(p)
         })
     });
+    // The settings before the fidelity work (docs/solver-fidelity.md): diffsol's Newton
+    // tolerance 0.2 and no projection onto conserved totals. Measured in the same run as the
+    // default, to price the tighter Newton iterations.
+    let mut previous = options.clone();
+    previous.newton_tolerance = Some(0.2);
+    previous.keep_invariants = false;
+    group.bench_function("stoik_newton_0.2_no_projection", |b| {
+        b.iter(|| {
+            let p = integrate(&kinetics, 300.0, &[1.0, 0.0, 0.0], &[0.0, T_END], &previous)
+                .map(|p| p.concentrations_mol_per_m3[1][2])
+                .unwrap_or(f64::NAN);
+            black_box(p)
+        })
+    });
     group.bench_function("diffsol_closures_baseline", |b| {
         b.iter(|| {
             let problem = OdeBuilder::<NalgebraMat<f64>>::new()

@@ -1,6 +1,5 @@
 //! The bundled mechanism files of published stiff test problems, loaded through the parser and
-//! integrated through the public API, against the published reference solutions collected in
-//! ../shared/reference/README.md:
+//! integrated through the public API, against the published reference solutions:
 //! - Robertson: Hairer & Wanner, Solving ODEs II (2nd ed., 1996), section IV.10, and Mazzia &
 //!   Magherini, Test Set for IVP Solvers, release 2.4 (2008) ("Bari");
 //! - HIRES: Bari;

@@ -1,4 +1,4 @@
-"""Converts benchmark mechanisms in the JSON format of /work/shared/bench/mech.py into stoik's
+"""Converts benchmark mechanisms in the JSON format of the baseline generator bench/mech.py (under $STOIK_SHARED_DIR) into stoik's
 mechanism and scenario files (format version 1, docs/file-format.md).
 
 For each NAME.json given (or every *.json in a folder) writes, beside it:

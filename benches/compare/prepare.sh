@@ -7,13 +7,14 @@
 #     the uniformly-random-partners worst case random1000;
 #  3. builds cvode_bench from the shared C source into target/bench-mech/;
 #  4. converts every JSON mechanism to stoik's mechanism + scenario files.
-# Environment: STOIK_SHARED_DIR (default /work/shared, the folder holding bench/mech.py and
-# bench/cvode_bench.c), BENCH_MECH_DIR (default <repo>/target/bench-mech).
+# Environment: STOIK_SHARED_DIR (required: the folder holding the baseline's bench/mech.py and
+# bench/cvode_bench.c, which are not part of this repository), BENCH_MECH_DIR (default
+# <repo>/target/bench-mech).
 set -euo pipefail
 
 HERE="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
 ROOT="$(cd "$HERE/../.." && pwd)"
-SHARED="${STOIK_SHARED_DIR:-/work/shared}"
+SHARED="${STOIK_SHARED_DIR:?set STOIK_SHARED_DIR to the folder holding bench/mech.py and bench/cvode_bench.c}"
 OUT="${BENCH_MECH_DIR:-$ROOT/target/bench-mech}"
 export MECH_DIR="$OUT/mech"
 export STOIK_SHARED_DIR="$SHARED"

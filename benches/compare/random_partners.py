@@ -2,7 +2,7 @@
 at random from all species (no hubs, no locality), so the Newton matrix has no band or block
 structure and a sparse LU fills in heavily.
 
-Writes NAME.json (the format documented at the top of /work/shared/bench/mech.py: 0-based
+Writes NAME.json (the format documented at the top of the baseline generator bench/mech.py under $STOIK_SHARED_DIR: 0-based
 indices, a repeated reactant is a coefficient of 2) and its plain-text twin NAME.txt into
 $MECH_DIR (default ./mech), through mech.py's own `save`.
 
@@ -21,7 +21,9 @@ import sys
 
 import numpy as np
 
-SHARED = os.environ.get("STOIK_SHARED_DIR", "/work/shared")
+SHARED = os.environ.get("STOIK_SHARED_DIR")
+if not SHARED:
+    sys.exit("set STOIK_SHARED_DIR to the folder holding bench/mech.py")
 sys.path.insert(0, os.path.join(SHARED, "bench"))
 import mech  # noqa: E402  (the generator and writer of the shared baseline)
 

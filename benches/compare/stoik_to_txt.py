@@ -1,5 +1,5 @@
 """Writes the plain-text twin read by cvode_bench (format at the top of
-/work/shared/bench/mech.py) of a simple stoik scenario: SI units (mol, m, s), one-way steps
+the baseline generator bench/mech.py (under $STOIK_SHARED_DIR)) of a simple stoik scenario: SI units (mol, m, s), one-way steps
 with at most 2 reactant and 3 product molecules, plain prefactors (no temperature
 dependence, third bodies or orders), initial concentrations as plain numbers in mol/m3.
 Used for HIRES, which has no JSON twin.

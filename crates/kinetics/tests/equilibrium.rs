@@ -262,8 +262,7 @@ fn collision_limit_checks_thermochemical_reverse_rates() {
 
 /// Hard-sphere collision theory (Atkins' *Physical Chemistry* worked example, cross-sections
 /// from memory: sigma(H2) = 0.27 nm2, sigma(C2H4) = 0.64 nm2, so d = sqrt(sigma / pi)); the
-/// reference value A = 6.971e11 dm3 mol-1 s-1 at 628 K is recomputed from the formula
-/// (shared/reference, section 4).
+/// reference value A = 6.971e11 dm3 mol-1 s-1 at 628 K is recomputed from the formula.
 #[test]
 fn hard_sphere_rate_constant_matches_the_collision_theory_example() {
     let d = |sigma_nm2: f64| (sigma_nm2 / std::f64::consts::PI).sqrt() * 1e-9;

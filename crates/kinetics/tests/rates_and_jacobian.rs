@@ -49,7 +49,7 @@ fn step(reactants: Vec<StoichTerm>, products: Vec<StoichTerm>, k: f64) -> Step {
 }
 
 /// Robertson's problem (Hairer & Wanner, Solving ODEs II, section IV.10; mass-action form
-/// from ../shared/reference/README.md): A -> B (0.04); 2B -> C + B (3e7); B + C -> A + C (1e4).
+/// that reproduces the published right-hand side): A -> B (0.04); 2B -> C + B (3e7); B + C -> A + C (1e4).
 fn robertson() -> Mechanism {
     Mechanism {
         title: None,

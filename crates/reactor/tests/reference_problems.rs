@@ -1,5 +1,4 @@
-//! Published stiff chemical test problems (values and sources in
-//! /work/shared/reference/README.md, section 1): Robertson (ROBER), HIRES and the Oregonator
+//! Published stiff chemical test problems: Robertson (ROBER), HIRES and the Oregonator
 //! (OREGO), from F. Mazzia and C. Magherini, *Test Set for Initial Value Problem Solvers*,
 //! release 2.4, Bari 2008, and E. Hairer and G. Wanner, *Solving Ordinary Differential
 //! Equations II*, 2nd ed., Springer 1996, section IV.10. Each runs with dense and with sparse

@@ -59,7 +59,12 @@ fn run(name: &str, refs: &[Reference], rtol: f64, atol: f64) -> (Vec<String>, Pr
         &options,
     )
     .unwrap_or_else(|e| panic!("{name}: {e}"));
-    let names = file.mechanism.species.iter().map(|s| s.name.clone()).collect();
+    let names = file
+        .mechanism
+        .species
+        .iter()
+        .map(|s| s.name.clone())
+        .collect();
     (names, profiles)
 }
 
@@ -193,7 +198,10 @@ fn detest_d3_matches_the_recomputed_reference() {
     // Invariants of the published equations: y1 + y3 = 1, y2 + y3 + 2 y4 = 1.
     for row in &y {
         assert!((row[0] + row[2] - 1.0).abs() < 1e-12, "{row:?}");
-        assert!((row[1] + row[2] + 2.0 * row[3] - 1.0).abs() < 1e-12, "{row:?}");
+        assert!(
+            (row[1] + row[2] + 2.0 * row[3] - 1.0).abs() < 1e-12,
+            "{row:?}"
+        );
     }
 }
 
@@ -261,7 +269,12 @@ fn e5_matches_the_hairer_wanner_reference_to_1e13() {
         ),
         (
             1e13,
-            [0.0, 8.8612334976263783420e-23, 8.8612334976263783421e-23, 0.0],
+            [
+                0.0,
+                8.8612334976263783420e-23,
+                8.8612334976263783421e-23,
+                0.0,
+            ],
         ),
     ];
     let refs: Vec<Reference> = E5

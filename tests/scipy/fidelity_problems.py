@@ -54,8 +54,9 @@ class Problem:
         self.ref = np.asarray(ref, dtype=float)
         self.ref_source = ref_source
         unc = np.asarray(ref_rel_unc, dtype=float)
-        # a scalar, or one value per reference time (broadcast over the species)
-        self.ref_rel_unc = unc if unc.ndim == 0 else unc.reshape(-1, 1)
+        # a scalar, one value per reference time (broadcast over the species), or one value
+        # per reference entry
+        self.ref_rel_unc = unc.reshape(-1, 1) if unc.ndim == 1 else unc
         self.atols = list(atols)
         self.scenario = scenario
         self.ref_index = list(range(len(self.names))) if ref_index is None else list(ref_index)

@@ -46,6 +46,7 @@ import csv
 import json
 import math
 import os
+import re
 import subprocess
 import sys
 import tempfile
@@ -193,6 +194,8 @@ def run_stoik(binary, p, rtol, atol, time_limit):
         if proc.returncode != 0:
             text = (proc.stderr + proc.stdout).strip().splitlines()
             msg = " ".join(line.strip() for line in text[:2]) or f"exit status {proc.returncode}"
+            # Keep the reason, not where the partial profile went (a temporary path).
+            msg = re.sub(r"\s*the profile up to the failure.*$", "", msg).replace(tmp, "<tmp>")
             return {"ok": False, "msg": f"exit {proc.returncode}: {msg}", "seconds": secs}
         try:
             y, digits = read_stoik_csv(out, p)
@@ -312,7 +315,14 @@ def fmt_err(r):
 
 
 def fmt_time(r):
-    return f"{r['seconds']:.3g} s"
+    secs = r["seconds"]
+    return f"{secs:.3g} s" if secs >= 1.0 else f"{secs * 1e3:.3g} ms"
+
+
+def floor_error(p, rtol, atol):
+    """The smallest E any run can show: the reference uncertainty in tolerance units."""
+    ar = np.abs(p.ref)
+    return float(np.max((np.asarray(p.ref_rel_unc) + 4 * EPS) * ar / (atol + rtol * ar)))
 
 
 def write_table(path, cases, problems, binary, args, violations, total_secs, csv_digits):
@@ -328,7 +338,10 @@ def write_table(path, cases, problems, binary, args, violations, total_secs, csv
         "the entries where the tolerance is relative (rtol |r| >= atol). Times are wall-clock",
         "seconds of one run: scipy's `solve_ivp` call, and the whole `stoik run` process",
         "(start-up, parsing, integration, CSV output). `stoik/BDF` is the largest ratio of the",
-        "per-time errors E_k of stoik and scipy BDF (criterion: at most 2). Speed is not judged.",
+        "per-time errors E_k of stoik and scipy BDF (criterion: at most 2). `floor` is the",
+        "smallest E the reference allows (its uncertainty in tolerance units): equal E for all",
+        "solvers at the floor means they are all as accurate as the reference can tell. Speed is",
+        "not judged.",
         "",
     ]
     for d in sorted(csv_digits):
@@ -350,13 +363,13 @@ def write_table(path, cases, problems, binary, args, violations, total_secs, csv
         if not rows:
             continue
         lines += [f"## {p.title}", "",
-                  f"Source: {p.source}. Reference: {p.ref_source} (relative uncertainty "
+                  f"Source: {p.source}. Reference: {p.ref_source} (relative uncertainty up to "
                   f"{np.max(p.ref_rel_unc):.0e}). Reference times: "
                   f"{', '.join(f'{t:g}' for t in p.ref_times)} s; "
                   f"{len(p.ref_index)} species compared. Scenario `mechanisms/{p.scenario}`.", "",
-                  "| rtol | atol | stoik E / rel | stoik time | BDF E / rel | BDF time | "
+                  "| rtol | atol | floor | stoik E / rel | stoik time | BDF E / rel | BDF time | "
                   "Radau E / rel | Radau time | stoik/BDF |",
-                  "|---|---|---|---|---|---|---|---|---|"]
+                  "|---|---|---|---|---|---|---|---|---|---|"]
         for c in rows:
             r = c["results"]
             ratio = "-"
@@ -366,7 +379,8 @@ def write_table(path, cases, problems, binary, args, violations, total_secs, csv
             elif not r["stoik"]["ok"] and r["scipy BDF"]["ok"]:
                 ratio = "**stoik failed**"
             lines.append(
-                f"| {c['rtol']:g} | {c['atol']:g} | {fmt_err(r['stoik'])} | {fmt_time(r['stoik'])} | "
+                f"| {c['rtol']:g} | {c['atol']:g} | {floor_error(p, c['rtol'], c['atol']):.2g} | "
+                f"{fmt_err(r['stoik'])} | {fmt_time(r['stoik'])} | "
                 f"{fmt_err(r['scipy BDF'])} | {fmt_time(r['scipy BDF'])} | "
                 f"{fmt_err(r['scipy Radau'])} | {fmt_time(r['scipy Radau'])} | {ratio} |")
         fails = [(c, s, c["results"][s]["msg"]) for c in rows for s in c["results"]

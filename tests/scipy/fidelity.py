@@ -432,6 +432,9 @@ def main():
     ap.add_argument("binary", nargs="?", default=None,
                     help="stoik binary (default target/release/stoik, else target/debug/stoik)")
     ap.add_argument("--fast", action="store_true", help="small subset, well under a minute")
+    ap.add_argument("--fail-on-completion-only", action="store_true",
+                    help="exit 1 only when stoik fails a case scipy BDF completes (criterion a); "
+                         "criterion (b) violations are still listed and tabled")
     ap.add_argument("--table", default=None, help="write the work-precision table (markdown)")
     ap.add_argument("--json", default=None, help="write every result as JSON")
     ap.add_argument("--problems", default=None, help="comma-separated problem keys: "
@@ -527,6 +530,11 @@ def main():
         print(f"FAIL: {len(violations)} violation(s) of the fidelity criteria:", file=sys.stderr)
         for v in violations:
             print(f"  {v}", file=sys.stderr)
+        incomplete = [v for v in violations if "stoik failed where scipy BDF" in v]
+        if args.fail_on_completion_only:
+            print(f"(gate: {len(incomplete)} case(s) stoik did not complete; criterion (b) "
+                  "violations reported above but not gating)", file=sys.stderr)
+            return 1 if incomplete else 0
         return 1
     print("OK: stoik completes every case scipy BDF completes, with an error at most "
           f"{FACTOR:g}x scipy BDF's at every reference time")

@@ -93,8 +93,9 @@ impl ConservationLaw {
     }
 }
 
-/// Neumaier's compensated sum.
-pub(crate) fn compensated_sum(values: impl Iterator<Item = f64>) -> f64 {
+/// `sum_i a_i` (in the unit of the terms) with Neumaier's compensated summation (A. Neumaier,
+/// Z. Angew. Math. Mech. 54, 1974): accurate to about machine epsilon times the sum.
+pub fn compensated_sum(values: impl Iterator<Item = f64>) -> f64 {
     let (mut sum, mut compensation) = (0.0f64, 0.0f64);
     for v in values {
         let t = sum + v;

@@ -41,7 +41,9 @@ mod energetics;
 mod falloff;
 mod pattern;
 
-pub use conservation::{conservation_laws, ConservationError, ConservationLaw, LawKind};
+pub use conservation::{
+    compensated_sum, conservation_laws, ConservationError, ConservationLaw, LawKind,
+};
 pub use energetics::{
     collision_limit_warnings, hard_sphere_rate_constant, step_energetics, StepEnergetics,
     COLLISION_LIMIT_M3_PER_MOL_S, COLLISION_LIMIT_TEMPERATURES_K,

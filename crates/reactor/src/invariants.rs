@@ -16,6 +16,8 @@
 //! Drift stays at round-off level relative to the current concentrations; restarts are rare
 //! (four on E5 over 13 decades of time).
 
+use stoik_kinetics::compensated_sum;
+
 /// Fraction of the error-weight norm of a law at which its drift triggers a projection.
 const TRIGGER: f64 = 0.01;
 
@@ -31,21 +33,6 @@ pub(crate) struct Invariants {
     scale: Vec<f64>,
     gram: Vec<f64>,
     weights: Vec<f64>,
-}
-
-/// `sum_i a_i` with Neumaier's compensated summation.
-fn compensated_sum(values: impl Iterator<Item = f64>) -> f64 {
-    let (mut sum, mut carry) = (0.0f64, 0.0f64);
-    for x in values {
-        let t = sum + x;
-        carry += if sum.abs() >= x.abs() {
-            (sum - t) + x
-        } else {
-            (x - t) + sum
-        };
-        sum = t;
-    }
-    sum + carry
 }
 
 impl Invariants {

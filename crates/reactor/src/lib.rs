@@ -229,16 +229,6 @@ pub struct Profiles {
     pub located: Vec<(Watch, Option<Located>)>,
 }
 
-impl Profiles {
-    /// What `watch` found, if it was watched and found.
-    pub fn located(&self, watch: Watch) -> Option<Located> {
-        self.located
-            .iter()
-            .find(|(w, _)| *w == watch)
-            .and_then(|(_, found)| *found)
-    }
-}
-
 /// What kind of failure stopped an integration.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum FailureKind {
@@ -465,6 +455,14 @@ pub fn simulate(
 }
 
 impl Profiles {
+    /// What `watch` found, if it was watched and found.
+    pub fn located(&self, watch: Watch) -> Option<Located> {
+        self.located
+            .iter()
+            .find(|(w, _)| *w == watch)
+            .and_then(|(_, found)| *found)
+    }
+
     /// Ideal-gas pressure (Pa) of row `row`: P = (sum_i c_i) R T; `None` past the end.
     pub fn pressure_pa(&self, row: usize) -> Option<f64> {
         let c = self.concentrations_mol_per_m3.get(row)?;

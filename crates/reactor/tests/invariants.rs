@@ -4,35 +4,8 @@
 //! obey y2 - y3 - y4 = 0 while y2 and y3 decay from 1e-10 to 1e-22 mol/m3.
 
 use stoik_kinetics::Kinetics;
-use stoik_mechanism::parse_mechanism;
+use stoik_mechanism::load_mechanism;
 use stoik_reactor::{integrate, IntegrationOptions};
-
-const E5: &str = r#"stoik_mechanism = 1
-[units]
-amount = "mol"
-length = "m"
-time = "s"
-[[species]]
-name = "Y1"
-[[species]]
-name = "Y2"
-[[species]]
-name = "Y3"
-[[species]]
-name = "Y4"
-[[step]]
-equation = "Y1 -> Y2 + Y3"
-forward = { prefactor = 7.89e-10 }
-[[step]]
-equation = "Y1 + Y3 -> Y4"
-forward = { prefactor = 1.1e7 }
-[[step]]
-equation = "Y2 + Y3 -> "
-forward = { prefactor = 1.13e9 }
-[[step]]
-equation = "Y4 -> Y3"
-forward = { prefactor = 1.13e3 }
-"#;
 
 /// y2 = y3 (to 1e-84) at t = 1e13 s. Recomputed: scipy `solve_ivp` Radau at rtol 1e-13,
 /// atol 1e-40 on the system reduced by the invariant (y1, y3, y4 with y2 = y3 + y4, where
@@ -40,7 +13,8 @@ forward = { prefactor = 1.13e3 }
 const Y2_AT_1E13: f64 = 8.861_233_521_283_229e-23;
 
 fn run(keep_invariants: bool) -> (f64, f64, usize) {
-    let mech = parse_mechanism(E5, "e5.toml")
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../mechanisms/e5.toml");
+    let mech = load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
     let kinetics = Kinetics::compile(&mech);

@@ -108,6 +108,9 @@ unloadable-output A file the command wrote does not load back: a TOML file that 
                   not well-formed XML.
 output-collision  The command exited 0 but wrote fewer distinct outputs than it reported runs
                   (batch), or the written thermo file has fewer distinct species than tables.
+alias-accepted    An output path that resolves to one of the command's inputs (same file after
+                  resolving ./, .., absolute spelling and symlinks) was not refused: the exit
+                  status is not 2. (Whether the input survived is input-modified's business.)
 inconsistent      Two invocations that must agree (a file and its equivalent rewriting, run and
                   batch at the same temperature) differ in exit status.
 
@@ -165,6 +168,7 @@ CLASSES = {
     "unloadable-output": ("a written file does not load back", "5"),
     "output-collision": ("fewer distinct outputs than runs reported", "1"),
     "inconsistent": ("equivalent invocations disagree on the exit status", "4"),
+    "alias-accepted": ("an output path resolving to an input was not refused (exit 2)", "1"),
 }
 
 FAMILIES = [
@@ -267,6 +271,7 @@ class Case:
     names: dict[str, list[str]] = dataclasses.field(default_factory=dict)  # output -> names
     expect_outputs: tuple[str, int] | None = None  # (glob, count) on exit 0
     reference: dict | None = None  # {argv, files, stdin, specials}: must agree on exit status
+    must_refuse: bool = False  # an output path resolves to an input: exit 2 expected
     note: str = ""
 
 
@@ -611,18 +616,19 @@ class Gen:
         outs = [
             ("run", "scenario", ["run", oz, "-o", "afolder"], ozf, [("afolder", "dir")]),
             ("run", "scenario", ["run", oz, "-o", "no/such/dir/out.csv"], ozf, []),
-            ("run", "scenario", ["run", oz, "-o", "/dev/full"], ozf, []),
             ("run", "scenario", ["run", oz, "-o", ""], ozf, []),
             ("run", "scenario", ["run", oz, "-o", "fifo.csv"], ozf, [("fifo.csv", "fifo")]),
             ("batch", "scenario", ["batch", oz, "--output-dir", "afile", "-q"], {**ozf, "afile": SENTINEL}, []),
-            ("batch", "scenario", ["batch", oz, "--output-dir", "/dev/null", "-q"], ozf, []),
             ("fit-thermo", "janaf-table", ["fit-thermo", "janaf/H2O.tsv", "-o", "afolder"], table, [("afolder", "dir")]),
             ("fit-thermo", "janaf-table", ["fit-thermo", "janaf/H2O.tsv", "-o", "no/dir/t.toml"], table, []),
             ("fit-rate", "rate-data", ["fit-rate", "data/ethanal-decomposition.csv", "--svg", "afolder"], data, [("afolder", "dir")]),
             ("fit-rate", "rate-data", ["fit-rate", "data/ethanal-decomposition.csv", "--snippet", "no/dir/s.toml"], data, []),
         ]
         for command, kind, argv, files, specials in outs:
-            self.add("special", command, kind, argv, files, specials=specials, locus=("output",),
+            # the special output itself may be replaced (it is no input); what is checked is
+            # the exit status, the message and that the inputs stay
+            declared = {s: None for s, _ in specials}
+            self.add("special", command, kind, argv, files, specials=specials, locus=("output",), outputs=declared,
                      flags=("-o", "--output", "--output-dir", "--svg", "--snippet", argv[-1] if argv[-1] != "-q" else argv[-2]),
                      note="special output path")
 
@@ -649,28 +655,28 @@ class Gen:
                     files[scen] = SEEDS[scen].replace(b"[solver]\n", b"[solver]\nmax_steps = 3\n")
                 out = spell(target)
                 specials = [(a, b.replace("@TARGET@", target)) for a, b in specials]
-                self.add("alias", command, kind, ["run", scen, "-o", out], files, specials=specials,
+                self.add("alias", command, kind, ["run", scen, "-o", out], files, specials=specials, must_refuse=True,
                          locus=("output",), flags=("-o", "--output", out, target),
                          note=f"-o the {kind} ({label}){' failing run' if failing else ''}")
         for label, spell, specials in spellings:
             t = "janaf/H2O.tsv"
             specials2 = [(a, b.replace("@TARGET@", t)) for a, b in specials]
             self.add("alias", "fit-thermo", "janaf-table", ["fit-thermo", t, "-o", spell(t)],
-                     {t: SEEDS[t]}, specials=specials2, locus=("output",), flags=("-o", "--output", spell(t), t),
+                     {t: SEEDS[t]}, specials=specials2, must_refuse=True, locus=("output",), flags=("-o", "--output", spell(t), t),
                      note=f"fit-thermo TABLE -o TABLE ({label})")
             d = "data/ethanal-decomposition.csv"
             specials3 = [(a, b.replace("@TARGET@", d)) for a, b in specials]
             for flag in ("--svg", "--snippet"):
                 self.add("alias", "fit-rate", "rate-data", ["fit-rate", d, flag, spell(d)],
-                         {d: SEEDS[d]}, specials=specials3, locus=("output",), flags=(flag, spell(d), d),
+                         {d: SEEDS[d]}, specials=specials3, must_refuse=True, locus=("output",), flags=(flag, spell(d), d),
                          note=f"fit-rate d.csv {flag} d.csv ({label})")
         # a mechanism named like the CSV that run (default output) and batch write
         files = bundle(oz)
         files["ozone-flask.csv"] = files.pop("ozone-flask.toml")
         files[oz] = SEEDS[oz].replace(b'"ozone-flask.toml"', b'"ozone-flask.csv"')
-        self.add("alias", "run", "mechanism", ["run", oz], files, locus=("output",),
+        self.add("alias", "run", "mechanism", ["run", oz], files, locus=("output",), must_refuse=True,
                  flags=("ozone-flask.csv", "-o", "--output"), note="default output is the mechanism")
-        self.add("alias", "batch", "mechanism", ["batch", oz, "-q"], files, locus=("output",),
+        self.add("alias", "batch", "mechanism", ["batch", oz, "-q"], files, locus=("output",), must_refuse=True,
                  flags=("ozone-flask.csv", "--output-dir"), note="batch output is the mechanism")
         # the thermo file as a batch output
         files = bundle(ho)
@@ -678,7 +684,8 @@ class Gen:
         files["hydrogen-oxygen.toml"] = SEEDS["hydrogen-oxygen.toml"].replace(b"janaf-nasa7.toml", b"janaf-nasa7.csv")
         files["thermo/janaf-nasa7.scenario.toml"] = SEEDS[ho].replace(b'"hydrogen-oxygen.toml"', b'"../hydrogen-oxygen.toml"')
         self.add("alias", "batch", "thermo", ["batch", "thermo/janaf-nasa7.scenario.toml", "--output-dir", "thermo", "-q"],
-                 files, locus=("output",), flags=("janaf-nasa7.csv", "--output-dir"), note="batch output is the thermo file")
+                 files, locus=("output",), must_refuse=True, flags=("janaf-nasa7.csv", "--output-dir"),
+                 note="batch output is the thermo file")
         # one output fails after another was written
         d = "data/ethanal-decomposition.csv"
         self.add("alias", "fit-rate", "rate-data", ["fit-rate", d, "--snippet", "s.toml", "--svg", "no/dir/p.svg"],
@@ -752,6 +759,12 @@ class Gen:
             self.add("names", "fit-rate", "rate-data", ["fit-rate", d, "--equation", eq, "--snippet", "s.toml"],
                      {d: SEEDS[d]}, locus=("flag",), flags=("--equation",), outputs={"s.toml": None},
                      names={"s.toml": [eq]}, note=f"--equation {eq!r}"[:60])
+        for stem in ['d"q', "d\n[x]", "d\\e", "d #c"]:
+            fname = f"{stem}.csv"
+            self.add("names", "fit-rate", "rate-data", ["fit-rate", fname, "--equation", "CH3CHO -> CH4 + CO",
+                                                        "--snippet", "s.toml", "--svg", "p.svg"],
+                     {fname: SEEDS[d]}, locus=("file",), flags=(fname,), outputs={"s.toml": None},
+                     note=f"data file {fname!r}")
         # hostile species names in a mechanism, through the CSV header
         oz = "ozone-flask.scenario.toml"
         for new in ["O,X", 'O"X', "O'X", "O#X", "O\\\\X", "ÖX"]:
@@ -1084,6 +1097,18 @@ def check_loadback(binary: str, case: Case, tmp: str, rel: str, findings: list) 
                 got = [s.get("equation") for s in doc.get("step", [])]
                 if got != case.names[rel]:
                     findings.append(("unloadable-output", f"{rel}: equations {got!r}, asked for {case.names[rel]!r}"))
+        # semantic load: a snippet of the ethanal step, inside a small mechanism
+        steps = doc.get("step")
+        if isinstance(steps, list) and steps and all(s.get("equation") == "CH3CHO -> CH4 + CO" for s in steps):
+            mech = ("stoik_mechanism = 1\n[[species]]\nname = \"CH3CHO\"\natoms = { C = 2, H = 4, O = 1 }\n"
+                    "[[species]]\nname = \"CH4\"\natoms = { C = 1, H = 4 }\n"
+                    "[[species]]\nname = \"CO\"\natoms = { C = 1, O = 1 }\n\n") + text
+            wrap = os.path.join(os.path.dirname(path), ".campaign-wrap.toml")
+            Path(wrap).write_text(mech)
+            r = execute(binary, ["check", wrap], tmp, None, DEFAULT_TIMEOUT)
+            os.remove(wrap)
+            if r["exit"] != 0:
+                findings.append(("unloadable-output", f"{rel}: stoik check of a mechanism made of it exits {r['exit']}: {r['stderr'].strip()[:200]}"))
         # semantic load: a fitted thermo file of plain names, inside a small mechanism
         if "species" in doc and all(isinstance(s.get("name"), str) and re.fullmatch(r"[A-Z][A-Za-z0-9]*", s["name"])
                                     for s in doc["species"]) and doc["species"]:
@@ -1149,6 +1174,8 @@ def run_case(binary: str, case: Case) -> dict:
             findings.append(("panic", m.group(0).strip()[:240] if m else f"exit 101: {err.strip()[:200]}"))
         if code >= 0 and code not in (0, 2, 3, 101) and not (code == 1 and strict):
             findings.append(("bad-exit", f"exit {code}: {err.strip()[:200]}"))
+        if case.must_refuse and code != 2 and not r["timed_out"]:
+            findings.append(("alias-accepted", f"exit {code}: {(err.strip() or r['stdout'].strip())[:160]!r}"))
         if code == 2 and not located(case, err, tmp):
             findings.append(("unlocated", f"exit 2: {err.strip()[:240]!r}"))
         # inputs and outputs

@@ -1149,8 +1149,8 @@ def check_loadback(binary: str, case: Case, tmp: str, rel: str, findings: list) 
             findings.append(("unloadable-output", f"{rel}: SVG is not well-formed XML: {e}"))
 
 
-def run_case(binary: str, case: Case) -> dict:
-    tmp = tempfile.mkdtemp(prefix="stoik-hostile-")
+def run_case(binary: str, case: Case, tmp_root: str | None = None) -> dict:
+    tmp = tempfile.mkdtemp(prefix="stoik-hostile-", dir=tmp_root)
     findings: list[tuple[str, str]] = []
     try:
         populate(tmp, case.files, case.specials, case.outputs)
@@ -1219,7 +1219,7 @@ def run_case(binary: str, case: Case) -> dict:
                 findings.append(("check-misses", f"{case.command} exit 2 ({err.strip()[:160]!r}) but check exits 0"))
         reference_exit = None
         if case.reference:
-            rtmp = tempfile.mkdtemp(prefix="stoik-hostile-ref-")
+            rtmp = tempfile.mkdtemp(prefix="stoik-hostile-ref-", dir=tmp_root)
             try:
                 populate(rtmp, case.reference["files"], [], {})
                 rr = execute(binary, case.reference["argv"], rtmp, None, case.timeout)
@@ -1260,6 +1260,8 @@ def main() -> int:
     ap.add_argument("--json", default=None, help="write every case's result to this file")
     ap.add_argument("--workers", type=int, default=2)
     ap.add_argument("--timeout", type=float, default=DEFAULT_TIMEOUT, help="seconds per case (huge grids: 60)")
+    ap.add_argument("--tmp-dir", default=None,
+                    help="folder for the case folders [default: /dev/shm when writable, else the system's]")
     ap.add_argument("--list-classes", action="store_true")
     ap.add_argument("--list-families", action="store_true")
     ap.add_argument("--quiet", action="store_true", help="no progress line")
@@ -1276,6 +1278,9 @@ def main() -> int:
     binary = os.path.abspath(args.binary)
     if not os.access(binary, os.X_OK):
         ap.error(f"no executable stoik at {binary} (build with cargo build --release)")
+    tmp_root = args.tmp_dir
+    if tmp_root is None and os.path.isdir("/dev/shm") and os.access("/dev/shm", os.W_OK):
+        tmp_root = "/dev/shm"
     cases = generate(args.seed)
     if args.family:
         cases = [c for c in cases if c.family == args.family]
@@ -1289,7 +1294,7 @@ def main() -> int:
     # long cases first so the pool ends together
     order = sorted(cases, key=lambda c: -c.timeout)
     with concurrent.futures.ProcessPoolExecutor(max_workers=args.workers) as pool:
-        futures = {pool.submit(run_case, binary, c): c for c in order}
+        futures = {pool.submit(run_case, binary, c, tmp_root): c for c in order}
         for i, fut in enumerate(concurrent.futures.as_completed(futures), 1):
             c = futures[fut]
             try:

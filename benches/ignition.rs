@@ -61,16 +61,10 @@ fn bench_ignition(c: &mut Criterion) {
         let run = || simulate(&kinetics, model, 1100.0, &initial, &times, &options);
         match run() {
             Ok(p) => {
-                let s = p.stats;
                 eprintln!(
-                    "{name}: T_end {:.1} K, {} steps, {} right-hand sides, {} Jacobians, {} factorizations, {} error-test failures, {} nonlinear failures",
+                    "{name}: T_end {:.1} K, {}",
                     p.temperatures_k.last().copied().unwrap_or(f64::NAN),
-                    s.steps,
-                    s.rhs_evaluations,
-                    s.jacobian_evaluations,
-                    s.factorizations,
-                    s.error_test_failures,
-                    s.nonlinear_failures
+                    p.stats
                 );
             }
             Err(e) => panic!("{name}: {e}"),

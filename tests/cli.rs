@@ -81,6 +81,40 @@ fn strict_check_exits_1_on_warnings_only() {
 }
 
 #[test]
+fn check_of_a_scenario_runs_the_collision_limit_check_of_its_mechanism() {
+    // A + B -> C at 1e15 cm3/(mol s) = 1.661e-9 cm3/(molecule s), above the gas-kinetic
+    // collision limit of about 1e-10 cm3/(molecule s) (common practice); invented numbers.
+    let dir = scratch("collision");
+    std::fs::write(
+        dir.join("fast.toml"),
+        "stoik_mechanism = 1\n[[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n\
+         [[species]]\nname = \"C\"\n[[step]]\nequation = \"A + B -> C\"\n\
+         forward = { prefactor = 1e15 }\n",
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("fast.scenario.toml"),
+        "stoik_scenario = 1\nmechanism = \"fast.toml\"\n[reactor]\ntemperature = \"300 K\"\n\
+         [initial]\nconcentrations = { A = 1.0, B = 1.0 }\n[output]\nend_time = \"1 s\"\n",
+    )
+    .unwrap();
+    let warning = "fast.toml:7:1: warning:";
+    let on_its_own = stoik(&["check", "--strict", "fast.toml"], &dir);
+    let err = text(&on_its_own.stderr);
+    assert_eq!(on_its_own.status.code(), Some(1), "{err}");
+    assert!(
+        err.contains(warning) && err.contains("1.661e-9 cm3/(molecule s)"),
+        "{err}"
+    );
+    let scenario = stoik(&["check", "--strict", "fast.scenario.toml"], &dir);
+    let scenario_err = text(&scenario.stderr);
+    assert_eq!(scenario.status.code(), Some(1), "{scenario_err}");
+    let line = |e: &str| e.lines().find(|l| l.contains(warning)).map(str::to_string);
+    assert_eq!(line(&scenario_err), line(&err), "{scenario_err}");
+    assert!(text(&scenario.stdout).contains("0 error(s), 1 warning(s)"));
+}
+
+#[test]
 fn run_writes_csv_with_units_and_a_summary() {
     let dir = scratch("run");
     let scenario = repo().join("mechanisms/robertson.scenario.toml");

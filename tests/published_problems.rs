@@ -8,14 +8,14 @@
 // Reference values are quoted with every digit their source publishes.
 #![allow(clippy::excessive_precision)]
 
-use std::path::Path;
 use stoik::kinetics::Kinetics;
 use stoik::mechanism::{load_mechanism, load_scenario};
 use stoik::reactor::{integrate, IntegrationOptions, LinearAlgebra, Profiles};
+use stoik_testsupport::published;
 
 /// Integrates the bundled scenario `name` to `times` with tolerances `rtol`/`atol`.
 fn run(name: &str, times: &[f64], rtol: f64, atol: f64, la: LinearAlgebra) -> Profiles {
-    let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("mechanisms");
+    let root = stoik_testsupport::mechanisms_dir();
     let (scenario, _) = load_scenario(&root.join(format!("{name}.scenario.toml")))
         .unwrap_or_else(|e| panic!("{e}"));
     let file = load_mechanism(&scenario.mechanism_path).unwrap_or_else(|e| panic!("{e}"));
@@ -50,7 +50,7 @@ fn assert_close(what: &str, got: f64, expected: f64, relative: f64) {
 #[test]
 fn robertson_at_t40_matches_reference() {
     // Reference (recomputed, uncertainty ~5e-14; agrees with Hairer & Wanner's 10-digit values).
-    let expected = [0.7158270687194, 9.185534764558e-06, 0.2841637457458];
+    let expected = published::ROBERTSON_AT_40;
     for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
         let p = run("robertson", &[40.0], 1e-10, 1e-16, la);
         let y = &p.concentrations_mol_per_m3[1];
@@ -71,11 +71,7 @@ fn robertson_at_t40_matches_reference() {
 #[test]
 fn robertson_at_t1e11_matches_bari_reference() {
     // Bari values, good to about 1e-14 absolute.
-    let expected = [
-        0.2083340149701255e-07,
-        0.8333360770334713e-13,
-        0.9999999791665050,
-    ];
+    let expected = published::ROBERTSON_AT_1E11;
     let p = run("robertson", &[1e11], 1e-10, 1e-20, LinearAlgebra::Dense);
     let y = &p.concentrations_mol_per_m3[1];
     assert_close("Robertson y1 at t=1e11", y[0], expected[0], 1e-5);
@@ -85,18 +81,9 @@ fn robertson_at_t1e11_matches_bari_reference() {
 
 #[test]
 fn hires_matches_bari_reference() {
-    let expected = [
-        0.7371312573325668e-3,
-        0.1442485726316185e-3,
-        0.5888729740967575e-4,
-        0.1175651343283149e-2,
-        0.2386356198831331e-2,
-        0.6238968252742796e-2,
-        0.2849998395185769e-2,
-        0.2850001604814231e-2,
-    ];
+    let expected = published::HIRES_AT_END;
     for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
-        let p = run("hires", &[321.8122], 1e-10, 1e-14, la);
+        let p = run("hires", &[published::HIRES_END_TIME], 1e-10, 1e-14, la);
         let y = &p.concentrations_mol_per_m3[1];
         for i in 0..8 {
             assert_close(
@@ -113,31 +100,9 @@ fn hires_matches_bari_reference() {
 
 #[test]
 fn oregonator_matches_published_reference() {
-    let times = [30.0, 120.0, 300.0, 360.0];
-    let expected = [
-        [
-            0.1000661467180497e+01,
-            0.1512778937348249e+04,
-            0.1035854312767229e+05,
-        ],
-        [
-            0.1004118022612645e+01,
-            0.2438326079910346e+03,
-            0.1008822224048647e+01,
-        ],
-        [
-            0.1779724751937019e+01,
-            0.2281852385542403e+01,
-            0.1613754023671725e+01,
-        ],
-        [
-            0.1000814870318523e+01,
-            0.1228178521549917e+04,
-            0.1320554942846706e+03,
-        ],
-    ];
+    let times = published::OREGONATOR.map(|(t, _)| t);
     let p = run("oregonator", &times, 1e-11, 1e-12, LinearAlgebra::Dense);
-    for (row, exp) in expected.iter().enumerate() {
+    for (row, (_, exp)) in published::OREGONATOR.iter().enumerate() {
         let y = &p.concentrations_mol_per_m3[row + 1];
         for i in 0..3 {
             // The oscillation amplifies phase errors: 1e-5 relative at rtol 1e-11.

@@ -11,7 +11,7 @@ mod common;
 use common::{repo, stoik, text, Table};
 use std::path::Path;
 use stoik::kinetics::Kinetics;
-use stoik::mechanism::units::EnergyUnit;
+use stoik::mechanism::EnergyUnit;
 use stoik::mechanism::{
     load_mechanism, load_scenario, LinearAlgebraChoice, Mechanism, MechanismFile, Scenario,
 };

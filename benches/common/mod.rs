@@ -10,32 +10,9 @@
 
 use stoik::mechanism::{Arrhenius, Mechanism, Species, Step, StoichTerm};
 
-/// xorshift64* pseudo-random numbers (Vigna 2016), reproducible from a seed.
-pub struct Rng(u64);
-
-impl Rng {
-    /// A generator started from `seed` (non-zero).
-    pub fn new(seed: u64) -> Self {
-        Rng(seed.max(1))
-    }
-    /// Next raw 64-bit value.
-    pub fn next_u64(&mut self) -> u64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        x.wrapping_mul(0x2545_F491_4F6C_DD1D)
-    }
-    /// Uniform in [0, 1).
-    pub fn uniform(&mut self) -> f64 {
-        (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64
-    }
-    /// Uniform integer in [0, n).
-    pub fn below(&mut self, n: usize) -> usize {
-        (self.uniform() * n as f64) as usize % n.max(1)
-    }
-}
+/// xorshift64* pseudo-random numbers (Vigna 2016), reproducible from a seed; shared with the
+/// tests.
+pub use stoik_testsupport::Rng;
 
 fn species(name: String) -> Species {
     Species {

@@ -15,11 +15,11 @@
 
 use crate::FitError;
 use std::path::Path;
-use stoik_mechanism::units::{
+use stoik_mechanism::{nearest_name, Diagnostic, Diagnostics, SourceLocation};
+use stoik_mechanism::{
     pressure_to_pa, temperature_to_k, AmountUnit, EnergyUnit, LengthUnit, RateUnits, TimeUnit,
     PRESSURE_UNITS, TEMPERATURE_UNITS,
 };
-use stoik_mechanism::{nearest_name, Diagnostic, Diagnostics, SourceLocation, AVOGADRO};
 
 /// Column names accepted in the header.
 pub const COLUMN_NAMES: &[&str] = &["temperature", "rate_constant", "uncertainty", "pressure"];
@@ -600,7 +600,4 @@ pub fn parse_rate_data(text: &str, file_label: &str) -> Result<RateData, FitErro
     }
 }
 
-/// The gas-kinetic collision limit of a bimolecular rate constant, about
-/// 1e-10 cm3 molecule^-1 s^-1 (common practice), in SI: 1e-10 x 1e-6 m3/cm3 x N_A =
-/// 6.02e7 m3/(mol s).
-pub const COLLISION_LIMIT_M3_PER_MOL_S: f64 = 1e-10 * 1e-6 * AVOGADRO;
+pub use stoik_mechanism::COLLISION_LIMIT_M3_PER_MOL_S;

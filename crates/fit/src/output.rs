@@ -4,9 +4,7 @@ use crate::data::RateData;
 use crate::fit::{Model, RateFit, Scatter};
 use crate::FitError;
 use std::fmt::Write as _;
-use stoik_mechanism::equation::parse_equation;
-use stoik_mechanism::units::EnergyUnit;
-use stoik_mechanism::GAS_CONSTANT;
+use stoik_mechanism::{parse_equation, EnergyUnit, GAS_CONSTANT};
 use stoik_thermo::{toml_float, toml_string};
 
 /// `value` in scientific notation with `decimals` decimals and a signed two-digit exponent,
@@ -367,18 +365,18 @@ pub fn mechanism_snippet(
     let last = fit.parameters.len() - 1;
     let (t_min, t_max) = fit.temperature_range_k;
     let amount = match units.amount {
-        stoik_mechanism::units::AmountUnit::Mol => "mol",
-        stoik_mechanism::units::AmountUnit::Molecule => "molecule",
+        stoik_mechanism::AmountUnit::Mol => "mol",
+        stoik_mechanism::AmountUnit::Molecule => "molecule",
     };
     let length = match units.length {
-        stoik_mechanism::units::LengthUnit::Cm => "cm",
-        stoik_mechanism::units::LengthUnit::M => "m",
+        stoik_mechanism::LengthUnit::Cm => "cm",
+        stoik_mechanism::LengthUnit::M => "m",
     };
     let time = match units.time {
-        stoik_mechanism::units::TimeUnit::S => "s",
-        stoik_mechanism::units::TimeUnit::Ms => "ms",
-        stoik_mechanism::units::TimeUnit::Min => "min",
-        stoik_mechanism::units::TimeUnit::H => "h",
+        stoik_mechanism::TimeUnit::S => "s",
+        stoik_mechanism::TimeUnit::Ms => "ms",
+        stoik_mechanism::TimeUnit::Min => "min",
+        stoik_mechanism::TimeUnit::H => "h",
     };
     let mut uncertainty = format!(
         "standard errors: ln A {:.4}, Ea {:.4} kJ/mol",

@@ -8,7 +8,12 @@ use stoik_mechanism::{parse_mechanism_in, AVOGADRO, GAS_CONSTANT};
 
 /// Ethanal decomposition, a worked example in Atkins' *Physical Chemistry* (data from memory,
 /// partly corroborated by other textbooks).
-const ETHANAL: &str = include_str!("../../../mechanisms/data/ethanal-decomposition.csv");
+/// The measured rate constants of `mechanisms/data/ethanal-decomposition.csv`.
+fn ethanal() -> String {
+    stoik_testsupport::read_text(&stoik_testsupport::mechanism_path(
+        "data/ethanal-decomposition.csv",
+    ))
+}
 
 fn rel(a: f64, b: f64) -> f64 {
     ((a - b) / b).abs()
@@ -83,7 +88,7 @@ fn synthetic(
 fn ethanal_decomposition_gives_the_textbook_parameters() {
     // Atkins' Physical Chemistry, worked example (data from memory, partly corroborated);
     // least squares on ln k vs 1/T recomputed: Ea = 188.33 kJ/mol, A = 1.079e12 dm3 mol-1 s-1.
-    let (data, fit) = fit_text(ETHANAL, Model::Arrhenius);
+    let (data, fit) = fit_text(&ethanal(), Model::Arrhenius);
     assert_eq!(data.order(), 2);
     let ea_kj = fit.activation_energy_j_per_mol() / 1e3;
     let a_dm3 = fit.prefactor_si() / data.rate_constant_unit.to_si_factor();
@@ -330,7 +335,7 @@ fn units_set_the_order_and_the_si_factor() {
 fn the_snippet_parses_and_gives_back_the_fitted_rate_constant() {
     // Ethanal data (Atkins' Physical Chemistry, data from memory): second order in ethanal,
     // so `CH3CHO -> CH4 + CO` needs reaction order 2 for ethanal.
-    let (data, fit) = fit_text(ETHANAL, Model::Arrhenius);
+    let (data, fit) = fit_text(&ethanal(), Model::Arrhenius);
     let snippet = mechanism_snippet(&fit, &data, Some("CH3CHO -> CH4 + CO")).unwrap();
     assert!(
         snippet.contains("reaction_orders = { CH3CHO = 2 }"),
@@ -455,7 +460,7 @@ fn warnings_carry_their_numbers() {
         "{text}"
     );
     // The ethanal fit (max 145 dm3 mol-1 s-1 = 2.4e-19 cm3 molecule-1 s-1) stays below.
-    let (_, fit) = fit_text(ETHANAL, Model::Arrhenius);
+    let (_, fit) = fit_text(&ethanal(), Model::Arrhenius);
     assert!(!fit
         .warnings
         .iter()
@@ -466,7 +471,7 @@ fn warnings_carry_their_numbers() {
 fn report_and_plot_show_the_fit() {
     // Ethanal (Atkins' Physical Chemistry, data from memory): the report prints Ea = 188.33
     // kJ/mol; the plot has one marker per data point.
-    let (data, fit) = fit_text(ETHANAL, Model::Arrhenius);
+    let (data, fit) = fit_text(&ethanal(), Model::Arrhenius);
     let report = report_text(&fit, &data);
     assert!(report.contains("Ea [kJ/mol]"));
     assert!(report.contains("188.32"), "{report}");
@@ -495,7 +500,7 @@ fn standard_errors_and_residual_statistics_match_simple_regression_closed_forms(
     // r_i / (s_(i) sqrt(1 - h_i)) with s_(i)^2 = (SSR - r_i^2/(1 - h_i))/(N - 3).
     // Applied to ln k on x = -1/(R T) for the ethanal data (Atkins' Physical Chemistry, data
     // from memory), computed here in plain arithmetic.
-    let (data, fit) = fit_text(ETHANAL, Model::Arrhenius);
+    let (data, fit) = fit_text(&ethanal(), Model::Arrhenius);
     let x: Vec<f64> = data
         .points
         .iter()

@@ -2,8 +2,10 @@
 //! bimolecular rate constants against the gas-kinetic collision limit
 //! ([`collision_limit_warnings`]).
 
-use crate::{Kinetics, GAS_CONSTANT, STANDARD_PRESSURE_PA};
-use stoik_mechanism::{Diagnostic, Mechanism, PressureDependence, Step, AVOGADRO};
+use crate::{Kinetics, STANDARD_PRESSURE_PA};
+use stoik_mechanism::{
+    Diagnostic, Mechanism, PressureDependence, Step, AVOGADRO, BOLTZMANN, GAS_CONSTANT,
+};
 
 /// Thermochemistry of one step at one temperature (net change products minus reactants; a
 /// third-body collider does not enter). All quantities per mole of reaction as written.
@@ -95,10 +97,7 @@ fn energetics_of(mechanism: &Mechanism, step: &Step, t: f64) -> Option<StepEnerg
     })
 }
 
-/// The gas-kinetic collision limit of a bimolecular rate constant, about 1e-10
-/// cm3 molecule^-1 s^-1 (common practice), in SI: 1e-10 x 1e-6 m3/cm3 x N_A = 6.02e7
-/// m3/(mol s).
-pub const COLLISION_LIMIT_M3_PER_MOL_S: f64 = 1e-10 * 1e-6 * AVOGADRO;
+pub use stoik_mechanism::COLLISION_LIMIT_M3_PER_MOL_S;
 
 /// The temperatures (K) at which [`collision_limit_warnings`] evaluates rate constants:
 /// 300 K to 3000 K in steps of 100 K.
@@ -111,9 +110,6 @@ pub const COLLISION_LIMIT_TEMPERATURES_K: [f64; 28] = {
     }
     grid
 };
-
-/// Boltzmann constant in J/K (SI 2019 exact value).
-const BOLTZMANN: f64 = stoik_mechanism::BOLTZMANN;
 
 /// Hard-sphere collision rate constant in m3/(mol s) (collision theory, e.g. Atkins'
 /// *Physical Chemistry*): k = N_A sigma sqrt(8 k_B T / (pi mu)) with the cross-section

@@ -4,10 +4,9 @@
 //!
 //! Every rate parameter below is invented for the test (marked so); the checks are against
 //! NIST-JANAF values (M. W. Chase Jr., NIST-JANAF Thermochemical Tables, 4th ed., J. Phys.
-//! Chem. Ref. Data Monograph 9, 1998; check values in the project's reference notes) or
+//! Chem. Ref. Data Monograph 9, 1998) or
 //! against closed forms computed by hand in the test from the polynomials.
 
-use std::path::Path;
 use stoik_kinetics::{
     collision_limit_warnings, step_energetics, Kinetics, COLLISION_LIMIT_M3_PER_MOL_S,
 };
@@ -16,13 +15,11 @@ use stoik_mechanism::{parse_mechanism_in, Mechanism, Severity, AVOGADRO};
 const R: f64 = 8.314462618;
 const P0: f64 = 1e5;
 
-fn mechanisms_dir() -> &'static Path {
-    Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/../../mechanisms"))
-}
+use stoik_testsupport::mechanisms_dir;
 
 /// Loads mechanism text whose `thermo_files` are relative to `mechanisms/`.
 fn load(text: &str) -> Mechanism {
-    parse_mechanism_in(text, "test.toml", Some(mechanisms_dir()))
+    parse_mechanism_in(text, "test.toml", Some(&mechanisms_dir()))
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism
 }

@@ -435,11 +435,8 @@ fn reversible_troe_step_of_the_hydrogen_mechanism_matches_central_differences() 
     // mechanisms/hydrogen-oxygen.toml: H + O2 <=> HO2 is a Troe falloff step with
     // efficiencies, reverse kr = kf / Kc from thermochemistry. State: a partly burnt
     // diluted mixture at 1500 K and about 1 atm.
-    let path = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/../../mechanisms/hydrogen-oxygen.toml"
-    );
-    let mechanism = stoik_mechanism::load_mechanism(std::path::Path::new(path))
+    let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
+    let mechanism = stoik_mechanism::load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
     let kinetics = Kinetics::compile(&mechanism);
@@ -515,11 +512,8 @@ fn reversible_falloff_step_obeys_detailed_balance_at_every_bath_gas_level() {
     // Decision (docs/file-format.md): a reversible pressure-dependent step takes
     // kr = kf(T, [M]) / Kc(T), so its net rate vanishes when [HO2] = Kc [H][O2] (detailed
     // balance, common practice), whatever [M]. Kc from the species' thermochemistry.
-    let path = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/../../mechanisms/hydrogen-oxygen.toml"
-    );
-    let mechanism = stoik_mechanism::load_mechanism(std::path::Path::new(path))
+    let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
+    let mechanism = stoik_mechanism::load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
     let step = mechanism

@@ -4,6 +4,7 @@
 //! line:column of the offending key or value (see `docs/file-format.md` for the format).
 //! Name lookups and duplicate detection use hash maps, so loading is linear in file size.
 
+use self::pressure::RawPressureForm;
 use crate::elements::{known_symbols, standard_atomic_weight_kg_per_mol};
 use crate::equation::{parse_equation, EquationTerm};
 use crate::suggest::nearest_name;
@@ -12,6 +13,7 @@ use crate::toml_walk::{
     Value,
 };
 use crate::units::{AmountUnit, EnergyUnit, LengthUnit, RateUnits, TimeUnit};
+use crate::validate::MAX_COLLISION_DIAMETER_M;
 use crate::{
     Arrhenius, Diagnostic, Diagnostics, Element, LoadError, Mechanism, Severity, Species, Step,
     StoichTerm, ThirdBody,
@@ -148,6 +150,27 @@ struct RawArrhenius {
     prefactor: f64,
     temperature_exponent: f64,
     activation_energy: f64,
+}
+
+impl RawArrhenius {
+    /// The temperature exponent and the activation energy in SI (J/mol), with a zero
+    /// prefactor: the prefactor's conversion needs the step's order.
+    fn without_prefactor(self, units: RateUnits) -> Arrhenius {
+        Arrhenius {
+            pre_exponential_si: 0.0,
+            temperature_exponent: self.temperature_exponent,
+            activation_energy_j_per_mol: units.activation_energy_to_si(self.activation_energy),
+        }
+    }
+}
+
+/// A step's rate parameters as written (file units), with the units they are in.
+struct RawRates {
+    units: RateUnits,
+    forward: RawArrhenius,
+    reverse: Option<RawArrhenius>,
+    /// The pressure form and the byte offset of its key.
+    pressure_form: Option<(RawPressureForm, usize)>,
 }
 
 /// Reactants and products (each `None` if a name did not resolve) and reversibility.
@@ -411,6 +434,14 @@ impl Loader<'_> {
         let collision_diameter_m = table.get("collision_diameter_nm").and_then(|v| {
             let d = self.r.number("collision_diameter_nm", v)?;
             match positive_finite_problem(d) {
+                None if d * 1e-9 >= MAX_COLLISION_DIAMETER_M => {
+                    self.r.error(
+                        v.span().start,
+                        format!("`collision_diameter_nm` is {}; molecular diameters are below 10 nm", show_number(d)),
+                        Some("e.g. collision_diameter_nm = 0.35".to_string()),
+                    );
+                    None
+                }
                 None => Some(d * 1e-9),
                 Some(problem) => {
                     self.r.error(
@@ -748,117 +779,23 @@ impl Loader<'_> {
         ok.then_some(orders)
     }
 
+    /// Reads one `[[step]]` table: every key is read (so that every problem is reported),
+    /// then the step is converted to SI. `None` when a problem was reported.
     fn read_step(&mut self, item: &Value<'_>, file_units: RateUnits) -> Option<Step> {
         let at = item.span().start;
         let errors_before = self.r.error_count();
         let table = self.r.table("step", item)?;
         self.r.check_keys(table, STEP_KEYS, "[[step]]");
-        let mut units = file_units;
-        if let Some(v) = table.get("units") {
-            if let Some(t) = self.r.table("units", v) {
-                units = self.read_units(t, file_units, "the step's `units`");
-            }
-        }
-
-        // Equation.
-        let mut equation = String::new();
-        let mut equation_at = at;
-        let mut sides: Option<ResolvedSides> = None;
-        match table.get("equation") {
-            None => {
-                self.equation_failed = true;
-                self.r.error(
-                    at,
-                    "step has no `equation`",
-                    Some("e.g. equation = \"A + B -> C\"".to_string()),
-                )
-            }
-            Some(v) => {
-                let text = self.r.string("equation", v);
-                self.equation_failed |= text.is_none();
-                if let Some(text) = text {
-                    equation = text.to_string();
-                    equation_at = v.span().start;
-                    let base = self.r.string_content_start(v, text);
-                    let index = &self.species_index;
-                    match parse_equation(text, &|n: &str| index.contains_key(n)) {
-                        Ok(parsed) => {
-                            let reactants = self.resolve_side(&parsed.reactants, base, equation_at);
-                            let products = self.resolve_side(&parsed.products, base, equation_at);
-                            sides = Some((reactants, products, parsed.reversible));
-                        }
-                        Err(errors) => {
-                            self.equation_failed = true;
-                            for e in errors {
-                                let pos = base.map(|b| b + e.offset).unwrap_or(equation_at);
-                                self.r.error(pos, e.message, e.help);
-                            }
-                        }
-                    }
-                }
-            }
-        }
+        let units = self.read_step_units(table, file_units);
+        let (equation, equation_at, sides) = self.read_step_equation(table, at);
         let reversible = sides.as_ref().map(|s| s.2);
-
-        // Rate parameters.
         let pressure_form = self.read_pressure_form(table);
-        let implied_forward = match &pressure_form {
-            Some(Some((form, _))) => form.implied_forward(),
-            _ => None,
-        };
-        // `termolecular_300k` and `pressure_table` replace `forward` (a problem with them was
-        // reported already).
-        let forward_implied = ["termolecular_300k", "pressure_table"]
-            .iter()
-            .any(|&k| table.contains_key(k));
-        let forward = match table.get("forward") {
-            None if forward_implied => implied_forward,
-            None => {
-                self.r.error(
-                    at,
-                    "step has no `forward` rate parameters",
-                    Some("e.g. forward = { prefactor = 1e13, temperature_exponent = 0, activation_energy = 0 }".to_string()),
-                );
-                None
-            }
-            Some(v) => self.read_arrhenius("forward", v),
-        };
-        let reverse = match table.get_key_value("reverse") {
-            None => {
-                if let Some((Some(reactants), Some(products), true)) = &sides {
-                    self.check_thermo_reverse(reactants, products, equation_at);
-                }
-                None
-            }
-            Some((key, v)) => {
-                if reversible == Some(false) {
-                    self.r.error(
-                        key.span().start,
-                        "irreversible step (`->`) cannot have `reverse` rate parameters",
-                        Some(
-                            "write the equation with `<=>` to make the step reversible".to_string(),
-                        ),
-                    );
-                }
-                self.read_arrhenius("reverse", v)
-            }
-        };
+        let forward = self.read_step_forward(table, at, &pressure_form);
+        let reverse = self.read_step_reverse(table, sides.as_ref(), equation_at);
         let third_body = table
             .get("third_body")
             .and_then(|v| self.read_third_body(v));
-        let orders = match table.get_key_value("reaction_orders") {
-            None => None,
-            Some((key, v)) => {
-                if reversible == Some(true) {
-                    self.r.error(
-                        key.span().start,
-                        "`reaction_orders` is only allowed on irreversible (`->`) steps",
-                        None,
-                    );
-                }
-                self.read_orders(v)
-            }
-        };
+        let orders = self.read_step_orders(table, reversible);
         let allow_duplicate = table
             .get("allow_duplicate")
             .and_then(|v| self.r.boolean("allow_duplicate", v))
@@ -873,52 +810,172 @@ impl Loader<'_> {
         let (Some(reactants), Some(products), reversible) = sides? else {
             return None;
         };
-        let forward = forward?;
-        let forward_orders = orders.map(|listed| {
-            let mut list: Vec<(usize, f64)> = reactants
-                .iter()
-                .map(|t| {
-                    let order = listed
-                        .iter()
-                        .find(|(s, _, _)| *s == t.species)
-                        .map(|(_, o, _)| *o)
-                        .unwrap_or(t.coefficient);
-                    (t.species, order)
-                })
-                .collect();
-            for &(s, o, _) in &listed {
-                if !reactants.iter().any(|t| t.species == s) {
-                    list.push((s, o));
-                }
-            }
-            list
-        });
-        let mut step = Step {
+        let rates = RawRates {
+            units,
+            forward: forward?,
+            reverse,
+            pressure_form: pressure_form.flatten(),
+        };
+        // The prefactors depend on the step's order; `convert_rates` sets them.
+        let step = Step {
             equation,
+            forward_orders: orders.map(|listed| forward_orders(&reactants, &listed)),
             reactants,
             products,
             reversible,
-            forward: Arrhenius {
-                pre_exponential_si: 0.0,
-                temperature_exponent: forward.temperature_exponent,
-                activation_energy_j_per_mol: units
-                    .activation_energy_to_si(forward.activation_energy),
-            },
-            reverse: reverse.map(|r| Arrhenius {
-                pre_exponential_si: 0.0,
-                temperature_exponent: r.temperature_exponent,
-                activation_energy_j_per_mol: units.activation_energy_to_si(r.activation_energy),
-            }),
+            forward: rates.forward.without_prefactor(units),
+            reverse: reverse.map(|r| r.without_prefactor(units)),
             third_body,
             pressure_dependence: None,
-            forward_orders,
             allow_duplicate,
             note,
             location: Some(self.r.location(at)),
         };
+        self.convert_rates(step, rates, at, equation_at)
+    }
+
+    /// The step's own `units` table over the file's units.
+    fn read_step_units(&mut self, table: &DeTable<'_>, file_units: RateUnits) -> RateUnits {
+        match table.get("units").and_then(|v| self.r.table("units", v)) {
+            Some(t) => self.read_units(t, file_units, "the step's `units`"),
+            None => file_units,
+        }
+    }
+
+    /// The step's `equation`: its text, where it starts (the step's start `at` when it has
+    /// none) and its resolved sides, `None` when it is missing or unreadable (reported).
+    fn read_step_equation(
+        &mut self,
+        table: &DeTable<'_>,
+        at: usize,
+    ) -> (String, usize, Option<ResolvedSides>) {
+        let Some(v) = table.get("equation") else {
+            self.equation_failed = true;
+            self.r.error(
+                at,
+                "step has no `equation`",
+                Some("e.g. equation = \"A + B -> C\"".to_string()),
+            );
+            return (String::new(), at, None);
+        };
+        let text = self.r.string("equation", v);
+        self.equation_failed |= text.is_none();
+        let Some(text) = text else {
+            return (String::new(), at, None);
+        };
+        let equation_at = v.span().start;
+        let base = self.r.string_content_start(v, text);
+        let index = &self.species_index;
+        let sides = match parse_equation(text, &|n: &str| index.contains_key(n)) {
+            Ok(parsed) => {
+                let reactants = self.resolve_side(&parsed.reactants, base, equation_at);
+                let products = self.resolve_side(&parsed.products, base, equation_at);
+                Some((reactants, products, parsed.reversible))
+            }
+            Err(errors) => {
+                self.equation_failed = true;
+                for e in errors {
+                    let pos = base.map(|b| b + e.offset).unwrap_or(equation_at);
+                    self.r.error(pos, e.message, e.help);
+                }
+                None
+            }
+        };
+        (text.to_string(), equation_at, sides)
+    }
+
+    /// The step's `forward` rate parameters, or those its pressure form implies
+    /// (`termolecular_300k` and `pressure_table` replace `forward`; a problem with them was
+    /// reported already).
+    fn read_step_forward(
+        &mut self,
+        table: &DeTable<'_>,
+        at: usize,
+        pressure_form: &Option<Option<(RawPressureForm, usize)>>,
+    ) -> Option<RawArrhenius> {
+        let implied_forward = match pressure_form {
+            Some(Some((form, _))) => form.implied_forward(),
+            _ => None,
+        };
+        let forward_implied = ["termolecular_300k", "pressure_table"]
+            .iter()
+            .any(|&k| table.contains_key(k));
+        match table.get("forward") {
+            None if forward_implied => implied_forward,
+            None => {
+                self.r.error(
+                    at,
+                    "step has no `forward` rate parameters",
+                    Some("e.g. forward = { prefactor = 1e13, temperature_exponent = 0, activation_energy = 0 }".to_string()),
+                );
+                None
+            }
+            Some(v) => self.read_arrhenius("forward", v),
+        }
+    }
+
+    /// The step's `reverse` rate parameters; without them, a reversible step must have
+    /// thermochemistry for its species (checked here).
+    fn read_step_reverse(
+        &mut self,
+        table: &DeTable<'_>,
+        sides: Option<&ResolvedSides>,
+        equation_at: usize,
+    ) -> Option<RawArrhenius> {
+        let Some((key, v)) = table.get_key_value("reverse") else {
+            if let Some((Some(reactants), Some(products), true)) = sides {
+                self.check_thermo_reverse(reactants, products, equation_at);
+            }
+            return None;
+        };
+        if sides.map(|s| s.2) == Some(false) {
+            self.r.error(
+                key.span().start,
+                "irreversible step (`->`) cannot have `reverse` rate parameters",
+                Some("write the equation with `<=>` to make the step reversible".to_string()),
+            );
+        }
+        self.read_arrhenius("reverse", v)
+    }
+
+    /// The step's `reaction_orders` (only on irreversible steps) as (species, order, byte
+    /// offset).
+    fn read_step_orders(
+        &mut self,
+        table: &DeTable<'_>,
+        reversible: Option<bool>,
+    ) -> Option<Vec<(usize, f64, usize)>> {
+        let (key, v) = table.get_key_value("reaction_orders")?;
+        if reversible == Some(true) {
+            self.r.error(
+                key.span().start,
+                "`reaction_orders` is only allowed on irreversible (`->`) steps",
+                None,
+            );
+        }
+        self.read_orders(v)
+    }
+
+    /// Sets the prefactors of `step` (whose exponents and activation energies are in SI
+    /// already) from `rates`, converted to SI for the step's order, applies its pressure form
+    /// and checks that the converted values are in range; then checks the step's balance.
+    /// `None` when a problem was reported.
+    fn convert_rates(
+        &mut self,
+        mut step: Step,
+        rates: RawRates,
+        at: usize,
+        equation_at: usize,
+    ) -> Option<Step> {
+        let RawRates {
+            units,
+            forward,
+            reverse,
+            pressure_form,
+        } = rates;
         // The bath gas of a pressure-dependent step does not add to the order of `forward`
         // (`pressure_dependence` is set below, after the conversion).
-        let forward_order = if matches!(pressure_form, Some(Some(_))) && step.third_body.is_some() {
+        let forward_order = if pressure_form.is_some() && step.third_body.is_some() {
             step.forward_order() - 1.0
         } else {
             step.forward_order()
@@ -928,7 +985,7 @@ impl Loader<'_> {
         if let (Some(rev), Some(raw)) = (step.reverse.as_mut(), reverse) {
             rev.pre_exponential_si = units.prefactor_to_si(raw.prefactor, reverse_order);
         }
-        if let Some(Some((form, key_at))) = pressure_form {
+        if let Some((form, key_at)) = pressure_form {
             if !self.apply_pressure_form(&mut step, form, units, forward_order, key_at) {
                 return None;
             }
@@ -949,7 +1006,6 @@ impl Loader<'_> {
         self.check_balance(&step, equation_at);
         Some(step)
     }
-
     /// A reversible step without `reverse` takes kr = kf / Kc from thermochemistry, which
     /// every species of its equation must have.
     fn check_thermo_reverse(
@@ -1220,6 +1276,29 @@ impl Loader<'_> {
 }
 
 /// Why `name` cannot be a species name, if it cannot.
+/// The forward orders of a step with `reaction_orders`: every reactant's order (its
+/// coefficient unless `listed`), then the listed species that are not reactants. `listed`
+/// holds (species, order, byte offset).
+fn forward_orders(reactants: &[StoichTerm], listed: &[(usize, f64, usize)]) -> Vec<(usize, f64)> {
+    let mut list: Vec<(usize, f64)> = reactants
+        .iter()
+        .map(|t| {
+            let order = listed
+                .iter()
+                .find(|(s, _, _)| *s == t.species)
+                .map(|(_, o, _)| *o)
+                .unwrap_or(t.coefficient);
+            (t.species, order)
+        })
+        .collect();
+    for &(s, o, _) in listed {
+        if !reactants.iter().any(|t| t.species == s) {
+            list.push((s, o));
+        }
+    }
+    list
+}
+
 fn bad_species_name(name: &str) -> Option<&'static str> {
     if name.is_empty() {
         Some("is empty")

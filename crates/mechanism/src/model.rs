@@ -9,6 +9,9 @@
 //! - a reversible step without explicit reverse parameters (`reverse == None`) has
 //!   thermochemistry ([`Species::thermo`]) for every species of its equation, so that its
 //!   reverse rate constant follows from the equilibrium constant (kr = kf / Kc).
+//!
+//! A mechanism built by hand is checked against them (and a few SI sanity bounds) with
+//! [`Mechanism::validate`].
 
 /// Where an item came from in a text file: 1-based line and column.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -298,25 +301,24 @@ impl Mechanism {
     }
 
     /// Molar mass (kg/mol) of species `species` from its composition and the standard
-    /// atomic weights; `None` for an abstract species or an index out of range.
+    /// atomic weights; `None` for an abstract species, an index out of range or a
+    /// composition that names an element index out of range.
     pub fn molar_mass_kg_per_mol(&self, species: usize) -> Option<f64> {
         let atoms = self.species.get(species)?.composition.as_ref()?;
-        Some(
-            atoms
-                .iter()
-                .map(|&(e, n)| n * self.elements[e].atomic_weight_kg_per_mol)
-                .sum(),
-        )
+        atoms.iter().try_fold(0.0, |sum, &(e, n)| {
+            Some(sum + n * self.elements.get(e)?.atomic_weight_kg_per_mol)
+        })
     }
 
     /// Element totals (mol/m3 of atoms) for concentrations `concentrations_mol_per_m3`,
-    /// one entry per element; abstract species contribute nothing.
+    /// one entry per element; abstract species contribute nothing (nor do element indices
+    /// out of range, which [`Mechanism::validate`] reports).
     pub fn element_totals(&self, concentrations_mol_per_m3: &[f64]) -> Vec<f64> {
         let mut totals = vec![0.0; self.elements.len()];
         for (species, &c) in self.species.iter().zip(concentrations_mol_per_m3) {
-            if let Some(composition) = &species.composition {
-                for &(element, count) in composition {
-                    totals[element] += count * c;
+            for &(element, count) in species.composition.iter().flatten() {
+                if let Some(total) = totals.get_mut(element) {
+                    *total += count * c;
                 }
             }
         }

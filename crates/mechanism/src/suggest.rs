@@ -4,8 +4,10 @@
 //! cost 1) counted in characters, computed on lower-cased text so that `ar` finds `AR`;
 //! ties are broken by the case-sensitive distance.
 
-/// Levenshtein edit distance between `a` and `b`, in characters.
-pub fn edit_distance(a: &str, b: &str) -> usize {
+/// Levenshtein edit distance between `a` and `b`, in characters (the tests' entry point to
+/// the distance that [`nearest_name`] uses).
+#[cfg(test)]
+fn edit_distance(a: &str, b: &str) -> usize {
     let a: Vec<char> = a.chars().collect();
     let b: Vec<char> = b.chars().collect();
     edit_distance_chars(&a, &b)

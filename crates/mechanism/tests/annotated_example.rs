@@ -7,11 +7,8 @@ use stoik_mechanism::{
 
 #[test]
 fn annotated_example_loads_without_errors_or_warnings() {
-    let path = std::path::Path::new(concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/../../mechanisms/annotated-example.toml"
-    ));
-    let file = load_mechanism(path).unwrap_or_else(|e| panic!("{e}"));
+    let path = stoik_testsupport::mechanism_path("annotated-example.toml");
+    let file = load_mechanism(&path).unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(file.warnings.0.len(), 0, "{}", file.warnings);
     let m = &file.mechanism;
     assert_eq!(m.species.len(), 9);

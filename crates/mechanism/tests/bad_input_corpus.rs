@@ -18,7 +18,10 @@ use stoik_mechanism::{
     Severity,
 };
 
-const CORPUS: &str = concat!(env!("CARGO_MANIFEST_DIR"), "/../../tests/bad-input");
+/// The corpus folder, `tests/bad-input/`.
+fn corpus() -> PathBuf {
+    stoik_testsupport::tests_dir().join("bad-input")
+}
 
 #[derive(Debug)]
 struct Expectation {
@@ -96,7 +99,7 @@ fn show(diagnostics: &[Diagnostic]) -> String {
 
 #[test]
 fn every_corpus_file_reports_exactly_its_expected_problems() {
-    let dir = PathBuf::from(CORPUS);
+    let dir = corpus();
     let mut paths: Vec<PathBuf> = std::fs::read_dir(&dir)
         .expect("corpus folder")
         .map(|e| e.expect("entry").path())
@@ -182,7 +185,7 @@ fn truncated_files_give_located_errors_not_panics() {
     // Robustness: every prefix of a valid file (cut at character boundaries) must either load
     // or be rejected with located diagnostics; the full file must load. A prefix that ends
     // right after `stoik_mechanism = 1` has no steps, so it must be rejected.
-    let path = PathBuf::from(CORPUS).join("good.mech.toml");
+    let path = corpus().join("good.mech.toml");
     let text = std::fs::read_to_string(&path).expect("good mechanism");
     let mut rejected = 0;
     for (cut, _) in text.char_indices().step_by(7) {

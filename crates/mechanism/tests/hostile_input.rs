@@ -6,7 +6,10 @@ use proptest::prelude::*;
 use std::path::Path;
 use stoik_mechanism::{parse_mechanism, parse_scenario, LoadError};
 
-const MECHANISM: &str = include_str!("../../../tests/bad-input/good.mech.toml");
+/// The corpus's valid mechanism, `tests/bad-input/good.mech.toml`.
+fn good_mechanism() -> String {
+    stoik_testsupport::read_text(&stoik_testsupport::tests_dir().join("bad-input/good.mech.toml"))
+}
 
 const SCENARIO: &str = "stoik_scenario = 1\nmechanism = \"good.mech.toml\"\n[reactor]\n\
 temperature = \"500 K\"\npressure = \"1 bar\"\n[initial]\nmole_fractions = { A = 0.5, B = 0.5 }\n\
@@ -69,7 +72,7 @@ proptest! {
 
     #[test]
     fn edited_mechanisms_never_panic(edits in prop::collection::vec(edit(), 1..8)) {
-        let text = mutate(MECHANISM, &edits);
+        let text = mutate(&good_mechanism(), &edits);
         check(parse_mechanism(&text, "edited.toml").map(|f| f.mechanism.steps.len()))?;
     }
 

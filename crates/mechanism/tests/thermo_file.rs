@@ -5,8 +5,7 @@ use stoik_mechanism::{load_thermo, parse_thermo, LoadError};
 
 #[test]
 fn the_projects_janaf_thermo_file_loads() {
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../mechanisms/thermo/janaf-nasa7.toml");
+    let path = stoik_testsupport::mechanism_path("thermo/janaf-nasa7.toml");
     let file = load_thermo(&path).unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(file.entries.len(), 9);
     // JANAF (Chase 1998): H2O(g) formation enthalpy -241.826 kJ/mol at 298.15 K; the fit pins

@@ -1,12 +1,10 @@
 //! Thermochemistry in the mechanism file: `thermo_files` and inline `[species.thermo]`
 //! tables, as specified in docs/file-format.md ("Thermochemistry").
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use stoik_mechanism::{load_thermo, parse_mechanism, parse_mechanism_in, LoadError};
 
-fn mechanisms_dir() -> PathBuf {
-    PathBuf::from(concat!(env!("CARGO_MANIFEST_DIR"), "/../../mechanisms"))
-}
+use stoik_testsupport::mechanisms_dir;
 
 fn diagnostics(result: Result<stoik_mechanism::MechanismFile, LoadError>) -> Vec<String> {
     match result {

@@ -206,6 +206,23 @@ pub struct SolverStats {
     pub invariant_projections: usize,
 }
 
+/// The counts as one line for people and logs: `597 steps, 895 right-hand sides,
+/// 12 Jacobians, 65 factorizations, 5 error-test failures, 0 nonlinear failures`.
+impl std::fmt::Display for SolverStats {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "{} steps, {} right-hand sides, {} Jacobians, {} factorizations, {} error-test failures, {} nonlinear failures",
+            self.steps,
+            self.rhs_evaluations,
+            self.jacobian_evaluations,
+            self.factorizations,
+            self.error_test_failures,
+            self.nonlinear_failures
+        )
+    }
+}
+
 /// Concentration-time profiles of one run.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct Profiles {
@@ -467,7 +484,7 @@ impl Profiles {
     pub fn pressure_pa(&self, row: usize) -> Option<f64> {
         let c = self.concentrations_mol_per_m3.get(row)?;
         let t = self.temperatures_k.get(row)?;
-        Some(c.iter().sum::<f64>() * stoik_kinetics::GAS_CONSTANT * t)
+        Some(c.iter().sum::<f64>() * stoik_mechanism::GAS_CONSTANT * t)
     }
 
     /// Mole fractions of row `row` (dimensionless, summing to 1): x_i = c_i / sum_k c_k;

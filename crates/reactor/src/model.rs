@@ -27,8 +27,8 @@ use stoik_thermo::Nasa7;
 use crate::atmosphere::BoxConditions;
 use crate::ReactorError;
 
-/// Molar gas constant R in J/(mol K).
-const R: f64 = stoik_kinetics::GAS_CONSTANT;
+// The molar gas constant R in J/(mol K), under its short name in the formulas below.
+use stoik_mechanism::GAS_CONSTANT as R;
 
 /// What a closed reactor holds constant besides its contents.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]

@@ -13,7 +13,7 @@ use std::cell::Cell;
 
 use common::*;
 use stoik_kinetics::Kinetics;
-use stoik_mechanism::model::{Arrhenius, Step};
+use stoik_mechanism::{Arrhenius, Step};
 use stoik_reactor::{BatchIntegrator, BatchSystem, LinearAlgebra};
 
 struct CountingAllocator;

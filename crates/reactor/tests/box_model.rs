@@ -1,7 +1,6 @@
 //! Box-model conditions against closed forms: emissions with first-order deposition, fixed
 //! species (pseudo-first order), tabulated and solar photolysis rates, element conservation.
 
-use std::path::Path;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::{load_mechanism, parse_mechanism, Mechanism};
 use stoik_reactor::{
@@ -154,7 +153,7 @@ fn solar_zenith_angle_and_diurnal_photolysis() {
 /// by the organics) is conserved over three days of photochemistry.
 #[test]
 fn elements_not_carried_by_fixed_species_are_conserved() {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../mechanisms/urban-box.toml");
+    let path = stoik_testsupport::mechanism_path("urban-box.toml");
     let mech = load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;

@@ -5,7 +5,7 @@
 //! "reactions approaching equilibrium" and "consecutive elementary reactions"
 //! (the Bateman form); the same results are derived in J. I. Steinfeld, J. S. Francisco and
 //! W. L. Hase, *Chemical Kinetics and Dynamics*, 2nd ed., chapter 2 (from memory).
-//! Convention (reference/README.md): a step fires at k * prod c^nu and applies its net change,
+//! Convention (mass action, common practice): a step fires at k * prod c^nu and applies its net change,
 //! so 2A -> B has dA/dt = -2 k A^2.
 //!
 //! Tolerances: integrations run at rtol 1e-8 with a tiny absolute tolerance, and results are

@@ -1,7 +1,6 @@
 //! Closed reactors with energy: closed forms, conservation of U or H, prescribed
 //! temperature histories and the ignition-delay criteria.
 
-use std::path::Path;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::{load_mechanism, parse_mechanism, Mechanism, GAS_CONSTANT as R};
 use stoik_reactor::{
@@ -98,7 +97,7 @@ fn adiabatic_single_step_reaches_the_temperature_the_heat_of_reaction_predicts()
 }
 
 fn hydrogen() -> Mechanism {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../mechanisms/hydrogen-oxygen.toml");
+    let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
     load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism

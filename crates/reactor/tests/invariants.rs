@@ -13,7 +13,7 @@ use stoik_reactor::{integrate, IntegrationOptions};
 const Y2_AT_1E13: f64 = 8.861_233_521_283_229e-23;
 
 fn run(keep_invariants: bool) -> (f64, f64, usize) {
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../mechanisms/e5.toml");
+    let path = stoik_testsupport::mechanism_path("e5.toml");
     let mech = load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;

@@ -1,7 +1,6 @@
 //! Maxima, threshold crossings and ignition delays located on the solver's own steps: checked
 //! against closed forms, and shown to be independent of the output grid.
 
-use std::path::Path;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::{load_mechanism, parse_mechanism, Mechanism};
 use stoik_reactor::{
@@ -86,7 +85,7 @@ fn peak_and_crossing_of_consecutive_steps_match_closed_forms_on_a_coarse_grid() 
 }
 
 fn hydrogen() -> (Kinetics, Vec<f64>) {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../mechanisms/hydrogen-oxygen.toml");
+    let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
     let mech = load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;

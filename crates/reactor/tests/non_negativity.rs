@@ -15,11 +15,7 @@ use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};
 
 /// Mazzia & Magherini, Test Set for IVP Solvers 2.4: Robertson at t = 1e11.
-const Y_1E11: [f64; 3] = [
-    0.2083340149701255e-07,
-    0.8333360770334713e-13,
-    0.9999999791665050,
-];
+const Y_1E11: [f64; 3] = stoik_testsupport::published::ROBERTSON_AT_1E11;
 
 #[test]
 fn loose_robertson_blows_up_without_the_guard_and_stays_bounded_with_it() {

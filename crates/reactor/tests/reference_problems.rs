@@ -19,6 +19,7 @@ mod common;
 
 use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};
+use stoik_testsupport::published;
 
 /// Every linear algebra: dense, the fixed-pattern sparse LU, and faer's sparse LU.
 fn both() -> [LinearAlgebra; 3] {
@@ -34,12 +35,8 @@ fn robertson_at_40_and_1e11() {
     let kin = robertson();
     // Reference: t = 40 recomputed (agrees with Hairer & Wanner's 10-digit values);
     // t = 1e11 from the Bari test set.
-    let y40 = [0.7158270687194, 9.185534764558e-06, 0.2841637457458];
-    let y1e11 = [
-        0.2083340149701255e-07,
-        0.8333360770334713e-13,
-        0.9999999791665050,
-    ];
+    let y40 = published::ROBERTSON_AT_40;
+    let y1e11 = published::ROBERTSON_AT_1E11;
     for la in both() {
         let p = integrate(
             &kin,
@@ -81,23 +78,14 @@ fn robertson_at_40_and_1e11() {
 fn hires_at_321_8122() {
     let kin = hires();
     // Bari reference at t = 321.8122.
-    let reference = [
-        0.7371312573325668e-3,
-        0.1442485726316185e-3,
-        0.5888729740967575e-4,
-        0.1175651343283149e-2,
-        0.2386356198831331e-2,
-        0.6238968252742796e-2,
-        0.2849998395185769e-2,
-        0.2850001604814231e-2,
-    ];
-    let y0 = [1.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0057];
+    let reference = published::HIRES_AT_END;
+    let y0 = published::HIRES_INITIAL;
     for la in both() {
         let p = integrate(
             &kin,
             T,
             &y0,
-            &[0.0, 321.8122],
+            &[0.0, published::HIRES_END_TIME],
             &options(8, 1e-10, 1e-20, la),
         )
         .unwrap();
@@ -115,41 +103,9 @@ fn hires_at_321_8122() {
 fn oregonator_at_30_120_300_360() {
     let kin = oregonator();
     // t = 30, 120, 300: Hairer & Wanner data file; t = 360: Bari.
-    let reference = [
-        (
-            30.0,
-            [
-                0.1000661467180497e+01,
-                0.1512778937348249e+04,
-                0.1035854312767229e+05,
-            ],
-        ),
-        (
-            120.0,
-            [
-                0.1004118022612645e+01,
-                0.2438326079910346e+03,
-                0.1008822224048647e+01,
-            ],
-        ),
-        (
-            300.0,
-            [
-                0.1779724751937019e+01,
-                0.2281852385542403e+01,
-                0.1613754023671725e+01,
-            ],
-        ),
-        (
-            360.0,
-            [
-                0.1000814870318523e+01,
-                0.1228178521549917e+04,
-                0.1320554942846706e+03,
-            ],
-        ),
-    ];
-    let times = [0.0, 30.0, 120.0, 300.0, 360.0];
+    let reference = published::OREGONATOR;
+    let mut times = vec![0.0];
+    times.extend(reference.map(|(t, _)| t));
     for la in both() {
         let p = integrate(
             &kin,

@@ -6,12 +6,31 @@ mod common;
 
 use common::*;
 use stoik_kinetics::Kinetics;
-use stoik_mechanism::model::{Element, Mechanism, Species};
 use stoik_mechanism::GAS_CONSTANT;
+use stoik_mechanism::{Element, Mechanism, Species};
 use stoik_reactor::{
     element_balance, integrate, BatchSystem, FailureKind, IntegrationError, IntegrationOptions,
-    LinearAlgebra, ReactorError,
+    LinearAlgebra, ReactorError, SolverStats,
 };
+
+#[test]
+fn solver_statistics_read_as_the_summary_line() {
+    // The counts of the hydrogen demo's summary line as README.md shows it ("solver: BDF,
+    // Dense linear algebra; 597 steps, 895 right-hand sides, ...").
+    let stats = SolverStats {
+        steps: 597,
+        rhs_evaluations: 895,
+        jacobian_evaluations: 12,
+        factorizations: 65,
+        error_test_failures: 5,
+        nonlinear_failures: 0,
+        ..SolverStats::default()
+    };
+    assert_eq!(
+        stats.to_string(),
+        "597 steps, 895 right-hand sides, 12 Jacobians, 65 factorizations, 5 error-test failures, 0 nonlinear failures"
+    );
+}
 
 #[test]
 fn ten_advances_equal_one_integration() {
@@ -89,7 +108,7 @@ fn adding_mass_mid_run_matches_first_order_solution() {
 fn temperature_change_switches_the_arrhenius_rate_constant() {
     // A -> B with k(T) = A exp(-Ea/(R T)) (Arrhenius; R = 8.314462618 J/(mol K), CODATA):
     // first order at T1 until t1, then at T2: A(t) = e^{-k1 t1} e^{-k2 (t - t1)}.
-    let arrhenius = stoik_mechanism::model::Arrhenius {
+    let arrhenius = stoik_mechanism::Arrhenius {
         pre_exponential_si: 1e7,
         temperature_exponent: 0.0,
         activation_energy_j_per_mol: 50_000.0,
@@ -116,7 +135,7 @@ fn one_system_integrates_many_times_at_several_temperatures() {
     // A -> B with k(T) = A exp(-Ea/(R T)) (Arrhenius; R = 8.314462618 J/(mol K), CODATA):
     // A(t) = A0 exp(-k(T) t) (Atkins, first-order integrated law), run on one system at three
     // temperatures without rebuilding it.
-    let arrhenius = stoik_mechanism::model::Arrhenius {
+    let arrhenius = stoik_mechanism::Arrhenius {
         pre_exponential_si: 1e7,
         temperature_exponent: 0.0,
         activation_energy_j_per_mol: 50_000.0,

@@ -5,7 +5,6 @@
 //! Kp = exp(-dG0/(R T)) (textbook equilibrium condition of an ideal-gas mixture, common
 //! practice), Kc computed here by hand from the polynomials.
 
-use std::path::Path;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::parse_mechanism_in;
 use stoik_reactor::{integrate, IntegrationOptions};
@@ -63,8 +62,8 @@ forward = { prefactor = 3e6, temperature_exponent = 2.0, activation_energy = 550
 
 #[test]
 fn long_isothermal_run_ends_at_the_equilibrium_the_constants_demand() {
-    let dir = Path::new(concat!(env!("CARGO_MANIFEST_DIR"), "/../../mechanisms"));
-    let m = parse_mechanism_in(MECHANISM, "eq.toml", Some(dir))
+    let dir = stoik_testsupport::mechanisms_dir();
+    let m = parse_mechanism_in(MECHANISM, "eq.toml", Some(&dir))
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
     assert!(m.steps.iter().all(|s| s.reverse.is_none() && s.reversible));

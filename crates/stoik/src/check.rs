@@ -3,7 +3,7 @@
 use crate::{EXIT_BAD_INPUT, EXIT_OK, EXIT_WARNINGS};
 use std::path::Path;
 use stoik::kinetics::collision_limit_warnings;
-use stoik::mechanism::{load_mechanism, load_scenario, Diagnostics, LoadError};
+use stoik::mechanism::{load_mechanism, load_scenario, Diagnostics, LoadError, MechanismFile};
 
 /// Whether `path` holds a scenario (it carries the scenario format key) rather than a mechanism.
 pub fn is_scenario(path: &Path) -> bool {
@@ -38,7 +38,24 @@ fn finish(diagnostics: &Diagnostics, strict: bool, what: &str) -> u8 {
     }
 }
 
+/// The warnings of a loaded mechanism file (those of the loader, then the collision-limit
+/// check), located in the file `path`, and the summary line's species and step counts.
+fn mechanism_warnings(file: &MechanismFile, path: &Path) -> (Diagnostics, String) {
+    let mut warnings = file.warnings.clone();
+    let label = path.display().to_string();
+    warnings
+        .0
+        .extend(collision_limit_warnings(&file.mechanism, &label));
+    let counts = format!(
+        "({} species, {} steps)",
+        file.mechanism.species.len(),
+        file.mechanism.steps.len()
+    );
+    (warnings, counts)
+}
+
 /// Validates `path`; returns the exit status (0 clean, 1 warnings with `strict`, 2 errors).
+/// A scenario is checked with its mechanism, which gets the same checks as on its own.
 pub fn check(path: &Path, strict: bool) -> u8 {
     if is_scenario(path) {
         let (scenario, mut diagnostics) = match load_scenario(path) {
@@ -50,19 +67,18 @@ pub fn check(path: &Path, strict: bool) -> u8 {
         };
         match load_mechanism(&scenario.mechanism_path) {
             Ok(file) => {
-                diagnostics.0.extend(file.warnings.0);
+                let (warnings, counts) = mechanism_warnings(&file, &scenario.mechanism_path);
+                diagnostics.0.extend(warnings.0);
                 if let Err(LoadError::Invalid { diagnostics: d }) =
                     scenario.resolve(&file.mechanism)
                 {
                     diagnostics.0.extend(d.0);
                 }
-                let summary = format!(
-                    "{} ({} species, {} steps)",
-                    path.display(),
-                    file.mechanism.species.len(),
-                    file.mechanism.steps.len()
-                );
-                finish(&diagnostics, strict, &summary)
+                finish(
+                    &diagnostics,
+                    strict,
+                    &format!("{} {counts}", path.display()),
+                )
             }
             Err(e) => {
                 report_load_error(&e);
@@ -71,18 +87,9 @@ pub fn check(path: &Path, strict: bool) -> u8 {
         }
     } else {
         match load_mechanism(path) {
-            Ok(mut file) => {
-                let label = path.display().to_string();
-                file.warnings
-                    .0
-                    .extend(collision_limit_warnings(&file.mechanism, &label));
-                let summary = format!(
-                    "{} ({} species, {} steps)",
-                    path.display(),
-                    file.mechanism.species.len(),
-                    file.mechanism.steps.len()
-                );
-                finish(&file.warnings, strict, &summary)
+            Ok(file) => {
+                let (warnings, counts) = mechanism_warnings(&file, path);
+                finish(&warnings, strict, &format!("{} {counts}", path.display()))
             }
             Err(e) => {
                 report_load_error(&e);

@@ -33,17 +33,8 @@ pub fn number(value: f64) -> Option<String> {
 
 /// Molar mass of every species in kg/mol, when every species has an elemental composition.
 pub fn molar_masses_kg_per_mol(mechanism: &Mechanism) -> Option<Vec<f64>> {
-    mechanism
-        .species
-        .iter()
-        .map(|s| {
-            s.composition.as_ref().map(|atoms| {
-                atoms
-                    .iter()
-                    .map(|&(e, n)| n * mechanism.elements[e].atomic_weight_kg_per_mol)
-                    .sum()
-            })
-        })
+    (0..mechanism.species.len())
+        .map(|i| mechanism.molar_mass_kg_per_mol(i))
         .collect()
 }
 

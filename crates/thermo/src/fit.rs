@@ -3,7 +3,7 @@
 use nalgebra::{DMatrix, DVector};
 
 use crate::nasa7::{cp_row, dcp_row, h_row, s_row};
-use crate::{FitError, Nasa7, R_J_PER_MOL_K, T_REFERENCE_K};
+use crate::{FitError, Nasa7, GAS_CONSTANT, T_REFERENCE_K};
 
 /// Minimum number of table points required on each side of (or at) the common
 /// temperature.
@@ -112,9 +112,9 @@ pub fn fit_nasa7(
     let mut row = 0;
     for p in table {
         let t = p.t_k;
-        let cp_r = p.cp_j_per_mol_k / R_J_PER_MOL_K;
-        let s_r = p.s_j_per_mol_k / R_J_PER_MOL_K;
-        let h_rt = (h298_formation_j_per_mol + p.h_minus_h298_j_per_mol) / (R_J_PER_MOL_K * t);
+        let cp_r = p.cp_j_per_mol_k / GAS_CONSTANT;
+        let s_r = p.s_j_per_mol_k / GAS_CONSTANT;
+        let h_rt = (h298_formation_j_per_mol + p.h_minus_h298_j_per_mol) / (GAS_CONSTANT * t);
         // cp/R >= 2.5 for every ideal gas; the floor keeps weights finite for odd input.
         let w_cp = 1.0 / cp_r.abs().max(1.0);
         let w_s = 1.0 / s_r.abs().max(1.0);
@@ -157,10 +157,10 @@ pub fn fit_nasa7(
     };
     c_rows.push(pin(
         h_row,
-        h298_formation_j_per_mol / (R_J_PER_MOL_K * T_REFERENCE_K),
+        h298_formation_j_per_mol / (GAS_CONSTANT * T_REFERENCE_K),
     ));
     if let Some(s298) = s298_j_per_mol_k {
-        c_rows.push(pin(s_row, s298 / R_J_PER_MOL_K));
+        c_rows.push(pin(s_row, s298 / GAS_CONSTANT));
     }
 
     // Column scaling x = D y with D = diag(1 / ||column of A||).

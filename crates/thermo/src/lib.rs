@@ -12,15 +12,19 @@
 //!   number form of every TOML file stoik writes (shortest digits that read back exactly).
 //!
 //! Units are SI throughout (K, J/mol, J/(mol K), Pa); every name that carries a
-//! dimensional quantity says its unit.
+//! dimensional quantity says its unit, except the physical constants [`GAS_CONSTANT`],
+//! [`AVOGADRO`] and [`BOLTZMANN`] (defined here once for all of stoik), whose documentation
+//! gives it.
 #![warn(missing_docs)]
 
+mod constants;
 mod error;
 mod fit;
 mod janaf;
 mod nasa7;
 mod write;
 
+pub use constants::{AVOGADRO, BOLTZMANN, GAS_CONSTANT};
 pub use error::FitError;
 pub use fit::{fit_nasa7, Nasa7Fit, ThermoPoint, MIN_POINTS_PER_RANGE};
 pub use janaf::{read_janaf_tsv, JanafRow, JanafTable};
@@ -29,10 +33,6 @@ pub use write::{
     thermo_file_entry, thermo_file_header, toml_float, toml_string, PLAIN_DECIMAL_BELOW,
     PLAIN_DECIMAL_FROM,
 };
-
-/// Molar gas constant R in J/(mol K) (exact since the 2019 SI redefinition:
-/// N_A k_B, CODATA).
-pub const R_J_PER_MOL_K: f64 = 8.314462618;
 
 /// Standard-state pressure in Pa (1 bar) to which the polynomials' entropy and Gibbs
 /// energy refer.

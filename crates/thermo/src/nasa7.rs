@@ -1,6 +1,6 @@
 //! Two-range 7-coefficient polynomials (McBride, Gordon & Reno 1993, NASA TM-4513).
 
-use crate::{FitError, R_J_PER_MOL_K};
+use crate::{FitError, GAS_CONSTANT};
 
 /// Thermochemical polynomials of one ideal-gas species in the 7-coefficient form of
 /// McBride, Gordon & Reno (1993), NASA TM-4513:
@@ -111,23 +111,23 @@ impl Nasa7 {
 
     /// Molar heat capacity at constant pressure in J/(mol K) at `t_k` (K).
     pub fn cp_j_per_mol_k(&self, t_k: f64) -> f64 {
-        R_J_PER_MOL_K * self.cp_over_r(t_k)
+        GAS_CONSTANT * self.cp_over_r(t_k)
     }
 
     /// Absolute molar enthalpy in J/mol at `t_k` (K), on the scale where elements in
     /// their reference state have H(298.15 K) = 0.
     pub fn enthalpy_j_per_mol(&self, t_k: f64) -> f64 {
-        R_J_PER_MOL_K * t_k * self.h_over_rt(t_k)
+        GAS_CONSTANT * t_k * self.h_over_rt(t_k)
     }
 
     /// Standard molar entropy (at 1e5 Pa) in J/(mol K) at `t_k` (K).
     pub fn entropy_j_per_mol_k(&self, t_k: f64) -> f64 {
-        R_J_PER_MOL_K * self.s_over_r(t_k)
+        GAS_CONSTANT * self.s_over_r(t_k)
     }
 
     /// Standard molar Gibbs energy G = H - T S (at 1e5 Pa) in J/mol at `t_k` (K).
     pub fn gibbs_j_per_mol(&self, t_k: f64) -> f64 {
-        R_J_PER_MOL_K * t_k * (self.h_over_rt(t_k) - self.s_over_r(t_k))
+        GAS_CONSTANT * t_k * (self.h_over_rt(t_k) - self.s_over_r(t_k))
     }
 
     /// Jumps (low range minus high range) of cp/R, H/(R T) and S/R at `t_mid_k`, all

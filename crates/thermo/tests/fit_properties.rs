@@ -1,7 +1,7 @@
 //! Polynomial evaluation against thermodynamic identities, exact recovery of known
 //! polynomials by the fit, and typed errors for bad input.
 
-use stoik_thermo::{fit_nasa7, FitError, Nasa7, ThermoPoint, R_J_PER_MOL_K, T_REFERENCE_K};
+use stoik_thermo::{fit_nasa7, FitError, Nasa7, ThermoPoint, GAS_CONSTANT, T_REFERENCE_K};
 
 /// A water-like low-range set (magnitudes typical of 7-coefficient fits).
 const LOW: [f64; 7] = [4.2, -2.2e-3, 7.1e-6, -6.2e-9, 2.1e-12, -3.03e4, -0.92];
@@ -53,7 +53,7 @@ fn constant_cp_gives_ideal_monatomic_gas_closed_forms() {
         [2.5, 0.0, 0.0, 0.0, 0.0, 2.6e4, -0.45],
     )
     .expect("valid");
-    let r = R_J_PER_MOL_K;
+    let r = GAS_CONSTANT;
     for t in [300.0, 999.0, 1000.0, 4321.0] {
         assert!((p.cp_j_per_mol_k(t) - 2.5 * r).abs() < 1e-12);
         let dh = p.enthalpy_j_per_mol(t) - p.enthalpy_j_per_mol(T_REFERENCE_K);
@@ -109,7 +109,7 @@ fn fit_recovers_a_known_continuous_polynomial_pair() {
             (p.entropy_j_per_mol_k(t) - s).abs() <= 1e-8 * s.abs(),
             "S at {t}"
         );
-        let h_scale = h.abs().max(R_J_PER_MOL_K * t);
+        let h_scale = h.abs().max(GAS_CONSTANT * t);
         assert!(
             (p.enthalpy_j_per_mol(t) - h).abs() <= 1e-8 * h_scale,
             "H at {t}"

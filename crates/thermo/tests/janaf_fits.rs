@@ -2,7 +2,7 @@
 //! 4th ed., J. Phys. Chem. Ref. Data Monograph 9, 1998; copies in tests/data/janaf)
 //! checked against the tables' own values and their equilibrium constants.
 
-use stoik_thermo::{fit_nasa7, read_janaf_tsv, FitError, JanafTable, Nasa7, R_J_PER_MOL_K};
+use stoik_thermo::{fit_nasa7, read_janaf_tsv, FitError, JanafTable, Nasa7, GAS_CONSTANT};
 
 fn table(stem: &str) -> JanafTable {
     let path = format!("{}/tests/data/janaf/{stem}.tsv", env!("CARGO_MANIFEST_DIR"));
@@ -134,7 +134,7 @@ fn fits_are_continuous_at_t_mid() {
 /// log10 Kp of H2 + 1/2 O2 <=> H2O from the fitted polynomials, pressures in bar.
 fn log10_kp_water(t: f64, h2: &Nasa7, o2: &Nasa7, h2o: &Nasa7) -> f64 {
     let dg = h2o.gibbs_j_per_mol(t) - h2.gibbs_j_per_mol(t) - 0.5 * o2.gibbs_j_per_mol(t);
-    -dg / (R_J_PER_MOL_K * t * std::f64::consts::LN_10)
+    -dg / (GAS_CONSTANT * t * std::f64::consts::LN_10)
 }
 
 #[test]

@@ -3,7 +3,7 @@
 #![allow(dead_code)]
 
 use stoik_kinetics::Kinetics;
-use stoik_mechanism::model::{Arrhenius, Mechanism, Species, Step, StoichTerm};
+use stoik_mechanism::{Arrhenius, Mechanism, Species, Step, StoichTerm};
 use stoik_reactor::{IntegrationOptions, LinearAlgebra};
 
 /// Any temperature: the rate constants below do not depend on it.
@@ -115,7 +115,7 @@ pub fn assert_close(what: &str, actual: f64, expected: f64, rel: f64, abs: f64) 
     );
 }
 
-/// Robertson's problem in mass-action form (reference/README.md, section 1):
+/// Robertson's problem in mass-action form (Hairer & Wanner, *Solving ODEs II*, section IV.10):
 /// A -> B (0.04); B + B -> C + B (3e7); B + C -> A + C (1e4).
 pub fn robertson() -> Kinetics {
     kinetics(
@@ -128,7 +128,8 @@ pub fn robertson() -> Kinetics {
     )
 }
 
-/// HIRES in mass-action form (reference/README.md, section 1; species P1..P8 = 0..7).
+/// HIRES in mass-action form (Mazzia & Magherini, *Test Set for IVP Solvers* 2.4, problem
+/// HIRES; species P1..P8 = 0..7).
 pub fn hires() -> Kinetics {
     kinetics(
         &["P1", "P2", "P3", "P4", "P5", "P6", "P7", "P8"],
@@ -152,7 +153,8 @@ pub fn hires() -> Kinetics {
     )
 }
 
-/// The Oregonator in mass-action form (reference/README.md, section 1; X, Y, Z = 0, 1, 2).
+/// The Oregonator in mass-action form (Hairer & Wanner, *Solving ODEs II*, section IV.10;
+/// X, Y, Z = 0, 1, 2).
 pub fn oregonator() -> Kinetics {
     let (s, q, w) = (77.27, 8.375e-6, 0.161);
     kinetics(

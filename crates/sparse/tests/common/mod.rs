@@ -2,30 +2,8 @@
 
 #![allow(dead_code)]
 
-/// xorshift64* (Vigna 2016), reproducible from a seed.
-pub struct Rng(u64);
-
-impl Rng {
-    pub fn new(seed: u64) -> Self {
-        Rng(seed.max(1))
-    }
-    pub fn next_u64(&mut self) -> u64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        x.wrapping_mul(0x2545_F491_4F6C_DD1D)
-    }
-    /// Uniform in [0, 1).
-    pub fn uniform(&mut self) -> f64 {
-        (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64
-    }
-    /// Uniform integer in [0, n).
-    pub fn below(&mut self, n: usize) -> usize {
-        (self.uniform() * n as f64) as usize % n.max(1)
-    }
-}
+/// xorshift64* (Vigna 2016), reproducible from a seed; shared with the benchmarks.
+pub use stoik_testsupport::Rng;
 
 /// A compressed-sparse-column matrix.
 #[derive(Debug, Clone)]

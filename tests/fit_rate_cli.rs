@@ -77,11 +77,14 @@ fn ethanal_fit_prints_the_textbook_parameters_and_writes_snippet_and_plot() {
         .unwrap()
         .contains("ethanal-decomposition.csv"));
 
-    // The plot: one marker per data point (8 in the source's table), the fit and its band.
+    // The plot (drawn by plotters): one filled marker per data point (8 in the source's
+    // table) plus the legend's, the fitted line, its band, the axis labels.
     let svg = std::fs::read_to_string(dir.join("ethanal.svg")).unwrap();
-    assert_eq!(svg.matches("class=\"data\"").count(), 8);
-    assert!(svg.contains("class=\"fit\"") && svg.contains("class=\"band\""));
-    assert!(svg.contains("ln(k / (dm3 mol-1 s-1))"));
+    assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
+    assert_eq!(svg.matches("<circle").count(), 8 + 1);
+    assert_eq!(svg.matches("fill=\"#DE2D26\"").count(), 8 + 1);
+    assert!(svg.contains("<polygon") && svg.contains("stroke=\"#08519C\""));
+    assert!(svg.contains("ln(k / (dm3 mol-1 s-1))") && svg.contains("1000 K / T"));
 }
 
 #[test]

@@ -32,7 +32,7 @@ fn fit_text(csv: &str, model: Model) -> (RateData, RateFit) {
     (data, fit)
 }
 
-fn messages(err: FitError) -> String {
+fn messages(err: RateFitError) -> String {
     err.to_string()
 }
 
@@ -98,21 +98,26 @@ fn ethanal_decomposition_gives_the_textbook_parameters() {
     assert!(rel(fit.prefactor_si(), 1.079e9) < 1e-3);
     // 8 points, 2 parameters: Student t with 6 degrees of freedom, t(0.975, 6) = 2.446912
     // (standard statistical tables).
-    assert_eq!(fit.degrees_of_freedom, 6);
-    assert!((fit.quantile - 2.446912).abs() < 1e-5);
+    assert_eq!(fit.degrees_of_freedom(), 6);
+    assert!((fit.quantile() - 2.446912).abs() < 1e-5);
     // A and Ea are strongly correlated in the plain form (common practice: |r| near 1 when
     // the data are far from 1/T = 0); about T_ref = 1/mean(1/T) the correlation vanishes.
-    assert!(fit.correlation()[(0, 1)] > 0.99);
-    let r = crate::fit::correlation(&fit.reference.covariance)[(0, 1)];
+    assert!(fit.correlation().get(0, 1).unwrap() > 0.99);
+    let r = fit
+        .reference()
+        .covariance()
+        .correlation()
+        .get(0, 1)
+        .unwrap();
     assert!(r.abs() < 0.01, "correlation about T_ref: {r}");
     // k_ref is the fitted k at T_ref (definition of the reference form).
     assert!(
         rel(
-            fit.reference.parameters[0].exp(),
-            fit.rate_constant_si(fit.reference.temperature_k)
+            fit.reference().parameters()[0].exp(),
+            fit.rate_constant_si(fit.reference().temperature_k())
         ) < 1e-12
     );
-    assert!(fit.warnings.is_empty(), "{:?}", fit.warnings);
+    assert!(fit.warnings().is_empty(), "{:?}", fit.warnings());
 }
 
 #[test]
@@ -155,9 +160,9 @@ fn noiseless_data_recovers_the_parameters_exactly() {
     )
     .unwrap();
     assert!(
-        (fit.parameters[0] - ln_a).abs() < 1e-8,
-        "{}",
-        fit.parameters
+        (fit.parameters()[0] - ln_a).abs() < 1e-8,
+        "{:?}",
+        fit.parameters()
     );
     assert!((fit.temperature_exponent() - n).abs() < 1e-9);
     assert!(rel(fit.activation_energy_j_per_mol(), ea) < 1e-10);
@@ -202,7 +207,7 @@ fn coverage(
         });
         let fit = fit_rate_constants(&data, &options).unwrap();
         for (j, t) in truth.iter().enumerate() {
-            let (lo, hi) = fit.interval(j);
+            let (lo, hi) = fit.interval(j).unwrap();
             if lo <= *t && *t <= hi {
                 hits[j] += 1;
             }
@@ -314,18 +319,18 @@ fn bad_input_gets_clear_located_errors() {
 fn units_set_the_order_and_the_si_factor() {
     // SI: 1 dm3 = 1e-3 m3, 1 cm3 = 1e-6 m3; N_A = 6.02214076e23 /mol (SI 2019 exact).
     let u = RateConstantUnit::parse("dm3 mol-1 s-1").unwrap();
-    assert_eq!(u.order, 2);
+    assert_eq!(u.order(), 2);
     assert!(rel(u.to_si_factor(), 1e-3) < 1e-15);
     let u = RateConstantUnit::parse("L mol-1 s-1").unwrap();
     assert!(rel(u.to_si_factor(), 1e-3) < 1e-15);
     let u = RateConstantUnit::parse("cm3 molecule-1 s-1").unwrap();
-    assert_eq!(u.order, 2);
+    assert_eq!(u.order(), 2);
     assert!(rel(u.to_si_factor(), 1e-6 * AVOGADRO) < 1e-15);
     let u = RateConstantUnit::parse("cm6 molecule-2 s-1").unwrap();
-    assert_eq!(u.order, 3);
+    assert_eq!(u.order(), 3);
     assert!(rel(u.to_si_factor(), 1e-12 * AVOGADRO * AVOGADRO) < 1e-14);
     let u = RateConstantUnit::parse("min-1").unwrap();
-    assert_eq!(u.order, 1);
+    assert_eq!(u.order(), 1);
     assert!(rel(u.to_si_factor(), 1.0 / 60.0) < 1e-15);
     assert!(RateConstantUnit::parse("cm3 mol-1").is_err());
     assert!(RateConstantUnit::parse("cm3 dm3 mol-2 s-1").is_err());
@@ -336,7 +341,8 @@ fn the_snippet_parses_and_gives_back_the_fitted_rate_constant() {
     // Ethanal data (Atkins' Physical Chemistry, data from memory): second order in ethanal,
     // so `CH3CHO -> CH4 + CO` needs reaction order 2 for ethanal.
     let (data, fit) = fit_text(&ethanal(), Model::Arrhenius);
-    let snippet = mechanism_snippet(&fit, &data, Some("CH3CHO -> CH4 + CO")).unwrap();
+    assert_eq!(data.order(), 2);
+    let snippet = mechanism_snippet(&fit, Some("CH3CHO -> CH4 + CO")).unwrap();
     assert!(
         snippet.contains("reaction_orders = { CH3CHO = 2 }"),
         "{snippet}"
@@ -365,7 +371,7 @@ fn the_snippet_parses_and_gives_back_the_fitted_rate_constant() {
         },
     )
     .unwrap();
-    let snippet = mechanism_snippet(&fit, &data, None).unwrap();
+    let snippet = mechanism_snippet(&fit, None).unwrap();
     assert!(snippet.contains("equation = \"R1 -> P\""));
     assert!(snippet.contains("# EDIT"));
     let text = format!(
@@ -377,9 +383,9 @@ fn the_snippet_parses_and_gives_back_the_fitted_rate_constant() {
     let expected = (20.0 + 1.3 * 900f64.ln() - 20_000.0 / (GAS_CONSTANT * 900.0)).exp();
     assert!(rel(k, expected) < 1e-8);
     // An equation whose reactants cannot carry the data's order is refused.
-    let err = mechanism_snippet(&fit, &data, Some("A + B -> C")).unwrap_err();
+    let err = mechanism_snippet(&fit, Some("A + B -> C")).unwrap_err();
     assert!(messages(err).contains("add up to 2 but the rate constant's unit `s-1` is of order 1"));
-    assert!(mechanism_snippet(&fit, &data, Some("A <=> B")).is_err());
+    assert!(mechanism_snippet(&fit, Some("A <=> B")).is_err());
 }
 
 #[test]
@@ -398,7 +404,7 @@ fn warnings_carry_their_numbers() {
     )
     .unwrap();
     let narrow = fit
-        .warnings
+        .warnings()
         .iter()
         .find(|w| matches!(w, FitWarning::NarrowRangeForExponent { .. }))
         .expect("narrow-range warning");
@@ -417,7 +423,7 @@ fn warnings_carry_their_numbers() {
         },
     )
     .unwrap();
-    assert!(fit.warnings.contains(&FitWarning::FewPoints {
+    assert!(fit.warnings().contains(&FitWarning::FewPoints {
         points: 4,
         parameters: 3
     }));
@@ -431,7 +437,7 @@ fn warnings_carry_their_numbers() {
     let data = synthetic(&temps, 20.0, 0.0, 50_000.0, |i| (dev[i], None));
     let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
     let outliers: Vec<&FitWarning> = fit
-        .warnings
+        .warnings()
         .iter()
         .filter(|w| matches!(w, FitWarning::Outlier { .. }))
         .collect();
@@ -450,7 +456,7 @@ fn warnings_carry_their_numbers() {
     let csv = "temperature [K], rate_constant [cm3 molecule-1 s-1]\n300, 3e-10\n400, 3.1e-10\n500, 2.9e-10\n600, 3e-10\n";
     let (_, fit) = fit_text(csv, Model::Arrhenius);
     let w = fit
-        .warnings
+        .warnings()
         .iter()
         .find(|w| matches!(w, FitWarning::AboveCollisionLimit { .. }))
         .expect("collision-limit warning");
@@ -462,34 +468,81 @@ fn warnings_carry_their_numbers() {
     // The ethanal fit (max 145 dm3 mol-1 s-1 = 2.4e-19 cm3 molecule-1 s-1) stays below.
     let (_, fit) = fit_text(&ethanal(), Model::Arrhenius);
     assert!(!fit
-        .warnings
+        .warnings()
         .iter()
         .any(|w| matches!(w, FitWarning::AboveCollisionLimit { .. })));
+}
+
+/// Fill of the data markers in the SVG plot (`plot::DATA_COLOR`).
+const DATA_FILL: &str = "#DE2D26";
+/// Stroke of the error bars in the SVG plot (`plot::ERROR_BAR_COLOR`).
+const ERROR_BAR_STROKE: &str = "#252525";
+
+/// The data markers of a plot, (cx, cy) in pixels, in document order, after checking that the
+/// SVG is well-formed XML; the legend's marker is the last.
+fn markers(svg: &str) -> Vec<(f64, f64)> {
+    let doc = roxmltree::Document::parse(svg).expect("well-formed SVG");
+    assert_eq!(doc.root_element().tag_name().name(), "svg");
+    let number = |n: &roxmltree::Node, a: &str| n.attribute(a).unwrap().parse::<f64>().unwrap();
+    doc.descendants()
+        .filter(|n| n.has_tag_name("circle") && n.attribute("fill") == Some(DATA_FILL))
+        .map(|n| (number(&n, "cx"), number(&n, "cy")))
+        .collect()
+}
+
+/// The vertical error bars of a plot: (x, lower y, upper y) in pixels.
+fn error_bars(svg: &str) -> Vec<(f64, f64, f64)> {
+    let doc = roxmltree::Document::parse(svg).expect("well-formed SVG");
+    let number = |n: &roxmltree::Node, a: &str| n.attribute(a).unwrap().parse::<f64>().unwrap();
+    doc.descendants()
+        .filter(|n| n.has_tag_name("line") && n.attribute("stroke") == Some(ERROR_BAR_STROKE))
+        .filter(|n| number(n, "x1") == number(n, "x2"))
+        .map(|n| (number(&n, "x1"), number(&n, "y1"), number(&n, "y2")))
+        .collect()
 }
 
 #[test]
 fn report_and_plot_show_the_fit() {
     // Ethanal (Atkins' Physical Chemistry, data from memory): the report prints Ea = 188.33
-    // kJ/mol; the plot has one marker per data point.
+    // kJ/mol; the plot has one marker per data point (8 in the source's table) plus the
+    // legend's.
     let (data, fit) = fit_text(&ethanal(), Model::Arrhenius);
-    let report = report_text(&fit, &data);
+    let report = report_text(&fit);
     assert!(report.contains("Ea [kJ/mol]"));
     assert!(report.contains("188.32"), "{report}");
-    let svg = svg_plot(&fit, &data);
-    assert_eq!(svg.matches("class=\"data\"").count(), 8);
-    assert!(svg.contains("class=\"band\""));
+    let svg = svg_plot(&fit).unwrap();
+    let marks = markers(&svg);
+    assert_eq!(marks.len(), 8 + 1);
+    // x = 1000 K/T falls as T rises and y = ln k rises with k: the markers are ordered as the
+    // data (the table's T and k both increase row by row).
+    for pair in marks[..8].windows(2) {
+        assert!(pair[1].0 < pair[0].0 && pair[1].1 < pair[0].1, "{pair:?}");
+    }
+    assert_eq!(data.points.len(), 8);
     assert!(svg.contains("1000 K / T"));
-    assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
-    assert_eq!(svg.matches("class=\"error-bar\"").count(), 0);
+    assert!(svg.contains("ln(k / (dm3 mol-1 s-1))"));
+    assert!(svg.contains("95% confidence band"));
+    assert!(svg.contains("<polygon"), "the band");
+    assert!(svg.contains("stroke=\"#08519C\""), "the fitted line");
+    assert!(error_bars(&svg).is_empty());
     // With uncertainties every point gets an error bar of one standard uncertainty: a factor
-    // 1.2 spans ln k +- ln 1.2 (definition of the factor column).
+    // 1.2 spans ln k +- ln 1.2 (definition of the factor column), the same length in pixels
+    // for every point (to the pixel rounding of the SVG backend).
     let csv = "temperature [K], rate_constant [cm3 molecule-1 s-1], uncertainty [factor]\n\
                250, 2.1e-13, 1.2\n300, 5.5e-13, 1.2\n400, 2.2e-12, 1.2\n500, 5.0e-12, 1.2\n";
     let (data, fit) = fit_text(csv, Model::Arrhenius);
     assert!(rel(data.points[0].ln_uncertainty.unwrap(), 1.2f64.ln()) < 1e-15);
-    let svg = svg_plot(&fit, &data);
-    assert_eq!(svg.matches("class=\"error-bar\"").count(), 4);
-    assert_eq!(svg.matches("class=\"data\"").count(), 4);
+    let svg = svg_plot(&fit).unwrap();
+    let marks = markers(&svg);
+    assert_eq!(marks.len(), 4 + 1);
+    let bars = error_bars(&svg);
+    assert_eq!(bars.len(), 4);
+    let length = (bars[0].1 - bars[0].2).abs();
+    for (bar, mark) in bars.iter().zip(&marks) {
+        assert_eq!(bar.0, mark.0, "the bar stands on its marker");
+        assert!(((bar.1 - bar.2).abs() - length).abs() <= 2.0);
+        assert!((0.5 * (bar.1 + bar.2) - mark.1).abs() <= 1.0);
+    }
 }
 
 #[test]
@@ -521,8 +574,8 @@ fn standard_errors_and_residual_statistics_match_simple_regression_closed_forms(
     let ssr: f64 = r.iter().map(|v| v * v).sum();
     let s = (ssr / (n - 2.0)).sqrt();
     let se = fit.standard_errors();
-    assert!(rel(fit.parameters[0], a) < 1e-12);
-    assert!(rel(fit.parameters[1], b) < 1e-12);
+    assert!(rel(fit.parameters()[0], a) < 1e-12);
+    assert!(rel(fit.parameters()[1], b) < 1e-12);
     assert!(
         rel(se[1], s / sxx.sqrt()) < 1e-9,
         "{} vs {}",
@@ -530,7 +583,7 @@ fn standard_errors_and_residual_statistics_match_simple_regression_closed_forms(
         s / sxx.sqrt()
     );
     assert!(rel(se[0], s * (1.0 / n + mx * mx / sxx).sqrt()) < 1e-9);
-    for (i, res) in fit.residuals.iter().enumerate() {
+    for (i, res) in fit.residuals().iter().enumerate() {
         let h = 1.0 / n + (x[i] - mx).powi(2) / sxx;
         let s_i = ((ssr - r[i] * r[i] / (1.0 - h)) / (n - 3.0)).sqrt();
         assert!((res.leverage - h).abs() < 1e-12);
@@ -540,7 +593,7 @@ fn standard_errors_and_residual_statistics_match_simple_regression_closed_forms(
     let band = fit.band(3);
     let t = band[1].temperature_k;
     let xt = -1.0 / (GAS_CONSTANT * t);
-    let half = fit.quantile * s * (1.0 / n + (xt - mx).powi(2) / sxx).sqrt();
+    let half = fit.quantile() * s * (1.0 / n + (xt - mx).powi(2) / sxx).sqrt();
     assert!(rel(band[1].upper_si.ln() - band[1].fitted_si.ln(), half) < 1e-8);
     assert!(rel(band[1].fitted_si.ln() - band[1].lower_si.ln(), half) < 1e-8);
 }
@@ -563,18 +616,18 @@ fn hand_built_data_is_checked_and_understated_uncertainties_are_flagged() {
     let dev: Vec<f64> = (0..10).map(|_| 0.3 * rng.normal()).collect();
     let data = synthetic(&temps, 20.0, 0.0, 50_000.0, |i| (dev[i], Some(0.01)));
     let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
-    let Scatter::FromUncertainties { chi_square, .. } = fit.scatter else {
+    let Scatter::FromUncertainties { chi_square, .. } = fit.scatter() else {
         panic!("weighted fit expected");
     };
     assert!(chi_square > 20.09);
     // Chi-square = sum of squared weighted residuals (definition).
     let direct: f64 = fit
-        .residuals
+        .residuals()
         .iter()
         .map(|r| (r.ln_residual / 0.01).powi(2))
         .sum();
     assert!(rel(chi_square, direct) < 1e-10);
-    assert!(fit.warnings.iter().any(|w| matches!(
+    assert!(fit.warnings().iter().any(|w| matches!(
         w,
         FitWarning::ChiSquare { p_value, degrees_of_freedom: 8, .. } if *p_value < 0.01
     )));
@@ -593,7 +646,7 @@ fn absolute_uncertainties_convert_units_and_pressures_are_reported() {
     assert!(rel(data.points[1].ln_uncertainty.unwrap(), 0.05) < 1e-12);
     assert!(rel(data.points[1].pressure_pa.unwrap(), 101_325.0) < 1e-15);
     let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
-    assert!(fit.warnings.iter().any(|w| matches!(
+    assert!(fit.warnings().iter().any(|w| matches!(
         w,
         FitWarning::PressuresDiffer { min_pa, max_pa }
             if rel(*min_pa, 10_132.5) < 1e-12 && rel(*max_pa, 101_325.0) < 1e-12
@@ -607,4 +660,180 @@ fn absolute_uncertainties_convert_units_and_pressures_are_reported() {
     assert!(messages(err).contains(
         "o.csv:1:39: error: uncertainty unit `cm3 mol-1 s-1` is of order 2 but the rate constant's is of order 1"
     ));
+}
+
+#[test]
+fn hand_built_values_give_errors_not_panics() {
+    // Definitions: ln k needs k > 0; a fit needs points; T must be a finite positive number
+    // of kelvins. Every case below is refused with a typed error.
+    let unit = RateConstantUnit::parse("s-1").unwrap();
+    let empty = RateData {
+        source: "hand".to_string(),
+        rate_constant_unit: unit.clone(),
+        uncertainty: None,
+        points: Vec::new(),
+    };
+    assert_eq!(
+        fit_rate_constants(&empty, &FitOptions::default()),
+        Err(RateFitError::TooFewPoints {
+            points: 0,
+            needed: 3,
+            parameters: 2,
+            weighted: false
+        })
+    );
+    let temps = [400.0, 500.0, 600.0, 700.0];
+    for bad_t in [f64::NAN, f64::INFINITY, -300.0, 0.0] {
+        let mut data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, None));
+        data.points[1].temperature_k = bad_t;
+        let err = fit_rate_constants(&data, &FitOptions::default()).unwrap_err();
+        assert!(
+            matches!(err, RateFitError::BadOption(_)),
+            "{bad_t}: {err:?}"
+        );
+        assert!(messages(err).starts_with("the point of line 3 needs T > 0 K"));
+    }
+    // A temperature of 5e-324 K is positive and finite, but 1/(R T) overflows: the design is
+    // not finite and the fit says so instead of looping in the SVD.
+    let mut data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, None));
+    data.points[0].temperature_k = 5e-324;
+    data.points[0].rate_constant_si = 1.0;
+    assert_eq!(
+        fit_rate_constants(&data, &FitOptions::default()),
+        Err(RateFitError::Degenerate)
+    );
+    // Uncertainties so small that the weights overflow (1/(1e-200)^2 = inf).
+    let data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, Some(1e-200)));
+    assert_eq!(
+        fit_rate_constants(&data, &FitOptions::default()),
+        Err(RateFitError::Degenerate)
+    );
+    // Some points with an uncertainty and some without.
+    let mut data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, Some(0.1)));
+    data.points[2].ln_uncertainty = None;
+    let err = fit_rate_constants(&data, &FitOptions::default()).unwrap_err();
+    assert_eq!(
+        messages(err),
+        "3 of 4 points have an uncertainty: give all or none"
+    );
+    // Options out of range.
+    let data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, None));
+    for confidence in [0.0, 1.0, f64::NAN, -0.5] {
+        let options = FitOptions {
+            confidence,
+            ..FitOptions::default()
+        };
+        assert!(matches!(
+            fit_rate_constants(&data, &options),
+            Err(RateFitError::BadOption(_))
+        ));
+    }
+    let options = FitOptions {
+        reference_temperature_k: Some(f64::NAN),
+        ..FitOptions::default()
+    };
+    assert!(matches!(
+        fit_rate_constants(&data, &options),
+        Err(RateFitError::BadOption(_))
+    ));
+}
+
+#[test]
+fn accessors_check_their_indices_and_counts() {
+    // Noiseless data from k = exp(20) exp(-50 kJ/mol / (R T)) (independent expectation: the
+    // generating parameters come back).
+    let temps = [400.0, 500.0, 600.0, 700.0];
+    let data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, None));
+    let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
+    assert!((fit.parameters()[0] - 20.0).abs() < 1e-9);
+    assert!(rel(fit.activation_energy_j_per_mol(), 50_000.0) < 1e-12);
+    // Two parameters: indices 0 and 1 exist, 2 does not.
+    assert!(fit.interval(1).is_some());
+    assert_eq!(fit.interval(2), None);
+    assert_eq!(fit.covariance().size(), 2);
+    assert_eq!(fit.covariance().get(2, 0), None);
+    assert_eq!(fit.covariance().get(0, 2), None);
+    assert_eq!(fit.covariance().rows().len(), 2);
+    // A correlation matrix has ones on its diagonal (definition).
+    for v in fit.correlation().diagonal() {
+        assert!((v - 1.0).abs() < 1e-12);
+    }
+    // The band is clamped to 2..=MAX_BAND_POINTS temperatures and spans the data's range.
+    let band = fit.band(0);
+    assert_eq!(band.len(), 2);
+    assert_eq!(band[0].temperature_k, 400.0);
+    assert!(rel(band[1].temperature_k, 700.0) < 1e-15);
+    assert_eq!(fit.band(usize::MAX).len(), MAX_BAND_POINTS);
+    // Evaluating at a NaN temperature gives NaN, not a panic.
+    assert!(fit.rate_constant_si(f64::NAN).is_nan());
+    assert_eq!(fit.point_count(), 4);
+    assert_eq!(fit.source(), "synthetic");
+}
+
+#[test]
+fn rate_constant_units_with_extreme_exponents_are_refused() {
+    // (volume/amount)^(m-1)/time with exponents beyond i32 or an order beyond i32::MAX: errors
+    // naming the unit, not an arithmetic overflow.
+    for text in [
+        "mol-2147483648 cm6442450944 s-1",
+        "L2147483647 mol-2147483647 s-1",
+        "s-1 s-2147483648",
+        "cm99999999999 s-1",
+        "",
+    ] {
+        let err = RateConstantUnit::parse(text).unwrap_err();
+        assert!(
+            matches!(err, RateFitError::BadUnit { .. }),
+            "{text}: {err:?}"
+        );
+    }
+    // A legitimate third-order unit still reads: cm6 mol-2 s-1 is (cm3/mol)^2/s, order 3;
+    // SI factor (1e-6)^2 = 1e-12 (1 cm3 = 1e-6 m3).
+    let u = RateConstantUnit::parse("cm6 mol-2 s-1").unwrap();
+    assert_eq!(u.order(), 3);
+    assert!(rel(u.to_si_factor(), 1e-12) < 1e-15);
+    assert_eq!(u.label(), "cm6 mol-2 s-1");
+}
+
+#[test]
+fn the_csv_reader_locates_fields_in_quoted_and_crlf_files() {
+    // Comma-separated values (RFC 4180): a quoted field may hold a comma; CRLF line ends; a
+    // byte-order mark and an indented comment before the header. Columns count characters
+    // from 1 at the start of the field's text.
+    let csv = "\u{feff}  # indented comment\r\n\"temperature [K]\", rate_constant [s-1]\r\n300, 2.0\r\n\"1,000\", 3\r\n";
+    let err = parse_rate_data(csv, "q.csv").unwrap_err();
+    let text = messages(err);
+    // Line 4 is `"1,000", 3`: the quoted field's text starts at column 2.
+    assert!(
+        text.contains("q.csv:4:2: error: `1,000` is not a finite number"),
+        "{text}"
+    );
+    // The same file without the bad row reads, with the quoted header field understood.
+    let csv = "\u{feff}  # indented comment\r\n\"temperature [K]\", rate_constant [s-1]\r\n300, 2.0\r\n400, 3\r\n";
+    let data = parse_rate_data(csv, "q.csv").unwrap();
+    assert_eq!(data.points.len(), 2);
+    assert_eq!(data.points[1].line, 4);
+    assert_eq!(data.points[1].temperature_k, 400.0);
+    assert_eq!(data.points[1].rate_constant_si, 3.0);
+    // Every problem at once: an empty file has no header; a header alone has no rows.
+    let err = parse_rate_data("", "e.csv").unwrap_err();
+    assert!(messages(err).contains("no header line and no data"));
+    let err = parse_rate_data("temperature [K], rate_constant [s-1]\n", "h.csv").unwrap_err();
+    assert!(messages(err).contains("h.csv:1:1: error: no data rows after the header"));
+}
+
+#[test]
+fn non_finite_fits_are_not_written_or_plotted() {
+    // A prefactor beyond the range of f64: ln A = 800 (e^800 overflows, IEEE 754 double max
+    // about e^709.78), with Ea = 600 kJ/mol keeping every k finite (ln k = 800 - Ea/(R T)
+    // is at most 697 at 700 K). The snippet refuses to write `inf`; the plot, in ln k, still
+    // draws.
+    let temps = [400.0, 500.0, 600.0, 700.0];
+    let data = synthetic(&temps, 800.0, 0.0, 600_000.0, |_| (0.0, None));
+    let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
+    assert!(fit.prefactor_si().is_infinite());
+    let err = mechanism_snippet(&fit, None).unwrap_err();
+    assert!(matches!(err, RateFitError::NonFinite { ref quantity, .. } if quantity == "prefactor"));
+    let svg = svg_plot(&fit).unwrap();
+    assert_eq!(markers(&svg).len(), 4 + 1);
 }

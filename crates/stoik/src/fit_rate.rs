@@ -3,8 +3,8 @@
 
 use crate::{FitRateArgs, ModelArg, EXIT_BAD_INPUT, EXIT_OK};
 use stoik::fit::{
-    fit_rate_constants, load_rate_data, mechanism_snippet, report_text, svg_plot, FitError,
-    FitOptions, Model,
+    fit_rate_constants, load_rate_data, mechanism_snippet, report_text, svg_plot, FitOptions,
+    Model, RateFitError,
 };
 
 /// Runs the fit; returns the exit status.
@@ -27,7 +27,7 @@ pub fn fit_rate(args: &FitRateArgs) -> u8 {
     };
     let fit = match fit_rate_constants(&data, &options) {
         Ok(f) => f,
-        Err(e @ FitError::BadOption(_)) => {
+        Err(e @ RateFitError::BadOption(_)) => {
             eprintln!("error: {e}");
             return EXIT_BAD_INPUT;
         }
@@ -36,9 +36,9 @@ pub fn fit_rate(args: &FitRateArgs) -> u8 {
             return EXIT_BAD_INPUT;
         }
     };
-    let snippet = match mechanism_snippet(&fit, &data, args.equation.as_deref()) {
+    let snippet = match mechanism_snippet(&fit, args.equation.as_deref()) {
         Ok(s) => s,
-        Err(e @ FitError::Equation { .. }) => {
+        Err(e @ RateFitError::Equation { .. }) => {
             eprintln!("error: --equation: {e}");
             return EXIT_BAD_INPUT;
         }
@@ -47,16 +47,15 @@ pub fn fit_rate(args: &FitRateArgs) -> u8 {
             return EXIT_BAD_INPUT;
         }
     };
+    let plot = match args.svg.as_ref().map(|_| svg_plot(&fit)).transpose() {
+        Ok(p) => p.unwrap_or_default(),
+        Err(e) => {
+            eprintln!("{label}: error: {e}");
+            return EXIT_BAD_INPUT;
+        }
+    };
     let mut written = Vec::new();
-    let outputs = [
-        (&args.snippet, snippet.clone()),
-        (
-            &args.svg,
-            args.svg
-                .as_ref()
-                .map_or_else(String::new, |_| svg_plot(&fit, &data)),
-        ),
-    ];
+    let outputs = [(&args.snippet, snippet.clone()), (&args.svg, plot)];
     for (path, text) in outputs {
         if let Some(path) = path {
             if let Err(e) = crate::out_file::write_text(path, &text) {
@@ -66,8 +65,8 @@ pub fn fit_rate(args: &FitRateArgs) -> u8 {
             written.push(path.display().to_string());
         }
     }
-    print!("{}", report_text(&fit, &data));
-    for w in &fit.warnings {
+    print!("{}", report_text(&fit));
+    for w in fit.warnings() {
         eprintln!("{label}: warning: {w}");
     }
     println!();

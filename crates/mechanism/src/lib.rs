@@ -1,9 +1,10 @@
 //! # stoik-mechanism
 //!
 //! The mechanism model of stoik and its text formats: species, elements and steps held in SI
-//! units ([`Mechanism`]), the TOML mechanism file format (version 1), the scenario file that says
-//! what to run, and their validation, which reports every problem of a file at once with
-//! file:line:column.
+//! units ([`Mechanism`]), the TOML mechanism and thermo file formats (version 1), and their
+//! validation, which reports every problem of a file at once with file:line:column. The
+//! scenario format (what to run) lives in `stoik-scenario`, which reads its file with the
+//! same located-diagnostics helpers ([`Report`]).
 //!
 //! This crate never evaluates a rate: it converts units once, at load, and checks the input.
 
@@ -14,8 +15,6 @@ pub mod elements;
 pub mod equation;
 pub mod mechanism_file;
 pub mod model;
-pub mod scenario;
-pub mod scenario_box;
 pub mod suggest;
 pub mod thermo_file;
 mod toml_walk;
@@ -27,13 +26,14 @@ pub use model::{
     Arrhenius, Broadening, Element, Mechanism, PressureDependence, PressurePoint, SourceLocation,
     Species, Step, StoichTerm, ThirdBody,
 };
-pub use scenario::{
-    load_scenario, parse_scenario, IgnitionChoice, LinearAlgebraChoice, OutputTimes, ReactorKind,
-    ResolvedScenario, Scenario,
-};
-pub use scenario_box::{PhotolysisForm, ResolvedBox, Sun};
 pub use suggest::nearest_name;
 pub use thermo_file::{load_thermo, parse_thermo, ThermoEntry, ThermoFile};
+// Reading helpers for span-keeping TOML trees with located diagnostics, shared with the
+// scenario reader of `stoik-scenario`.
+pub use toml_walk::{
+    non_negative_finite_problem, parse_document, positive_finite_problem, show_number, type_name,
+    value_as_number, Report, Value as SpannedValue,
+};
 pub use units::ConcentrationUnit;
 
 /// Molar gas constant R in J/(mol K) (SI 2019 exact value, CODATA).

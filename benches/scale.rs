@@ -32,8 +32,8 @@ use std::hint::black_box;
 use std::path::PathBuf;
 use std::time::{Duration, Instant};
 use stoik::kinetics::Kinetics;
-use stoik::mechanism::{load_mechanism, load_scenario};
 use stoik::reactor::{integrate, IntegrationOptions, LinearAlgebra, Profiles};
+use stoik::scenario::RunPlan;
 
 /// Relative tolerance of the timed runs (CVODE's run in benches/compare/run.sh).
 const RTOL: f64 = 1e-6;
@@ -113,16 +113,12 @@ fn cases() -> Vec<Case> {
 }
 
 fn prepare(case: &Case) -> Result<Prepared, String> {
-    let (scenario, _) = load_scenario(&case.scenario).map_err(|e| e.to_string())?;
-    let file = load_mechanism(&scenario.mechanism_path).map_err(|e| e.to_string())?;
-    let resolved = scenario
-        .resolve(&file.mechanism)
-        .map_err(|e| e.to_string())?;
+    let plan = RunPlan::load(&case.scenario).map_err(|e| e.to_string())?;
     Ok(Prepared {
-        kinetics: Kinetics::compile(&file.mechanism),
-        temperature_k: scenario.temperature_k,
-        initial: resolved.initial_concentrations_mol_per_m3,
-        times: [0.0, case.end_time_s.unwrap_or(scenario.end_time_s)],
+        kinetics: Kinetics::compile(plan.mechanism()),
+        temperature_k: plan.temperature_k(),
+        initial: plan.initial_mol_per_m3().to_vec(),
+        times: [0.0, case.end_time_s.unwrap_or(plan.scenario().end_time_s)],
     })
 }
 

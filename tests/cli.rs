@@ -355,6 +355,57 @@ fn a_run_outside_a_species_thermo_range_is_warned_about() {
     assert!(err.contains("`H`'s thermochemistry"), "{err}");
 }
 
+/// `stoik batch` goes through the same library path as `stoik run` and prints the same
+/// warnings: the scenario file's own (a concentration unit that mole fractions ignore) and the
+/// thermochemistry used above its fitted range (the project's polynomials end at 6000 K, the
+/// top of the NIST-JANAF tables they were fitted to).
+#[test]
+fn batch_prints_the_warnings_run_prints() {
+    let dir = scratch("batch-warnings");
+    let thermo = repo().join("mechanisms/thermo/janaf-nasa7.toml");
+    std::fs::write(
+        dir.join("h2.toml"),
+        format!(
+            "stoik_mechanism = 1\nthermo_files = [\"{}\"]\n[units]\nlength = \"m\"\n\
+             [[species]]\nname = \"H2\"\natoms = {{ H = 2 }}\n\
+             [[species]]\nname = \"H\"\natoms = {{ H = 1 }}\n\
+             [[step]]\nequation = \"H2 <=> H + H\"\nforward = {{ prefactor = 1.0 }}\n",
+            thermo.display()
+        ),
+    )
+    .unwrap();
+    std::fs::write(
+        dir.join("hot.scenario.toml"),
+        "stoik_scenario = 1\nmechanism = \"h2.toml\"\n[reactor]\ntemperature = \"7000 K\"\n\
+         pressure = \"1 atm\"\n[initial]\nmole_fractions = { H2 = 1.0 }\n\
+         concentration_unit = \"mol/L\"\n[output]\nend_time = \"1e-3 s\"\n",
+    )
+    .unwrap();
+    let run = stoik(&["run", "hot.scenario.toml", "-o", "hot.csv"], &dir);
+    assert_eq!(run.status.code(), Some(0), "{}", text(&run.stderr));
+    let batch = stoik(&["batch", "hot.scenario.toml", "--output-dir", "out"], &dir);
+    assert_eq!(batch.status.code(), Some(0), "{}", text(&batch.stderr));
+    let (run_err, batch_err) = (text(&run.stderr), text(&batch.stderr));
+    let warnings: Vec<&str> = run_err.lines().filter(|l| l.contains("warning:")).collect();
+    // One file warning and one thermo-range warning per species (H2 and H).
+    assert_eq!(warnings.len(), 3, "{run_err}");
+    assert!(
+        warnings
+            .iter()
+            .any(|w| w.contains("`concentration_unit` in [initial] is ignored")),
+        "{run_err}"
+    );
+    assert!(
+        warnings
+            .iter()
+            .any(|w| w.contains("`H2`'s thermochemistry (200 to 6000 K)")),
+        "{run_err}"
+    );
+    for w in warnings {
+        assert!(batch_err.contains(w), "batch lacks `{w}`:\n{batch_err}");
+    }
+}
+
 /// The hydrogen-oxygen demo: an adiabatic constant-volume ignition reported with its delay
 /// and the hazard caution; the CSV's state columns obey the ideal-gas law, P = sum(c) R T,
 /// and the mole fractions are c_i / sum(c).

@@ -20,11 +20,12 @@ mod synthetic;
 
 use std::path::Path;
 use stoik::kinetics::{conservation_laws, ConservationLaw, Kinetics, LawKind};
-use stoik::mechanism::{load_mechanism, load_scenario, parse_mechanism, Mechanism};
+use stoik::mechanism::{load_mechanism, parse_mechanism, Mechanism};
 use stoik::reactor::{
     integrate, simulate, BoxConditions, ConservationBasis, ConservationCheckError, Constraint,
     Energy, IntegrationOptions, Profiles, ReactorConservation, ReactorModel,
 };
+use stoik::scenario::RunPlan;
 
 fn mechanisms() -> std::path::PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("mechanisms")
@@ -386,22 +387,19 @@ reverse = { prefactor = 1.0 }
 
 /// Integrates a bundled scenario in `model` with the scenario's tolerances.
 fn run_scenario(name: &str, model: &ReactorModel) -> (Mechanism, Profiles, IntegrationOptions) {
-    let (scenario, _) = load_scenario(&mechanisms().join(format!("{name}.scenario.toml")))
+    let plan = RunPlan::load(&mechanisms().join(format!("{name}.scenario.toml")))
         .unwrap_or_else(|e| panic!("{e}"));
-    let m = load_mechanism(&scenario.mechanism_path)
-        .unwrap_or_else(|e| panic!("{e}"))
-        .mechanism;
-    let resolved = scenario.resolve(&m).unwrap_or_else(|e| panic!("{e}"));
+    let m = plan.mechanism().clone();
     let kinetics = Kinetics::compile(&m);
     let mut options = IntegrationOptions::new(m.species.len());
-    options.relative_tolerance = scenario.relative_tolerance;
-    options.absolute_tolerances_mol_per_m3 = resolved.absolute_tolerances_mol_per_m3.clone();
+    options.relative_tolerance = plan.scenario().relative_tolerance;
+    options.absolute_tolerances_mol_per_m3 = plan.options().absolute_tolerances_mol_per_m3.clone();
     let p = simulate(
         &kinetics,
         model,
-        scenario.temperature_k,
-        &resolved.initial_concentrations_mol_per_m3,
-        &resolved.output_times_s,
+        plan.temperature_k(),
+        plan.initial_mol_per_m3(),
+        plan.output_times_s(),
         &options,
     )
     .unwrap_or_else(|e| panic!("{e}"));
@@ -527,10 +525,8 @@ fn element_totals_are_conserved_over_a_long_run() {
     // The bundled ozone demo, integrated far past its relaxation, keeps its O and Ar totals
     // to 1e-10 relative.
     let root = mechanisms();
-    let (scenario, _) = load_scenario(&root.join("ozone-flask.scenario.toml")).unwrap();
-    let file = load_mechanism(&scenario.mechanism_path).unwrap();
-    let mechanism = &file.mechanism;
-    let resolved = scenario.resolve(mechanism).unwrap();
+    let plan = RunPlan::load(&root.join("ozone-flask.scenario.toml")).unwrap();
+    let mechanism = plan.mechanism();
     let kinetics = Kinetics::compile(mechanism);
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = 1e-8;
@@ -546,8 +542,8 @@ fn element_totals_are_conserved_over_a_long_run() {
         .collect();
     let profiles = integrate(
         &kinetics,
-        scenario.temperature_k,
-        &resolved.initial_concentrations_mol_per_m3,
+        plan.temperature_k(),
+        plan.initial_mol_per_m3(),
         &times,
         &options,
     )

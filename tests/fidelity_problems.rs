@@ -25,8 +25,8 @@
 
 use std::path::Path;
 use stoik::kinetics::Kinetics;
-use stoik::mechanism::{load_mechanism, load_scenario};
 use stoik::reactor::{integrate, IntegrationOptions, Profiles};
+use stoik::scenario::RunPlan;
 
 /// Reference values at one time: (species name, value in mol/m3).
 struct Reference {
@@ -38,13 +38,9 @@ struct Reference {
 /// (mol/m3, every species); returns the species names (mechanism order) and the profiles.
 fn run(name: &str, refs: &[Reference], rtol: f64, atol: f64) -> (Vec<String>, Profiles) {
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("mechanisms");
-    let (scenario, _) = load_scenario(&root.join(format!("{name}.scenario.toml")))
+    let plan = RunPlan::load(&root.join(format!("{name}.scenario.toml")))
         .unwrap_or_else(|e| panic!("{e}"));
-    let file = load_mechanism(&scenario.mechanism_path).unwrap_or_else(|e| panic!("{e}"));
-    let resolved = scenario
-        .resolve(&file.mechanism)
-        .unwrap_or_else(|e| panic!("{e}"));
-    let kinetics = Kinetics::compile(&file.mechanism);
+    let kinetics = Kinetics::compile(plan.mechanism());
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = rtol;
     options.absolute_tolerances_mol_per_m3 = vec![atol; kinetics.n_species()];
@@ -53,14 +49,14 @@ fn run(name: &str, refs: &[Reference], rtol: f64, atol: f64) -> (Vec<String>, Pr
     output.extend(refs.iter().map(|r| r.time_s));
     let profiles = integrate(
         &kinetics,
-        scenario.temperature_k,
-        &resolved.initial_concentrations_mol_per_m3,
+        plan.temperature_k(),
+        plan.initial_mol_per_m3(),
         &output,
         &options,
     )
     .unwrap_or_else(|e| panic!("{name}: {e}"));
-    let names = file
-        .mechanism
+    let names = plan
+        .mechanism()
         .species
         .iter()
         .map(|s| s.name.clone())

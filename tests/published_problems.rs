@@ -9,20 +9,16 @@
 #![allow(clippy::excessive_precision)]
 
 use stoik::kinetics::Kinetics;
-use stoik::mechanism::{load_mechanism, load_scenario};
 use stoik::reactor::{integrate, IntegrationOptions, LinearAlgebra, Profiles};
+use stoik::scenario::RunPlan;
 use stoik_testsupport::published;
 
 /// Integrates the bundled scenario `name` to `times` with tolerances `rtol`/`atol`.
 fn run(name: &str, times: &[f64], rtol: f64, atol: f64, la: LinearAlgebra) -> Profiles {
     let root = stoik_testsupport::mechanisms_dir();
-    let (scenario, _) = load_scenario(&root.join(format!("{name}.scenario.toml")))
+    let plan = RunPlan::load(&root.join(format!("{name}.scenario.toml")))
         .unwrap_or_else(|e| panic!("{e}"));
-    let file = load_mechanism(&scenario.mechanism_path).unwrap_or_else(|e| panic!("{e}"));
-    let resolved = scenario
-        .resolve(&file.mechanism)
-        .unwrap_or_else(|e| panic!("{e}"));
-    let kinetics = Kinetics::compile(&file.mechanism);
+    let kinetics = Kinetics::compile(plan.mechanism());
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = rtol;
     options.absolute_tolerances_mol_per_m3 = vec![atol; kinetics.n_species()];
@@ -31,8 +27,8 @@ fn run(name: &str, times: &[f64], rtol: f64, atol: f64, la: LinearAlgebra) -> Pr
     output.extend_from_slice(times);
     integrate(
         &kinetics,
-        scenario.temperature_k,
-        &resolved.initial_concentrations_mol_per_m3,
+        plan.temperature_k(),
+        plan.initial_mol_per_m3(),
         &output,
         &options,
     )

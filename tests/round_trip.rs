@@ -11,28 +11,25 @@ mod common;
 use common::{repo, stoik, text, Table};
 use std::path::Path;
 use stoik::kinetics::Kinetics;
-use stoik::mechanism::EnergyUnit;
-use stoik::mechanism::{
-    load_mechanism, load_scenario, LinearAlgebraChoice, Mechanism, MechanismFile, Scenario,
-};
+use stoik::mechanism::{EnergyUnit, Mechanism};
 use stoik::reactor::{
     ignition_delay, integrate_batch, simulate, BatchCase, Constraint, Energy, IgnitionCriterion,
-    IntegrationOptions, LinearAlgebra, Profiles, ReactorModel,
+    IntegrationOptions, Profiles, ReactorModel,
 };
+use stoik::scenario::{RunPlan, Scenario};
 
 fn scratch(name: &str) -> std::path::PathBuf {
     common::scratch("round-trip", name)
 }
 
 /// A bundled scenario with its mechanism, at `temperature_k` when given (as `--temperatures-k`).
-fn bundled(name: &str, temperature_k: Option<f64>) -> (Scenario, MechanismFile) {
-    let (mut scenario, _) =
-        load_scenario(&repo().join("mechanisms").join(name)).unwrap_or_else(|e| panic!("{e}"));
+fn bundled(name: &str, temperature_k: Option<f64>) -> RunPlan {
+    let mut plan =
+        RunPlan::load(&repo().join("mechanisms").join(name)).unwrap_or_else(|e| panic!("{e}"));
     if let Some(t) = temperature_k {
-        scenario.temperature_k = t;
+        plan.set_temperature_k(t).unwrap_or_else(|e| panic!("{e}"));
     }
-    let file = load_mechanism(&scenario.mechanism_path).unwrap_or_else(|e| panic!("{e}"));
-    (scenario, file)
+    plan
 }
 
 /// The scenario's integration options as the binary builds them (non-negativity on).
@@ -40,11 +37,7 @@ fn options(scenario: &Scenario, absolute: Vec<f64>) -> IntegrationOptions {
     let mut o = IntegrationOptions::new(absolute.len());
     o.relative_tolerance = scenario.relative_tolerance;
     o.absolute_tolerances_mol_per_m3 = absolute;
-    o.linear_algebra = match scenario.linear_algebra {
-        LinearAlgebraChoice::Auto => LinearAlgebra::Auto,
-        LinearAlgebraChoice::Dense => LinearAlgebra::Dense,
-        LinearAlgebraChoice::Sparse => LinearAlgebra::Sparse,
-    };
+    o.linear_algebra = scenario.linear_algebra;
     o.max_steps = scenario.max_steps;
     o.non_negative = true;
     o
@@ -112,11 +105,8 @@ fn run_csv_and_ignition_line_hold_the_library_values_bit_for_bit() {
     );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
 
-    let (scenario, file) = bundled(name, None);
-    let mechanism = &file.mechanism;
-    let resolved = scenario
-        .resolve(mechanism)
-        .unwrap_or_else(|e| panic!("{e}"));
+    let plan = bundled(name, None);
+    let (scenario, mechanism) = (plan.scenario(), plan.mechanism());
     let kinetics = Kinetics::compile(mechanism);
     let model = ReactorModel {
         constraint: Constraint::ConstantVolume,
@@ -124,19 +114,22 @@ fn run_csv_and_ignition_line_hold_the_library_values_bit_for_bit() {
         ..ReactorModel::default()
     };
     // `stoik run` locates the ignition delay on the solver's steps; so does this run.
-    let mut opts = options(&scenario, resolved.absolute_tolerances_mol_per_m3.clone());
+    let mut opts = options(
+        scenario,
+        plan.options().absolute_tolerances_mol_per_m3.clone(),
+    );
     opts.watch = IgnitionCriterion::MaxTemperatureRate.watches(scenario.temperature_k);
     let profiles = simulate(
         &kinetics,
         &model,
         scenario.temperature_k,
-        &resolved.initial_concentrations_mol_per_m3,
-        &resolved.output_times_s,
+        plan.initial_mol_per_m3(),
+        plan.output_times_s(),
         &opts,
     )
     .unwrap_or_else(|e| panic!("{e}"));
     assert_eq!(profiles.times_s.len(), 2001);
-    assert_csv_is_bit_identical(&dir.join("h2.csv"), &scenario, mechanism, &profiles);
+    assert_csv_is_bit_identical(&dir.join("h2.csv"), scenario, mechanism, &profiles);
 
     // The line tests/scipy/ignition_check.py reads: `ignition delay: <value> s`.
     let stdout = text(&out.stdout);
@@ -177,18 +170,18 @@ fn batch_csv_holds_the_library_values_bit_for_bit() {
     );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
 
-    let (scenario, file) = bundled(name, Some(650.0));
-    let mechanism = &file.mechanism;
-    let resolved = scenario
-        .resolve(mechanism)
-        .unwrap_or_else(|e| panic!("{e}"));
+    let plan = bundled(name, Some(650.0));
+    let (scenario, mechanism) = (plan.scenario(), plan.mechanism());
     let case = BatchCase {
         model: ReactorModel::default(),
         temperature_k: 650.0,
-        initial_mol_per_m3: resolved.initial_concentrations_mol_per_m3.clone(),
-        output_times_s: resolved.output_times_s.clone(),
+        initial_mol_per_m3: plan.initial_mol_per_m3().to_vec(),
+        output_times_s: plan.output_times_s().to_vec(),
         rate_multipliers: Vec::new(),
-        options: options(&scenario, resolved.absolute_tolerances_mol_per_m3.clone()),
+        options: options(
+            scenario,
+            plan.options().absolute_tolerances_mol_per_m3.clone(),
+        ),
     };
     let profiles = integrate_batch(&Kinetics::compile(mechanism), &[case], &|| {})
         .pop()
@@ -197,7 +190,7 @@ fn batch_csv_holds_the_library_values_bit_for_bit() {
     assert_eq!(scenario.output_concentration_unit.to_si_factor(), 1000.0);
     assert_csv_is_bit_identical(
         &dir.join("sweep/ozone-flask-650K.csv"),
-        &scenario,
+        scenario,
         mechanism,
         &profiles,
     );

@@ -1,9 +1,10 @@
 //! # stoik-mechanism
 //!
 //! The mechanism model of stoik and its text formats: species, elements and steps held in SI
-//! units ([`Mechanism`]), the TOML mechanism file format (version 1), the scenario file that says
-//! what to run, and their validation, which reports every problem of a file at once with
-//! file:line:column.
+//! units ([`Mechanism`]), the TOML mechanism and thermo file formats (version 1), and their
+//! validation, which reports every problem of a file at once with file:line:column. The
+//! scenario format (what to run) lives in `stoik-scenario`, which reads its file with the
+//! same located-diagnostics helpers ([`Report`]).
 //!
 //! This crate never evaluates a rate: it converts units once, at load, and checks the input.
 //! A [`Mechanism`] built by hand is checked with [`Mechanism::validate`].
@@ -16,8 +17,6 @@ mod elements;
 mod equation;
 mod mechanism_file;
 mod model;
-pub mod scenario;
-pub mod scenario_box;
 mod suggest;
 mod thermo_file;
 mod toml_walk;
@@ -53,9 +52,9 @@ pub use units::{
 // Constants: physical ones (the items of stoik-thermo) and the collision limit.
 pub use constants::{AVOGADRO, BOLTZMANN, COLLISION_LIMIT_M3_PER_MOL_S, GAS_CONSTANT};
 
-// The scenario format (what to run).
-pub use scenario::{
-    load_scenario, parse_scenario, IgnitionChoice, LinearAlgebraChoice, OutputTimes, ReactorKind,
-    ResolvedScenario, Scenario,
+// Reading helpers for span-keeping TOML trees with located diagnostics, shared with the
+// scenario reader of `stoik-scenario`.
+pub use toml_walk::{
+    non_negative_finite_problem, parse_document, positive_finite_problem, show_number, type_name,
+    value_as_number, Report, Value as SpannedValue,
 };
-pub use scenario_box::{PhotolysisForm, ResolvedBox, Sun};

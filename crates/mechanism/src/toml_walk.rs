@@ -1,8 +1,10 @@
 //! Helpers for walking a span-preserving TOML tree by hand and collecting located problems.
 //!
-//! Both file formats are read with `toml::de::DeTable::parse`, which keeps the byte span of
-//! every key and value; [`Report`] turns spans into 1-based line:column (columns counted in
-//! characters) and gathers every diagnostic of a file so that all are reported at once.
+//! Shared by stoik's file readers: the mechanism and thermo files here, the scenario file in
+//! `stoik-scenario`. Every format is read with `toml::de::DeTable::parse`, which keeps the
+//! byte span of every key and value; [`Report`] turns spans into 1-based line:column (columns
+//! counted in characters) and gathers every diagnostic of a file so that all are reported at
+//! once.
 
 use crate::suggest::nearest_name;
 use crate::{Diagnostic, Diagnostics, LoadError, Severity, SourceLocation};
@@ -10,10 +12,10 @@ use toml::de::{DeTable, DeValue};
 use toml::Spanned;
 
 /// A spanned TOML value.
-pub(crate) type Value<'i> = Spanned<DeValue<'i>>;
+pub type Value<'i> = Spanned<DeValue<'i>>;
 
 /// Collects the diagnostics of one file and locates byte offsets in it.
-pub(crate) struct Report<'t> {
+pub struct Report<'t> {
     text: &'t str,
     file: String,
     line_starts: Vec<usize>,
@@ -22,7 +24,7 @@ pub(crate) struct Report<'t> {
 
 impl<'t> Report<'t> {
     /// A report for `text`, whose diagnostics name the file `file`.
-    pub(crate) fn new(text: &'t str, file: &str) -> Self {
+    pub fn new(text: &'t str, file: &str) -> Self {
         let mut line_starts = vec![0];
         line_starts.extend(text.match_indices('\n').map(|(i, _)| i + 1));
         Report {
@@ -34,7 +36,7 @@ impl<'t> Report<'t> {
     }
 
     /// 1-based line and character column of byte offset `byte`.
-    pub(crate) fn location(&self, byte: usize) -> SourceLocation {
+    pub fn location(&self, byte: usize) -> SourceLocation {
         let byte = byte.min(self.text.len());
         let line = self.line_starts.partition_point(|&s| s <= byte);
         let start = self.line_starts[line.saturating_sub(1)];
@@ -46,17 +48,17 @@ impl<'t> Report<'t> {
     }
 
     /// Records an error at byte offset `at`, with an optional help text.
-    pub(crate) fn error(&mut self, at: usize, message: impl Into<String>, help: Option<String>) {
+    pub fn error(&mut self, at: usize, message: impl Into<String>, help: Option<String>) {
         self.push(Severity::Error, Some(at), message.into(), help);
     }
 
     /// Records an error about the whole file (reported at 1:1).
-    pub(crate) fn file_error(&mut self, message: impl Into<String>, help: Option<String>) {
+    pub fn file_error(&mut self, message: impl Into<String>, help: Option<String>) {
         self.push(Severity::Error, Some(0), message.into(), help);
     }
 
     /// Records a warning at byte offset `at`.
-    pub(crate) fn warning(&mut self, at: usize, message: impl Into<String>, help: Option<String>) {
+    pub fn warning(&mut self, at: usize, message: impl Into<String>, help: Option<String>) {
         self.push(Severity::Warning, Some(at), message.into(), help);
     }
 
@@ -78,7 +80,7 @@ impl<'t> Report<'t> {
     }
 
     /// Number of errors recorded so far.
-    pub(crate) fn error_count(&self) -> usize {
+    pub fn error_count(&self) -> usize {
         self.diagnostics
             .iter()
             .filter(|d| d.severity == Severity::Error)
@@ -86,7 +88,7 @@ impl<'t> Report<'t> {
     }
 
     /// The diagnostics in file order (stable for equal locations).
-    pub(crate) fn finish(mut self) -> Diagnostics {
+    pub fn finish(mut self) -> Diagnostics {
         self.diagnostics
             .sort_by_key(|d| d.location.map(|l| (l.line, l.column)).unwrap_or((0, 0)));
         Diagnostics(self.diagnostics)
@@ -94,7 +96,7 @@ impl<'t> Report<'t> {
 
     /// Checks that every key of `table` is one of `allowed`; unknown keys are errors with a
     /// nearest-key suggestion. `context` names the table in messages, e.g. "[[step]]".
-    pub(crate) fn check_keys(&mut self, table: &DeTable<'_>, allowed: &[&str], context: &str) {
+    pub fn check_keys(&mut self, table: &DeTable<'_>, allowed: &[&str], context: &str) {
         for (key, _) in table.iter() {
             let name: &str = key.get_ref();
             if allowed.contains(&name) {
@@ -113,7 +115,7 @@ impl<'t> Report<'t> {
     }
 
     /// Records a "wrong type" error for `key` whose value `value` is not `expected`.
-    pub(crate) fn wrong_type(&mut self, key: &str, value: &Value<'_>, expected: &str) {
+    pub fn wrong_type(&mut self, key: &str, value: &Value<'_>, expected: &str) {
         self.error(
             value.span().start,
             format!(
@@ -125,7 +127,7 @@ impl<'t> Report<'t> {
     }
 
     /// Reads a number (TOML integer or float); a wrong type is recorded and gives `None`.
-    pub(crate) fn number(&mut self, key: &str, value: &Value<'_>) -> Option<f64> {
+    pub fn number(&mut self, key: &str, value: &Value<'_>) -> Option<f64> {
         match value_as_number(value.get_ref()) {
             Some(x) => Some(x),
             None => {
@@ -136,7 +138,7 @@ impl<'t> Report<'t> {
     }
 
     /// Reads a string; a wrong type is recorded and gives `None`.
-    pub(crate) fn string<'v>(&mut self, key: &str, value: &'v Value<'_>) -> Option<&'v str> {
+    pub fn string<'v>(&mut self, key: &str, value: &'v Value<'_>) -> Option<&'v str> {
         match value.get_ref() {
             DeValue::String(s) => Some(s.as_ref()),
             _ => {
@@ -149,7 +151,7 @@ impl<'t> Report<'t> {
     /// Reads a string that must be one of `accepted` and maps it with `parse`; an unknown
     /// word is recorded as "unknown {what} `word`; accepted: ..." with the nearest accepted
     /// word as a suggestion.
-    pub(crate) fn one_of<T>(
+    pub fn one_of<T>(
         &mut self,
         key: &str,
         value: &Value<'_>,
@@ -172,7 +174,7 @@ impl<'t> Report<'t> {
     }
 
     /// Reads a boolean; a wrong type is recorded and gives `None`.
-    pub(crate) fn boolean(&mut self, key: &str, value: &Value<'_>) -> Option<bool> {
+    pub fn boolean(&mut self, key: &str, value: &Value<'_>) -> Option<bool> {
         match value.get_ref() {
             DeValue::Boolean(b) => Some(*b),
             _ => {
@@ -183,11 +185,7 @@ impl<'t> Report<'t> {
     }
 
     /// Reads a table; a wrong type is recorded and gives `None`.
-    pub(crate) fn table<'v, 'i>(
-        &mut self,
-        key: &str,
-        value: &'v Value<'i>,
-    ) -> Option<&'v DeTable<'i>> {
+    pub fn table<'v, 'i>(&mut self, key: &str, value: &'v Value<'i>) -> Option<&'v DeTable<'i>> {
         match value.get_ref() {
             DeValue::Table(t) => Some(t),
             _ => {
@@ -198,7 +196,7 @@ impl<'t> Report<'t> {
     }
 
     /// Reads a non-negative integer; a wrong type or sign is recorded and gives `None`.
-    pub(crate) fn count(&mut self, key: &str, value: &Value<'_>) -> Option<u64> {
+    pub fn count(&mut self, key: &str, value: &Value<'_>) -> Option<u64> {
         if let DeValue::Integer(i) = value.get_ref() {
             if let Ok(n) = u64::from_str_radix(&i.as_str().replace('_', ""), i.radix()) {
                 return Some(n);
@@ -217,7 +215,7 @@ impl<'t> Report<'t> {
     /// Byte offset where the content of string value `value` starts in the file, when the
     /// file text of the value is exactly the string between single-line quotes (no escapes),
     /// so that offsets inside the string map one-to-one onto the file.
-    pub(crate) fn string_content_start(&self, value: &Value<'_>, content: &str) -> Option<usize> {
+    pub fn string_content_start(&self, value: &Value<'_>, content: &str) -> Option<usize> {
         let span = value.span();
         let raw = self.text.get(span.clone())?;
         let inner = raw
@@ -228,7 +226,7 @@ impl<'t> Report<'t> {
     }
 
     /// Turns the report into the loader's error value.
-    pub(crate) fn into_error(self) -> LoadError {
+    pub fn into_error(self) -> LoadError {
         LoadError::Invalid {
             diagnostics: self.finish(),
         }
@@ -236,7 +234,7 @@ impl<'t> Report<'t> {
 }
 
 /// The TOML type of `value`, for messages.
-pub(crate) fn type_name(value: &DeValue<'_>) -> &'static str {
+pub fn type_name(value: &DeValue<'_>) -> &'static str {
     match value {
         DeValue::String(_) => "a string",
         DeValue::Integer(_) => "an integer",
@@ -249,7 +247,7 @@ pub(crate) fn type_name(value: &DeValue<'_>) -> &'static str {
 }
 
 /// A TOML integer or float as `f64` (floats keep `inf` and `nan`), else `None`.
-pub(crate) fn value_as_number(value: &DeValue<'_>) -> Option<f64> {
+pub fn value_as_number(value: &DeValue<'_>) -> Option<f64> {
     match value {
         DeValue::Integer(i) => {
             let digits = i.as_str().replace('_', "");
@@ -266,10 +264,7 @@ pub(crate) fn value_as_number(value: &DeValue<'_>) -> Option<f64> {
 }
 
 /// Parses `text` as a TOML document; a syntax error is recorded in `report` with its location.
-pub(crate) fn parse_document<'i>(
-    text: &'i str,
-    report: &mut Report<'_>,
-) -> Option<Spanned<DeTable<'i>>> {
+pub fn parse_document<'i>(text: &'i str, report: &mut Report<'_>) -> Option<Spanned<DeTable<'i>>> {
     match DeTable::parse(text) {
         Ok(doc) => Some(doc),
         Err(error) => {
@@ -281,7 +276,7 @@ pub(crate) fn parse_document<'i>(
 }
 
 /// Checks that `x` is finite and positive; returns the problem in words otherwise.
-pub(crate) fn positive_finite_problem(x: f64) -> Option<&'static str> {
+pub fn positive_finite_problem(x: f64) -> Option<&'static str> {
     if x.is_nan() {
         Some("is NaN")
     } else if x.is_infinite() {
@@ -294,7 +289,7 @@ pub(crate) fn positive_finite_problem(x: f64) -> Option<&'static str> {
 }
 
 /// Checks that `x` is finite and not negative; returns the problem in words otherwise.
-pub(crate) fn non_negative_finite_problem(x: f64) -> Option<&'static str> {
+pub fn non_negative_finite_problem(x: f64) -> Option<&'static str> {
     if x.is_nan() {
         Some("is NaN")
     } else if x.is_infinite() {
@@ -307,7 +302,7 @@ pub(crate) fn non_negative_finite_problem(x: f64) -> Option<&'static str> {
 }
 
 /// Formats a number for messages: integers without a decimal point.
-pub(crate) fn show_number(x: f64) -> String {
+pub fn show_number(x: f64) -> String {
     if x.is_finite() && x == x.trunc() && x.abs() < 1e15 {
         format!("{}", x as i64)
     } else {

@@ -3,7 +3,39 @@
 //! (tabulated, or following the sun).
 
 use crate::ReactorError;
-pub use stoik_mechanism::{PhotolysisForm, Sun};
+
+/// A photolysis rate coefficient J(t) as a function of run time.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PhotolysisForm {
+    /// J linear between points (times in s from the start of the run, J in 1/s).
+    Table {
+        /// Times in s, strictly increasing.
+        times_s: Vec<f64>,
+        /// J in 1/s.
+        rates_per_s: Vec<f64>,
+    },
+    /// J = scale cos(chi)^cos_power exp(-sec_factor / cos(chi)) in daylight, 0 at night
+    /// (needs a [`Sun`]).
+    Diurnal {
+        /// Scale in 1/s.
+        scale_per_s: f64,
+        /// Exponent of cos(chi) (dimensionless).
+        cos_power: f64,
+        /// Factor of sec(chi) in the exponential (dimensionless).
+        sec_factor: f64,
+    },
+}
+
+/// Where and when the sun is.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Sun {
+    /// Latitude in degrees north (-90 to 90).
+    pub latitude_deg: f64,
+    /// Day of the year at the start (1 to 366).
+    pub day_of_year: f64,
+    /// Local solar time at the start, in s after midnight.
+    pub start_solar_time_s: f64,
+}
 
 /// Seconds per day.
 const DAY_S: f64 = 86_400.0;

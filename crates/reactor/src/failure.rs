@@ -4,13 +4,14 @@
 
 use diffsol::error::{DiffsolError, OdeSolverError};
 
-use crate::{FailureKind, FastestComponent, IntegrationFailure};
+use crate::{FailureKind, FastestComponent, IntegrationFailure, SolverError};
 
 /// A failure as the step loop sees it, before it is given its time and partial profile.
 pub(crate) struct Diagnosis {
     pub(crate) kind: FailureKind,
     pub(crate) message: String,
     pub(crate) fastest: Option<FastestComponent>,
+    pub(crate) source: SolverError,
 }
 
 impl Diagnosis {
@@ -54,6 +55,7 @@ impl Diagnosis {
             kind,
             message,
             fastest,
+            source: SolverError::new(error.clone()),
         }
     }
 }

@@ -35,7 +35,7 @@ use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
 use crate::watch::{Quantity, Watch, Watcher};
 use crate::{
     FastestComponent, IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra,
-    Profiles, ReactorError, SolverStats,
+    Profiles, ReactorError, SolverError, SolverStats,
 };
 
 /// Checks the options and the temperature of a [`BatchSystem`].
@@ -363,7 +363,7 @@ where
         let problem: &'a OdeSolverProblem<BatchEquations<M>> = problem;
         let rhs_base = problem.eqn.rhs_evaluations.get();
         let jacobian_base = problem.eqn.jacobian_evaluations.get();
-        let solver = make(problem).map_err(|e| ReactorError::Setup(e.to_string()))?;
+        let solver = make(problem).map_err(|e| ReactorError::Setup(SolverError::new(e)))?;
         let n = initial.len();
         let mut invariants = Invariants::new(&problem.eqn.laws, n);
         if let Some(inv) = invariants.as_mut() {
@@ -601,7 +601,7 @@ fn build_problem<M: Backend>(
         .rtol(options.relative_tolerance)
         .atol(atol)
         .build_from_eqn(eqn)
-        .map_err(|e| ReactorError::Setup(e.to_string()))?;
+        .map_err(|e| ReactorError::Setup(SolverError::new(e)))?;
     problem.ode_options.max_number_timesteps = options.max_steps;
     problem.ode_options.min_timestep = ABSOLUTE_MINIMUM_STEP_S;
     problem.ode_options.nonlinear_solver_tolerance = options
@@ -880,6 +880,7 @@ impl BatchSystem {
                 kind: d.kind,
                 fastest: d.fastest,
                 partial: profiles,
+                source: Some(d.source),
             }
             .into()),
         }
@@ -978,6 +979,7 @@ impl BatchIntegrator<'_> {
                     reason: d.message,
                     kind: d.kind,
                     fastest: d.fastest,
+                    source: Some(d.source),
                     partial: Profiles {
                         times_s: vec![time_s],
                         concentrations_mol_per_m3: vec![self.state().to_vec()],

@@ -303,6 +303,33 @@ pub struct IntegrationFailure {
     /// The output rows produced before the failure (for [`BatchIntegrator`], the single row
     /// of the state at `time_s`), with the statistics up to the failure.
     pub partial: Profiles,
+    /// The solver's own error, when the solver reported one.
+    #[source]
+    pub source: Option<SolverError>,
+}
+
+/// An error of the diffsol solver, kept typed as the source of [`ReactorError::Setup`] and
+/// [`IntegrationFailure`]. Two are equal when their messages are (diffsol's error type does
+/// not compare).
+#[derive(Debug, Clone, thiserror::Error)]
+#[error(transparent)]
+pub struct SolverError(std::sync::Arc<diffsol::error::DiffsolError>);
+
+impl SolverError {
+    pub(crate) fn new(error: diffsol::error::DiffsolError) -> Self {
+        SolverError(std::sync::Arc::new(error))
+    }
+
+    /// diffsol's error.
+    pub fn diffsol_error(&self) -> &diffsol::error::DiffsolError {
+        &self.0
+    }
+}
+
+impl PartialEq for SolverError {
+    fn eq(&self, other: &Self) -> bool {
+        self.0.to_string() == other.0.to_string()
+    }
 }
 
 /// A bad argument: nothing was integrated.
@@ -389,7 +416,7 @@ pub enum ReactorError {
     TemperaturePrescribed,
     /// diffsol refused to set the problem up.
     #[error("could not set up the solver: {0}")]
-    Setup(String),
+    Setup(#[source] SolverError),
 }
 
 /// Why an integration did not return profiles.

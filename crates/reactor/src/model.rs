@@ -495,12 +495,8 @@ mod tests {
     use super::*;
 
     fn hydrogen() -> Kinetics {
-        let path = concat!(
-            env!("CARGO_MANIFEST_DIR"),
-            "/../../mechanisms/hydrogen-oxygen.toml"
-        );
-        let file = stoik_mechanism::load_mechanism(std::path::Path::new(path))
-            .unwrap_or_else(|e| panic!("{e}"));
+        let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
+        let file = stoik_mechanism::load_mechanism(&path).unwrap_or_else(|e| panic!("{e}"));
         Kinetics::compile(&file.mechanism)
     }
 

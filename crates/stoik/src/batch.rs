@@ -1,123 +1,83 @@
-//! `stoik batch`: many scenarios (optionally each at several temperatures) over mechanisms
-//! compiled once, integrated in parallel with a progress bar. A run whose conserved
-//! quantities drift more than its tolerances allow gets a warning line.
+//! `stoik batch`: many scenarios (optionally each at several temperatures) run by the
+//! scenario crate over mechanisms compiled once, in parallel, with a progress bar. Every run
+//! prints the warnings `stoik run` prints (each distinct one once) and a warning line when
+//! its conserved quantities drift more than its tolerances allow.
 
-use crate::check::report_load_error;
-use crate::conservation_out::conservation_report;
+use crate::conservation_out::report_from_check;
 use crate::csv_out::CsvError;
-use crate::run::{integration_options, reactor_model, scenario_stem, write_csv, CAUTION};
-use crate::{BatchArgs, EXIT_BAD_INPUT, EXIT_INTEGRATION_FAILED, EXIT_OK};
+use crate::error::CliError;
+use crate::run::{scenario_stem, write_csv, CAUTION};
+use crate::BatchArgs;
 use indicatif::{ProgressBar, ProgressStyle};
-use std::collections::BTreeMap;
+use std::collections::{BTreeSet, HashSet};
 use std::path::PathBuf;
+use std::sync::Arc;
 use std::time::Instant;
-use stoik::kinetics::Kinetics;
-use stoik::mechanism::{load_mechanism, load_scenario, MechanismFile, Scenario};
-use stoik::reactor::{integrate_batch, BatchCase};
+use stoik::scenario::{load_plans, run_batch, RunPlan};
 
-/// One case to run and where its CSV goes.
-struct Job {
-    scenario: Scenario,
-    case: BatchCase,
-    output: PathBuf,
-}
-
-/// Runs the batch; returns the exit status (0 all ran, 2 bad input, 3 some failed).
-pub fn batch(args: &BatchArgs) -> u8 {
-    let started = Instant::now();
-    if let Err(e) = std::fs::create_dir_all(&args.output_dir) {
-        eprintln!("error: cannot create {}: {e}", args.output_dir.display());
-        return EXIT_BAD_INPUT;
-    }
+/// The plans of every scenario at every temperature, with their CSV paths; every bad input
+/// is reported.
+fn plans(args: &BatchArgs) -> Result<Vec<(RunPlan, PathBuf)>, CliError> {
     if let Some(t) = args
         .temperatures_k
         .iter()
         .find(|t| !(t.is_finite() && **t > 0.0))
     {
-        eprintln!("error: --temperatures-k must be positive numbers of kelvin, got {t}");
-        return EXIT_BAD_INPUT;
+        return Err(CliError::BadFlag(format!(
+            "--temperatures-k must be positive numbers of kelvin, got {t}"
+        )));
     }
-    // Group the cases by mechanism file so each mechanism is loaded and compiled once.
-    let mut groups: BTreeMap<PathBuf, (MechanismFile, Vec<Job>)> = BTreeMap::new();
-    let mut bad_input = false;
-    for path in &args.scenarios {
-        let (scenario, _) = match load_scenario(path) {
-            Ok(ok) => ok,
+    let temperatures: Vec<Option<f64>> = if args.temperatures_k.is_empty() {
+        vec![None]
+    } else {
+        args.temperatures_k.iter().copied().map(Some).collect()
+    };
+    let mut jobs = Vec::new();
+    let mut errors = Vec::new();
+    for (path, plan) in args.scenarios.iter().zip(load_plans(&args.scenarios)) {
+        let plan = match plan {
+            Ok(p) => p,
             Err(e) => {
-                report_load_error(&e);
-                bad_input = true;
+                errors.push(e.into());
                 continue;
             }
         };
-        if !groups.contains_key(&scenario.mechanism_path) {
-            match load_mechanism(&scenario.mechanism_path) {
-                Ok(file) => {
-                    groups.insert(scenario.mechanism_path.clone(), (file, Vec::new()));
-                }
-                Err(e) => {
-                    report_load_error(&e);
-                    bad_input = true;
-                    continue;
-                }
-            }
-        }
-        let Some((file, jobs)) = groups.get_mut(&scenario.mechanism_path) else {
-            continue;
-        };
-        let temperatures: Vec<Option<f64>> = if args.temperatures_k.is_empty() {
-            vec![None]
-        } else {
-            args.temperatures_k.iter().copied().map(Some).collect()
-        };
-        for t in temperatures {
-            let mut scenario = scenario.clone();
-            if let Some(t) = t {
-                scenario.temperature_k = t;
-            }
-            let resolved = match scenario.resolve(&file.mechanism) {
-                Ok(r) => r,
-                Err(e) => {
-                    report_load_error(&e);
-                    bad_input = true;
-                    break;
-                }
-            };
+        for &t in &temperatures {
+            let mut plan = plan.clone();
+            plan.set_non_negative(!args.allow_negative);
             let name = match t {
-                Some(t) => format!("{}-{t}K.csv", scenario_stem(path)),
+                Some(t) => {
+                    if let Err(source) = plan.set_temperature_k(t) {
+                        errors.push(CliError::Flag {
+                            flag: "--temperatures-k",
+                            source,
+                        });
+                        break;
+                    }
+                    format!("{}-{t}K.csv", scenario_stem(path))
+                }
                 None => format!("{}.csv", scenario_stem(path)),
             };
-            let model = match reactor_model(&scenario, &resolved) {
-                Ok(m) => m,
-                Err(e) => {
-                    eprintln!("{}: error: {e}", path.display());
-                    bad_input = true;
-                    break;
-                }
-            };
-            let options = integration_options(
-                &scenario,
-                resolved.absolute_tolerances_mol_per_m3,
-                !args.allow_negative,
-            );
-            jobs.push(Job {
-                case: BatchCase {
-                    model,
-                    temperature_k: scenario.temperature_k,
-                    initial_mol_per_m3: resolved.initial_concentrations_mol_per_m3,
-                    output_times_s: resolved.output_times_s,
-                    rate_multipliers: Vec::new(),
-                    options,
-                },
-                scenario,
-                output: args.output_dir.join(name),
-            });
+            jobs.push((plan, args.output_dir.join(name)));
         }
     }
-    if bad_input {
-        return EXIT_BAD_INPUT;
+    match errors.len() {
+        0 => Ok(jobs),
+        1 => Err(errors.remove(0)),
+        _ => Err(CliError::Several(errors)),
     }
+}
 
-    let total: usize = groups.values().map(|(_, jobs)| jobs.len()).sum();
+/// Runs the batch: every run's CSV is written; failed runs are reported as they happen.
+pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
+    let started = Instant::now();
+    std::fs::create_dir_all(&args.output_dir).map_err(|e| CliError::Write {
+        what: "create",
+        path: args.output_dir.clone(),
+        source: e.into(),
+    })?;
+    let jobs = plans(args)?;
+    let total = jobs.len();
     let bar = if args.quiet {
         ProgressBar::hidden()
     } else {
@@ -129,62 +89,64 @@ pub fn batch(args: &BatchArgs) -> u8 {
         )
         .unwrap_or_else(|_| ProgressStyle::default_bar()),
     );
+    let plans: Vec<RunPlan> = jobs.iter().map(|(p, _)| p.clone()).collect();
+    let outcomes = run_batch(&plans, &|| bar.inc(1));
     let mut failures = 0;
-    for (file, jobs) in groups.values() {
-        let kinetics = Kinetics::compile(&file.mechanism);
-        let cases: Vec<BatchCase> = jobs.iter().map(|j| j.case.clone()).collect();
-        let results = integrate_batch(&kinetics, &cases, &|| bar.inc(1));
-        for (job, result) in jobs.iter().zip(results) {
-            let (profiles, failed) = match result {
-                Ok(p) => (p, false),
-                Err(stoik::reactor::BatchError::Integration(
-                    stoik::reactor::IntegrationError::Failed(f),
-                )) => {
-                    bar.suspend(|| {
-                        eprintln!("{}: {f}; partial profile kept", job.output.display())
-                    });
-                    failures += 1;
-                    (f.partial, true)
-                }
-                Err(e) => {
-                    bar.suspend(|| eprintln!("{}: error: {e}", job.output.display()));
-                    failures += 1;
-                    continue;
-                }
-            };
-            if !args.quiet {
-                let report = conservation_report(
-                    &file.mechanism,
-                    &job.case.model,
-                    &profiles,
-                    &job.case.options,
-                );
-                for warning in &report.warnings {
-                    bar.suspend(|| eprintln!("{}: {warning}", job.output.display()));
+    let mut printed = HashSet::new();
+    for ((plan, output), outcome) in jobs.iter().zip(outcomes) {
+        let outcome = match outcome {
+            Ok(o) => o,
+            Err(e) => {
+                bar.suspend(|| eprintln!("{}: {}", output.display(), CliError::from(e)));
+                failures += 1;
+                continue;
+            }
+        };
+        if let Some(f) = outcome.failure() {
+            bar.suspend(|| eprintln!("{}: {f}; partial profile kept", output.display()));
+            failures += 1;
+        }
+        if !args.quiet {
+            // The warnings of `stoik run`, each distinct one once (a scenario's file
+            // warnings are shared by its temperatures).
+            for warning in &outcome.warnings {
+                let line = warning.to_string();
+                if printed.insert(line.clone()) {
+                    bar.suspend(|| eprintln!("{line}"));
                 }
             }
-            match write_csv(&job.output, &file.mechanism, &profiles, &job.scenario) {
-                Ok(notes) => {
-                    if let Some(w) = notes.warning(&job.output.display().to_string()) {
-                        bar.suspend(|| eprintln!("{w}"));
-                    }
-                }
-                Err(e @ CsvError::NonFinite { .. }) => {
-                    bar.suspend(|| eprintln!("error: {}: {e}", job.output.display()));
-                    failures += usize::from(!failed);
-                }
-                Err(e) => {
-                    bar.suspend(|| eprintln!("error: cannot write {}: {e}", job.output.display()));
-                    return EXIT_BAD_INPUT;
+            let report = report_from_check(
+                plan.mechanism(),
+                &outcome.conservation,
+                outcome.profiles(),
+                plan.options(),
+            );
+            for warning in &report.warnings {
+                bar.suspend(|| eprintln!("{}: {warning}", output.display()));
+            }
+        }
+        match write_csv(output, plan, outcome.profiles()) {
+            Ok(notes) => {
+                if let Some(w) = notes.warning(&output.display().to_string()) {
+                    bar.suspend(|| eprintln!("{w}"));
                 }
             }
+            Err(e @ CsvError::NonFinite { .. }) => {
+                bar.suspend(|| eprintln!("error: {}: {e}", output.display()));
+                failures += usize::from(outcome.failure().is_none());
+            }
+            Err(e) => return Err(CliError::write(output, e)),
         }
     }
     bar.finish_and_clear();
     if !args.quiet {
+        let mechanisms: BTreeSet<*const _> = plans
+            .iter()
+            .map(|p| Arc::as_ptr(p.mechanism_file()))
+            .collect();
         println!(
             "{total} runs over {} mechanism(s) on {} threads: {} failed; CSV files in {}; wall time {:.3} s",
-            groups.len(),
+            mechanisms.len(),
             rayon_threads(),
             failures,
             args.output_dir.display(),
@@ -193,9 +155,12 @@ pub fn batch(args: &BatchArgs) -> u8 {
         println!("{CAUTION}");
     }
     if failures > 0 {
-        EXIT_INTEGRATION_FAILED
+        Err(CliError::RunsFailed {
+            failed: failures,
+            total,
+        })
     } else {
-        EXIT_OK
+        Ok(())
     }
 }
 

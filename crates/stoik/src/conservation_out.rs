@@ -4,8 +4,9 @@
 
 use stoik::mechanism::Mechanism;
 use stoik::reactor::{
-    ConservationDrift, IntegrationOptions, Profiles, ReactorConservation, ReactorModel,
+    ConservationCheckError, ConservationDrift, IntegrationOptions, Profiles, ReactorConservation,
 };
+use stoik::scenario::ConservationCheck;
 
 /// Laws listed in the summary (the rest are counted).
 const MAX_LISTED: usize = 12;
@@ -22,24 +23,21 @@ pub struct ConservationReport {
     pub warnings: Vec<String>,
 }
 
-/// The report for `profiles`, integrated from `mechanism` in `model` with `options`.
-pub fn conservation_report(
+/// The report of a run's conservation `check` (its `profiles`, integrated from `mechanism`
+/// with `options`).
+pub fn report_from_check(
     mechanism: &Mechanism,
-    model: &ReactorModel,
+    check: &Result<ConservationCheck, ConservationCheckError>,
     profiles: &Profiles,
     options: &IntegrationOptions,
 ) -> ConservationReport {
-    let conservation = match ReactorConservation::new(mechanism, model) {
-        Ok(c) => c,
-        Err(e) => {
-            return ConservationReport {
-                lines: vec![format!("conserved quantities: not checked ({e})")],
-                warnings: Vec::new(),
-            }
-        }
-    };
-    let drifts = conservation.drifts(profiles, options);
-    report_lines(mechanism, &conservation, &drifts, profiles, options)
+    match check {
+        Ok(c) => report_lines(mechanism, &c.laws, &c.drifts, profiles, options),
+        Err(e) => ConservationReport {
+            lines: vec![format!("conserved quantities: not checked ({e})")],
+            warnings: Vec::new(),
+        },
+    }
 }
 
 /// A law name shortened to [`MAX_NAME`] characters.
@@ -143,7 +141,21 @@ mod tests {
     use super::*;
     use stoik::kinetics::Kinetics;
     use stoik::mechanism::parse_mechanism;
-    use stoik::reactor::integrate;
+    use stoik::reactor::{integrate, ReactorModel};
+
+    /// The report as a run builds it: the laws of `m` in `model`, their drift along `p`.
+    fn conservation_report(
+        m: &Mechanism,
+        model: &ReactorModel,
+        p: &Profiles,
+        options: &IntegrationOptions,
+    ) -> ConservationReport {
+        let check = ReactorConservation::new(m, model).map(|laws| ConservationCheck {
+            drifts: laws.drifts(p, options),
+            laws,
+        });
+        report_from_check(m, &check, p, options)
+    }
 
     /// Robertson's problem (Hairer & Wanner, Solving ODEs II, section IV.10) conserves
     /// A + B + C; a profile edited by hand breaks it and must be reported.

@@ -81,6 +81,15 @@ impl fmt::Display for CsvError {
     }
 }
 
+impl std::error::Error for CsvError {
+    fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+        match self {
+            CsvError::Io(e) => Some(e),
+            CsvError::NonFinite { .. } => None,
+        }
+    }
+}
+
 /// What the caller must tell the user about a written CSV.
 #[derive(Debug, Default, PartialEq)]
 pub struct CsvNotes {

@@ -1,27 +1,20 @@
 //! `stoik energetics`: per-step reaction thermochemistry at one temperature, the numeric form
 //! of a reaction-coordinate energy diagram.
 
-use crate::check::report_load_error;
-use crate::{EnergeticsArgs, EXIT_BAD_INPUT, EXIT_OK};
+use crate::error::CliError;
+use crate::EnergeticsArgs;
 use stoik::kinetics::step_energetics;
 use stoik::mechanism::load_mechanism;
 
-/// Prints the table; returns the exit status.
-pub fn energetics(args: &EnergeticsArgs) -> u8 {
+/// Prints the table.
+pub fn energetics(args: &EnergeticsArgs) -> Result<(), CliError> {
     if !(args.temperature_k.is_finite() && args.temperature_k > 0.0) {
-        eprintln!(
-            "error: --temperature-k must be a positive number of kelvin, got {}",
+        return Err(CliError::BadFlag(format!(
+            "--temperature-k must be a positive number of kelvin, got {}",
             args.temperature_k
-        );
-        return EXIT_BAD_INPUT;
+        )));
     }
-    let file = match load_mechanism(&args.mechanism) {
-        Ok(f) => f,
-        Err(e) => {
-            report_load_error(&e);
-            return EXIT_BAD_INPUT;
-        }
-    };
+    let file = load_mechanism(&args.mechanism)?;
     let t = args.temperature_k;
     println!(
         "step energetics at {t} K (kJ/mol; Kc in SI units of mol/m3 to the power of the mole change)"
@@ -61,5 +54,5 @@ pub fn energetics(args: &EnergeticsArgs) -> u8 {
         }
     }
     println!("Ea rev is implied by thermochemistry: Ea fwd - dU (van 't Hoff); Ea fwd includes n R T for a temperature exponent n.");
-    EXIT_OK
+    Ok(())
 }

@@ -3,12 +3,13 @@
 //! The file's numbers read back as the fitted `f64` values exactly; the printed table is a
 //! short form for people.
 
-use crate::{FitThermoArgs, EXIT_BAD_INPUT, EXIT_OK};
+use crate::error::CliError;
+use crate::FitThermoArgs;
 use stoik::thermo::{fit_nasa7, read_janaf_tsv, thermo_file_entry, thermo_file_header};
 
-/// Fits every table and writes the thermo file; returns the exit status.
-pub fn fit_thermo(args: &FitThermoArgs) -> u8 {
-    let mut text = thermo_file_header(&[
+/// Fits every table and writes the thermo file.
+pub fn fit_thermo(args: &FitThermoArgs) -> Result<(), CliError> {
+    let mut file = thermo_file_header(&[
         "Fitted by `stoik fit-thermo` (7-coefficient polynomials, McBride, Gordon & Reno 1993 form;",
         "cp, d cp/dT, H and S continuous at the common temperature; H(298.15 K) = the table's formation enthalpy).",
         "Cite the source of the tables here.",
@@ -38,33 +39,20 @@ pub fn fit_thermo(args: &FitThermoArgs) -> u8 {
                     .map(|(_, to)| to.to_string())
             })
             .unwrap_or_else(|| stem.clone());
-        let table = match std::fs::read_to_string(path)
-            .map_err(|e| e.to_string())
-            .and_then(|t| read_janaf_tsv(&t).map_err(|e| e.to_string()))
-        {
-            Ok(t) => t,
-            Err(e) => {
-                eprintln!("{}: error: {e}", path.display());
-                return EXIT_BAD_INPUT;
-            }
-        };
-        let Some((lo, hi)) = table.temperature_span_k() else {
-            eprintln!("{}: error: no rows above 0 K", path.display());
-            return EXIT_BAD_INPUT;
-        };
+        let at = format!("{}: error: ", path.display());
+        let text = std::fs::read_to_string(path).map_err(|e| CliError::fit(&at, e))?;
+        let table = read_janaf_tsv(&text).map_err(|e| CliError::fit(&at, e))?;
+        let (lo, hi) = table
+            .temperature_span_k()
+            .ok_or_else(|| CliError::fit(&at, "no rows above 0 K"))?;
         let points = table.points(args.low_k.max(lo), args.high_k.min(hi));
-        let fit = match fit_nasa7(
+        let fit = fit_nasa7(
             &points,
             args.common_temperature_k,
             table.h298_formation_j_per_mol,
             None,
-        ) {
-            Ok(f) => f,
-            Err(e) => {
-                eprintln!("{}: error: cannot fit: {e}", path.display());
-                return EXIT_BAD_INPUT;
-            }
-        };
+        )
+        .map_err(|e| CliError::fit(format!("{at}cannot fit: "), e))?;
         let p = &fit.polynomial;
         println!(
             "{:<10} {:>8.1} {:>8.1} {:>8.1} {:>6} {:>12.2e} {:>12.2e} {:>12.1}",
@@ -83,18 +71,12 @@ pub fn fit_thermo(args: &FitThermoArgs) -> u8 {
             table.name,
             table.formula
         );
-        match thermo_file_entry(&name, &origin, &fit) {
-            Ok(entry) => text.push_str(&entry),
-            Err(e) => {
-                eprintln!("{}: error: {e}; nothing written", path.display());
-                return EXIT_BAD_INPUT;
-            }
-        }
+        let entry = thermo_file_entry(&name, &origin, &fit)
+            .map_err(|e| CliError::fit(&at, format!("{e}; nothing written")))?;
+        file.push_str(&entry);
     }
-    if let Err(e) = crate::out_file::write_text(&args.output, &text) {
-        eprintln!("error: cannot write {}: {e}", args.output.display());
-        return EXIT_BAD_INPUT;
-    }
+    crate::out_file::write_text(&args.output, &file)
+        .map_err(|e| CliError::write(&args.output, e))?;
     println!("wrote {}", args.output.display());
-    EXIT_OK
+    Ok(())
 }

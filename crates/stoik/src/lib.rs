@@ -5,11 +5,14 @@
 //! integrated with an implicit BDF method fed with analytic Jacobians.
 //!
 //! This facade re-exports the layers, each usable on its own:
-//! - [`mechanism`]: the SI mechanism model, the TOML mechanism and scenario formats, validation;
+//! - [`mechanism`]: the SI mechanism model, the TOML mechanism format, validation;
 //! - [`kinetics`]: a mechanism compiled to flat arrays (rates, production rates, Jacobians),
 //!   and its conservation laws ([`kinetics::conservation_laws`]);
 //! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics,
 //!   the drift of the conservation laws along a profile ([`reactor::ReactorConservation`]);
+//! - [`scenario`]: the scenario file (what to run) resolved into reactor terms, and scenario
+//!   runs as library calls ([`scenario::run_scenario`], [`scenario::run_batch`]) with every
+//!   warning;
 //! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables;
 //! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties.
 //!
@@ -47,4 +50,5 @@ pub use stoik_fit as fit;
 pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;
 pub use stoik_reactor as reactor;
+pub use stoik_scenario as scenario;
 pub use stoik_thermo as thermo;

@@ -5,23 +5,18 @@ mod check;
 mod conservation_out;
 mod csv_out;
 mod energetics;
+mod error;
 mod fit_rate;
 mod fit_thermo;
 mod out_file;
 mod run;
 
+use clap::builder::{PossibleValue, PossibleValuesParser, TypedValueParser};
 use clap::{Parser, Subcommand, ValueEnum};
 use std::path::PathBuf;
 use std::process::ExitCode;
-
-/// Exit status for success.
-pub const EXIT_OK: u8 = 0;
-/// Exit status when only warnings were found and `--strict` was given.
-pub const EXIT_WARNINGS: u8 = 1;
-/// Exit status for bad input (unreadable or invalid files, bad flags).
-pub const EXIT_BAD_INPUT: u8 = 2;
-/// Exit status for a failed integration (the partial profile is still written).
-pub const EXIT_INTEGRATION_FAILED: u8 = 3;
+use stoik::reactor::LinearAlgebra;
+use stoik::scenario::linear_algebra_from_name;
 
 #[derive(Parser)]
 #[command(
@@ -188,8 +183,8 @@ pub struct RunArgs {
     #[arg(long)]
     pub atol_mol_per_m3: Option<f64>,
     /// Override the linear algebra of the Newton iterations.
-    #[arg(long, value_enum)]
-    pub linear_algebra: Option<LinearAlgebraArg>,
+    #[arg(long, value_parser = linear_algebra_parser())]
+    pub linear_algebra: Option<LinearAlgebra>,
     /// Do not enforce non-negative concentrations in the step acceptance (for comparison
     /// with solvers that do not).
     #[arg(long)]
@@ -199,15 +194,17 @@ pub struct RunArgs {
     pub quiet: bool,
 }
 
-/// Linear algebra choice on the command line.
-#[derive(Clone, Copy, ValueEnum)]
-pub enum LinearAlgebraArg {
-    /// Dense below a size threshold, sparse above.
-    Auto,
-    /// Dense LU (small mechanisms).
-    Dense,
-    /// Sparse LU on the Jacobian's fixed pattern (large mechanisms).
-    Sparse,
+/// The reactor's linear algebra on the command line, spelled as in scenario files.
+fn linear_algebra_parser() -> impl TypedValueParser<Value = LinearAlgebra> {
+    PossibleValuesParser::new([
+        PossibleValue::new("auto").help("Dense below a size threshold, sparse above"),
+        PossibleValue::new("dense").help("Dense LU (small mechanisms)"),
+        PossibleValue::new("sparse")
+            .help("Sparse LU on the Jacobian's fixed pattern (large mechanisms)"),
+    ])
+    .try_map(|name| {
+        linear_algebra_from_name(&name).ok_or_else(|| format!("unknown linear algebra `{name}`"))
+    })
 }
 
 fn main() -> ExitCode {
@@ -220,7 +217,7 @@ fn main() -> ExitCode {
         libc::signal(libc::SIGPIPE, libc::SIG_DFL);
     }
     let cli = Cli::parse();
-    let status = match cli.command {
+    let result = match cli.command {
         Command::Check { file, strict } => check::check(&file, strict),
         Command::Run(args) => run::run(&args),
         Command::Batch(args) => batch::batch(&args),
@@ -228,5 +225,12 @@ fn main() -> ExitCode {
         Command::Energetics(args) => energetics::energetics(&args),
         Command::FitRate(args) => fit_rate::fit_rate(&args),
     };
-    ExitCode::from(status)
+    // Every error is reported here, once.
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("{e}");
+            ExitCode::from(e.exit_code())
+        }
+    }
 }

@@ -1,18 +1,15 @@
 //! Box-model conditions of a scenario: `[box]` (fixed species, emissions, deposition),
 //! `[sun]` (where and when) and `[[photolysis]]` (steps whose rate coefficient is a
-//! photolysis rate J(t)).
+//! photolysis rate J(t)), read into the reactor's [`BoxConditions`] once matched against a
+//! mechanism.
 
+use crate::read::{bare_name, named_values, quantity, NamedValue, SpeciesLookup};
+use stoik_mechanism::{
+    nearest_name, show_number, Diagnostic, Mechanism, Report, SourceLocation, SpannedValue as Value,
+};
+use stoik_mechanism::{time_to_s, ConcentrationUnit, SCENARIO_TIME_UNITS};
+use stoik_reactor::{BoxConditions, PhotolysisForm, PhotolysisRate, Sun};
 use toml::de::{DeTable, DeValue};
-use toml::Spanned;
-
-use crate::diagnostics::Diagnostic;
-use crate::model::Mechanism;
-use crate::scenario::{named_values, quantity, NamedValue, SpeciesLookup};
-use crate::suggest::nearest_name;
-use crate::toml_walk::{show_number, Report};
-use crate::units::{time_to_s, ConcentrationUnit};
-
-type Value<'i> = Spanned<DeValue<'i>>;
 
 const BOX_KEYS: &[&str] = &["fixed_species", "emissions", "deposition"];
 const SUN_KEYS: &[&str] = &["latitude", "day_of_year", "start_time"];
@@ -20,7 +17,6 @@ const PHOTOLYSIS_KEYS: &[&str] = &["step", "diurnal", "table"];
 const DIURNAL_KEYS: &[&str] = &["scale", "cos_power", "sec_factor"];
 const TABLE_KEYS: &[&str] = &["times", "rates"];
 const RATE_UNITS: &[&str] = &["/s", "/min", "/h"];
-const TIME_UNITS: &[&str] = &["s", "ms", "us", "min", "h"];
 
 /// A first-order rate coefficient in 1/s: `"2e-5 /s"`, `/min`, `/h`.
 fn rate_to_per_s(value: f64, unit: &str) -> Option<f64> {
@@ -42,43 +38,10 @@ fn emission_to_si(value: f64, unit: &str) -> Option<f64> {
 
 const EMISSION_UNITS: &[&str] = &["mol/m3/s", "mol/L/s", "molecule/cm3/s", "mol/cm3/s"];
 
-/// A photolysis rate as written in the scenario.
-#[derive(Debug, Clone, PartialEq)]
-pub enum PhotolysisForm {
-    /// J linear between points (times in s from the start of the run, J in 1/s).
-    Table {
-        /// Times in s, strictly increasing.
-        times_s: Vec<f64>,
-        /// J in 1/s.
-        rates_per_s: Vec<f64>,
-    },
-    /// J = scale cos(chi)^cos_power exp(-sec_factor / cos(chi)) in daylight, 0 at night
-    /// (needs `[sun]`).
-    Diurnal {
-        /// Scale in 1/s.
-        scale_per_s: f64,
-        /// Exponent of cos(chi).
-        cos_power: f64,
-        /// Factor of sec(chi) in the exponential.
-        sec_factor: f64,
-    },
-}
-
-/// Where and when the sun is (`[sun]`).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Sun {
-    /// Latitude in degrees north (-90 to 90).
-    pub latitude_deg: f64,
-    /// Day of the year at the start (1 to 366).
-    pub day_of_year: f64,
-    /// Local solar time at the start, in s after midnight.
-    pub start_solar_time_s: f64,
-}
-
 #[derive(Debug, Clone, PartialEq)]
 struct PhotolysisEntry {
     equation: String,
-    location: crate::model::SourceLocation,
+    location: SourceLocation,
     form: PhotolysisForm,
 }
 
@@ -90,31 +53,6 @@ pub(crate) struct BoxSpec {
     deposition: Vec<NamedValue>,
     sun: Option<Sun>,
     photolysis: Vec<PhotolysisEntry>,
-}
-
-/// The box conditions matched against a mechanism (indices into its species and steps).
-#[derive(Debug, Clone, PartialEq, Default)]
-pub struct ResolvedBox {
-    /// Species held at their initial concentration.
-    pub fixed_species: Vec<usize>,
-    /// Emissions as (species, mol/(m3 s)).
-    pub emissions_mol_per_m3_s: Vec<(usize, f64)>,
-    /// First-order losses as (species, 1/s).
-    pub deposition_per_s: Vec<(usize, f64)>,
-    /// Photolysis steps as (step index, form).
-    pub photolysis: Vec<(usize, PhotolysisForm)>,
-    /// The sun, when given.
-    pub sun: Option<Sun>,
-}
-
-impl ResolvedBox {
-    /// Whether there are no box conditions.
-    pub fn is_empty(&self) -> bool {
-        self.fixed_species.is_empty()
-            && self.emissions_mol_per_m3_s.is_empty()
-            && self.deposition_per_s.is_empty()
-            && self.photolysis.is_empty()
-    }
 }
 
 fn number_in(
@@ -145,12 +83,8 @@ pub(crate) fn read_box(r: &mut Report<'_>, root: &DeTable<'_>) -> Option<BoxSpec
                 match v.get_ref() {
                     DeValue::Array(items) => {
                         for item in items.iter() {
-                            match r.string("fixed_species", item) {
-                                Some(name) => spec.fixed.push(NamedValue {
-                                    name: name.to_string(),
-                                    value: 0.0,
-                                    location: r.location(item.span().start),
-                                }),
+                            match bare_name(r, "fixed_species", item) {
+                                Some(named) => spec.fixed.push(named),
                                 None => ok = false,
                             }
                         }
@@ -204,7 +138,7 @@ pub(crate) fn read_box(r: &mut Report<'_>, root: &DeTable<'_>) -> Option<BoxSpec
                 let day = number_in(r, t, "day_of_year", "[sun]", at);
                 let start = match t.get("start_time") {
                     None => Some(0.0),
-                    Some(v) => quantity(r, "start_time", v, "s", time_to_s, TIME_UNITS),
+                    Some(v) => quantity(r, "start_time", v, "s", time_to_s, SCENARIO_TIME_UNITS),
                 };
                 if let Some(lat) = latitude.filter(|l| l.is_nan() || l.abs() > 90.0) {
                     r.error(
@@ -338,7 +272,7 @@ fn read_photolysis(r: &mut Report<'_>, item: &Value<'_>) -> Option<PhotolysisEnt
                 }
                 Some(out)
             };
-            let times = list("times", "s", time_to_s, TIME_UNITS);
+            let times = list("times", "s", time_to_s, SCENARIO_TIME_UNITS);
             let rates = list("rates", "/s", rate_to_per_s, RATE_UNITS);
             let (times_s, rates_per_s) = (times?, rates?);
             if times_s.is_empty()
@@ -385,13 +319,10 @@ impl BoxSpec {
         species: &SpeciesLookup<'_>,
         file: &str,
         diagnostics: &mut Vec<Diagnostic>,
-    ) -> ResolvedBox {
+    ) -> BoxConditions {
         let mut lookup =
             |named: &NamedValue, what: &str| species.find(named, what, &mut *diagnostics);
-        let mut out = ResolvedBox {
-            sun: self.sun,
-            ..Default::default()
-        };
+        let mut out = BoxConditions::default();
         for n in &self.fixed {
             if let Some(i) = lookup(n, "[box] fixed_species") {
                 out.fixed_species.push(i);
@@ -399,12 +330,12 @@ impl BoxSpec {
         }
         for n in &self.emissions {
             if let Some(i) = lookup(n, "[box] emissions") {
-                out.emissions_mol_per_m3_s.push((i, n.value));
+                out.emissions.push((i, n.value));
             }
         }
         for n in &self.deposition {
             if let Some(i) = lookup(n, "[box] deposition") {
-                out.deposition_per_s.push((i, n.value));
+                out.deposition.push((i, n.value));
             }
         }
         for p in &self.photolysis {
@@ -429,7 +360,13 @@ impl BoxSpec {
                             ),
                         ));
                     } else {
-                        out.photolysis.push((*j, p.form.clone()));
+                        out.photolysis.push((
+                            *j,
+                            PhotolysisRate {
+                                form: p.form.clone(),
+                                sun: self.sun,
+                            },
+                        ));
                     }
                 }
                 [] => {

@@ -1,0 +1,357 @@
+//! The scenario file (TOML, format version 1): which mechanism to run, in which reactor, from
+//! which initial state, with which output times and solver settings.
+//!
+//! [`parse_scenario`] checks the file on its own (every problem at once, with line:column),
+//! one reader per section (`sections.rs`, `box_sections.rs`); a [`crate::RunPlan`] then
+//! matches the species names against a loaded mechanism and turns the scenario into reactor
+//! terms.
+
+use crate::box_sections::{read_box, BoxSpec};
+use crate::read::NamedValue;
+use crate::sections::{read_ignition, read_initial, read_output, read_reactor, read_solver};
+use std::path::{Path, PathBuf};
+use stoik_mechanism::ConcentrationUnit;
+use stoik_mechanism::{
+    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report,
+};
+use stoik_reactor::{Constraint, Energy, LinearAlgebra};
+use toml::de::{DeTable, DeValue};
+
+/// The scenario format version this crate reads (`stoik_scenario = 1`).
+pub const SCENARIO_FORMAT_VERSION: i64 = 1;
+/// Tolerance on the sum of initial mole fractions (dimensionless; must be 1 within this).
+pub const MOLE_FRACTION_SUM_TOLERANCE: f64 = 1e-6;
+/// Largest number of output points a grid may ask for (bounds memory on hostile input).
+pub const MAX_GRID_POINTS: u64 = 10_000_000;
+
+/// When to write output rows (t = 0 is always the first row, `end_time` the last).
+#[derive(Debug, Clone, PartialEq)]
+pub enum OutputTimes {
+    /// Explicit times in s, strictly increasing, within [0, end_time].
+    List(Vec<f64>),
+    /// `points` times evenly spaced from 0 to end_time inclusive (`points >= 2`).
+    Linear {
+        /// Number of output times, including 0 and end_time.
+        points: usize,
+    },
+    /// t = 0, then `points` times log-spaced from `first_s` to end_time inclusive.
+    Logarithmic {
+        /// First positive output time in s (below end_time).
+        first_s: f64,
+        /// Number of log-spaced times, including `first_s` and end_time (`points >= 2`).
+        points: usize,
+    },
+}
+
+/// The initial state as written: concentrations or mole fractions of named species.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum InitialState {
+    /// Concentrations in mol/m3.
+    Concentrations(Vec<NamedValue>),
+    /// Mole fractions (dimensionless, sum 1).
+    MoleFractions(Vec<NamedValue>),
+}
+
+/// The `[ignition]` choice as written, the species still named.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum IgnitionSpec {
+    /// The largest dT/dt (`criterion = "max-temperature-rate"`).
+    MaxTemperatureRate,
+    /// The peak of a species (`criterion = "species-peak"`, `species = "OH"`).
+    SpeciesPeak(NamedValue),
+    /// A temperature rise in K (`criterion = "temperature-rise"`, `rise = "400 K"`).
+    TemperatureRise(f64),
+}
+
+/// A parsed scenario file, every quantity in SI, species still named. Run it through a
+/// [`crate::RunPlan`], which matches it against its mechanism and takes command-line style
+/// overrides.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scenario {
+    /// Optional title.
+    pub title: Option<String>,
+    /// The mechanism file, resolved against the scenario file's folder.
+    pub mechanism_path: PathBuf,
+    /// What the reactor holds constant (`[reactor] kind`, second half).
+    pub constraint: Constraint,
+    /// How the temperature evolves (`[reactor] kind`, first half; a prescribed kind carries
+    /// its `temperature_history`).
+    pub energy: Energy,
+    /// Temperature in K: the held one (isothermal), the initial one (adiabatic), or the
+    /// history's value at t = 0 (prescribed).
+    pub temperature_k: f64,
+    /// Pressure in Pa, when given (needed for mole fractions).
+    pub pressure_pa: Option<f64>,
+    /// Simulated time span in s (from t = 0).
+    pub end_time_s: f64,
+    /// Output times.
+    pub output: OutputTimes,
+    /// Unit of the output concentration columns.
+    pub output_concentration_unit: ConcentrationUnit,
+    /// Relative tolerance of the integrator (dimensionless, in (0, 1)).
+    pub relative_tolerance: f64,
+    /// Default absolute tolerance in mol/m3 (per-species overrides are kept privately).
+    pub absolute_tolerance_mol_per_m3: f64,
+    /// Linear algebra of the Newton iterations.
+    pub linear_algebra: LinearAlgebra,
+    /// Maximum number of integrator steps.
+    pub max_steps: usize,
+    /// Newton convergence tolerance in units of the error weights (dimensionless); `None`
+    /// for the integrator's default.
+    pub newton_tolerance: Option<f64>,
+    /// Whether round-off drift of the conserved combinations is projected away.
+    pub keep_invariants: bool,
+    pub(crate) initial: InitialState,
+    pub(crate) tolerance_overrides: Vec<NamedValue>,
+    pub(crate) ignition: Option<IgnitionSpec>,
+    pub(crate) box_spec: BoxSpec,
+    pub(crate) file: String,
+}
+
+impl Scenario {
+    /// The file label the scenario was parsed from (used in resolution diagnostics).
+    pub fn file_label(&self) -> &str {
+        &self.file
+    }
+
+    /// Whether the initial state is given as mole fractions (which then depend on
+    /// `temperature_k` and `pressure_pa`).
+    pub fn uses_mole_fractions(&self) -> bool {
+        matches!(self.initial, InitialState::MoleFractions(_))
+    }
+
+    /// The reactor kind as written in files, e.g. `"adiabatic-constant-volume"`.
+    pub fn kind_label(&self) -> &'static str {
+        kind_label(self.constraint, &self.energy)
+    }
+}
+
+/// Reads and parses the scenario file at `path`; the mechanism path is resolved against the
+/// file's folder. Diagnostics name the path as given.
+pub fn load_scenario(path: &Path) -> Result<(Scenario, Diagnostics), LoadError> {
+    let label = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| LoadError::Io {
+        file: label.clone(),
+        reason: e.to_string(),
+    })?;
+    let base = path.parent().unwrap_or_else(|| Path::new(""));
+    parse_scenario(&text, &label, base)
+}
+
+/// Parses and validates scenario text; `file_label` names the file in diagnostics and
+/// `base_dir` is the folder the `mechanism` path is relative to.
+///
+/// On success returns the scenario and its warnings; otherwise every problem found.
+pub fn parse_scenario(
+    text: &str,
+    file_label: &str,
+    base_dir: &Path,
+) -> Result<(Scenario, Diagnostics), LoadError> {
+    let mut r = Report::new(text, file_label);
+    let Some(doc) = parse_document(text, &mut r) else {
+        return Err(r.into_error());
+    };
+    let scenario = read_scenario(&mut r, doc.get_ref(), base_dir, file_label);
+    let diagnostics = r.finish();
+    match scenario {
+        Some(s) if !diagnostics.has_errors() => Ok((s, diagnostics)),
+        _ => Err(LoadError::Invalid { diagnostics }),
+    }
+}
+
+const TOP_KEYS: &[&str] = &[
+    "stoik_scenario",
+    "title",
+    "mechanism",
+    "reactor",
+    "initial",
+    "output",
+    "solver",
+    "ignition",
+    "box",
+    "sun",
+    "photolysis",
+];
+
+/// Reads every section (each reports its own problems) and assembles the scenario when all
+/// of them were read.
+fn read_scenario(
+    r: &mut Report<'_>,
+    root: &DeTable<'_>,
+    base_dir: &Path,
+    file: &str,
+) -> Option<Scenario> {
+    r.check_keys(root, TOP_KEYS, "the scenario file");
+    read_version(r, root);
+    let title = root
+        .get("title")
+        .and_then(|v| r.string("title", v).map(str::to_string));
+    let mechanism_path = read_mechanism_path(r, root, base_dir);
+    let reactor = read_reactor(r, root);
+    let initial = read_initial(r, root, reactor.pressure_given);
+    let output = read_output(r, root);
+    let solver = read_solver(r, root, output.unit);
+    let ignition = read_ignition(r, root);
+    let box_spec = read_box(r, root);
+    let energy = reactor.energy?;
+    Some(Scenario {
+        title,
+        mechanism_path: mechanism_path?,
+        constraint: reactor.constraint?,
+        energy,
+        temperature_k: reactor.temperature_k?,
+        ignition: ignition?,
+        box_spec: box_spec?,
+        pressure_pa: if reactor.pressure_given {
+            Some(reactor.pressure_pa?)
+        } else {
+            None
+        },
+        end_time_s: output.end_time_s?,
+        output: output.times?,
+        output_concentration_unit: output.unit?,
+        relative_tolerance: solver.relative_tolerance?,
+        absolute_tolerance_mol_per_m3: solver.absolute_tolerance_mol_per_m3?,
+        linear_algebra: solver.linear_algebra?,
+        max_steps: solver.max_steps?,
+        newton_tolerance: solver.newton_tolerance?,
+        keep_invariants: solver.keep_invariants?,
+        initial: initial?,
+        tolerance_overrides: solver.tolerance_overrides?,
+        file: file.to_string(),
+    })
+}
+
+fn read_version(r: &mut Report<'_>, root: &DeTable<'_>) {
+    let help = Some("the first line of a version-1 scenario is `stoik_scenario = 1`".to_string());
+    match root.get("stoik_scenario") {
+        None => r.file_error("missing format version `stoik_scenario`", help),
+        Some(v) => match v.get_ref() {
+            DeValue::Integer(_) => {
+                let version = value_as_number(v.get_ref());
+                if version != Some(SCENARIO_FORMAT_VERSION as f64) {
+                    r.error(
+                        v.span().start,
+                        format!(
+                            "unsupported scenario format version {}; this stoik reads version {SCENARIO_FORMAT_VERSION}",
+                            version.map(show_number).unwrap_or_default()
+                        ),
+                        None,
+                    );
+                }
+            }
+            _ => r.wrong_type("stoik_scenario", v, "the integer 1"),
+        },
+    }
+}
+
+/// Reads `mechanism = "path"` (relative to `base_dir`); the file must exist.
+fn read_mechanism_path(r: &mut Report<'_>, root: &DeTable<'_>, base_dir: &Path) -> Option<PathBuf> {
+    let Some(v) = root.get("mechanism") else {
+        r.file_error(
+            "missing `mechanism` (the mechanism file to run)",
+            Some(
+                "e.g. mechanism = \"my-mechanism.toml\", relative to this file's folder"
+                    .to_string(),
+            ),
+        );
+        return None;
+    };
+    let name = r.string("mechanism", v)?;
+    let path = base_dir.join(name);
+    if path.is_file() {
+        Some(path)
+    } else {
+        r.error(
+            v.span().start,
+            format!(
+                "mechanism file `{name}` not found (looked for `{}`)",
+                path.display()
+            ),
+            Some("the path is relative to the scenario file's folder".to_string()),
+        );
+        None
+    }
+}
+
+/// How the temperature evolves, as named in the first half of a reactor kind.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum Thermal {
+    Isothermal,
+    Adiabatic,
+    Prescribed,
+}
+
+/// The reactor kinds as written in files, with their meaning.
+const KINDS: [(&str, Constraint, Thermal); 6] = [
+    (
+        "isothermal-constant-volume",
+        Constraint::ConstantVolume,
+        Thermal::Isothermal,
+    ),
+    (
+        "isothermal-constant-pressure",
+        Constraint::ConstantPressure,
+        Thermal::Isothermal,
+    ),
+    (
+        "adiabatic-constant-volume",
+        Constraint::ConstantVolume,
+        Thermal::Adiabatic,
+    ),
+    (
+        "adiabatic-constant-pressure",
+        Constraint::ConstantPressure,
+        Thermal::Adiabatic,
+    ),
+    (
+        "prescribed-temperature-constant-volume",
+        Constraint::ConstantVolume,
+        Thermal::Prescribed,
+    ),
+    (
+        "prescribed-temperature-constant-pressure",
+        Constraint::ConstantPressure,
+        Thermal::Prescribed,
+    ),
+];
+
+/// Reactor kind names accepted in files (`[reactor] kind`).
+pub const REACTOR_KINDS: [&str; 6] = [
+    KINDS[0].0, KINDS[1].0, KINDS[2].0, KINDS[3].0, KINDS[4].0, KINDS[5].0,
+];
+
+/// The constraint and temperature law of a kind name.
+pub(crate) fn parse_kind(text: &str) -> Option<(Constraint, Thermal)> {
+    KINDS
+        .iter()
+        .find(|(name, _, _)| *name == text)
+        .map(|&(_, c, t)| (c, t))
+}
+
+/// The file name of the reactor kind made of `constraint` and `energy`.
+pub fn kind_label(constraint: Constraint, energy: &Energy) -> &'static str {
+    let thermal = match energy {
+        Energy::Isothermal => Thermal::Isothermal,
+        Energy::Adiabatic => Thermal::Adiabatic,
+        Energy::Prescribed(_) => Thermal::Prescribed,
+    };
+    KINDS
+        .iter()
+        .find(|(_, c, t)| *c == constraint && *t == thermal)
+        .map_or("?", |(name, _, _)| name)
+}
+
+/// Linear algebra names accepted in files (`[solver] linear_algebra`) and on the command
+/// line.
+pub const LINEAR_ALGEBRA_NAMES: [&str; 3] = ["auto", "dense", "sparse"];
+
+/// The linear algebra of a name as written in files: `"auto"`, `"dense"` or `"sparse"`.
+pub fn linear_algebra_from_name(text: &str) -> Option<LinearAlgebra> {
+    match text {
+        "auto" => Some(LinearAlgebra::Auto),
+        "dense" => Some(LinearAlgebra::Dense),
+        "sparse" => Some(LinearAlgebra::Sparse),
+        _ => None,
+    }
+}

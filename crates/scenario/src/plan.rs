@@ -1,0 +1,475 @@
+//! The run plan: a scenario matched against its mechanism and turned, in this one place, into
+//! the reactor's terms (reactor model, initial state, output times, integration options,
+//! ignition criterion and the watches it needs). Overrides (a temperature, a tolerance, an
+//! end time...) are applied through methods that check the value and resolve the plan again.
+
+use crate::error::ScenarioError;
+use crate::file::{IgnitionSpec, InitialState, OutputTimes, Scenario};
+use crate::read::{NamedValue, SpeciesLookup};
+use std::path::Path;
+use std::sync::Arc;
+use stoik_mechanism::ConcentrationUnit;
+use stoik_mechanism::{
+    load_mechanism, positive_finite_problem, Diagnostic, Diagnostics, LoadError, Mechanism,
+    MechanismFile, GAS_CONSTANT,
+};
+use stoik_reactor::{
+    BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel,
+};
+
+/// A scenario resolved against its mechanism into reactor terms, ready to run
+/// ([`RunPlan::run`], [`crate::run_batch`]).
+///
+/// Every value is SI: temperatures in K, concentrations and absolute tolerances in mol/m3,
+/// times in s. The plan keeps the scenario it came from, so an override that changes how
+/// the file's values convert (a temperature or pressure with mole fractions, an end time
+/// with a grid) resolves the whole plan again; a rejected override leaves the plan as it was.
+#[derive(Debug, Clone)]
+pub struct RunPlan {
+    scenario: Scenario,
+    mechanism: Arc<MechanismFile>,
+    file_warnings: Vec<Diagnostic>,
+    absolute_tolerance_override_mol_per_m3: Option<f64>,
+    non_negative: bool,
+    resolved: Resolved,
+}
+
+/// The reactor terms of a plan.
+#[derive(Debug, Clone)]
+struct Resolved {
+    model: ReactorModel,
+    initial_mol_per_m3: Vec<f64>,
+    output_times_s: Vec<f64>,
+    options: IntegrationOptions,
+    ignition: Option<IgnitionCriterion>,
+}
+
+impl RunPlan {
+    /// Loads the scenario file at `path` and its mechanism and resolves them.
+    pub fn load(path: &Path) -> Result<RunPlan, ScenarioError> {
+        let (scenario, warnings) = crate::file::load_scenario(path)?;
+        let mechanism = Arc::new(load_mechanism(&scenario.mechanism_path)?);
+        RunPlan::new(scenario, warnings, mechanism)
+    }
+
+    /// Resolves `scenario` (with its file's `warnings`) against `mechanism`: every species
+    /// name of the scenario must be in the mechanism (all unknown names are reported at once,
+    /// located, with the nearest name). The plan keeps the mechanism file's warnings too.
+    pub fn new(
+        scenario: Scenario,
+        warnings: Diagnostics,
+        mechanism: Arc<MechanismFile>,
+    ) -> Result<RunPlan, ScenarioError> {
+        let resolved = resolve(&scenario, &mechanism.mechanism, None, true)?;
+        let mut file_warnings = warnings.0;
+        file_warnings.extend(mechanism.warnings.0.iter().cloned());
+        Ok(RunPlan {
+            scenario,
+            mechanism,
+            file_warnings,
+            absolute_tolerance_override_mol_per_m3: None,
+            non_negative: true,
+            resolved,
+        })
+    }
+
+    /// The scenario as read, with the overrides applied so far.
+    pub fn scenario(&self) -> &Scenario {
+        &self.scenario
+    }
+
+    /// The mechanism.
+    pub fn mechanism(&self) -> &Mechanism {
+        &self.mechanism.mechanism
+    }
+
+    /// The loaded mechanism file (shared between the plans of one batch).
+    pub fn mechanism_file(&self) -> &Arc<MechanismFile> {
+        &self.mechanism
+    }
+
+    /// Warnings of the scenario file, then of the mechanism file.
+    pub fn file_warnings(&self) -> &[Diagnostic] {
+        &self.file_warnings
+    }
+
+    /// The reactor: constraint, energy law (with its temperature history) and box conditions.
+    pub fn model(&self) -> &ReactorModel {
+        &self.resolved.model
+    }
+
+    /// Temperature in K: held (isothermal), initial (adiabatic), or the scenario's value for
+    /// a prescribed history (which the reactor then ignores).
+    pub fn temperature_k(&self) -> f64 {
+        self.scenario.temperature_k
+    }
+
+    /// Initial concentration of every mechanism species in mol/m3 (species order).
+    pub fn initial_mol_per_m3(&self) -> &[f64] {
+        &self.resolved.initial_mol_per_m3
+    }
+
+    /// Output times in s: 0 first, the end time last, strictly increasing.
+    pub fn output_times_s(&self) -> &[f64] {
+        &self.resolved.output_times_s
+    }
+
+    /// Integration options: tolerances (absolute in mol/m3, per species), linear algebra,
+    /// step budget, non-negativity, invariants, Newton tolerance and the watches of the
+    /// ignition criterion.
+    pub fn options(&self) -> &IntegrationOptions {
+        &self.resolved.options
+    }
+
+    /// How the ignition delay is reported: the `[ignition]` choice, or the largest dT/dt
+    /// when the reactor is adiabatic; `None` otherwise.
+    pub fn ignition(&self) -> Option<IgnitionCriterion> {
+        self.resolved.ignition
+    }
+
+    /// The unit of the output concentration columns.
+    pub fn output_concentration_unit(&self) -> ConcentrationUnit {
+        self.scenario.output_concentration_unit
+    }
+
+    /// The temperature span the run is planned at, (lowest, highest) in K: the held or
+    /// initial temperature, or the extremes of a prescribed history.
+    pub fn planned_temperature_span_k(&self) -> (f64, f64) {
+        match &self.scenario.energy {
+            Energy::Prescribed(history) => history
+                .temperatures_k()
+                .iter()
+                .fold((f64::INFINITY, 0.0f64), |(lo, hi), &t| {
+                    (lo.min(t), hi.max(t))
+                }),
+            _ => (self.scenario.temperature_k, self.scenario.temperature_k),
+        }
+    }
+
+    /// This plan as one case of a reactor batch ([`stoik_reactor::integrate_batch`]).
+    pub fn batch_case(&self) -> BatchCase {
+        BatchCase {
+            model: self.resolved.model.clone(),
+            temperature_k: self.scenario.temperature_k,
+            initial_mol_per_m3: self.resolved.initial_mol_per_m3.clone(),
+            output_times_s: self.resolved.output_times_s.clone(),
+            rate_multipliers: Vec::new(),
+            options: self.resolved.options.clone(),
+        }
+    }
+
+    /// Overrides the temperature (K, finite and positive): the held or initial one; mole
+    /// fractions are converted again. Refused for a prescribed temperature history.
+    pub fn set_temperature_k(&mut self, temperature_k: f64) -> Result<(), ScenarioError> {
+        positive("temperature", "a positive number of kelvin", temperature_k)?;
+        if matches!(self.scenario.energy, Energy::Prescribed(_)) {
+            return Err(ScenarioError::TemperaturePrescribed);
+        }
+        self.edit(|s| s.temperature_k = temperature_k)
+    }
+
+    /// Overrides the pressure (Pa, finite and positive); mole fractions are converted again.
+    pub fn set_pressure_pa(&mut self, pressure_pa: f64) -> Result<(), ScenarioError> {
+        positive("pressure", "a positive number of pascals", pressure_pa)?;
+        self.edit(|s| s.pressure_pa = Some(pressure_pa))
+    }
+
+    /// Overrides the end time (s, finite and positive); the output times follow.
+    pub fn set_end_time_s(&mut self, end_time_s: f64) -> Result<(), ScenarioError> {
+        positive("end time", "a positive number of seconds", end_time_s)?;
+        self.edit(|s| s.end_time_s = end_time_s)
+    }
+
+    /// Overrides the output times (within the end time).
+    pub fn set_output_times(&mut self, output: OutputTimes) -> Result<(), ScenarioError> {
+        self.edit(|s| s.output = output)
+    }
+
+    /// Overrides the relative tolerance (dimensionless, strictly between 0 and 1).
+    pub fn set_relative_tolerance(&mut self, relative_tolerance: f64) -> Result<(), ScenarioError> {
+        if !(relative_tolerance > 0.0 && relative_tolerance < 1.0) {
+            return Err(ScenarioError::BadOverride {
+                what: "relative tolerance",
+                requirement: "between 0 and 1",
+                value: relative_tolerance,
+            });
+        }
+        self.edit(|s| s.relative_tolerance = relative_tolerance)
+    }
+
+    /// Overrides the absolute tolerance of every species, per-species values of the file
+    /// included (mol/m3, finite and positive).
+    pub fn set_absolute_tolerance_mol_per_m3(
+        &mut self,
+        absolute_tolerance_mol_per_m3: f64,
+    ) -> Result<(), ScenarioError> {
+        positive(
+            "absolute tolerance",
+            "a positive number of mol/m3",
+            absolute_tolerance_mol_per_m3,
+        )?;
+        let old = self
+            .absolute_tolerance_override_mol_per_m3
+            .replace(absolute_tolerance_mol_per_m3);
+        if let Err(e) = self.edit(|_| {}) {
+            self.absolute_tolerance_override_mol_per_m3 = old;
+            return Err(e);
+        }
+        Ok(())
+    }
+
+    /// Overrides the linear algebra of the Newton iterations.
+    pub fn set_linear_algebra(&mut self, linear_algebra: LinearAlgebra) {
+        self.scenario.linear_algebra = linear_algebra;
+        self.resolved.options.linear_algebra = linear_algebra;
+    }
+
+    /// Overrides the step budget (at least 1).
+    pub fn set_max_steps(&mut self, max_steps: usize) -> Result<(), ScenarioError> {
+        if max_steps == 0 {
+            return Err(ScenarioError::BadOverride {
+                what: "step budget",
+                requirement: "at least 1",
+                value: 0.0,
+            });
+        }
+        self.scenario.max_steps = max_steps;
+        self.resolved.options.max_steps = max_steps;
+        Ok(())
+    }
+
+    /// Whether non-negative concentrations are enforced in the step acceptance (default
+    /// `true`).
+    pub fn set_non_negative(&mut self, non_negative: bool) {
+        self.non_negative = non_negative;
+        self.resolved.options.non_negative = non_negative;
+    }
+
+    /// Applies `change` to a copy of the scenario and resolves it; keeps the result only
+    /// when it resolves.
+    fn edit(&mut self, change: impl FnOnce(&mut Scenario)) -> Result<(), ScenarioError> {
+        let mut scenario = self.scenario.clone();
+        change(&mut scenario);
+        self.resolved = resolve(
+            &scenario,
+            &self.mechanism.mechanism,
+            self.absolute_tolerance_override_mol_per_m3,
+            self.non_negative,
+        )?;
+        self.scenario = scenario;
+        Ok(())
+    }
+}
+
+/// Checks that an override is finite and positive.
+fn positive(
+    what: &'static str,
+    requirement: &'static str,
+    value: f64,
+) -> Result<(), ScenarioError> {
+    if value.is_finite() && value > 0.0 {
+        Ok(())
+    } else {
+        Err(ScenarioError::BadOverride {
+            what,
+            requirement,
+            value,
+        })
+    }
+}
+
+impl Scenario {
+    /// Output times in s for the current `end_time_s` and `output`: 0.0 first, end_time last,
+    /// strictly increasing; `Err` with a message if the settings are inconsistent.
+    pub fn output_times_s(&self) -> Result<Vec<f64>, String> {
+        let end = self.end_time_s;
+        if positive_finite_problem(end).is_some() {
+            return Err(format!("end time {end} s must be positive and finite"));
+        }
+        let mut times = vec![0.0];
+        match &self.output {
+            OutputTimes::List(list) => {
+                for &t in list {
+                    if !(t.is_finite() && (0.0..=end).contains(&t)) {
+                        return Err(format!("output time {t} s is outside [0, {end}] s"));
+                    }
+                    let last = *times.last().unwrap_or(&0.0);
+                    if t < last || (t == last && t != 0.0) {
+                        return Err(format!(
+                            "output times must be strictly increasing ({t} s after {last} s)"
+                        ));
+                    }
+                    if t > last {
+                        times.push(t);
+                    }
+                }
+                if *times.last().unwrap_or(&0.0) < end {
+                    times.push(end);
+                }
+            }
+            OutputTimes::Linear { points } => {
+                let n = (*points).max(2);
+                times.extend((1..n).map(|i| end * i as f64 / (n - 1) as f64));
+                if let Some(last) = times.last_mut() {
+                    *last = end;
+                }
+            }
+            OutputTimes::Logarithmic { first_s, points } => {
+                let first = *first_s;
+                if !(first > 0.0 && first < end) {
+                    return Err(format!(
+                        "first log output time {first} s must be in (0, {end}) s"
+                    ));
+                }
+                let n = (*points).max(2);
+                let ratio = (end / first).ln();
+                times.extend((0..n).map(|i| first * (ratio * i as f64 / (n - 1) as f64).exp()));
+                if let Some(last) = times.last_mut() {
+                    *last = end;
+                }
+            }
+        }
+        Ok(times)
+    }
+}
+
+/// Initial concentrations (mol/m3, species order) of `scenario`: mole fractions become
+/// concentrations by the ideal gas law, c_i = x_i P / (R T).
+fn initial_state(
+    scenario: &Scenario,
+    n: usize,
+    find: &mut dyn FnMut(&NamedValue, &str) -> Option<usize>,
+    diagnostics: &mut Vec<Diagnostic>,
+) -> Vec<f64> {
+    let file = &scenario.file;
+    let mut initial = vec![0.0; n];
+    let temperature_ok = positive_finite_problem(scenario.temperature_k).is_none();
+    if !temperature_ok {
+        diagnostics.push(Diagnostic::error(
+            file,
+            None,
+            format!(
+                "temperature {} K must be positive and finite",
+                scenario.temperature_k
+            ),
+        ));
+    }
+    match &scenario.initial {
+        InitialState::Concentrations(values) => {
+            for named in values {
+                if let Some(i) = find(named, "[initial] concentrations") {
+                    initial[i] += named.value;
+                }
+            }
+        }
+        InitialState::MoleFractions(values) => {
+            let total = match scenario.pressure_pa {
+                Some(p) if positive_finite_problem(p).is_none() && temperature_ok => {
+                    Some(p / (GAS_CONSTANT * scenario.temperature_k))
+                }
+                _ => {
+                    diagnostics.push(Diagnostic::error(
+                        file,
+                        None,
+                        "mole fractions need a positive pressure and temperature",
+                    ));
+                    None
+                }
+            };
+            for named in values {
+                if let (Some(i), Some(total)) = (find(named, "[initial] mole_fractions"), total) {
+                    initial[i] += named.value * total;
+                }
+            }
+        }
+    }
+    initial
+}
+
+/// Matches `scenario` against `mechanism` and builds the reactor terms; every unknown name
+/// and inconsistent setting is reported at once.
+fn resolve(
+    scenario: &Scenario,
+    mechanism: &Mechanism,
+    absolute_tolerance_override_mol_per_m3: Option<f64>,
+    non_negative: bool,
+) -> Result<Resolved, LoadError> {
+    let file = scenario.file.as_str();
+    let mut diagnostics = Vec::new();
+    let species = SpeciesLookup::new(mechanism, file);
+    let mut find_diagnostics = Vec::new();
+    let mut find =
+        |named: &NamedValue, what: &str| species.find(named, what, &mut find_diagnostics);
+    let n = mechanism.species.len();
+    let initial = initial_state(scenario, n, &mut find, &mut diagnostics);
+
+    let atol = scenario.absolute_tolerance_mol_per_m3;
+    let mut tolerances = vec![atol; n];
+    if positive_finite_problem(atol).is_some() {
+        diagnostics.push(Diagnostic::error(
+            file,
+            None,
+            format!("absolute tolerance {atol} mol/m3 must be positive and finite"),
+        ));
+    }
+    for named in &scenario.tolerance_overrides {
+        if let Some(i) = find(named, "[solver] absolute_tolerance_for") {
+            tolerances[i] = named.value;
+        }
+    }
+    if let Some(a) = absolute_tolerance_override_mol_per_m3 {
+        tolerances.iter_mut().for_each(|x| *x = a);
+    }
+    let ignition = match &scenario.ignition {
+        Some(IgnitionSpec::MaxTemperatureRate) => Some(IgnitionCriterion::MaxTemperatureRate),
+        Some(IgnitionSpec::SpeciesPeak(named)) => {
+            find(named, "[ignition] species").map(IgnitionCriterion::SpeciesMaximum)
+        }
+        Some(IgnitionSpec::TemperatureRise(k)) => Some(IgnitionCriterion::TemperatureRise(*k)),
+        None if scenario.energy == Energy::Adiabatic => Some(IgnitionCriterion::MaxTemperatureRate),
+        None => None,
+    };
+    diagnostics.append(&mut find_diagnostics);
+    let conditions = scenario
+        .box_spec
+        .resolve(mechanism, &species, file, &mut diagnostics);
+    let output_times_s = match scenario.output_times_s() {
+        Ok(t) => t,
+        Err(message) => {
+            diagnostics.push(Diagnostic::error(file, None, message));
+            Vec::new()
+        }
+    };
+    if !diagnostics.is_empty() {
+        diagnostics.sort_by_key(|d| d.location.map(|l| (l.line, l.column)).unwrap_or((0, 0)));
+        return Err(LoadError::Invalid {
+            diagnostics: Diagnostics(diagnostics),
+        });
+    }
+    // The ignition delay is located on the solver's own steps, not on the output grid.
+    let initial_k = match &scenario.energy {
+        Energy::Prescribed(history) => history.temperature_at(0.0),
+        _ => scenario.temperature_k,
+    };
+    let watch = ignition.map_or_else(Vec::new, |c| c.watches(initial_k));
+    Ok(Resolved {
+        model: ReactorModel {
+            constraint: scenario.constraint,
+            energy: scenario.energy.clone(),
+            conditions,
+        },
+        initial_mol_per_m3: initial,
+        output_times_s,
+        options: IntegrationOptions {
+            relative_tolerance: scenario.relative_tolerance,
+            absolute_tolerances_mol_per_m3: tolerances,
+            linear_algebra: scenario.linear_algebra,
+            max_steps: scenario.max_steps,
+            non_negative,
+            watch,
+            keep_invariants: scenario.keep_invariants,
+            newton_tolerance: scenario.newton_tolerance,
+        },
+        ignition,
+    })
+}

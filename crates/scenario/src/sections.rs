@@ -1,0 +1,664 @@
+//! One reader per section of the scenario file: `[reactor]`, `[initial]`, `[output]`,
+//! `[solver]` and `[ignition]` (the box sections are in `box_sections.rs`). Each reports its
+//! own problems; a field is `None` when its value could not be read.
+
+use crate::file::{
+    parse_kind, IgnitionSpec, InitialState, OutputTimes, Thermal, LINEAR_ALGEBRA_NAMES,
+    MAX_GRID_POINTS, MOLE_FRACTION_SUM_TOLERANCE, REACTOR_KINDS,
+};
+use crate::read::{
+    bare_name, concentration, concentration_unit, named_values, quantity, require_positive,
+    section, Converter,
+};
+use stoik_mechanism::{positive_finite_problem, show_number, Report, SpannedValue as Value};
+use stoik_mechanism::{
+    pressure_to_pa, temperature_to_k, time_to_s, ConcentrationUnit, PRESSURE_UNITS,
+    SCENARIO_TIME_UNITS, TEMPERATURE_UNITS,
+};
+use stoik_reactor::{Constraint, Energy, LinearAlgebra, TemperatureHistory};
+use toml::de::{DeTable, DeValue};
+
+const REACTOR_KEYS: &[&str] = &["kind", "temperature", "pressure", "temperature_history"];
+const HISTORY_KEYS: &[&str] = &["times", "temperatures"];
+const IGNITION_KEYS: &[&str] = &["criterion", "species", "rise"];
+const IGNITION_CRITERIA: &[&str] = &["max-temperature-rate", "species-peak", "temperature-rise"];
+const INITIAL_KEYS: &[&str] = &["concentrations", "concentration_unit", "mole_fractions"];
+const OUTPUT_KEYS: &[&str] = &["end_time", "times", "grid", "concentration_unit"];
+const GRID_KEYS: &[&str] = &["spacing", "points", "first"];
+const SOLVER_KEYS: &[&str] = &[
+    "relative_tolerance",
+    "absolute_tolerance",
+    "absolute_tolerance_for",
+    "linear_algebra",
+    "max_steps",
+    "newton_tolerance",
+    "keep_invariants",
+];
+
+/// What `[reactor]` says.
+pub(crate) struct ReactorSection {
+    pub(crate) constraint: Option<Constraint>,
+    /// `None` when the kind or the temperature history could not be read.
+    pub(crate) energy: Option<Energy>,
+    pub(crate) temperature_k: Option<f64>,
+    pub(crate) pressure_pa: Option<f64>,
+    pub(crate) pressure_given: bool,
+}
+
+/// Reads `[reactor]`: kind, temperature (or history), pressure.
+pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSection {
+    let mut out = ReactorSection {
+        constraint: Some(Constraint::ConstantVolume),
+        energy: Some(Energy::Isothermal),
+        temperature_k: None,
+        pressure_pa: None,
+        pressure_given: false,
+    };
+    let Some(t) = section(r, root, "reactor", REACTOR_KEYS) else {
+        if !root.contains_key("reactor") {
+            r.file_error(
+                "missing [reactor] section",
+                Some("e.g. [reactor] temperature = \"1000 K\"".to_string()),
+            );
+        }
+        return out;
+    };
+    let mut thermal = Some(Thermal::Isothermal);
+    if let Some(v) = t.get("kind") {
+        let kind = r.one_of("kind", v, "reactor kind", &REACTOR_KINDS, parse_kind);
+        out.constraint = kind.map(|k| k.0);
+        thermal = kind.map(|k| k.1);
+    }
+    let prescribed = thermal == Some(Thermal::Prescribed);
+    let mut history = None;
+    match t.get("temperature_history") {
+        Some(v) if prescribed => history = read_history(r, v),
+        Some(v) => r.error(
+            v.span().start,
+            "`temperature_history` is only for the prescribed-temperature reactor kinds",
+            Some("e.g. kind = \"prescribed-temperature-constant-volume\"".to_string()),
+        ),
+        None if prescribed => r.error(
+            0,
+            "missing `temperature_history` in [reactor] for a prescribed-temperature kind",
+            Some(
+                "e.g. temperature_history = { times = [\"0 s\", \"1 ms\"], temperatures = [\"1000 K\", \"1200 K\"] }"
+                    .to_string(),
+            ),
+        ),
+        None => {}
+    }
+    out.energy = match thermal {
+        Some(Thermal::Isothermal) => Some(Energy::Isothermal),
+        Some(Thermal::Adiabatic) => Some(Energy::Adiabatic),
+        Some(Thermal::Prescribed) => history.clone().map(Energy::Prescribed),
+        None => None,
+    };
+    match t.get("temperature") {
+        None if prescribed => {
+            out.temperature_k = history.as_ref().map(|h| h.temperature_at(0.0));
+        }
+        None => r.error(
+            0,
+            "missing `temperature` in [reactor]",
+            Some("e.g. temperature = \"1000 K\"".to_string()),
+        ),
+        Some(v) => {
+            out.temperature_k = quantity(
+                r,
+                "temperature",
+                v,
+                "K",
+                temperature_to_k,
+                TEMPERATURE_UNITS,
+            )
+            .and_then(|x| require_positive(r, "temperature", v, x));
+        }
+    }
+    if let Some(v) = t.get("pressure") {
+        out.pressure_given = true;
+        out.pressure_pa = quantity(r, "pressure", v, "Pa", pressure_to_pa, PRESSURE_UNITS)
+            .and_then(|x| require_positive(r, "pressure", v, x));
+    }
+    out
+}
+
+/// A temperature difference in K (`"400 K"`; only kelvin: a Celsius offset would be wrong).
+fn kelvin_difference(value: f64, unit: &str) -> Option<f64> {
+    (unit == "K").then_some(value)
+}
+
+/// Reads an array of quantities `key` of `table` (at `at`), each with its byte offset.
+fn located_list(
+    r: &mut Report<'_>,
+    table: &DeTable<'_>,
+    at: usize,
+    key: &str,
+    unit: &str,
+    convert: Converter,
+    accepted: &[&str],
+) -> Option<Vec<(f64, usize)>> {
+    let Some(v) = table.get(key) else {
+        r.error(at, format!("`temperature_history` needs `{key}`"), None);
+        return None;
+    };
+    let DeValue::Array(items) = v.get_ref() else {
+        r.wrong_type(key, v, "an array");
+        return None;
+    };
+    let mut out = Vec::with_capacity(items.len());
+    for item in items.iter() {
+        out.push((
+            quantity(r, key, item, unit, convert, accepted)?,
+            item.span().start,
+        ));
+    }
+    Some(out)
+}
+
+/// Reads `temperature_history = { times = [...], temperatures = [...] }`: equal lengths, at
+/// least one point, times finite, >= 0 and strictly increasing, starting at 0; temperatures
+/// positive.
+fn read_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<TemperatureHistory> {
+    let table = r.table("temperature_history", value)?;
+    r.check_keys(table, HISTORY_KEYS, "temperature_history");
+    let at = value.span().start;
+    let times = located_list(r, table, at, "times", "s", time_to_s, SCENARIO_TIME_UNITS);
+    let temperatures = located_list(
+        r,
+        table,
+        at,
+        "temperatures",
+        "K",
+        temperature_to_k,
+        TEMPERATURE_UNITS,
+    );
+    let (times, temperatures) = (times?, temperatures?);
+    if times.is_empty() || times.len() != temperatures.len() {
+        r.error(
+            at,
+            format!(
+                "`temperature_history` needs as many temperatures as times (at least one), got {} and {}",
+                times.len(),
+                temperatures.len()
+            ),
+            None,
+        );
+        return None;
+    }
+    let mut ok = true;
+    if times[0].0 != 0.0 {
+        r.error(
+            times[0].1,
+            "the first time of `temperature_history` must be 0 s",
+            None,
+        );
+        ok = false;
+    }
+    for (i, &(t, pos)) in times.iter().enumerate() {
+        if !t.is_finite() || (i > 0 && t <= times[i - 1].0) {
+            r.error(
+                pos,
+                format!(
+                    "`temperature_history` times must be finite and strictly increasing: {} s",
+                    show_number(t)
+                ),
+                None,
+            );
+            ok = false;
+        }
+    }
+    for &(x, pos) in &temperatures {
+        if let Some(problem) = positive_finite_problem(x) {
+            r.error(pos, format!("history temperature {problem}"), None);
+            ok = false;
+        }
+    }
+    if !ok {
+        return None;
+    }
+    let history = TemperatureHistory::new(
+        times.iter().map(|t| t.0).collect(),
+        temperatures.iter().map(|t| t.0).collect(),
+    );
+    match history {
+        Ok(h) => Some(h),
+        Err(e) => {
+            r.error(at, e.to_string(), None);
+            None
+        }
+    }
+}
+
+/// Reads `[initial]`: concentrations (with their unit) or mole fractions (which need the
+/// pressure, `pressure_given`).
+pub(crate) fn read_initial(
+    r: &mut Report<'_>,
+    root: &DeTable<'_>,
+    pressure_given: bool,
+) -> Option<InitialState> {
+    let Some(t) = section(r, root, "initial", INITIAL_KEYS) else {
+        if !root.contains_key("initial") {
+            r.file_error(
+                "missing [initial] section",
+                Some("give `concentrations = { ... }` or `mole_fractions = { ... }`".to_string()),
+            );
+        }
+        return None;
+    };
+    let unit = match t.get("concentration_unit") {
+        None => Some(ConcentrationUnit::MolPerM3),
+        Some(v) => concentration_unit(r, "concentration_unit", v),
+    };
+    match (
+        t.get_key_value("concentrations"),
+        t.get_key_value("mole_fractions"),
+    ) {
+        (Some(_), Some((key, _))) => {
+            r.error(
+                key.span().start,
+                "give either `concentrations` or `mole_fractions` in [initial], not both",
+                None,
+            );
+            None
+        }
+        (None, None) => {
+            r.error(
+                root.get("initial").map(|v| v.span().start).unwrap_or(0),
+                "[initial] needs `concentrations` or `mole_fractions`",
+                None,
+            );
+            None
+        }
+        (Some((_, v)), None) => {
+            let factor = unit.map(|u| u.to_si_factor());
+            let table = r.table("concentrations", v)?;
+            let values = named_values(r, table, |r, name, value| {
+                let x = concentration(r, name, value, factor)?;
+                if x.is_nan() || x.is_infinite() || x < 0.0 {
+                    r.error(
+                        value.span().start,
+                        format!(
+                            "initial concentration of `{name}` is {}; it must be finite and not negative",
+                            show_number(x)
+                        ),
+                        None,
+                    );
+                    return None;
+                }
+                Some(x)
+            });
+            unit?;
+            values.map(InitialState::Concentrations)
+        }
+        (None, Some((key, v))) => {
+            if let Some(unit_value) = t.get("concentration_unit") {
+                r.warning(
+                    unit_value.span().start,
+                    "`concentration_unit` in [initial] is ignored with `mole_fractions`",
+                    None,
+                );
+            }
+            if !pressure_given {
+                r.error(
+                    key.span().start,
+                    "`mole_fractions` need `pressure` in [reactor] (c_i = x_i P / (R T))",
+                    Some("e.g. pressure = \"1 atm\"".to_string()),
+                );
+            }
+            let table = r.table("mole_fractions", v)?;
+            let values = named_values(r, table, |r, name, value| {
+                let x = r.number(name, value)?;
+                if !(0.0..=1.0).contains(&x) {
+                    r.error(
+                        value.span().start,
+                        format!(
+                            "mole fraction of `{name}` is {}; it must be between 0 and 1",
+                            show_number(x)
+                        ),
+                        None,
+                    );
+                    return None;
+                }
+                Some(x)
+            });
+            if let Some(values) = &values {
+                let sum: f64 = values.iter().map(|n| n.value).sum();
+                if (sum - 1.0).abs() > MOLE_FRACTION_SUM_TOLERANCE {
+                    r.error(
+                        v.span().start,
+                        format!("mole fractions sum to {sum}, not 1 (tolerance {MOLE_FRACTION_SUM_TOLERANCE:e})"),
+                        Some("list every species with a nonzero fraction; fractions are not normalised".to_string()),
+                    );
+                }
+            }
+            values.map(InitialState::MoleFractions)
+        }
+    }
+}
+
+/// What `[output]` says.
+pub(crate) struct OutputSection {
+    pub(crate) end_time_s: Option<f64>,
+    pub(crate) times: Option<OutputTimes>,
+    pub(crate) unit: Option<ConcentrationUnit>,
+}
+
+/// Reads `[output]`: end time, times or grid, concentration unit.
+pub(crate) fn read_output(r: &mut Report<'_>, root: &DeTable<'_>) -> OutputSection {
+    let mut out = OutputSection {
+        end_time_s: None,
+        times: Some(OutputTimes::Linear { points: 101 }),
+        unit: Some(ConcentrationUnit::MolPerM3),
+    };
+    let Some(t) = section(r, root, "output", OUTPUT_KEYS) else {
+        if !root.contains_key("output") {
+            r.file_error(
+                "missing [output] section with `end_time`",
+                Some("e.g. [output] end_time = \"10 s\"".to_string()),
+            );
+        }
+        return out;
+    };
+    match t.get("end_time") {
+        None => r.error(
+            root.get("output").map(|v| v.span().start).unwrap_or(0),
+            "missing `end_time` in [output]",
+            Some("e.g. end_time = \"10 s\"".to_string()),
+        ),
+        Some(v) => {
+            out.end_time_s = quantity(r, "end_time", v, "s", time_to_s, SCENARIO_TIME_UNITS)
+                .and_then(|x| require_positive(r, "end_time", v, x));
+        }
+    }
+    if let Some(v) = t.get("concentration_unit") {
+        out.unit = concentration_unit(r, "concentration_unit", v);
+    }
+    match (t.get_key_value("times"), t.get_key_value("grid")) {
+        (Some(_), Some((key, _))) => {
+            r.error(
+                key.span().start,
+                "give either `times` or `grid` in [output], not both",
+                None,
+            );
+            out.times = None;
+        }
+        (Some((_, v)), None) => out.times = read_times(r, v, out.end_time_s),
+        (None, Some((_, v))) => out.times = read_grid(r, v, out.end_time_s),
+        (None, None) => {}
+    }
+    out
+}
+
+/// Reads `times = [...]`: finite, >= 0, strictly increasing, not after `end_time_s`.
+fn read_times(
+    r: &mut Report<'_>,
+    value: &Value<'_>,
+    end_time_s: Option<f64>,
+) -> Option<OutputTimes> {
+    let DeValue::Array(items) = value.get_ref() else {
+        r.wrong_type("times", value, "an array of times");
+        return None;
+    };
+    let mut times = Vec::with_capacity(items.len());
+    let mut ok = true;
+    let mut previous: Option<f64> = None;
+    for item in items.iter() {
+        let Some(t) = quantity(r, "times", item, "s", time_to_s, SCENARIO_TIME_UNITS) else {
+            ok = false;
+            continue;
+        };
+        let at = item.span().start;
+        if !t.is_finite() || t < 0.0 {
+            r.error(
+                at,
+                format!("output time {} is not a finite time >= 0", show_number(t)),
+                None,
+            );
+            ok = false;
+        } else if previous.is_some_and(|p| t <= p) {
+            r.error(
+                at,
+                format!(
+                    "output times must be strictly increasing: {} s follows {} s",
+                    show_number(t),
+                    show_number(previous.unwrap_or(0.0))
+                ),
+                None,
+            );
+            ok = false;
+        } else if end_time_s.is_some_and(|end| t > end) {
+            r.error(
+                at,
+                format!(
+                    "output time {} s is after `end_time` ({} s)",
+                    show_number(t),
+                    show_number(end_time_s.unwrap_or(0.0))
+                ),
+                None,
+            );
+            ok = false;
+        }
+        if t.is_finite() {
+            previous = Some(previous.map_or(t, |p| p.max(t)));
+        }
+        times.push(t);
+    }
+    ok.then_some(OutputTimes::List(times))
+}
+
+/// Reads `grid = { spacing, points, first }`.
+fn read_grid(
+    r: &mut Report<'_>,
+    value: &Value<'_>,
+    end_time_s: Option<f64>,
+) -> Option<OutputTimes> {
+    let table = r.table("grid", value)?;
+    r.check_keys(table, GRID_KEYS, "`grid`");
+    let mut logarithmic = false;
+    let mut ok = true;
+    if let Some(v) = table.get("spacing") {
+        match r.one_of("spacing", v, "grid spacing", &["linear", "log"], |t| {
+            (t == "linear" || t == "log").then_some(t == "log")
+        }) {
+            Some(log) => logarithmic = log,
+            None => ok = false,
+        }
+    }
+    let points = match table.get("points") {
+        None => Some(101),
+        Some(v) => r.count("points", v).and_then(|n| {
+            if !(2..=MAX_GRID_POINTS).contains(&n) {
+                r.error(
+                    v.span().start,
+                    format!("`points` is {n}; it must be between 2 and {MAX_GRID_POINTS}"),
+                    None,
+                );
+                None
+            } else {
+                usize::try_from(n).ok()
+            }
+        }),
+    };
+    let first = match (table.get("first"), logarithmic) {
+        (Some(v), true) => quantity(r, "first", v, "s", time_to_s, SCENARIO_TIME_UNITS)
+            .and_then(|x| require_positive(r, "first", v, x))
+            .and_then(|x| {
+                if end_time_s.is_some_and(|end| x >= end) {
+                    r.error(v.span().start, "`first` must be before `end_time`", None);
+                    None
+                } else {
+                    Some(x)
+                }
+            }),
+        (None, true) => {
+            r.error(
+                value.span().start,
+                "a log grid needs `first` (the first positive output time)",
+                Some(
+                    "e.g. grid = { spacing = \"log\", first = \"1e-6 s\", points = 50 }"
+                        .to_string(),
+                ),
+            );
+            None
+        }
+        (Some(v), false) => {
+            r.error(
+                v.span().start,
+                "`first` applies only to `spacing = \"log\"`",
+                None,
+            );
+            None
+        }
+        (None, false) => Some(0.0),
+    };
+    let (points, first) = (points?, first?);
+    if !ok {
+        return None;
+    }
+    Some(if logarithmic {
+        OutputTimes::Logarithmic {
+            first_s: first,
+            points,
+        }
+    } else {
+        OutputTimes::Linear { points }
+    })
+}
+
+/// What `[solver]` says (defaults where it is silent).
+pub(crate) struct SolverSection {
+    pub(crate) relative_tolerance: Option<f64>,
+    pub(crate) absolute_tolerance_mol_per_m3: Option<f64>,
+    pub(crate) tolerance_overrides: Option<Vec<crate::read::NamedValue>>,
+    pub(crate) linear_algebra: Option<LinearAlgebra>,
+    pub(crate) max_steps: Option<usize>,
+    pub(crate) newton_tolerance: Option<Option<f64>>,
+    pub(crate) keep_invariants: Option<bool>,
+}
+
+/// Reads `[solver]`; bare absolute tolerances are in the output concentration unit `unit`.
+pub(crate) fn read_solver(
+    r: &mut Report<'_>,
+    root: &DeTable<'_>,
+    unit: Option<ConcentrationUnit>,
+) -> SolverSection {
+    let factor = unit.map(|u| u.to_si_factor()).unwrap_or(1.0);
+    let mut out = SolverSection {
+        relative_tolerance: Some(1e-6),
+        absolute_tolerance_mol_per_m3: Some(1e-12 * factor),
+        tolerance_overrides: Some(Vec::new()),
+        linear_algebra: Some(LinearAlgebra::Auto),
+        max_steps: Some(100_000),
+        newton_tolerance: Some(None),
+        keep_invariants: Some(true),
+    };
+    let Some(t) = section(r, root, "solver", SOLVER_KEYS) else {
+        return out;
+    };
+    let mut tolerance = |r: &mut Report<'_>, name: &str, value: &Value<'_>| -> Option<f64> {
+        let x = concentration(r, name, value, Some(factor))?;
+        require_positive(r, name, value, x)
+    };
+    if let Some(v) = t.get("relative_tolerance") {
+        out.relative_tolerance = r.number("relative_tolerance", v).and_then(|x| {
+            if x > 0.0 && x < 1.0 {
+                Some(x)
+            } else {
+                r.error(
+                    v.span().start,
+                    format!(
+                        "`relative_tolerance` is {}; it must be between 0 and 1 (exclusive)",
+                        show_number(x)
+                    ),
+                    None,
+                );
+                None
+            }
+        });
+    }
+    if let Some(v) = t.get("absolute_tolerance") {
+        out.absolute_tolerance_mol_per_m3 = tolerance(r, "absolute_tolerance", v);
+    }
+    if let Some(v) = t.get("absolute_tolerance_for") {
+        out.tolerance_overrides = r
+            .table("absolute_tolerance_for", v)
+            .and_then(|table| named_values(r, table, &mut tolerance));
+    }
+    if let Some(v) = t.get("linear_algebra") {
+        out.linear_algebra = r.one_of(
+            "linear_algebra",
+            v,
+            "linear algebra",
+            &LINEAR_ALGEBRA_NAMES,
+            crate::file::linear_algebra_from_name,
+        );
+    }
+    if let Some(v) = t.get("max_steps") {
+        out.max_steps = r.count("max_steps", v).and_then(|n| {
+            if n == 0 {
+                r.error(v.span().start, "`max_steps` must be at least 1", None);
+                None
+            } else {
+                Some(usize::try_from(n).unwrap_or(usize::MAX))
+            }
+        });
+    }
+    if let Some(v) = t.get("newton_tolerance") {
+        out.newton_tolerance = r
+            .number("newton_tolerance", v)
+            .and_then(|x| require_positive(r, "newton_tolerance", v, x))
+            .map(Some);
+    }
+    if let Some(v) = t.get("keep_invariants") {
+        out.keep_invariants = r.boolean("keep_invariants", v);
+    }
+    out
+}
+
+/// Reads `[ignition]`: `Some(None)` when absent, `None` when it could not be read.
+pub(crate) fn read_ignition(
+    r: &mut Report<'_>,
+    root: &DeTable<'_>,
+) -> Option<Option<IgnitionSpec>> {
+    let Some(t) = section(r, root, "ignition", IGNITION_KEYS) else {
+        return Some(None);
+    };
+    let criterion = match t.get("criterion") {
+        None => Some("max-temperature-rate"),
+        Some(v) => r.one_of(
+            "criterion",
+            v,
+            "ignition criterion",
+            IGNITION_CRITERIA,
+            |x| IGNITION_CRITERIA.iter().copied().find(|c| *c == x),
+        ),
+    };
+    match criterion? {
+        "species-peak" => match t.get("species") {
+            Some(v) => bare_name(r, "species", v).map(|n| Some(IgnitionSpec::SpeciesPeak(n))),
+            None => {
+                r.error(
+                    0,
+                    "[ignition] criterion `species-peak` needs `species`",
+                    Some("e.g. species = \"OH\"".to_string()),
+                );
+                None
+            }
+        },
+        "temperature-rise" => match t.get("rise") {
+            Some(v) => quantity(r, "rise", v, "K", kelvin_difference, &["K"])
+                .and_then(|x| require_positive(r, "rise", v, x))
+                .map(|x| Some(IgnitionSpec::TemperatureRise(x))),
+            None => {
+                r.error(
+                    0,
+                    "[ignition] criterion `temperature-rise` needs `rise`",
+                    Some("e.g. rise = \"400 K\"".to_string()),
+                );
+                None
+            }
+        },
+        _ => Some(Some(IgnitionSpec::MaxTemperatureRate)),
+    }
+}

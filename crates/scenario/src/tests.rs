@@ -1,0 +1,299 @@
+//! Unit tests of the scenario loader and of its resolution into a run plan.
+
+use super::*;
+use std::path::PathBuf;
+use std::sync::Arc;
+use stoik_mechanism::{
+    parse_mechanism, Diagnostic, Diagnostics, LoadError, MechanismFile, SourceLocation,
+};
+use stoik_reactor::{Constraint, Energy, LinearAlgebra};
+
+/// The folder with `good.mech.toml`, a valid mechanism with species H2, O2, H, OH, H2O, AR.
+fn corpus_dir() -> PathBuf {
+    stoik_testsupport::tests_dir().join("bad-input")
+}
+
+fn good_mechanism() -> Arc<MechanismFile> {
+    let path = corpus_dir().join("good.mech.toml");
+    let text = std::fs::read_to_string(&path).expect("corpus mechanism");
+    Arc::new(parse_mechanism(&text, "good.mech.toml").expect("good mechanism loads"))
+}
+
+/// The scenario resolved against the corpus mechanism.
+fn plan(s: &Scenario) -> Result<RunPlan, ScenarioError> {
+    RunPlan::new(s.clone(), Diagnostics::default(), good_mechanism())
+}
+
+fn scenario(body: &str) -> Scenario {
+    let text = format!("stoik_scenario = 1\nmechanism = \"good.mech.toml\"\n{body}");
+    match parse_scenario(&text, "s.toml", &corpus_dir()) {
+        Ok((s, _)) => s,
+        Err(e) => panic!("expected a clean scenario, got:\n{e}"),
+    }
+}
+
+fn scenario_errors(body: &str) -> Vec<Diagnostic> {
+    let text = format!("stoik_scenario = 1\nmechanism = \"good.mech.toml\"\n{body}");
+    match parse_scenario(&text, "s.toml", &corpus_dir()) {
+        Ok(_) => panic!("expected errors"),
+        Err(LoadError::Invalid { diagnostics }) => diagnostics.0,
+        Err(e) => panic!("unexpected {e}"),
+    }
+}
+
+fn rel(a: f64, b: f64) -> f64 {
+    ((a - b) / b).abs()
+}
+
+#[test]
+fn quantities_with_units_and_defaults() {
+    // Sources: 1 atm = 101325 Pa (definition), 25 C = 298.15 K (definition of the Celsius
+    // scale), 1 mol/L = 1000 mol/m3, 2 min = 120 s.
+    let s = scenario(
+        "[reactor]\ntemperature = \"25 C\"\npressure = \"1 atm\"\n[initial]\nconcentrations = { H2 = \"2e-3 mol/L\", O2 = 1.5 }\n[output]\nend_time = \"2 min\"\n",
+    );
+    assert!(rel(s.temperature_k, 298.15) < 1e-15);
+    assert_eq!(s.pressure_pa, Some(101_325.0));
+    assert_eq!(s.end_time_s, 120.0);
+    assert_eq!(s.constraint, Constraint::ConstantVolume);
+    assert_eq!(s.energy, Energy::Isothermal);
+    assert_eq!(s.kind_label(), "isothermal-constant-volume");
+    assert_eq!(s.output, OutputTimes::Linear { points: 101 });
+    // Defaults of the format: rtol 1e-6, atol 1e-12 mol/m3, auto, 100000 steps.
+    assert_eq!(s.relative_tolerance, 1e-6);
+    assert_eq!(s.absolute_tolerance_mol_per_m3, 1e-12);
+    assert_eq!(s.linear_algebra, LinearAlgebra::Auto);
+    assert_eq!(s.max_steps, 100_000);
+    assert_eq!(s.newton_tolerance, None);
+    assert!(s.keep_invariants);
+    assert!(s.mechanism_path.ends_with("good.mech.toml"));
+    let resolved = plan(&s).expect("resolves");
+    // Species order of good.mech.toml: H2, O2, H, OH, H2O, AR.
+    let initial = resolved.initial_mol_per_m3();
+    assert!(rel(initial[0], 2.0) < 1e-15);
+    assert_eq!(initial[1], 1.5);
+    assert_eq!(&initial[2..], &[0.0; 4]);
+    // Linear grid with 101 points: 0, 1.2, ..., 120 s.
+    let times = resolved.output_times_s();
+    assert_eq!(times.len(), 101);
+    assert_eq!(times[0], 0.0);
+    assert!(rel(times[1], 1.2) < 1e-14);
+    assert_eq!(times[100], 120.0);
+    // The plan's options carry the file's defaults.
+    assert_eq!(resolved.options().relative_tolerance, 1e-6);
+    assert_eq!(resolved.options().max_steps, 100_000);
+    assert!(resolved.options().non_negative);
+}
+
+#[test]
+fn mole_fractions_become_ideal_gas_concentrations() {
+    // Ideal gas law c = x P / (R T) (textbook); at 1 atm and 298.15 K the total is
+    // 101325 / (8.314462618 * 298.15) = 40.874 mol/m3, computed here independently.
+    let s = scenario(
+        "[reactor]\ntemperature = 298.15\npressure = \"101.325 kPa\"\n[initial]\nmole_fractions = { H2 = 0.25, O2 = 0.05, AR = 0.7 }\n[output]\nend_time = 1\n",
+    );
+    let total: f64 = 101_325.0 / (8.314_462_618 * 298.15);
+    assert!((total - 40.874).abs() < 1e-3);
+    let mut planned = plan(&s).expect("resolves");
+    let c = planned.initial_mol_per_m3().to_vec();
+    assert!(rel(c[0], 0.25 * total) < 1e-12);
+    assert!(rel(c[1], 0.05 * total) < 1e-12);
+    assert!(rel(c[5], 0.7 * total) < 1e-12);
+    assert!(rel(c.iter().sum::<f64>(), total) < 1e-12);
+    // A temperature override converts the mole fractions again: twice T, half c.
+    planned
+        .set_temperature_k(2.0 * 298.15)
+        .expect("valid override");
+    let c_hot = planned.initial_mol_per_m3();
+    assert!(rel(c_hot[0], 0.5 * c[0]) < 1e-12);
+    assert_eq!(planned.temperature_k(), 2.0 * 298.15);
+    // So does a pressure override: twice P, c back to the 298.15 K values.
+    planned
+        .set_pressure_pa(2.0 * 101_325.0)
+        .expect("valid override");
+    assert!(rel(planned.initial_mol_per_m3()[0], c[0]) < 1e-12);
+    // A rejected override leaves the plan as it was.
+    assert!(planned.set_temperature_k(-1.0).is_err());
+    assert!(planned.set_relative_tolerance(1.5).is_err());
+    assert_eq!(planned.temperature_k(), 2.0 * 298.15);
+    assert_eq!(planned.options().relative_tolerance, 1e-6);
+}
+
+#[test]
+fn output_grids_lists_and_units() {
+    // Log grid from 1e-6 s to 1 s with 7 points: one point per decade (hand computed).
+    let s = scenario(
+        "[reactor]\ntemperature = \"1000 K\"\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = \"1000 ms\"\ngrid = { spacing = \"log\", first = \"1 us\", points = 7 }\nconcentration_unit = \"molecule/cm3\"\n[solver]\nabsolute_tolerance = 1e3\nabsolute_tolerance_for = { OH = \"1e-9 mol/m3\" }\nlinear_algebra = \"sparse\"\nmax_steps = 500\n",
+    );
+    let mut r = plan(&s).expect("resolves");
+    let expected = [0.0, 1e-6, 1e-5, 1e-4, 1e-3, 1e-2, 1e-1, 1.0];
+    assert_eq!(r.output_times_s().len(), expected.len());
+    for (t, e) in r.output_times_s().iter().zip(expected) {
+        assert!(*t == e || rel(*t, e) < 1e-12, "{t} vs {e}");
+    }
+    // atol 1e3 molecule/cm3 = 1e3 * 1e6 / N_A mol/m3 (SI 2019 exact Avogadro constant).
+    let atol = 1e9 / 6.022_140_76e23;
+    let tolerances = &r.options().absolute_tolerances_mol_per_m3;
+    assert!(rel(tolerances[0], atol) < 1e-12);
+    assert_eq!(tolerances[3], 1e-9);
+    assert_eq!(s.linear_algebra, LinearAlgebra::Sparse);
+    assert_eq!(r.options().linear_algebra, LinearAlgebra::Sparse);
+    // An end-time override moves the log grid's last decade: 1e-6 s to 10 s in 7 points.
+    r.set_end_time_s(10.0).expect("valid override");
+    assert_eq!(r.output_times_s().len(), 8);
+    assert!(rel(r.output_times_s()[6], 10f64.powf(1.0 - 7.0 / 6.0)) < 1e-12);
+    assert_eq!(r.output_times_s()[7], 10.0);
+    // An absolute-tolerance override replaces the per-species ones too.
+    r.set_absolute_tolerance_mol_per_m3(1e-3)
+        .expect("valid override");
+    assert!(r
+        .options()
+        .absolute_tolerances_mol_per_m3
+        .iter()
+        .all(|&a| a == 1e-3));
+    assert_eq!(s.max_steps, 500);
+    assert_eq!(s.output_concentration_unit.label(), "molecule/cm3");
+
+    // Explicit list: 0 is prepended, end_time appended.
+    let list = scenario(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 40\ntimes = [0.4, \"4000 ms\", 20]\n",
+    );
+    let mut r = plan(&list).expect("resolves");
+    assert_eq!(r.output_times_s(), &[0.0, 0.4, 4.0, 20.0, 40.0]);
+    // An end time before a listed time is refused and leaves the plan unchanged.
+    assert!(r.set_end_time_s(10.0).is_err());
+    assert_eq!(r.output_times_s(), &[0.0, 0.4, 4.0, 20.0, 40.0]);
+}
+
+#[test]
+fn scenario_problems_are_all_reported_with_locations() {
+    let diags = scenario_errors(
+        "[reactor]\ntemperature = \"-5 K\"\npresure = \"1 atm\"\n[initial]\nconcentrations = { H2 = -1 }\n[output]\nend_time = \"1 fortnight\"\ntimes = [2, 1]\n",
+    );
+    let got: Vec<(usize, usize, String)> = diags
+        .iter()
+        .map(|d| {
+            let l = d.location.unwrap_or_default();
+            (l.line, l.column, d.message.clone())
+        })
+        .collect();
+    // Lines: 1 version, 2 mechanism, 3 [reactor], 4 temperature, 5 presure, 6 [initial],
+    // 7 concentrations, 8 [output], 9 end_time, 10 times.
+    assert_eq!(got.len(), 5, "{got:#?}");
+    assert_eq!((got[0].0, got[0].1), (4, 15));
+    assert!(got[0].2.contains("`temperature` is negative"));
+    assert_eq!((got[1].0, got[1].1), (5, 1));
+    assert_eq!(diags[1].help.as_deref(), Some("did you mean `pressure`?"));
+    assert_eq!((got[2].0, got[2].1), (7, 25));
+    assert!(got[2].2.contains("initial concentration of `H2` is -1"));
+    assert_eq!((got[3].0, got[3].1), (9, 12));
+    assert!(got[3].2.contains("unknown unit `fortnight`"));
+    assert_eq!((got[4].0, got[4].1), (10, 13));
+    assert!(got[4].2.contains("strictly increasing"));
+}
+
+#[test]
+fn unknown_species_resolve_with_location_and_suggestion() {
+    let s = scenario(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1, H2O2 = 2 }\n[output]\nend_time = 1\n[solver]\nabsolute_tolerance_for = { oh = 1e-3 }\n",
+    );
+    let Err(ScenarioError::Load(LoadError::Invalid { diagnostics })) = plan(&s) else {
+        panic!("expected unknown species");
+    };
+    assert_eq!(diagnostics.error_count(), 2);
+    let first = &diagnostics.0[0];
+    assert_eq!(
+        first.location,
+        Some(SourceLocation {
+            line: 6,
+            column: 28
+        })
+    );
+    assert!(first.message.contains("unknown species `H2O2`"));
+    assert_eq!(first.help.as_deref(), Some("did you mean `H2O`?"));
+    let second = &diagnostics.0[1];
+    assert_eq!(
+        second.location,
+        Some(SourceLocation {
+            line: 10,
+            column: 28
+        })
+    );
+    assert_eq!(second.help.as_deref(), Some("did you mean `OH`?"));
+}
+
+#[test]
+fn mole_fractions_must_sum_to_one_and_need_pressure() {
+    let diags = scenario_errors(
+        "[reactor]\ntemperature = 300\n[initial]\nmole_fractions = { H2 = 0.5, O2 = 0.4 }\n[output]\nend_time = 1\n",
+    );
+    let messages: Vec<&str> = diags.iter().map(|d| d.message.as_str()).collect();
+    assert_eq!(messages.len(), 2, "{messages:?}");
+    assert!(messages[0].contains("need `pressure`"));
+    assert!(messages[1].contains("mole fractions sum to 0.9"));
+}
+
+#[test]
+fn solver_keys_ignition_and_kind_reach_the_reactor_terms() {
+    let s = scenario(
+        "[reactor]\nkind = \"adiabatic-constant-pressure\"\ntemperature = 1000\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 1\n[solver]\nnewton_tolerance = 0.2\nkeep_invariants = false\n[ignition]\ncriterion = \"species-peak\"\nspecies = \"OH\"\n",
+    );
+    assert_eq!(s.newton_tolerance, Some(0.2));
+    assert!(!s.keep_invariants);
+    let p = plan(&s).expect("resolves");
+    assert_eq!(p.model().constraint, Constraint::ConstantPressure);
+    assert_eq!(p.model().energy, Energy::Adiabatic);
+    assert_eq!(p.options().newton_tolerance, Some(0.2));
+    assert!(!p.options().keep_invariants);
+    // OH is species 3 of good.mech.toml (H2, O2, H, OH, H2O, AR).
+    assert_eq!(
+        p.ignition(),
+        Some(stoik_reactor::IgnitionCriterion::SpeciesMaximum(3))
+    );
+    assert_eq!(
+        p.options().watch,
+        vec![
+            stoik_reactor::Watch::Maximum(stoik_reactor::Quantity::Concentration(3)),
+            stoik_reactor::Watch::Maximum(stoik_reactor::Quantity::Temperature)
+        ]
+    );
+
+    let diags = scenario_errors(
+        "[reactor]\ntemperature = 1000\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 1\n[solver]\nnewton_tolerance = 0\nkeep_invariants = 1\n",
+    );
+    // Lines: 1 version, 2 mechanism, 3 [reactor], 4 temperature, 5 [initial],
+    // 6 concentrations, 7 [output], 8 end_time, 9 [solver], 10 newton_tolerance,
+    // 11 keep_invariants.
+    assert_eq!(diags.len(), 2, "{diags:#?}");
+    assert_eq!(
+        diags[0].location.map(|l| (l.line, l.column)),
+        Some((10, 20))
+    );
+    assert!(diags[0].message.contains("`newton_tolerance` is zero"));
+    assert_eq!(
+        diags[1].location.map(|l| (l.line, l.column)),
+        Some((11, 19))
+    );
+    assert!(diags[1].message.contains("must be true or false"));
+}
+
+#[test]
+fn a_prescribed_history_is_the_reactors_and_refuses_a_temperature_override() {
+    let s = scenario(
+        "[reactor]\nkind = \"prescribed-temperature-constant-volume\"\ntemperature_history = { times = [0, \"2 ms\"], temperatures = [\"900 K\", \"1300 K\"] }\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = \"4 ms\"\n",
+    );
+    let Energy::Prescribed(history) = &s.energy else {
+        panic!("expected a prescribed history, got {:?}", s.energy);
+    };
+    // Linear between the points: 1100 K half way (hand computed).
+    assert!((history.temperature_at(1e-3) - 1100.0).abs() < 1e-9);
+    assert_eq!(s.temperature_k, 900.0);
+    assert_eq!(s.kind_label(), "prescribed-temperature-constant-volume");
+    let mut p = plan(&s).expect("resolves");
+    assert_eq!(p.planned_temperature_span_k(), (900.0, 1300.0));
+    assert!(matches!(
+        p.set_temperature_k(1000.0),
+        Err(ScenarioError::TemperaturePrescribed)
+    ));
+    assert_eq!(p.ignition(), None);
+}

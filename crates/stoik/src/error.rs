@@ -1,0 +1,147 @@
+//! The one error type of the binary: every subcommand returns it, `main` prints it once and
+//! exits with its status (DEVELOPERS.md: 1 warnings only under `--strict`, 2 bad input,
+//! 3 integration failure).
+
+use crate::csv_out::CsvError;
+use std::path::PathBuf;
+use stoik::mechanism::{Diagnostics, LoadError};
+use stoik::reactor::IntegrationFailure;
+use stoik::scenario::ScenarioError;
+
+/// Exit status when only warnings were found and `--strict` was given.
+pub const EXIT_WARNINGS: u8 = 1;
+/// Exit status for bad input (unreadable or invalid files, bad flags).
+pub const EXIT_BAD_INPUT: u8 = 2;
+/// Exit status for a failed integration (the partial profile is still written).
+pub const EXIT_INTEGRATION_FAILED: u8 = 3;
+
+/// Why a subcommand ended with a nonzero exit status.
+#[derive(Debug, thiserror::Error)]
+pub enum CliError {
+    /// `check --strict` found warnings (and no errors); they are the message.
+    #[error("{0}")]
+    StrictWarnings(Diagnostics),
+    /// A file could not be read or is invalid: every problem, located.
+    #[error(transparent)]
+    Load(#[from] LoadError),
+    /// A scenario could not be planned or run.
+    #[error("{}", scenario_message(.0))]
+    Scenario(#[from] ScenarioError),
+    /// A command-line value was refused by the scenario's plan.
+    #[error("error: {flag}: {source}")]
+    Flag {
+        /// The flag, e.g. `--rtol`.
+        flag: &'static str,
+        /// Why the plan refused it.
+        #[source]
+        source: ScenarioError,
+    },
+    /// A command-line value is out of range.
+    #[error("error: {0}")]
+    BadFlag(String),
+    /// A profile holds values that are not finite; nothing was written.
+    #[error("error: {}: {source}{}", path.display(), failure.as_deref().map(|f| format!("\nerror: {f}")).unwrap_or_default())]
+    NonFinite {
+        /// The CSV path.
+        path: PathBuf,
+        /// The refusal of the CSV writer.
+        #[source]
+        source: CsvError,
+        /// The integration failure that produced the values, in words, if any.
+        failure: Option<String>,
+    },
+    /// A file could not be written or a folder created.
+    #[error("error: cannot {what} {}: {source}", path.display())]
+    Write {
+        /// `"write"` or `"create"`.
+        what: &'static str,
+        /// The path.
+        path: PathBuf,
+        /// The system's or the writer's reason.
+        #[source]
+        source: Box<dyn std::error::Error + Send + Sync>,
+    },
+    /// The integration of a run failed part way; its partial profile was written.
+    #[error("error: {failure}\n{advice}\nthe profile up to the failure ({rows} rows) was written to {}", output.display())]
+    IntegrationFailed {
+        /// The failure.
+        #[source]
+        failure: Box<IntegrationFailure>,
+        /// What to try, with species names.
+        advice: String,
+        /// Rows written.
+        rows: usize,
+        /// The CSV written.
+        output: PathBuf,
+    },
+    /// Some runs of a batch failed (each was reported as it happened).
+    #[error("error: {failed} of {total} runs failed")]
+    RunsFailed {
+        /// Failed runs.
+        failed: usize,
+        /// All runs.
+        total: usize,
+    },
+    /// An input file of `fit-rate` or `fit-thermo` could not be used.
+    #[error("{prefix}{source}")]
+    Fit {
+        /// What precedes the message: the file or flag concerned.
+        prefix: String,
+        /// The reason.
+        #[source]
+        source: Box<dyn std::error::Error + Send + Sync>,
+    },
+    /// Several inputs failed (a batch reports every bad scenario).
+    #[error("{}", .0.iter().map(|e| e.to_string()).collect::<Vec<_>>().join("\n"))]
+    Several(Vec<CliError>),
+}
+
+/// A scenario error as the binary prints it: located diagnostics as they are, anything else
+/// after `error: `.
+fn scenario_message(error: &ScenarioError) -> String {
+    match error {
+        ScenarioError::Load(e) => e.to_string(),
+        other => format!("error: {other}"),
+    }
+}
+
+impl CliError {
+    /// The exit status.
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            CliError::StrictWarnings(_) => EXIT_WARNINGS,
+            CliError::NonFinite { .. }
+            | CliError::IntegrationFailed { .. }
+            | CliError::RunsFailed { .. } => EXIT_INTEGRATION_FAILED,
+            CliError::Several(errors) => errors
+                .iter()
+                .map(CliError::exit_code)
+                .max()
+                .unwrap_or(EXIT_BAD_INPUT),
+            _ => EXIT_BAD_INPUT,
+        }
+    }
+
+    /// A write failure of `path`.
+    pub fn write(
+        path: &std::path::Path,
+        source: impl Into<Box<dyn std::error::Error + Send + Sync>>,
+    ) -> Self {
+        CliError::Write {
+            what: "write",
+            path: path.to_path_buf(),
+            source: source.into(),
+        }
+    }
+
+    /// A fit input problem, printed after `prefix`.
+    pub fn fit(
+        prefix: impl Into<String>,
+        source: impl Into<Box<dyn std::error::Error + Send + Sync>>,
+    ) -> Self {
+        CliError::Fit {
+            prefix: prefix.into(),
+            source: source.into(),
+        }
+    }
+}

@@ -119,7 +119,7 @@ fn prepare(case: &Case) -> Result<Prepared, String> {
         .resolve(&file.mechanism)
         .map_err(|e| e.to_string())?;
     Ok(Prepared {
-        kinetics: Kinetics::compile(&file.mechanism),
+        kinetics: Kinetics::compile(&file.mechanism).expect("valid mechanism"),
         temperature_k: scenario.temperature_k,
         initial: resolved.initial_concentrations_mol_per_m3,
         times: [0.0, case.end_time_s.unwrap_or(scenario.end_time_s)],

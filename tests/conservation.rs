@@ -340,7 +340,7 @@ reverse = { prefactor = 1.0 }
     );
 
     // A run with C emitted at 0.5 mol/(m3 s): A + B stays, C + D grows by 0.5 t.
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap();
     let model = ReactorModel {
         conditions: BoxConditions {
             emissions: vec![(2, 0.5)],
@@ -392,7 +392,7 @@ fn run_scenario(name: &str, model: &ReactorModel) -> (Mechanism, Profiles, Integ
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
     let resolved = scenario.resolve(&m).unwrap_or_else(|e| panic!("{e}"));
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap();
     let mut options = IntegrationOptions::new(m.species.len());
     options.relative_tolerance = scenario.relative_tolerance;
     options.absolute_tolerances_mol_per_m3 = resolved.absolute_tolerances_mol_per_m3.clone();
@@ -531,7 +531,7 @@ fn element_totals_are_conserved_over_a_long_run() {
     let file = load_mechanism(&scenario.mechanism_path).unwrap();
     let mechanism = &file.mechanism;
     let resolved = scenario.resolve(mechanism).unwrap();
-    let kinetics = Kinetics::compile(mechanism);
+    let kinetics = Kinetics::compile(mechanism).unwrap();
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = 1e-8;
     options.absolute_tolerances_mol_per_m3 = vec![1e-18; kinetics.n_species()];

@@ -44,7 +44,7 @@ fn run(name: &str, refs: &[Reference], rtol: f64, atol: f64) -> (Vec<String>, Pr
     let resolved = scenario
         .resolve(&file.mechanism)
         .unwrap_or_else(|e| panic!("{e}"));
-    let kinetics = Kinetics::compile(&file.mechanism);
+    let kinetics = Kinetics::compile(&file.mechanism).unwrap();
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = rtol;
     options.absolute_tolerances_mol_per_m3 = vec![atol; kinetics.n_species()];

@@ -22,7 +22,7 @@ fn run(name: &str, times: &[f64], rtol: f64, atol: f64, la: LinearAlgebra) -> Pr
     let resolved = scenario
         .resolve(&file.mechanism)
         .unwrap_or_else(|e| panic!("{e}"));
-    let kinetics = Kinetics::compile(&file.mechanism);
+    let kinetics = Kinetics::compile(&file.mechanism).unwrap();
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = rtol;
     options.absolute_tolerances_mol_per_m3 = vec![atol; kinetics.n_species()];

@@ -131,7 +131,13 @@ pub fn batch(args: &BatchArgs) -> u8 {
     );
     let mut failures = 0;
     for (file, jobs) in groups.values() {
-        let kinetics = Kinetics::compile(&file.mechanism);
+        let kinetics = match Kinetics::compile(&file.mechanism) {
+            Ok(k) => k,
+            Err(e) => {
+                bar.suspend(|| eprintln!("error: {e}"));
+                return EXIT_BAD_INPUT;
+            }
+        };
         let cases: Vec<BatchCase> = jobs.iter().map(|j| j.case.clone()).collect();
         let results = integrate_batch(&kinetics, &cases, &|| bar.inc(1));
         for (job, result) in jobs.iter().zip(results) {

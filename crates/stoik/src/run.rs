@@ -114,7 +114,10 @@ pub fn run(args: &RunArgs) -> u8 {
         absolute.iter_mut().for_each(|x| *x = a);
     }
 
-    let kinetics = Kinetics::compile(mechanism);
+    let kinetics = match Kinetics::compile(mechanism) {
+        Ok(k) => k,
+        Err(e) => return bad_flag(&e.to_string()),
+    };
     let mut options = integration_options(&scenario, absolute, !args.allow_negative);
     let model = match reactor_model(&scenario, &resolved) {
         Ok(m) => m,
@@ -303,14 +306,15 @@ fn print_ignition(
         match ignition_delay(profiles, criterion) {
             // Read by scripts (tests/scipy/ignition_check.py): full precision, the shortest
             // digits that read back as the same f64.
-            Some(IgnitionDelay { delay_s, .. }) => println!(
+            Ok(Some(IgnitionDelay { delay_s, .. })) => println!(
                 "ignition delay: {delay_s:e} s ({})",
                 criterion_words(criterion, mechanism)
             ),
-            None => println!(
+            Ok(None) => println!(
                 "ignition delay: none found by the {} within the simulated time",
                 criterion_words(criterion, mechanism)
             ),
+            Err(e) => println!("ignition delay: not computed ({e})"),
         }
     }
     let rise = profiles

@@ -52,7 +52,12 @@ fn newton_matrix(n: usize) -> (usize, Vec<usize>, Vec<usize>, Vec<f64>) {
             }
         }
     }
-    (n, pattern.column_starts(), pattern.row_indices(), values)
+    (
+        n,
+        pattern.column_starts().to_vec(),
+        pattern.row_indices().to_vec(),
+        values,
+    )
 }
 
 fn factorization_bench(c: &mut Criterion) {

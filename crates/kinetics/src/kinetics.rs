@@ -217,9 +217,9 @@ impl Kinetics {
     /// use them to keep the invariants from drifting.
     ///
     /// The basis is exact (integer coefficients, verified against every step) but not chosen
-    /// for readability; [`conservation_laws`] gives named, readable laws of a mechanism. It is
-    /// computed on the first call and kept. Empty when the mechanism conserves nothing or its
-    /// coefficients are not simple fractions.
+    /// for readability; [`conservation_laws`](crate::conservation_laws) gives named, readable
+    /// laws of a mechanism. It is computed on the first call and kept. Empty when the
+    /// mechanism conserves nothing or its coefficients are not simple fractions.
     pub fn conserved_combinations(&self) -> &[Vec<f64>] {
         self.conserved
             .get_or_init(|| conservation::conserved_basis(self.n_species, self.net.rows()))

@@ -232,9 +232,9 @@ pub(crate) fn state_pattern(
             let mut map = Vec::with_capacity(kin.nnz());
             column_starts.push(0);
             for col in 0..n {
-                for p in starts[col]..starts[col + 1] {
+                for &row in &rows[starts[col]..starts[col + 1]] {
                     map.push(row_indices.len());
-                    row_indices.push(rows[p]);
+                    row_indices.push(row);
                 }
                 row_indices.push(n);
                 column_starts.push(row_indices.len());
@@ -254,8 +254,8 @@ pub(crate) fn state_pattern(
             )?;
             let mut map = Vec::with_capacity(kin.nnz());
             for col in 0..n {
-                for p in starts[col]..starts[col + 1] {
-                    map.push(col * m + rows[p]);
+                for &row in &rows[starts[col]..starts[col + 1]] {
+                    map.push(col * m + row);
                 }
             }
             (pattern, map)
@@ -402,11 +402,14 @@ impl ModelEquations<'_> {
         let (starts, rows) = (kin.column_starts(), kin.row_indices());
         for col in 0..n {
             let (mut sum, mut weighted) = (0.0, 0.0);
-            for p in starts[col]..starts[col + 1] {
-                let v = scratch.kin_values[p];
+            let entries = starts[col]..starts[col + 1];
+            for (&v, &row) in scratch.kin_values[entries.clone()]
+                .iter()
+                .zip(&rows[entries])
+            {
                 sum += v;
                 if energy_solved {
-                    weighted += scratch.energy[rows[p]] * v;
+                    weighted += scratch.energy[row] * v;
                 }
             }
             scratch.column_sum[col] = sum;

@@ -1,9 +1,11 @@
 //! # stoik-kinetics
 //!
-//! A [`Mechanism`] compiled into flat arrays: rate constants per step, rates of progress,
-//! net production rates and the analytic Jacobian `dw/dc`, dense or on a sparse pattern
-//! fixed at compile time. Nothing here reads text or knows units other than SI, and the
-//! right-hand side and Jacobian routines do not allocate.
+//! A [`Mechanism`](stoik_mechanism::Mechanism) compiled into flat per-step lists
+//! ([`Kinetics::compile`], which checks the mechanism first and returns a [`CompileError`]
+//! for one that breaks the loader's rules): rate constants per step, rates of progress, net
+//! production rates and the analytic Jacobian `dw/dc`, dense or on a sparse pattern
+//! ([`JacobianPattern`]) fixed at compile time. Nothing here reads text or knows units other
+//! than SI, and the right-hand side and Jacobian routines do not allocate.
 //!
 //! Conventions (mass action, common practice):
 //! - rate of progress `q_j = M_j (kf_j prod_i c_i^a_ij - kr_j prod_i c_i^b_ij)` in mol/(m3 s),

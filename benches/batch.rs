@@ -30,7 +30,7 @@ fn cases(n: usize) -> Vec<BatchCase> {
 
 fn batch(c: &mut Criterion) {
     let n = 200;
-    let kinetics = Kinetics::compile(&common::synthetic_mechanism(n, 11));
+    let kinetics = Kinetics::compile(&common::synthetic_mechanism(n, 11)).expect("valid mechanism");
     let cases = cases(n);
     let mut group = c.benchmark_group("batch_8_runs_200_species");
     group.sample_size(10);

@@ -96,7 +96,7 @@ fn falloff_vs_plain(c: &mut Criterion) {
             Variant::FalloffMixture,
             Variant::ThirdBodyMixture,
         ] {
-            let kinetics = Kinetics::compile(&mechanism(n, variant));
+            let kinetics = Kinetics::compile(&mechanism(n, variant)).expect("valid mechanism");
             let k = kinetics.rate_constants(1000.0);
             let mut w = vec![0.0; n];
             group.bench_with_input(

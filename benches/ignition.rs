@@ -21,7 +21,7 @@ fn bench_ignition(c: &mut Criterion) {
         Err(e) => panic!("{e}"),
     };
     let mech = &file.mechanism;
-    let kinetics = Kinetics::compile(mech);
+    let kinetics = Kinetics::compile(mech).expect("valid mechanism");
     let total = 101325.0 / (GAS_CONSTANT * 1100.0);
     let initial: Vec<f64> = mech
         .species

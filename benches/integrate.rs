@@ -64,7 +64,7 @@ const ATOL: f64 = 1e-14;
 const T_END: f64 = 1e11;
 
 fn robertson_bench(c: &mut Criterion) {
-    let kinetics = Kinetics::compile(&robertson());
+    let kinetics = Kinetics::compile(&robertson()).expect("valid mechanism");
     let mut options = IntegrationOptions::new(3);
     options.relative_tolerance = RTOL;
     options.absolute_tolerances_mol_per_m3 = vec![ATOL; 3];
@@ -134,7 +134,7 @@ fn crossover_bench(c: &mut Criterion) {
     group.sample_size(10);
     for n in [25usize, 50, 100, 200, 400] {
         let mechanism = common::synthetic_mechanism(n, 11);
-        let kinetics = Kinetics::compile(&mechanism);
+        let kinetics = Kinetics::compile(&mechanism).expect("valid mechanism");
         let c0 = common::test_concentrations(n, 11);
         for (label, la) in [
             ("dense", LinearAlgebra::Dense),

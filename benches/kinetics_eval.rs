@@ -14,7 +14,7 @@ fn rhs_and_jacobian(c: &mut Criterion) {
     let mut group = c.benchmark_group("kinetics");
     for n in [50usize, 1000, 5000] {
         let mechanism = common::synthetic_mechanism(n, SEED);
-        let kinetics = Kinetics::compile(&mechanism);
+        let kinetics = Kinetics::compile(&mechanism).expect("valid mechanism");
         let k = kinetics.rate_constants(1000.0);
         let conc = common::test_concentrations(n, SEED);
         let mut w = vec![0.0; n];

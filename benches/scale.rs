@@ -115,7 +115,7 @@ fn cases() -> Vec<Case> {
 fn prepare(case: &Case) -> Result<Prepared, String> {
     let plan = RunPlan::load(&case.scenario).map_err(|e| e.to_string())?;
     Ok(Prepared {
-        kinetics: Kinetics::compile(plan.mechanism()),
+        kinetics: Kinetics::compile(plan.mechanism()).map_err(|e| e.to_string())?,
         temperature_k: plan.temperature_k(),
         initial: plan.initial_mol_per_m3().to_vec(),
         times: [0.0, case.end_time_s.unwrap_or(plan.scenario().end_time_s)],

@@ -37,7 +37,7 @@ note = "oxidant decays on the vat walls"
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let file = parse_mechanism(MECHANISM, "<vat>")?;
-    let kinetics = Kinetics::compile(&file.mechanism);
+    let kinetics = Kinetics::compile(&file.mechanism)?;
     let options = IntegrationOptions::new(kinetics.n_species());
 
     // The mechanism is compiled once and set up once; everything below reuses it.

@@ -341,7 +341,7 @@ reverse = { prefactor = 1.0 }
     );
 
     // A run with C emitted at 0.5 mol/(m3 s): A + B stays, C + D grows by 0.5 t.
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap();
     let model = ReactorModel {
         conditions: BoxConditions {
             emissions: vec![(2, 0.5)],
@@ -390,7 +390,7 @@ fn run_scenario(name: &str, model: &ReactorModel) -> (Mechanism, Profiles, Integ
     let plan = RunPlan::load(&mechanisms().join(format!("{name}.scenario.toml")))
         .unwrap_or_else(|e| panic!("{e}"));
     let m = plan.mechanism().clone();
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap_or_else(|e| panic!("{e}"));
     let mut options = IntegrationOptions::new(m.species.len());
     options.relative_tolerance = plan.scenario().relative_tolerance;
     options.absolute_tolerances_mol_per_m3 = plan.options().absolute_tolerances_mol_per_m3.clone();
@@ -527,7 +527,7 @@ fn element_totals_are_conserved_over_a_long_run() {
     let root = mechanisms();
     let plan = RunPlan::load(&root.join("ozone-flask.scenario.toml")).unwrap();
     let mechanism = plan.mechanism();
-    let kinetics = Kinetics::compile(mechanism);
+    let kinetics = Kinetics::compile(mechanism).unwrap_or_else(|e| panic!("{e}"));
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = 1e-8;
     options.absolute_tolerances_mol_per_m3 = vec![1e-18; kinetics.n_species()];

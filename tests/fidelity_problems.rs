@@ -40,7 +40,7 @@ fn run(name: &str, refs: &[Reference], rtol: f64, atol: f64) -> (Vec<String>, Pr
     let root = Path::new(env!("CARGO_MANIFEST_DIR")).join("mechanisms");
     let plan = RunPlan::load(&root.join(format!("{name}.scenario.toml")))
         .unwrap_or_else(|e| panic!("{e}"));
-    let kinetics = Kinetics::compile(plan.mechanism());
+    let kinetics = Kinetics::compile(plan.mechanism()).unwrap_or_else(|e| panic!("{e}"));
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = rtol;
     options.absolute_tolerances_mol_per_m3 = vec![atol; kinetics.n_species()];

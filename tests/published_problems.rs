@@ -18,7 +18,7 @@ fn run(name: &str, times: &[f64], rtol: f64, atol: f64, la: LinearAlgebra) -> Pr
     let root = stoik_testsupport::mechanisms_dir();
     let plan = RunPlan::load(&root.join(format!("{name}.scenario.toml")))
         .unwrap_or_else(|e| panic!("{e}"));
-    let kinetics = Kinetics::compile(plan.mechanism());
+    let kinetics = Kinetics::compile(plan.mechanism()).unwrap_or_else(|e| panic!("{e}"));
     let mut options = IntegrationOptions::new(kinetics.n_species());
     options.relative_tolerance = rtol;
     options.absolute_tolerances_mol_per_m3 = vec![atol; kinetics.n_species()];

@@ -168,8 +168,14 @@ fn colliding_pair(terms: &[stoik_mechanism::StoichTerm]) -> Option<(usize, usize
 /// `A + B (+M) -> C + D` with its low-pressure limit k0 (likewise its largest value, as
 /// F/(1+Pr) <= 1 for the usual broadening forms), and a pressure table with the largest of
 /// its tabulated (summed) values.
+///
+/// A mechanism that does not compile (see [`crate::CompileError`]; only possible for one
+/// built by hand) gives one error diagnostic saying why, instead of warnings.
 pub fn collision_limit_warnings(mechanism: &Mechanism, file_label: &str) -> Vec<Diagnostic> {
-    let kinetics = Kinetics::compile(mechanism);
+    let kinetics = match Kinetics::compile(mechanism) {
+        Ok(kinetics) => kinetics,
+        Err(e) => return vec![Diagnostic::error(file_label, None, e.to_string())],
+    };
     let mut k = kinetics.rate_constants(COLLISION_LIMIT_TEMPERATURES_K[0]);
     let pairs: Vec<[Option<(usize, usize)>; 2]> = mechanism
         .steps

@@ -15,6 +15,7 @@
 //! `x = log10 Pr`; the per-temperature `center` and `offset` are stored with the rate
 //! constants and their temperature slopes with the rate-constant slopes.
 
+use crate::rows::RowLists;
 use crate::CompiledArrhenius;
 use stoik_mechanism::Broadening;
 
@@ -31,11 +32,10 @@ const TROE_D: f64 = 0.14;
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) enum Collider {
     /// `[M] = default * sum(c) + sum corrections`; corrections in
-    /// `third_body_corrections[start..end]`.
+    /// `Kinetics::mixtures.row(mixture)`.
     Mixture {
         default_efficiency: f64,
-        start: usize,
-        end: usize,
+        mixture: usize,
     },
     /// `[M] = c_species`.
     Species(usize),
@@ -43,16 +43,20 @@ pub(crate) enum Collider {
 
 impl Collider {
     #[inline]
-    pub(crate) fn concentration(&self, corrections: &[(usize, f64)], c: &[f64], total: f64) -> f64 {
+    pub(crate) fn concentration(
+        &self,
+        mixtures: &RowLists<(usize, f64)>,
+        c: &[f64],
+        total: f64,
+    ) -> f64 {
         match *self {
             Collider::Species(s) => c[s],
             Collider::Mixture {
                 default_efficiency,
-                start,
-                end,
+                mixture,
             } => {
                 let mut m = default_efficiency * total;
-                for &(s, delta) in &corrections[start..end] {
+                for &(s, delta) in mixtures.row(mixture) {
                     m += delta * c[s];
                 }
                 m
@@ -64,6 +68,8 @@ impl Collider {
 /// A compiled falloff or chemically activated step.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct CompiledFalloff {
+    /// The step's index.
+    pub step: usize,
     /// The limit not held in `Kinetics::forward`: k0 for falloff, kinf for chemically
     /// activated steps.
     pub other_limit: CompiledArrhenius,
@@ -239,57 +245,38 @@ impl CompiledFalloff {
     }
 }
 
-/// A compiled pressure table: points in `Kinetics::table_points[start..end]`.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub(crate) struct CompiledTable {
-    pub start: usize,
-    pub end: usize,
-}
-
-/// One tabulated pressure: ln P and its rate sets `Kinetics::table_sets[start..end]`.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub(crate) struct TablePoint {
-    pub ln_pressure: f64,
-    pub set_start: usize,
-    pub set_end: usize,
-}
-
-impl CompiledTable {
-    /// `(ln k, d ln k/d ln P, d ln k/dT at fixed ln P)` at `ln_p` from the tabulated `ln k`
-    /// values `ln_k` (and their temperature slopes `dln_k`, if given).
-    #[inline]
-    pub(crate) fn interpolate(
-        &self,
-        points: &[TablePoint],
-        ln_k: &[f64],
-        dln_k: Option<&[f64]>,
-        ln_p: f64,
-    ) -> (f64, f64, f64) {
-        let pts = &points[self.start..self.end];
-        let ks = &ln_k[self.start..self.end];
-        let slope_at = |i: usize| dln_k.map_or(0.0, |d| d[self.start + i]);
-        let Some(last) = pts.len().checked_sub(1) else {
-            // An empty table (not produced by the loader) has no rate.
-            return (f64::NEG_INFINITY, 0.0, 0.0);
-        };
-        // NaN (no pressure) takes the first point.
-        if ln_p.is_nan() || ln_p <= pts[0].ln_pressure {
-            return (ks[0], 0.0, slope_at(0));
-        }
-        if ln_p >= pts[last].ln_pressure {
-            return (ks[last], 0.0, slope_at(last));
-        }
-        let mut i = 0;
-        while pts[i + 1].ln_pressure <= ln_p {
-            i += 1;
-        }
-        let width = pts[i + 1].ln_pressure - pts[i].ln_pressure;
-        let theta = (ln_p - pts[i].ln_pressure) / width;
-        let s = (ks[i + 1] - ks[i]) / width;
-        let value = ks[i] + theta * (ks[i + 1] - ks[i]);
-        let dt = (1.0 - theta) * slope_at(i) + theta * slope_at(i + 1);
-        (value, s, dt)
+/// `(ln k, d ln k/d ln P, d ln k/dT at fixed ln P)` at `ln_p` (P in Pa) from one pressure
+/// table: the ln P of its points `ln_pressures` (increasing), their tabulated `ln k` values
+/// `ln_k` and, if given, the temperature slopes `dln_k` (1/K) of those values.
+#[inline]
+pub(crate) fn interpolate_table(
+    ln_pressures: &[f64],
+    ks: &[f64],
+    dln_k: Option<&[f64]>,
+    ln_p: f64,
+) -> (f64, f64, f64) {
+    let slope_at = |i: usize| dln_k.map_or(0.0, |d| d[i]);
+    let Some(last) = ln_pressures.len().checked_sub(1) else {
+        // An empty table (refused by `Kinetics::compile`) has no rate.
+        return (f64::NEG_INFINITY, 0.0, 0.0);
+    };
+    // NaN (no pressure) takes the first point.
+    if ln_p.is_nan() || ln_p <= ln_pressures[0] {
+        return (ks[0], 0.0, slope_at(0));
     }
+    if ln_p >= ln_pressures[last] {
+        return (ks[last], 0.0, slope_at(last));
+    }
+    let mut i = 0;
+    while ln_pressures[i + 1] <= ln_p {
+        i += 1;
+    }
+    let width = ln_pressures[i + 1] - ln_pressures[i];
+    let theta = (ln_p - ln_pressures[i]) / width;
+    let s = (ks[i + 1] - ks[i]) / width;
+    let value = ks[i] + theta * (ks[i + 1] - ks[i]);
+    let dt = (1.0 - theta) * slope_at(i) + theta * slope_at(i + 1);
+    (value, s, dt)
 }
 
 /// `(ln sum_s k_s(T), d ln(sum k_s)/dT)` of the rate sets `sets`.

@@ -47,7 +47,7 @@ fn water_formation_equilibrium_constant_matches_janaf() {
     let m = load(&format!(
         "{HEADER}\n[[step]]\nequation = \"2 H2 + O2 <=> 2 H2O\"\nforward = {{ prefactor = 1e10 }}\n"
     ));
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap();
     let (mut kp, mut kc) = ([0.0], [0.0]);
     // NIST-JANAF 4th ed., H2O(g): log10 Kf = 10.060 at 1000 K and 3.540 at 2000 K; the step is
     // twice the formation reaction, so log10 Kp (pressures in bar) = 2 log10 Kf.
@@ -74,7 +74,7 @@ fn hydrogen_dissociation_reverse_rate_is_forward_over_kc() {
     let m = load(&format!(
         "{HEADER}\n[[step]]\nequation = \"H2 <=> H + H\"\nforward = {{ prefactor = 4.6e19, temperature_exponent = -1.4, activation_energy = 436000 }}\nthird_body = {{}}\n"
     ));
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap();
     let t = 2000.0;
     let k = kinetics.rate_constants(t);
     let h2 = m.species[0].thermo.expect("H2 thermo");
@@ -102,7 +102,7 @@ fn explicit_reverse_parameters_win_over_thermochemistry() {
     let m = load(&format!(
         "{HEADER}\n[[step]]\nequation = \"H2 <=> H + H\"\nforward = {{ prefactor = 1e5 }}\nreverse = {{ prefactor = 7 }}\n"
     ));
-    let k = Kinetics::compile(&m).rate_constants(2000.0);
+    let k = Kinetics::compile(&m).unwrap().rate_constants(2000.0);
     // The file's reverse prefactor 7 cm3/(mol s) = 7e-6 m3/(mol s) (docs/file-format.md units).
     assert!(
         (k.reverse[0] / 7e-6 - 1.0).abs() < 1e-12,
@@ -137,7 +137,7 @@ fn water_formation_enthalpy_and_reverse_activation_energy() {
     // on the rate constants the kinetics evaluates, at 1500 K.
     let t = 1500.0;
     let e = step_energetics(&m, t)[0].expect("thermo");
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap();
     let dt = 0.01;
     let kr_plus = kinetics.rate_constants(t + dt).reverse[0];
     let kr_minus = kinetics.rate_constants(t - dt).reverse[0];
@@ -172,7 +172,9 @@ forward = { prefactor = 1 }
     );
     assert!(step_energetics(&m, 1000.0)[0].is_none());
     let (mut kp, mut kc) = ([0.0], [0.0]);
-    Kinetics::compile(&m).equilibrium_constants(1000.0, &mut kp, &mut kc);
+    Kinetics::compile(&m)
+        .unwrap()
+        .equilibrium_constants(1000.0, &mut kp, &mut kc);
     assert!(kp[0].is_nan() && kc[0].is_nan());
 }
 

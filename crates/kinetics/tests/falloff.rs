@@ -27,7 +27,7 @@ fn one_step(extra: &str, k0: f64, form: &str) -> Mechanism {
 
 /// The effective forward rate constant (1/s) of the only step at T and c_N2 = `m`.
 fn k_eff(mechanism: &Mechanism, t: f64, m: f64) -> f64 {
-    let kinetics = Kinetics::compile(mechanism);
+    let kinetics = Kinetics::compile(mechanism).unwrap();
     let k = kinetics.rate_constants(t);
     let mut out = [0.0];
     kinetics.effective_forward_rate_constants(&k, &[1.0, 0.0, m], &mut out);
@@ -178,7 +178,7 @@ fn every_falloff_form_tends_to_its_low_and_high_pressure_limits() {
          forward = { prefactor = 1 }\n\
          chemically_activated = { high_pressure = { prefactor = 1 }, broadening = \"lindemann\" }\n",
     );
-    let kinetics = Kinetics::compile(&jpl);
+    let kinetics = Kinetics::compile(&jpl).unwrap();
     let k = kinetics.rate_constants(300.0);
     for m in [1e-150, 1e150] {
         let mut out = [0.0; 2];
@@ -217,7 +217,7 @@ fn termolecular_example_at_298_k_and_one_atmosphere_of_air() {
     let total_mol_per_m3 = 101_325.0 / (BOLTZMANN * t) / AVOGADRO;
     let trace = 1e-9 * total_mol_per_m3;
     let c = [trace, trace, 0.0, total_mol_per_m3 - 2.0 * trace];
-    let kinetics = Kinetics::compile(&mechanism);
+    let kinetics = Kinetics::compile(&mechanism).unwrap();
     let k = kinetics.rate_constants(t);
     let mut out = [0.0];
     kinetics.effective_forward_rate_constants(&k, &c, &mut out);
@@ -263,7 +263,7 @@ fn pressure_table_is_exact_at_its_pressures_linear_in_ln_k_between_and_clamped_o
             .is_some_and(|m| m.contains("10132.5 Pa (0.1 atm) to 1013250 Pa (10 atm)")),
         "{warning:?}"
     );
-    let kinetics = Kinetics::compile(&file.mechanism);
+    let kinetics = Kinetics::compile(&file.mechanism).unwrap();
     let t = 900.0;
     let atm = 101_325.0;
     // Exact at the tabulated pressures; at 1 atm the two sets add (hand formula).
@@ -376,8 +376,8 @@ fn finite_difference_errors(kinetics: &Kinetics, t: f64, c: &[f64]) -> (f64, f64
     kinetics.jacobian_sparse(&k, c, &mut values);
     let mut dense_from_sparse = vec![0.0; n * n];
     for col in 0..n {
-        for p in pattern.column_starts[col]..pattern.column_starts[col + 1] {
-            dense_from_sparse[col * n + pattern.row_indices[p]] = values[p];
+        for p in pattern.column_starts()[col]..pattern.column_starts()[col + 1] {
+            dense_from_sparse[col * n + pattern.row_indices()[p]] = values[p];
         }
     }
     assert_eq!(jac, dense_from_sparse, "sparse and dense Jacobians differ");
@@ -419,7 +419,7 @@ fn finite_difference_errors(kinetics: &Kinetics, t: f64, c: &[f64]) -> (f64, f64
 fn jacobian_and_temperature_slopes_of_every_form_match_central_differences() {
     // Central differences (common practice) with relative step 1e-6 in c and 1e-4 K in T:
     // truncation and rounding errors are below 1e-6 of the largest entry.
-    let kinetics = Kinetics::compile(&load(ALL_FORMS));
+    let kinetics = Kinetics::compile(&load(ALL_FORMS)).unwrap();
     // 1 atm: the table interpolates between 0.5 and 2 atm; 0.1 atm and 50 atm: clamped.
     for p_atm in [1.0, 5.0, 0.1, 50.0] {
         let c = all_forms_state(p_atm);
@@ -439,7 +439,7 @@ fn reversible_troe_step_of_the_hydrogen_mechanism_matches_central_differences() 
     let mechanism = stoik_mechanism::load_mechanism(&path)
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
-    let kinetics = Kinetics::compile(&mechanism);
+    let kinetics = Kinetics::compile(&mechanism).unwrap();
     let t = 1500.0;
     let total = 101_325.0 / (GAS_CONSTANT * t);
     let c: Vec<f64> = mechanism
@@ -523,7 +523,7 @@ fn reversible_falloff_step_obeys_detailed_balance_at_every_bath_gas_level() {
         .expect("H + O2 <=> HO2");
     let index = |name: &str| mechanism.species_index(name).expect(name);
     let (h, o2, ho2, ar) = (index("H"), index("O2"), index("HO2"), index("AR"));
-    let kinetics = Kinetics::compile(&mechanism);
+    let kinetics = Kinetics::compile(&mechanism).unwrap();
     let t = 1200.0;
     let k = kinetics.rate_constants(t);
     let n = kinetics.n_steps();
@@ -561,7 +561,7 @@ fn scaling_a_falloff_step_scales_its_rate_at_every_pressure() {
     // Kinetics::scale_step multiplies both limits, so Pr and F are unchanged and k scales by
     // the factor exactly (k = kinf Pr/(1+Pr) F with kinf -> f kinf, k0 -> f k0).
     let mechanism = load(ALL_FORMS);
-    let mut kinetics = Kinetics::compile(&mechanism);
+    let mut kinetics = Kinetics::compile(&mechanism).unwrap();
     let c = all_forms_state(1.0);
     let before = {
         let k = kinetics.rate_constants(1200.0);

@@ -60,7 +60,7 @@ fn evaluation_of_pressure_dependent_steps_does_not_allocate() {
     let mechanism = parse_mechanism(MECHANISM, "t.toml")
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
-    let kinetics = Kinetics::compile(&mechanism);
+    let kinetics = Kinetics::compile(&mechanism).unwrap();
     let n = kinetics.n_species();
     let mut k = kinetics.rate_constants(1000.0);
     let mut slopes = kinetics.rate_constants(1000.0);

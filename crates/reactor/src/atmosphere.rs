@@ -76,13 +76,23 @@ pub struct PhotolysisRate {
 }
 
 impl PhotolysisRate {
-    /// J (1/s) at run time `t_s` (s); 0 for a zenith-angle form without a sun.
-    pub fn rate_at(&self, t_s: f64) -> f64 {
+    /// J (1/s) at run time `t_s` (s), after checking the rate (see
+    /// [`PhotolysisRate::validate`]; a zenith-angle form needs a sun).
+    pub fn rate_at(&self, t_s: f64) -> Result<f64, ReactorError> {
+        self.validate().map_err(ReactorError::BadBoxConditions)?;
+        Ok(self.evaluate(t_s))
+    }
+
+    /// J (1/s) at run time `t_s` (s) of a validated rate (0 where an unchecked one has no
+    /// value).
+    pub(crate) fn evaluate(&self, t_s: f64) -> f64 {
         match &self.form {
             PhotolysisForm::Table {
                 times_s,
                 rates_per_s,
             } => {
+                let n = times_s.len().min(rates_per_s.len());
+                let (times_s, rates_per_s) = (&times_s[..n], &rates_per_s[..n]);
                 let (Some(&first), Some(&last)) = (times_s.first(), times_s.last()) else {
                     return 0.0;
                 };
@@ -90,9 +100,9 @@ impl PhotolysisRate {
                     return rates_per_s[0];
                 }
                 if t_s >= last {
-                    return rates_per_s[rates_per_s.len() - 1];
+                    return rates_per_s[n - 1];
                 }
-                let i = times_s.partition_point(|&x| x <= t_s) - 1;
+                let i = times_s.partition_point(|&x| x <= t_s).clamp(1, n - 1) - 1;
                 let f = (t_s - times_s[i]) / (times_s[i + 1] - times_s[i]);
                 rates_per_s[i] + f * (rates_per_s[i + 1] - rates_per_s[i])
             }
@@ -114,7 +124,11 @@ impl PhotolysisRate {
         }
     }
 
-    fn validate(&self) -> Result<(), String> {
+    /// Checks the rate: a table needs as many finite rates >= 0 (1/s) as finite, strictly
+    /// increasing times (s), at least one; the zenith-angle form needs a sun (latitude
+    /// within +-90 deg, finite day and start time), a finite scale >= 0 (1/s) and finite
+    /// exponents. The error says what is wrong.
+    pub fn validate(&self) -> Result<(), String> {
         match &self.form {
             PhotolysisForm::Table {
                 times_s,
@@ -214,7 +228,7 @@ impl BoxConditions {
     /// Overwrites the forward rate constants of the photolysis steps with J(`t_s`).
     pub(crate) fn apply_photolysis(&self, t_s: f64, forward: &mut [f64]) {
         for (j, rate) in &self.photolysis {
-            forward[*j] = rate.rate_at(t_s);
+            forward[*j] = rate.evaluate(t_s);
         }
     }
 

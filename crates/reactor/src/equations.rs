@@ -20,6 +20,7 @@ use stoik_thermo::Nasa7;
 use crate::fixed_lu::FixedPatternSolver;
 use crate::model::{state_pattern, Constraint, Energy, ModelEquations, ModelScratch, ReactorModel};
 use crate::watch::Quantity;
+use crate::ReactorError;
 
 /// A host linear-algebra backend: how to see diffsol's vectors as slices and how to write
 /// the analytic Jacobian into its matrix type.
@@ -67,7 +68,7 @@ impl Backend for NalgebraMat<f64> {
     }
 
     fn target<'m>(jac: &'m mut Self, pattern: &JacobianPattern) -> Option<JacobianTarget<'m>> {
-        let n = pattern.n;
+        let n = pattern.n();
         let data = jac.inner_mut().as_mut_slice();
         (data.len() == n * n).then_some(JacobianTarget::Dense(data))
     }
@@ -85,17 +86,14 @@ impl Backend for FaerSparseMat<f64> {
     }
 
     fn pattern_sparsity(pattern: &JacobianPattern) -> Option<Self::Sparsity> {
-        // faer's constructor panics on a malformed pattern, so check its invariants first
-        // (sorted, unique rows per column; consistent column starts).
-        if !pattern_is_valid(pattern) {
-            return None;
-        }
+        // faer's constructor panics on a malformed pattern; `JacobianPattern`'s constructors
+        // guarantee faer's invariants (sorted, unique, in-range rows; consistent starts).
         Some(SymbolicSparseColMat::new_checked(
-            pattern.n,
-            pattern.n,
-            pattern.column_starts.clone(),
+            pattern.n(),
+            pattern.n(),
+            pattern.column_starts().to_vec(),
             None,
-            pattern.row_indices.clone(),
+            pattern.row_indices().to_vec(),
         ))
     }
 
@@ -103,32 +101,13 @@ impl Backend for FaerSparseMat<f64> {
         // The matrix was built from our own pattern (see `sparsity`), so its values array is
         // aligned entry by entry with the pattern: write straight into it.
         let matrix = jac.inner_mut().first_mut()?;
-        if matrix.symbolic().col_ptr() != pattern.column_starts.as_slice()
-            || matrix.symbolic().row_idx() != pattern.row_indices.as_slice()
+        if matrix.symbolic().col_ptr() != pattern.column_starts()
+            || matrix.symbolic().row_idx() != pattern.row_indices()
         {
             return None;
         }
         Some(JacobianTarget::Sparse(matrix.val_mut()))
     }
-}
-
-/// Whether `pattern` satisfies faer's compressed-sparse-column invariants.
-pub(crate) fn pattern_is_valid(pattern: &JacobianPattern) -> bool {
-    let n = pattern.n;
-    let starts = &pattern.column_starts;
-    if starts.len() != n + 1
-        || starts.first() != Some(&0)
-        || starts.last() != Some(&pattern.row_indices.len())
-    {
-        return false;
-    }
-    starts.windows(2).all(|w| {
-        w[0] <= w[1]
-            && pattern.row_indices[w[0]..w[1]]
-                .windows(2)
-                .all(|r| r[0] < r[1])
-            && pattern.row_indices[w[0]..w[1]].iter().all(|&r| r < n)
-    })
 }
 
 /// The equations of a closed batch reactor ([`ReactorModel`]) for one compiled mechanism.
@@ -183,21 +162,22 @@ impl<M: Backend> BatchEquations<M> {
         thermo: Vec<Nasa7>,
         temperature_k: f64,
         initial: Vec<f64>,
-    ) -> Self {
+    ) -> Result<Self, ReactorError> {
         let rate_constants = kinetics.rate_constants(temperature_k);
-        let (state_pattern, pattern_map) = state_pattern(&kinetics, &model);
+        let (state_pattern, pattern_map) =
+            state_pattern(&kinetics, &model).map_err(|_| ReactorError::BadPattern)?;
         let sparsity = M::pattern_sparsity(&state_pattern);
         let scratch = ModelScratch::new(&kinetics);
-        let mut fixed_mask = vec![false; state_pattern.n];
+        let mut fixed_mask = vec![false; state_pattern.n()];
         for &i in &model.conditions.fixed_species {
             if let Some(f) = fixed_mask.get_mut(i) {
                 *f = true;
             }
         }
-        let diagonal_positions = (0..state_pattern.n)
+        let diagonal_positions = (0..state_pattern.n())
             .map(|i| state_pattern.position(i, i).unwrap_or(usize::MAX))
             .collect();
-        Self {
+        Ok(Self {
             fixed_mask,
             diagonal_positions,
             rate_constants: RefCell::new(rate_constants),
@@ -218,12 +198,12 @@ impl<M: Backend> BatchEquations<M> {
             non_negative: true,
             sparsity,
             ctx: M::C::default(),
-        }
+        })
     }
 
     /// Number of states (species, plus the temperature when it is solved).
     pub(crate) fn n_states(&self) -> usize {
-        self.state_pattern.n
+        self.state_pattern.n()
     }
 
     /// Sets the held (isothermal) temperature to `temperature_k` (K) and re-evaluates the
@@ -339,7 +319,7 @@ impl<M: Backend> BatchEquations<M> {
                 }
             }
             None => {
-                for (v, &row) in values.iter_mut().zip(&self.state_pattern.row_indices) {
+                for (v, &row) in values.iter_mut().zip(self.state_pattern.row_indices()) {
                     if self.fixed_mask[row] {
                         *v = 0.0;
                     }
@@ -406,16 +386,17 @@ impl<M: Backend> BatchEquations<M> {
                     self.rates_for(t_s, y);
                     self.kinetics
                         .jacobian_dense(&self.rate_constants.borrow(), y, data);
-                    self.box_jacobian(data, Some(self.state_pattern.n));
+                    self.box_jacobian(data, Some(self.state_pattern.n()));
                 } else {
                     let mut values = self.jac_values.borrow_mut();
                     self.jacobian_values(t_s, y, &mut values);
                     let pattern = &self.state_pattern;
-                    let m = pattern.n;
+                    let m = pattern.n();
+                    let (starts, rows) = (pattern.column_starts(), pattern.row_indices());
                     data.iter_mut().for_each(|x| *x = 0.0);
                     for col in 0..m {
-                        for p in pattern.column_starts[col]..pattern.column_starts[col + 1] {
-                            data[col * m + pattern.row_indices[p]] = values[p];
+                        for p in starts[col]..starts[col + 1] {
+                            data[col * m + rows[p]] = values[p];
                         }
                     }
                 }
@@ -484,12 +465,13 @@ impl<M: Backend> NonLinearOpJacobian for BatchRhs<'_, M> {
         let v = M::slice(v);
         let y = M::slice_mut(y);
         y.iter_mut().for_each(|e| *e = 0.0);
-        for (col, &vc) in v.iter().enumerate().take(pattern.n) {
+        let (starts, rows) = (pattern.column_starts(), pattern.row_indices());
+        for (col, &vc) in v.iter().enumerate().take(pattern.n()) {
             if vc == 0.0 {
                 continue;
             }
-            for p in pattern.column_starts[col]..pattern.column_starts[col + 1] {
-                y[pattern.row_indices[p]] += values[p] * vc;
+            for p in starts[col]..starts[col + 1] {
+                y[rows[p]] += values[p] * vc;
             }
         }
     }

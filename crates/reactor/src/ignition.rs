@@ -3,7 +3,7 @@
 //! interpolated between output points.
 
 use crate::watch::{Quantity, Watch};
-use crate::Profiles;
+use crate::{Profiles, ReactorError};
 
 /// How the moment of ignition is defined (all common practice).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -85,14 +85,37 @@ fn peak_time(times: &[f64], values: &[f64]) -> Option<f64> {
 /// The ignition delay of `profiles` by `criterion`, or `None` when the profile shows no
 /// ignition by that criterion: no temperature rise of at least 1 K with an interior maximum
 /// of dT/dt, no interior maximum of the species, or the threshold never crossed. The delay
-/// is measured from the first output time.
+/// is measured from the first output time. An error when `profiles` is inconsistent
+/// ([`Profiles::validate`]) or the criterion's species is not one of its columns.
 ///
 /// When the run located the criterion on its solver steps (the watches of
 /// [`IgnitionCriterion::watches`] were in its options), those results are used: accurate to
 /// the integration tolerance and independent of the output grid. Otherwise the delay is
 /// interpolated between output times, and its accuracy depends on how fine the grid is near
 /// ignition.
-pub fn ignition_delay(profiles: &Profiles, criterion: IgnitionCriterion) -> Option<IgnitionDelay> {
+pub fn ignition_delay(
+    profiles: &Profiles,
+    criterion: IgnitionCriterion,
+) -> Result<Option<IgnitionDelay>, ReactorError> {
+    profiles.validate()?;
+    if let IgnitionCriterion::SpeciesMaximum(species) = criterion {
+        let n_species = profiles
+            .concentrations_mol_per_m3
+            .first()
+            .map_or(0, Vec::len);
+        if species >= n_species {
+            return Err(ReactorError::SpeciesOutOfRange {
+                what: "ignition criterion",
+                species,
+                n_species,
+            });
+        }
+    }
+    Ok(delay_of_consistent(profiles, criterion))
+}
+
+/// [`ignition_delay`] of a validated profile.
+fn delay_of_consistent(profiles: &Profiles, criterion: IgnitionCriterion) -> Option<IgnitionDelay> {
     let times = &profiles.times_s;
     let temps = &profiles.temperatures_k;
     let (&t0, &temp0) = (times.first()?, temps.first()?);

@@ -21,13 +21,15 @@
 //!   with a fresh step size almost always does. Should it not, Newton's convergence test
 //!   rejects the stale matrix and diffsol rebuilds it: the result is right either way.
 
+#[cfg(feature = "bench-internals")]
+use diffsol::FaerSparseLU;
 use diffsol::{
-    Bdf, DiffsolError, FaerSparseLU, FaerSparseMat, NalgebraLU, NalgebraMat, OdeBuilder,
-    OdeSolverConfig, OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op, Vector,
+    Bdf, DiffsolError, FaerSparseMat, NalgebraLU, NalgebraMat, OdeBuilder, OdeSolverConfig,
+    OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op, Vector,
 };
 use stoik_kinetics::Kinetics;
 
-use crate::equations::{pattern_is_valid, Backend, BatchEquations};
+use crate::equations::{Backend, BatchEquations};
 use crate::failure::Diagnosis;
 use crate::fixed_lu::FixedPatternSolver;
 use crate::invariants::Invariants;
@@ -73,8 +75,21 @@ fn validate_options(
             return Err(ReactorError::BadNewtonTolerance(tol));
         }
     }
-    if !pattern_is_valid(kinetics.jacobian_pattern()) {
-        return Err(ReactorError::BadPattern);
+    check_watches(kinetics.n_species(), &options.watch)
+}
+
+/// Checks that every watched concentration names a species of the mechanism.
+fn check_watches(n_species: usize, watches: &[Watch]) -> Result<(), ReactorError> {
+    for watch in watches {
+        if let Quantity::Concentration(species) = watch.quantity() {
+            if species >= n_species {
+                return Err(ReactorError::SpeciesOutOfRange {
+                    what: "watched concentration",
+                    species,
+                    n_species,
+                });
+            }
+        }
     }
     Ok(())
 }
@@ -544,6 +559,7 @@ type DenseEquations = BatchEquations<NalgebraMat<f64>>;
 type SparseEquations = BatchEquations<FaerSparseMat<f64>>;
 type DenseStepper<'a> = Stepper<NalgebraMat<f64>, Bdf<'a, DenseEquations, NalgebraLU<f64>>>;
 type SparseStepper<'a> = Stepper<FaerSparseMat<f64>, Bdf<'a, SparseEquations, FixedPatternSolver>>;
+#[cfg(feature = "bench-internals")]
 type SparseFaerStepper<'a> =
     Stepper<FaerSparseMat<f64>, Bdf<'a, SparseEquations, FaerSparseLU<f64>>>;
 
@@ -551,6 +567,7 @@ type SparseFaerStepper<'a> =
 enum Session<'a> {
     Dense(Box<DenseStepper<'a>>),
     Sparse(Box<SparseStepper<'a>>),
+    #[cfg(feature = "bench-internals")]
     SparseFaer(Box<SparseFaerStepper<'a>>),
 }
 
@@ -560,6 +577,7 @@ macro_rules! with_stepper {
         match $session {
             Session::Dense($s) => $body,
             Session::Sparse($s) => $body,
+            #[cfg(feature = "bench-internals")]
             Session::SparseFaer($s) => $body,
         }
     };
@@ -585,7 +603,7 @@ fn build_problem<M: Backend>(
         thermo,
         temperature_k,
         vec![0.0; m],
-    );
+    )?;
     eqn.non_negative = options.non_negative;
     if options.keep_invariants {
         eqn.laws = state_laws(kinetics, model);
@@ -641,7 +659,7 @@ const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
 /// - [`integrator`](Self::integrator) and [`integrate`](Self::integrate) allocate one diffsol
 ///   BDF solver each: its state and difference table, the Newton matrix and LU (on the sparse
 ///   path also the symbolic analysis of the fixed pattern: ordering, fill pattern and factor
-///   storage; with [`LinearAlgebra::SparseFaer`] faer's symbolic analysis), plus
+///   storage, shared between solvers of the same pattern), plus
 ///   a few state-sized scratch vectors. [`integrate`](Self::integrate) also allocates the
 ///   output rows.
 /// - [`set_temperature`](Self::set_temperature) re-evaluates the rate constants in place: no
@@ -704,9 +722,14 @@ impl BatchSystem {
             _ => temperature_k,
         };
         let problem = match used {
-            LinearAlgebra::Sparse | LinearAlgebra::SparseFaer => Problem::Sparse(Box::new(
-                build_problem::<FaerSparseMat<f64>>(kinetics, model, temperature_k, options)?,
-            )),
+            used if used.is_sparse() => {
+                Problem::Sparse(Box::new(build_problem::<FaerSparseMat<f64>>(
+                    kinetics,
+                    model,
+                    temperature_k,
+                    options,
+                )?))
+            }
             _ => Problem::Dense(Box::new(build_problem::<NalgebraMat<f64>>(
                 kinetics,
                 model,
@@ -717,9 +740,10 @@ impl BatchSystem {
         Ok(BatchSystem {
             problem,
             model: model.clone(),
-            linear_algebra_used: match used {
-                LinearAlgebra::Sparse | LinearAlgebra::SparseFaer => used,
-                _ => LinearAlgebra::Dense,
+            linear_algebra_used: if used.is_sparse() {
+                used
+            } else {
+                LinearAlgebra::Dense
             },
             n_species: kinetics.n_species(),
             max_steps: options.max_steps,
@@ -756,8 +780,7 @@ impl BatchSystem {
         Ok(())
     }
 
-    /// The linear algebra in use ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
-    /// [`LinearAlgebra::SparseFaer`]).
+    /// The linear algebra in use ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]).
     pub fn linear_algebra_used(&self) -> LinearAlgebra {
         self.linear_algebra_used
     }
@@ -792,17 +815,17 @@ impl BatchSystem {
                     p.bdf::<NalgebraLU<f64>>()
                 })?))
             }
-            Problem::Sparse(p) => {
-                if linear_algebra_used == LinearAlgebra::SparseFaer {
+            Problem::Sparse(p) => match linear_algebra_used {
+                #[cfg(feature = "bench-internals")]
+                LinearAlgebra::SparseFaer => {
                     Session::SparseFaer(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
                         p.bdf::<FaerSparseLU<f64>>()
                     })?))
-                } else {
-                    Session::Sparse(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
-                        p.bdf::<FixedPatternSolver>()
-                    })?))
                 }
-            }
+                _ => Session::Sparse(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
+                    p.bdf::<FixedPatternSolver>()
+                })?)),
+            },
         };
         let mut stats = SolverStats::default();
         most_negative(initial, &mut stats.most_negative_concentration_mol_per_m3);
@@ -940,10 +963,7 @@ pub(crate) fn integrate(
 /// (diffsol creates them lazily), and a solver failure allocates its error (message and
 /// one-row partial profile). The sparse path ([`LinearAlgebra::Sparse`]) factorizes on storage
 /// sized by its symbolic phase and never allocates afterwards, except the first time a
-/// diagonal pivot is rejected (its pivoting fallback is built then).
-/// [`LinearAlgebra::SparseFaer`] relies on faer sizing its numeric LU storage on the first
-/// factorization and reusing it afterwards (pivoting that needed more fill would grow it). The
-/// With a prescribed temperature history, each call that spans breakpoints allocates their
+/// diagonal pivot is rejected (its pivoting fallback is built then). With a prescribed temperature history, each call that spans breakpoints allocates their
 /// list. The test `tests/allocations.rs` counts allocations on both paths: zero per round
 /// of `advance_to` + `set_state` + `set_temperature` after the first.
 pub struct BatchIntegrator<'a> {
@@ -1159,8 +1179,7 @@ impl BatchIntegrator<'_> {
         &self.stats
     }
 
-    /// The linear algebra in use ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
-    /// [`LinearAlgebra::SparseFaer`]).
+    /// The linear algebra in use ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]).
     pub fn linear_algebra_used(&self) -> LinearAlgebra {
         self.linear_algebra_used
     }

@@ -96,15 +96,17 @@ pub enum LinearAlgebra {
     /// pivot is tiny).
     Sparse,
     /// The same sparse matrices with faer's sparse LU (diffsol's `FaerSparseLU`: partial
-    /// pivoting, which redoes its symbolic work at every numeric factorization). Kept for
-    /// comparison; on hub-structured mechanisms it is much slower than [`LinearAlgebra::Sparse`]
-    /// (benches/README.md, "Sparse LU: fixed-pattern refactorization vs faer").
+    /// pivoting, which redoes its symbolic work at every numeric factorization). Only with
+    /// the `bench-internals` feature, for the comparison benchmark; on hub-structured
+    /// mechanisms it is much slower than [`LinearAlgebra::Sparse`] (benches/README.md,
+    /// "Sparse LU: fixed-pattern refactorization vs faer").
+    #[cfg(feature = "bench-internals")]
     SparseFaer,
 }
 
 impl LinearAlgebra {
     /// The concrete choice ([`LinearAlgebra::Dense`] or [`LinearAlgebra::Sparse`]) for
-    /// `kinetics`; `Dense`, `Sparse` and `SparseFaer` are returned unchanged.
+    /// `kinetics`; the other choices are returned unchanged.
     pub fn resolve(self, kinetics: &Kinetics) -> LinearAlgebra {
         match self {
             LinearAlgebra::Auto => {
@@ -117,6 +119,16 @@ impl LinearAlgebra {
                 }
             }
             other => other,
+        }
+    }
+
+    /// Whether this choice uses sparse matrices.
+    pub(crate) fn is_sparse(self) -> bool {
+        match self {
+            LinearAlgebra::Sparse => true,
+            #[cfg(feature = "bench-internals")]
+            LinearAlgebra::SparseFaer => true,
+            _ => false,
         }
     }
 }
@@ -238,8 +250,8 @@ pub struct Profiles {
     pub temperature_rates_k_per_s: Vec<f64>,
     /// Solver statistics of the run.
     pub stats: SolverStats,
-    /// The linear algebra actually used ([`LinearAlgebra::Dense`], [`LinearAlgebra::Sparse`] or
-    /// [`LinearAlgebra::SparseFaer`]).
+    /// The linear algebra actually used ([`LinearAlgebra::Dense`] or
+    /// [`LinearAlgebra::Sparse`]).
     pub linear_algebra_used: LinearAlgebra,
     /// Each watch of [`IntegrationOptions::watch`] with what it found on the solver's steps
     /// (`None`: a crossing not reached); on a failure, what was found up to it.
@@ -399,6 +411,28 @@ pub enum ReactorError {
     /// The kinetics' Jacobian pattern is malformed (a defect of the kinetics compiler).
     #[error("the Jacobian pattern of the kinetics is malformed")]
     BadPattern,
+    /// A [`Profiles`] whose vectors disagree in length (see [`Profiles::validate`]).
+    #[error("inconsistent profiles: {what} has {found} entries, expected {expected}")]
+    InconsistentProfiles {
+        /// Which vector.
+        what: &'static str,
+        /// Expected length (the number of output times, or of species for a row).
+        expected: usize,
+        /// Length found.
+        found: usize,
+    },
+    /// An index argument names a species the mechanism does not have.
+    #[error(
+        "{what}: species index {species} is out of range (the mechanism has {n_species} species)"
+    )]
+    SpeciesOutOfRange {
+        /// Which argument.
+        what: &'static str,
+        /// The offending species index.
+        species: usize,
+        /// Number of species of the mechanism.
+        n_species: usize,
+    },
     /// A prescribed temperature history is malformed.
     #[error("bad temperature history: {0}")]
     BadTemperatureHistory(String),
@@ -499,6 +533,42 @@ pub fn simulate(
 }
 
 impl Profiles {
+    /// Checks that the vectors agree: one concentration row and one temperature per output
+    /// time, the rates dT/dt empty or one per time, and every row of the same length. A
+    /// profile from the integrators always passes; one built by hand may not.
+    pub fn validate(&self) -> Result<(), ReactorError> {
+        let rows = self.times_s.len();
+        let check = |what: &'static str, found: usize| {
+            if found == rows {
+                Ok(())
+            } else {
+                Err(ReactorError::InconsistentProfiles {
+                    what,
+                    expected: rows,
+                    found,
+                })
+            }
+        };
+        check("concentrations", self.concentrations_mol_per_m3.len())?;
+        check("temperatures", self.temperatures_k.len())?;
+        if !self.temperature_rates_k_per_s.is_empty() {
+            check("temperature rates", self.temperature_rates_k_per_s.len())?;
+        }
+        let width = self.concentrations_mol_per_m3.first().map_or(0, Vec::len);
+        match self
+            .concentrations_mol_per_m3
+            .iter()
+            .find(|row| row.len() != width)
+        {
+            Some(row) => Err(ReactorError::InconsistentProfiles {
+                what: "a concentration row",
+                expected: width,
+                found: row.len(),
+            }),
+            None => Ok(()),
+        }
+    }
+
     /// What `watch` found, if it was watched and found.
     pub fn located(&self, watch: Watch) -> Option<Located> {
         self.located

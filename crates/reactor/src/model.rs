@@ -21,7 +21,7 @@
 //! slopes of the rate constants, the energy row from differentiating the quotient above, and
 //! at constant pressure the dense rank-one term `-c_i dg/dc_k`.
 
-use stoik_kinetics::{JacobianPattern, Kinetics, RateConstants};
+use stoik_kinetics::{JacobianPattern, Kinetics, PatternError, RateConstants};
 use stoik_thermo::Nasa7;
 
 use crate::atmosphere::BoxConditions;
@@ -219,11 +219,12 @@ pub(crate) fn energy_thermo(
 pub(crate) fn state_pattern(
     kinetics: &Kinetics,
     model: &ReactorModel,
-) -> (JacobianPattern, Vec<usize>) {
+) -> Result<(JacobianPattern, Vec<usize>), PatternError> {
     let kin = kinetics.jacobian_pattern();
-    let n = kin.n;
+    let (starts, rows) = (kin.column_starts(), kin.row_indices());
+    let n = kin.n();
     let m = model.n_states(n);
-    match (model.constraint, model.solves_energy()) {
+    Ok(match (model.constraint, model.solves_energy()) {
         (Constraint::ConstantVolume, false) => (kin.clone(), (0..kin.nnz()).collect()),
         (Constraint::ConstantVolume, true) => {
             let mut column_starts = Vec::with_capacity(m + 1);
@@ -231,9 +232,9 @@ pub(crate) fn state_pattern(
             let mut map = Vec::with_capacity(kin.nnz());
             column_starts.push(0);
             for col in 0..n {
-                for p in kin.column_starts[col]..kin.column_starts[col + 1] {
+                for &row in &rows[starts[col]..starts[col + 1]] {
                     map.push(row_indices.len());
-                    row_indices.push(kin.row_indices[p]);
+                    row_indices.push(row);
                 }
                 row_indices.push(n);
                 column_starts.push(row_indices.len());
@@ -241,29 +242,25 @@ pub(crate) fn state_pattern(
             row_indices.extend(0..m);
             column_starts.push(row_indices.len());
             (
-                JacobianPattern {
-                    n: m,
-                    column_starts,
-                    row_indices,
-                },
+                JacobianPattern::from_compressed(m, column_starts, row_indices)?,
                 map,
             )
         }
         (Constraint::ConstantPressure, _) => {
-            let pattern = JacobianPattern {
-                n: m,
-                column_starts: (0..=m).map(|j| j * m).collect(),
-                row_indices: (0..m * m).map(|p| p % m).collect(),
-            };
+            let pattern = JacobianPattern::from_compressed(
+                m,
+                (0..=m).map(|j| j * m).collect(),
+                (0..m * m).map(|p| p % m).collect(),
+            )?;
             let mut map = Vec::with_capacity(kin.nnz());
             for col in 0..n {
-                for p in kin.column_starts[col]..kin.column_starts[col + 1] {
-                    map.push(col * m + kin.row_indices[p]);
+                for &row in &rows[starts[col]..starts[col + 1]] {
+                    map.push(col * m + row);
                 }
             }
             (pattern, map)
         }
-    }
+    })
 }
 
 /// Scratch of the model's right-hand side and Jacobian, allocated once per solver.
@@ -402,13 +399,17 @@ impl ModelEquations<'_> {
                 scratch.capacity[i] = cap;
             }
         }
+        let (starts, rows) = (kin.column_starts(), kin.row_indices());
         for col in 0..n {
             let (mut sum, mut weighted) = (0.0, 0.0);
-            for p in kin.column_starts[col]..kin.column_starts[col + 1] {
-                let v = scratch.kin_values[p];
+            let entries = starts[col]..starts[col + 1];
+            for (&v, &row) in scratch.kin_values[entries.clone()]
+                .iter()
+                .zip(&rows[entries])
+            {
                 sum += v;
                 if energy_solved {
-                    weighted += scratch.energy[kin.row_indices[p]] * v;
+                    weighted += scratch.energy[row] * v;
                 }
             }
             scratch.column_sum[col] = sum;
@@ -454,7 +455,7 @@ impl ModelEquations<'_> {
                 // temperature column is stored last.
                 let mut pos = 0;
                 for col in 0..n {
-                    pos += kin.column_starts[col + 1] - kin.column_starts[col];
+                    pos += starts[col + 1] - starts[col];
                     values[pos] = energy_row(col);
                     pos += 1;
                 }
@@ -497,7 +498,7 @@ mod tests {
     fn hydrogen() -> Kinetics {
         let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
         let file = stoik_mechanism::load_mechanism(&path).unwrap_or_else(|e| panic!("{e}"));
-        Kinetics::compile(&file.mechanism)
+        Kinetics::compile(&file.mechanism).unwrap_or_else(|e| panic!("{e}"))
     }
 
     /// A state in the middle of an ignition: every species present, T = 1500 K.
@@ -548,7 +549,7 @@ mod tests {
             let t_s = 0.6e-3;
             let y = state(n, model.solves_energy());
             let temp = model.temperature(t_s, &y, n, 1500.0);
-            let (pattern, map) = state_pattern(&kinetics, &model);
+            let (pattern, map) = state_pattern(&kinetics, &model).unwrap();
             let mut scratch = ModelScratch::new(&kinetics);
             let mut values = vec![0.0; pattern.nnz()];
             let k = kinetics.rate_constants(temp);

@@ -38,7 +38,7 @@ forward = { prefactor = 0.5 }
 #[test]
 fn peak_and_crossing_of_consecutive_steps_match_closed_forms_on_a_coarse_grid() {
     let (k1, k2) = (2.0f64, 0.5f64);
-    let kinetics = Kinetics::compile(&consecutive());
+    let kinetics = Kinetics::compile(&consecutive()).unwrap();
     let mut options = IntegrationOptions::new(3);
     options.relative_tolerance = 1e-10;
     options.absolute_tolerances_mol_per_m3 = vec![1e-14; 3];
@@ -100,7 +100,7 @@ fn hydrogen() -> (Kinetics, Vec<f64>) {
             .unwrap_or_else(|| panic!("no {name}"));
         c[i] = x * total;
     }
-    (Kinetics::compile(&mech), c)
+    (Kinetics::compile(&mech).unwrap(), c)
 }
 
 /// The acceptance test: 101 and 2,001 output points give the same delay within 1e-6
@@ -129,7 +129,9 @@ fn ignition_delay_does_not_depend_on_the_output_grid() {
                 .collect();
             let p = simulate(&kinetics, &model, 1100.0, &c0, &times, &options)
                 .unwrap_or_else(|e| panic!("{e}"));
-            let d = ignition_delay(&p, criterion).expect("ignites");
+            let d = ignition_delay(&p, criterion)
+                .expect("a consistent profile")
+                .expect("ignites");
             assert!(d.on_solver_steps);
             d.delay_s
         };

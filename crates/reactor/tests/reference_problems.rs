@@ -21,11 +21,13 @@ use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};
 use stoik_testsupport::published;
 
-/// Every linear algebra: dense, the fixed-pattern sparse LU, and faer's sparse LU.
-fn both() -> [LinearAlgebra; 3] {
-    [
+/// Every linear algebra: dense, the fixed-pattern sparse LU, and (with the
+/// `bench-internals` feature, as in `cargo test --workspace`) faer's sparse LU.
+fn both() -> Vec<LinearAlgebra> {
+    vec![
         LinearAlgebra::Dense,
         LinearAlgebra::Sparse,
+        #[cfg(feature = "bench-internals")]
         LinearAlgebra::SparseFaer,
     ]
 }

@@ -67,7 +67,7 @@ fn long_isothermal_run_ends_at_the_equilibrium_the_constants_demand() {
         .unwrap_or_else(|e| panic!("{e}"))
         .mechanism;
     assert!(m.steps.iter().all(|s| s.reverse.is_none() && s.reversible));
-    let kinetics = Kinetics::compile(&m);
+    let kinetics = Kinetics::compile(&m).unwrap();
 
     // 3000 K, 1 atm; 2 H2 + O2 diluted in argon (x = 0.2, 0.1, 0.7): c_i = x_i P/(R T).
     let t = 3000.0;

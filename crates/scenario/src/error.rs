@@ -1,5 +1,6 @@
 //! Why a scenario could not be run.
 
+use stoik_kinetics::CompileError;
 use stoik_mechanism::LoadError;
 use stoik_reactor::{BatchError, ReactorError};
 
@@ -25,6 +26,10 @@ pub enum ScenarioError {
     /// override.
     #[error("the temperature follows a prescribed `temperature_history` and cannot be overridden; edit the history instead")]
     TemperaturePrescribed,
+    /// The mechanism breaks the rules a compiled mechanism relies on (only possible for one
+    /// built by hand; a loaded file is checked when read).
+    #[error(transparent)]
+    Compile(#[from] CompileError),
     /// The reactor refused the plan's arguments; nothing was integrated.
     #[error(transparent)]
     Reactor(#[from] ReactorError),

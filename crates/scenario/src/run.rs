@@ -131,7 +131,7 @@ impl RunPlan {
     /// Compiles the mechanism and runs the plan. An integration that fails part way gives an
     /// outcome with the failure and the partial profile; invalid arguments give an error.
     pub fn run(&self) -> Result<RunOutcome, ScenarioError> {
-        let kinetics = Kinetics::compile(self.mechanism());
+        let kinetics = Kinetics::compile(self.mechanism())?;
         self.run_compiled(&kinetics)
     }
 
@@ -182,7 +182,10 @@ impl RunPlan {
             warnings.extend(thermo_range_warnings(mechanism, low, high));
         }
         let ignition = self.ignition();
-        let ignition_delay = ignition.and_then(|c| ignition_delay(profiles, c));
+        let ignition_delay = ignition
+            .map(|c| ignition_delay(profiles, c))
+            .transpose()?
+            .flatten();
         let conservation =
             ReactorConservation::new(mechanism, self.model()).map(|laws| ConservationCheck {
                 drifts: laws.drifts(profiles, self.options()),
@@ -216,7 +219,16 @@ pub fn run_batch(
         let members: Vec<usize> = (first..plans.len())
             .filter(|&i| !done[i] && Arc::ptr_eq(plans[i].mechanism_file(), shared))
             .collect();
-        let kinetics = Kinetics::compile(&shared.mechanism);
+        let kinetics = match Kinetics::compile(&shared.mechanism) {
+            Ok(k) => k,
+            Err(e) => {
+                for &i in &members {
+                    done[i] = true;
+                    results[i] = Some(Err(ScenarioError::Compile(e.clone())));
+                }
+                continue;
+            }
+        };
         let cases: Vec<_> = members.iter().map(|&i| plans[i].batch_case()).collect();
         let outcomes = integrate_batch(&kinetics, &cases, progress);
         for (&i, outcome) in members.iter().zip(outcomes) {

@@ -167,7 +167,7 @@ mod tests {
             [[step]]\nequation = \"B + B -> C + B\"\nforward = { prefactor = 3.0e7 }\n\
             [[step]]\nequation = \"B + C -> A + C\"\nforward = { prefactor = 1.0e4 }\n";
         let m = parse_mechanism(text, "<robertson>").unwrap().mechanism;
-        let kinetics = Kinetics::compile(&m);
+        let kinetics = Kinetics::compile(&m).unwrap();
         let mut options = IntegrationOptions::new(3);
         options.relative_tolerance = 1e-8;
         options.absolute_tolerances_mol_per_m3 = vec![1e-14; 3];

@@ -35,7 +35,7 @@
 //! forward = { prefactor = 2.0 }
 //! "#;
 //! let file = parse_mechanism(text, "<inline>").expect("valid mechanism");
-//! let kinetics = Kinetics::compile(&file.mechanism);
+//! let kinetics = Kinetics::compile(&file.mechanism).expect("compiles");
 //! let options = reactor::IntegrationOptions::new(kinetics.n_species());
 //! let profiles = reactor::integrate(&kinetics, 300.0, &[1.0, 0.0], &[0.0, 0.5], &options)
 //!     .expect("integration succeeds");

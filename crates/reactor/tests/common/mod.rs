@@ -79,7 +79,7 @@ pub fn mechanism(names: &[&str], steps: Vec<Step>) -> Mechanism {
 }
 
 pub fn kinetics(names: &[&str], steps: Vec<Step>) -> Kinetics {
-    Kinetics::compile(&mechanism(names, steps))
+    Kinetics::compile(&mechanism(names, steps)).unwrap()
 }
 
 /// Options with relative tolerance `rtol`, absolute tolerance `atol` for every species.

@@ -3,7 +3,7 @@
 // Reference values are quoted with every digit their source publishes.
 #![allow(clippy::excessive_precision)]
 
-mod common;
+use crate::common;
 
 use common::{repo, stoik, text, Table};
 

@@ -6,7 +6,7 @@
 //! crate's parser. Bit identity holds because the binary runs the same computation and writes
 //! the shortest digits that round-trip.
 
-mod common;
+use crate::common;
 
 use common::{repo, stoik, text, Table};
 use std::path::Path;

@@ -169,17 +169,22 @@ impl ReactorConservation {
                     }
                 }
                 for (j, step) in mechanism.steps.iter().enumerate() {
-                    let change = step
+                    let mut change = Vec::new();
+                    let signed = step
                         .products
                         .iter()
-                        .map(|t| masses[t.species] * t.coefficient)
-                        .chain(
-                            step.reactants
-                                .iter()
-                                .map(|t| -masses[t.species] * t.coefficient),
-                        );
-                    let (net, size) =
-                        change.fold((0.0f64, 0.0f64), |(n, s), x| (n + x, s + x.abs()));
+                        .map(|t| (t, 1.0))
+                        .chain(step.reactants.iter().map(|t| (t, -1.0)));
+                    for (t, sign) in signed {
+                        // A hand-built mechanism may name a species it lacks.
+                        let mass = masses
+                            .get(t.species)
+                            .ok_or(ConservationError::SpeciesOutOfRange(t.species))?;
+                        change.push(sign * mass * t.coefficient);
+                    }
+                    let (net, size) = change
+                        .iter()
+                        .fold((0.0f64, 0.0f64), |(n, s), x| (n + x, s + x.abs()));
                     if net.abs() > 1e-9 * size {
                         return Err(ConservationCheckError::MassNotConserved {
                             step: j + 1,

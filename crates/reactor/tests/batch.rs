@@ -3,7 +3,7 @@
 //! integrated first-order rate law, e.g. Atkins' Physical Chemistry), and the parallel and
 //! serial batches agree exactly.
 
-mod common;
+use crate::common;
 
 use common::*;
 use stoik_mechanism::Arrhenius;

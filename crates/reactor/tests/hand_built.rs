@@ -1,7 +1,7 @@
 //! Values built by hand (photolysis rates, profiles, watches, criteria with species indices)
 //! give errors through the public API, never panics.
 
-mod common;
+use crate::common;
 
 use common::{kinetics, options, step, T};
 use stoik_reactor::{
@@ -133,4 +133,27 @@ fn species_indices_out_of_range_are_errors() {
     let p = integrate(&kin, T, &[1.0, 0.0], &[0.0, 3.0], &opts).unwrap();
     let crossing = p.located(opts.watch[0]).expect("crosses");
     assert!((crossing.time_s - 2f64.ln() / 0.5).abs() < 1e-4);
+}
+
+#[test]
+fn a_step_naming_a_missing_species_is_an_error_of_the_constant_pressure_check() {
+    // Species A = H2 and B = 2 H (abstract chemistry, hydrogen weight 1.008e-3 kg/mol, IUPAC
+    // abridged value); the step names species index 5, which the mechanism lacks.
+    let mut m = common::mechanism(&["A", "B"], vec![step(&[(0, 1.0)], &[(5, 2.0)], 1.0)]);
+    m.elements = vec![stoik_mechanism::Element {
+        symbol: "H".to_string(),
+        atomic_weight_kg_per_mol: 1.008e-3,
+    }];
+    m.species[0].composition = Some(vec![(0, 2.0)]);
+    m.species[1].composition = Some(vec![(0, 1.0)]);
+    let model = ReactorModel {
+        constraint: stoik_reactor::Constraint::ConstantPressure,
+        ..ReactorModel::default()
+    };
+    assert_eq!(
+        stoik_reactor::ReactorConservation::new(&m, &model).err(),
+        Some(stoik_reactor::ConservationCheckError::Laws(
+            stoik_kinetics::ConservationError::SpeciesOutOfRange(5)
+        ))
+    );
 }

@@ -9,7 +9,7 @@
 // Reference values are quoted with every digit their source publishes.
 #![allow(clippy::excessive_precision)]
 
-mod common;
+use crate::common;
 
 use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};

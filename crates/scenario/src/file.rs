@@ -58,7 +58,7 @@ pub(crate) enum IgnitionSpec {
     /// The largest dT/dt (`criterion = "max-temperature-rate"`).
     MaxTemperatureRate,
     /// The peak of a species (`criterion = "species-peak"`, `species = "OH"`).
-    SpeciesPeak(NamedValue),
+    SpeciesMaximum(NamedValue),
     /// A temperature rise in K (`criterion = "temperature-rise"`, `rise = "400 K"`).
     TemperatureRise(f64),
 }

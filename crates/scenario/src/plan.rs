@@ -422,7 +422,7 @@ fn resolve(
     }
     let ignition = match &scenario.ignition {
         Some(IgnitionSpec::MaxTemperatureRate) => Some(IgnitionCriterion::MaxTemperatureRate),
-        Some(IgnitionSpec::SpeciesPeak(named)) => {
+        Some(IgnitionSpec::SpeciesMaximum(named)) => {
             find(named, "[ignition] species").map(IgnitionCriterion::SpeciesMaximum)
         }
         Some(IgnitionSpec::TemperatureRise(k)) => Some(IgnitionCriterion::TemperatureRise(*k)),

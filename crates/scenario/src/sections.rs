@@ -636,7 +636,7 @@ pub(crate) fn read_ignition(
     };
     match criterion? {
         "species-peak" => match t.get("species") {
-            Some(v) => bare_name(r, "species", v).map(|n| Some(IgnitionSpec::SpeciesPeak(n))),
+            Some(v) => bare_name(r, "species", v).map(|n| Some(IgnitionSpec::SpeciesMaximum(n))),
             None => {
                 r.error(
                     0,

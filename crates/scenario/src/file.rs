@@ -130,10 +130,7 @@ impl Scenario {
 /// file's folder. Diagnostics name the path as given.
 pub fn load_scenario(path: &Path) -> Result<(Scenario, Diagnostics), LoadError> {
     let label = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| LoadError::Io {
-        file: label.clone(),
-        reason: e.to_string(),
-    })?;
+    let text = stoik_mechanism::read_input_text(path).map_err(|e| e.into_load_error(&label))?;
     let base = path.parent().unwrap_or_else(|| Path::new(""));
     parse_scenario(&text, &label, base)
 }

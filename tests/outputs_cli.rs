@@ -220,7 +220,10 @@ fn colliding_outputs_are_refused_naming_both_sources() {
     );
     let err = text(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{err}");
-    assert!(err.contains("at 600 K"), "{err}");
+    assert!(
+        err.contains("--temperatures-k") && err.contains("values 1 and 2"),
+        "{err}"
+    );
     // Two tables of one stem, and two renames to one name, in fit-thermo.
     let janaf = repo().join("crates/thermo/tests/data/janaf");
     for sub in ["a", "b"] {

@@ -87,6 +87,16 @@ fn plans(args: &BatchArgs) -> Result<Vec<Job>, CliError> {
             "--temperatures-k must be positive numbers of kelvin, got {t}"
         )));
     }
+    // 600, 600.0 and 6e2 are one number: the same run twice, one CSV name.
+    for (i, t) in args.temperatures_k.iter().enumerate() {
+        if let Some(j) = args.temperatures_k[..i].iter().position(|u| u == t) {
+            return Err(CliError::BadFlag(format!(
+                "--temperatures-k: values {} and {} are the same temperature, {t} K (one run, one CSV name); give each temperature once",
+                j + 1,
+                i + 1
+            )));
+        }
+    }
     let temperatures: Vec<Option<f64>> = if args.temperatures_k.is_empty() {
         vec![None]
     } else {

@@ -25,10 +25,14 @@ struct Job {
 }
 
 impl Job {
-    /// The run in words, for messages: `a.scenario.toml at 600 K`.
+    /// The run in words, for messages: `a.scenario.toml at 600 K (--temperatures-k)`.
     fn source(&self) -> String {
         match self.temperature_k {
-            Some(t) => format!("{} at {t} K", self.scenario.display()),
+            Some(t) => format!(
+                "{} at {} K (--temperatures-k)",
+                self.scenario.display(),
+                temperature_name(t)
+            ),
             None => self.scenario.display().to_string(),
         }
     }

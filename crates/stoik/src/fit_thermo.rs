@@ -120,7 +120,15 @@ pub fn fit_thermo(args: &FitThermoArgs) -> Result<(), CliError> {
             table.h298_formation_j_per_mol,
             None,
         )
-        .map_err(|e| CliError::fit(format!("{at}cannot fit: "), e))?;
+        .map_err(|e| {
+            CliError::fit(
+                format!(
+                    "{at}cannot fit with --low-k {} K, --common-temperature-k {} K, --high-k {} K: ",
+                    args.low_k, args.common_temperature_k, args.high_k
+                ),
+                e,
+            )
+        })?;
         let p = &fit.polynomial;
         println!(
             "{:<10} {:>8.1} {:>8.1} {:>8.1} {:>6} {:>12.2e} {:>12.2e} {:>12.1}",

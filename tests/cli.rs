@@ -197,7 +197,10 @@ fn failed_integration_exits_3_and_keeps_the_partial_profile() {
     assert_eq!(out.status.code(), Some(3), "{}", text(&out.stderr));
     let err = text(&out.stderr);
     assert!(err.contains("integration failed at t ="), "{err}");
-    let csv = std::fs::read_to_string(dir.join("partial.csv")).unwrap();
+    // The partial profile goes beside the requested output (issue 12: a failed run never
+    // replaces the output name), `partial.csv` -> `partial.partial.csv`.
+    assert!(!dir.join("partial.csv").exists());
+    let csv = std::fs::read_to_string(dir.join("partial.partial.csv")).unwrap();
     let rows = csv.lines().count() - 1;
     // Some rows were computed before the step limit, but not all 41.
     assert!((1..41).contains(&rows), "{rows} rows");

@@ -16,7 +16,7 @@
 
 use crate::{RateConstantUnit, RateData, RateFitError, RatePoint, UncertaintyKind};
 use std::path::Path;
-use stoik_mechanism::{nearest_name, Diagnostic, Diagnostics, SourceLocation};
+use stoik_mechanism::{nearest_name, Diagnostic, Diagnostics, LoadError, SourceLocation};
 use stoik_mechanism::{pressure_to_pa, temperature_to_k, PRESSURE_UNITS, TEMPERATURE_UNITS};
 
 /// Column names accepted in the header.
@@ -28,10 +28,11 @@ const COLUMN_NAMES: &[&str] = &["temperature", "rate_constant", "uncertainty", "
 /// [`parse_rate_data`].
 pub fn load_rate_data(path: &Path) -> Result<RateData, RateFitError> {
     let label = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| RateFitError::Io {
-        file: label.clone(),
-        reason: e.to_string(),
-    })?;
+    let text =
+        stoik_mechanism::read_input_text(path).map_err(|e| match e.into_load_error(&label) {
+            LoadError::Invalid { diagnostics } => RateFitError::Invalid { diagnostics },
+            LoadError::Io { file, reason } => RateFitError::Io { file, reason },
+        })?;
     parse_rate_data(&text, &label)
 }
 

@@ -4,7 +4,7 @@ use crate::{Model, RateFit, RateFitError};
 use std::fmt::Write as _;
 use stoik_mechanism::parse_equation;
 use stoik_mechanism::{AmountUnit, EnergyUnit, LengthUnit, RateUnits, TimeUnit};
-use stoik_thermo::{toml_float, toml_string};
+use stoik_thermo::{toml_comment_text, toml_float, toml_string};
 
 /// The fitted step as a `[[step]]` table of the mechanism format, ready to paste.
 ///
@@ -44,7 +44,7 @@ pub fn mechanism_snippet(fit: &RateFit, equation: Option<&str>) -> Result<String
     let _ = writeln!(
         s,
         "# Fitted by `stoik fit-rate` to {}: {} points, {t_min:.1}-{t_max:.1} K; valid in that range.",
-        fit.source,
+        toml_comment_text(&fit.source),
         fit.point_count()
     );
     let _ = writeln!(

@@ -337,6 +337,50 @@ fn units_set_the_order_and_the_si_factor() {
 }
 
 #[test]
+fn snippets_of_data_files_with_hostile_names_load_back() {
+    // The snippet names the data file in a comment and in the step's note. A name holding a
+    // newline used to end the comment and leave `[x].csv` as TOML text (issue 12, section
+    // 5). Every name must give a snippet that the mechanism reader accepts, with the rate
+    // constant read back equal to the fitted one (shortest round-trip digits) and the note
+    // holding the name exactly (TOML string escapes, TOML 1.0 specification "String").
+    let hostile = [
+        "d\n[x].csv",
+        "d\r\n[[step]].csv",
+        "d\"q.csv",
+        "d\\e.csv",
+        "d #c.csv",
+        "d\u{7f}\u{1}\t.csv",
+        "\u{2028}Ω.csv",
+        "\"\"\".csv",
+    ];
+    for name in hostile {
+        let data = parse_rate_data(&ethanal(), name).expect("valid data");
+        let fit = fit_rate_constants(&data, &FitOptions::default()).expect("fit");
+        let snippet = mechanism_snippet(&fit, Some("CH3CHO -> CH4 + CO")).expect("snippet");
+        let text = format!(
+            "stoik_mechanism = 1\n[[species]]\nname = \"CH3CHO\"\n[[species]]\nname = \"CH4\"\n[[species]]\nname = \"CO\"\n{snippet}"
+        );
+        let file = parse_mechanism_in(&text, "<snippet>", None)
+            .unwrap_or_else(|e| panic!("snippet of {name:?} does not load: {e}\n{snippet}"));
+        assert_eq!(file.mechanism.steps.len(), 1, "{name:?}");
+        let step = &file.mechanism.steps[0];
+        assert!(
+            step.note.as_deref().is_some_and(|n| n.contains(name)),
+            "{name:?}: {:?}",
+            step.note
+        );
+        // Unit conversion dm3 -> cm3 and back costs at most a few ulps.
+        assert!(
+            rel(
+                step.forward.rate_constant(800.0),
+                fit.rate_constant_si(800.0)
+            ) < 1e-13,
+            "{name:?}"
+        );
+    }
+}
+
+#[test]
 fn the_snippet_parses_and_gives_back_the_fitted_rate_constant() {
     // Ethanal data (Atkins' Physical Chemistry, data from memory): second order in ethanal,
     // so `CH3CHO -> CH4 + CO` needs reaction order 2 for ethanal.

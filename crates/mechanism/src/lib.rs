@@ -15,6 +15,7 @@ mod constants;
 mod diagnostics;
 mod elements;
 mod equation;
+mod input;
 mod mechanism_file;
 mod model;
 mod suggest;
@@ -32,6 +33,7 @@ pub use validate::{MechanismItem, MechanismProblem};
 
 // Reading files: mechanisms, thermo files, and what they report.
 pub use diagnostics::{Diagnostic, Diagnostics, LoadError, Severity};
+pub use input::{read_input_text, text_from_bytes, InputError, MAX_INPUT_BYTES};
 pub use mechanism_file::{
     load_mechanism, parse_mechanism, parse_mechanism_in, MechanismFile, MECHANISM_FORMAT_VERSION,
 };

@@ -33,16 +33,16 @@ pub struct MechanismFile {
     pub mechanism: Mechanism,
     /// Warnings found while loading (no errors: files with errors do not load).
     pub warnings: Diagnostics,
+    /// The thermo files read (the `thermo_files` entries resolved against the mechanism's
+    /// folder), in order: with the mechanism file itself, the inputs a run depends on.
+    pub thermo_files: Vec<PathBuf>,
 }
 
 /// Reads and loads the mechanism file at `path`; diagnostics name the path as given.
 /// Relative `thermo_files` paths are resolved against the folder of `path`.
 pub fn load_mechanism(path: &Path) -> Result<MechanismFile, LoadError> {
     let label = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| LoadError::Io {
-        file: label.clone(),
-        reason: e.to_string(),
-    })?;
+    let text = crate::read_input_text(path).map_err(|e| e.into_load_error(&label))?;
     let folder = path.parent().unwrap_or(Path::new(""));
     parse_mechanism_in(&text, &label, Some(folder))
 }
@@ -75,6 +75,7 @@ pub fn parse_mechanism_in(
         thermo_sources: HashMap::new(),
         thermo_file_offsets: Vec::new(),
         thermo_file_labels: Vec::new(),
+        thermo_file_paths: Vec::new(),
         external: Vec::new(),
         thermo_reported: Vec::new(),
         thermo_file_failed: false,
@@ -103,6 +104,7 @@ pub fn parse_mechanism_in(
     Ok(MechanismFile {
         mechanism,
         warnings: diagnostics,
+        thermo_files: loader.thermo_file_paths,
     })
 }
 
@@ -241,6 +243,8 @@ struct Loader<'t> {
     thermo_file_offsets: Vec<usize>,
     /// Each loaded thermo file's path as written.
     thermo_file_labels: Vec<String>,
+    /// Each loaded thermo file's path as resolved.
+    thermo_file_paths: Vec<PathBuf>,
     /// Diagnostics located in other files (thermo files).
     external: Vec<Diagnostic>,
     /// Species whose thermochemistry was given but reported as invalid (a bad inline table,
@@ -1117,6 +1121,7 @@ impl Loader<'_> {
             };
             let index = self.thermo_file_labels.len();
             self.thermo_file_labels.push(written.to_string());
+            self.thermo_file_paths.push(path.clone());
             self.thermo_file_offsets.push(at);
             for entry in loaded.entries {
                 self.thermo_sources

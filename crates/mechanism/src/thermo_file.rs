@@ -70,10 +70,7 @@ impl ThermoFile {
 /// Reads and loads the thermo file at `path`.
 pub fn load_thermo(path: &Path) -> Result<ThermoFile, LoadError> {
     let label = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| LoadError::Io {
-        file: label.clone(),
-        reason: e.to_string(),
-    })?;
+    let text = crate::read_input_text(path).map_err(|e| e.into_load_error(&label))?;
     parse_thermo(&text, &label)
 }
 

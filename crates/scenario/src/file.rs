@@ -10,10 +10,10 @@ use crate::box_sections::{read_box, BoxSpec};
 use crate::read::NamedValue;
 use crate::sections::{read_ignition, read_initial, read_output, read_reactor, read_solver};
 use std::path::{Path, PathBuf};
-use stoik_mechanism::ConcentrationUnit;
 use stoik_mechanism::{
     parse_document, show_number, value_as_number, Diagnostics, LoadError, Report,
 };
+use stoik_mechanism::{ConcentrationUnit, SourceLocation};
 use stoik_reactor::{Constraint, Energy, LinearAlgebra};
 use toml::de::{DeTable, DeValue};
 
@@ -23,6 +23,22 @@ pub const SCENARIO_FORMAT_VERSION: i64 = 1;
 pub const MOLE_FRACTION_SUM_TOLERANCE: f64 = 1e-6;
 /// Largest number of output points a grid may ask for (bounds memory on hostile input).
 pub const MAX_GRID_POINTS: u64 = 10_000_000;
+/// Largest memory a run's profile may need, in bytes (512 MiB): output rows times
+/// (species + 4) eight-byte values plus a 24-byte row header. A plan asking for more is
+/// refused with the size it would need (see [`profile_bytes`]).
+pub const MAX_PROFILE_BYTES: u64 = 512 * 1024 * 1024;
+
+/// The memory in bytes the profile of a run with `rows` output times and `species` species
+/// holds: per row the time, temperature, dT/dt, a spare value and one concentration per
+/// species (8 bytes each) plus the row's vector header (24 bytes). Saturates instead of
+/// overflowing.
+pub fn profile_bytes(rows: usize, species: usize) -> u64 {
+    let per_row = (species as u64)
+        .saturating_add(4)
+        .saturating_mul(8)
+        .saturating_add(24);
+    (rows as u64).saturating_mul(per_row)
+}
 
 /// When to write output rows (t = 0 is always the first row, `end_time` the last).
 #[derive(Debug, Clone, PartialEq)]
@@ -106,6 +122,8 @@ pub struct Scenario {
     pub(crate) ignition: Option<IgnitionSpec>,
     pub(crate) box_spec: BoxSpec,
     pub(crate) file: String,
+    /// Where the output times are asked for (diagnostics about them point there).
+    pub(crate) output_at: Option<SourceLocation>,
 }
 
 impl Scenario {
@@ -130,10 +148,7 @@ impl Scenario {
 /// file's folder. Diagnostics name the path as given.
 pub fn load_scenario(path: &Path) -> Result<(Scenario, Diagnostics), LoadError> {
     let label = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| LoadError::Io {
-        file: label.clone(),
-        reason: e.to_string(),
-    })?;
+    let text = stoik_mechanism::read_input_text(path).map_err(|e| e.into_load_error(&label))?;
     let base = path.parent().unwrap_or_else(|| Path::new(""));
     parse_scenario(&text, &label, base)
 }
@@ -209,6 +224,7 @@ fn read_scenario(
         },
         end_time_s: output.end_time_s?,
         output: output.times?,
+        output_at: output.at,
         output_concentration_unit: output.unit?,
         relative_tolerance: solver.relative_tolerance?,
         absolute_tolerance_mol_per_m3: solver.absolute_tolerance_mol_per_m3?,

@@ -43,9 +43,9 @@ mod sections;
 
 pub use error::ScenarioError;
 pub use file::{
-    kind_label, linear_algebra_from_name, load_scenario, parse_scenario, OutputTimes, Scenario,
-    LINEAR_ALGEBRA_NAMES, MAX_GRID_POINTS, MOLE_FRACTION_SUM_TOLERANCE, REACTOR_KINDS,
-    SCENARIO_FORMAT_VERSION,
+    kind_label, linear_algebra_from_name, load_scenario, parse_scenario, profile_bytes,
+    OutputTimes, Scenario, LINEAR_ALGEBRA_NAMES, MAX_GRID_POINTS, MAX_PROFILE_BYTES,
+    MOLE_FRACTION_SUM_TOLERANCE, REACTOR_KINDS, SCENARIO_FORMAT_VERSION,
 };
 pub use plan::RunPlan;
 pub use run::{

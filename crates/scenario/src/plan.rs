@@ -440,6 +440,25 @@ fn resolve(
             Vec::new()
         }
     };
+    // Memory is bounded by design: a grid whose profile would not fit is refused here,
+    // before anything is allocated for it.
+    let needed = crate::file::profile_bytes(output_times_s.len(), n);
+    if needed > crate::file::MAX_PROFILE_BYTES {
+        let mib = |b: u64| b / (1024 * 1024);
+        diagnostics.push(
+            Diagnostic::error(
+                file,
+                scenario.output_at,
+                format!(
+                    "{} output times of {n} species would need about {} MiB for the profile, above the limit of {} MiB",
+                    output_times_s.len(),
+                    mib(needed),
+                    mib(crate::file::MAX_PROFILE_BYTES)
+                ),
+            )
+            .with_help("ask for fewer output times (`points` of `grid`, or `times`)"),
+        );
+    }
     if !diagnostics.is_empty() {
         diagnostics.sort_by_key(|d| d.location.map(|l| (l.line, l.column)).unwrap_or((0, 0)));
         return Err(LoadError::Invalid {

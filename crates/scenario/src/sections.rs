@@ -10,6 +10,7 @@ use crate::read::{
     bare_name, concentration, concentration_unit, named_values, quantity, require_positive,
     section, Converter,
 };
+use stoik_mechanism::SourceLocation;
 use stoik_mechanism::{positive_finite_problem, show_number, Report, SpannedValue as Value};
 use stoik_mechanism::{
     pressure_to_pa, temperature_to_k, time_to_s, ConcentrationUnit, PRESSURE_UNITS,
@@ -339,6 +340,8 @@ pub(crate) fn read_initial(
 
 /// What `[output]` says.
 pub(crate) struct OutputSection {
+    /// Where the output times are asked for: the `times` or `grid` key, else `[output]`.
+    pub(crate) at: Option<SourceLocation>,
     pub(crate) end_time_s: Option<f64>,
     pub(crate) times: Option<OutputTimes>,
     pub(crate) unit: Option<ConcentrationUnit>,
@@ -347,6 +350,7 @@ pub(crate) struct OutputSection {
 /// Reads `[output]`: end time, times or grid, concentration unit.
 pub(crate) fn read_output(r: &mut Report<'_>, root: &DeTable<'_>) -> OutputSection {
     let mut out = OutputSection {
+        at: root.get("output").map(|v| r.location(v.span().start)),
         end_time_s: None,
         times: Some(OutputTimes::Linear { points: 101 }),
         unit: Some(ConcentrationUnit::MolPerM3),
@@ -383,8 +387,14 @@ pub(crate) fn read_output(r: &mut Report<'_>, root: &DeTable<'_>) -> OutputSecti
             );
             out.times = None;
         }
-        (Some((_, v)), None) => out.times = read_times(r, v, out.end_time_s),
-        (None, Some((_, v))) => out.times = read_grid(r, v, out.end_time_s),
+        (Some((key, v)), None) => {
+            out.at = Some(r.location(key.span().start));
+            out.times = read_times(r, v, out.end_time_s);
+        }
+        (None, Some((key, v))) => {
+            out.at = Some(r.location(key.span().start));
+            out.times = read_grid(r, v, out.end_time_s);
+        }
         (None, None) => {}
     }
     out

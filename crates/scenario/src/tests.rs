@@ -297,3 +297,32 @@ fn a_prescribed_history_is_the_reactors_and_refuses_a_temperature_override() {
     ));
     assert_eq!(p.ignition(), None);
 }
+
+#[test]
+fn a_grid_whose_profile_exceeds_the_memory_limit_is_refused_at_its_key() {
+    // 6 species (H2, O2, H, OH, H2O, AR): per row (6 + 4) * 8 + 24 = 104 bytes.
+    assert_eq!(profile_bytes(1, 6), 104);
+    assert_eq!(profile_bytes(usize::MAX, usize::MAX), u64::MAX);
+    // 10,000,000 rows (the grid's own maximum) need 1,040,000,000 bytes = 991 MiB, above
+    // the 512 MiB limit: refused when the plan is made, at line 9 (the `grid` key), with
+    // the size it would need.
+    let s = scenario(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1.0 }\n[output]\nend_time = \"1 s\"\ngrid = { spacing = \"linear\", points = 10000000 }\n",
+    );
+    let Err(ScenarioError::Load(LoadError::Invalid { diagnostics })) = plan(&s) else {
+        panic!("a 10,000,000-row profile was planned");
+    };
+    let d = &diagnostics.0[0];
+    assert_eq!(d.location, Some(SourceLocation { line: 9, column: 1 }));
+    assert!(d.message.contains("991 MiB"), "{}", d.message);
+    // 1,000,000 rows need 99 MiB: planned.
+    let s = scenario(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1.0 }\n[output]\nend_time = \"1 s\"\ngrid = { spacing = \"linear\", points = 1000000 }\n",
+    );
+    let mut p = plan(&s).expect("a 99 MiB profile is planned");
+    // An override that resolves the plan again is checked too, and refused without change.
+    assert!(p
+        .set_output_times(OutputTimes::Linear { points: 10_000_000 })
+        .is_err());
+    assert_eq!(p.output_times_s().len(), 1_000_000);
+}

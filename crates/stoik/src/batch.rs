@@ -6,18 +6,82 @@
 use crate::conservation_out::report_from_check;
 use crate::csv_out::CsvError;
 use crate::error::CliError;
-use crate::run::{scenario_stem, write_csv, CAUTION};
+use crate::out_file::{partial_path, OutputPaths};
+use crate::run::{record_inputs, scenario_stem, write_csv, CAUTION};
 use crate::BatchArgs;
 use indicatif::{ProgressBar, ProgressStyle};
 use std::collections::{BTreeSet, HashSet};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::sync::Arc;
 use std::time::Instant;
 use stoik::scenario::{load_plans, run_batch, RunPlan};
 
+/// One run of a batch: its plan, where it came from and its CSV path.
+struct Job {
+    plan: RunPlan,
+    scenario: PathBuf,
+    temperature_k: Option<f64>,
+    output: PathBuf,
+}
+
+impl Job {
+    /// The run in words, for messages: `a.scenario.toml at 600 K (--temperatures-k)`.
+    fn source(&self) -> String {
+        match self.temperature_k {
+            Some(t) => format!(
+                "{} at {} K (--temperatures-k)",
+                self.scenario.display(),
+                temperature_name(t)
+            ),
+            None => self.scenario.display().to_string(),
+        }
+    }
+}
+
+/// A temperature as it appears in a CSV name: plain digits between 1e-3 and 1e6 K
+/// (`600`, `612.5`), scientific notation outside (`1e300`), so a name stays short. Both are
+/// the shortest digits that read back as the same `f64`, so two temperatures get the same
+/// name exactly when they are the same number (`600`, `600.0` and `6e2` are one run twice).
+fn temperature_name(t: f64) -> String {
+    if (1e-3..1e6).contains(&t.abs()) {
+        format!("{t}")
+    } else {
+        format!("{t:e}")
+    }
+}
+
+/// Checks every CSV path of the batch (and the partial-profile path of a failed run) before
+/// anything runs: none is an input of a run, none repeats another.
+fn check_outputs(jobs: &[Job]) -> Result<(), CliError> {
+    let mut outputs = OutputPaths::new();
+    for job in jobs {
+        record_inputs(&mut outputs, &job.scenario, &job.plan);
+    }
+    for job in jobs {
+        let what = format!("--output-dir: the run of {}", job.source());
+        outputs.output(what.clone(), &job.output)?;
+        outputs.output(
+            format!("{what}, partial profile of a failed run"),
+            &partial_path(&job.output),
+        )?;
+    }
+    Ok(())
+}
+
+/// Creates the output folder; `Ok(true)` when it did not exist before.
+fn create_output_dir(dir: &Path) -> Result<bool, CliError> {
+    let existed = dir.exists();
+    std::fs::create_dir_all(dir).map_err(|e| CliError::Write {
+        what: "create",
+        path: dir.to_path_buf(),
+        source: e.into(),
+    })?;
+    Ok(!existed)
+}
+
 /// The plans of every scenario at every temperature, with their CSV paths; every bad input
 /// is reported.
-fn plans(args: &BatchArgs) -> Result<Vec<(RunPlan, PathBuf)>, CliError> {
+fn plans(args: &BatchArgs) -> Result<Vec<Job>, CliError> {
     if let Some(t) = args
         .temperatures_k
         .iter()
@@ -26,6 +90,16 @@ fn plans(args: &BatchArgs) -> Result<Vec<(RunPlan, PathBuf)>, CliError> {
         return Err(CliError::BadFlag(format!(
             "--temperatures-k must be positive numbers of kelvin, got {t}"
         )));
+    }
+    // 600, 600.0 and 6e2 are one number: the same run twice, one CSV name.
+    for (i, t) in args.temperatures_k.iter().enumerate() {
+        if let Some(j) = args.temperatures_k[..i].iter().position(|u| u == t) {
+            return Err(CliError::BadFlag(format!(
+                "--temperatures-k: values {} and {} are the same temperature, {t} K (one run, one CSV name); give each temperature once",
+                j + 1,
+                i + 1
+            )));
+        }
     }
     let temperatures: Vec<Option<f64>> = if args.temperatures_k.is_empty() {
         vec![None]
@@ -54,11 +128,16 @@ fn plans(args: &BatchArgs) -> Result<Vec<(RunPlan, PathBuf)>, CliError> {
                         });
                         break;
                     }
-                    format!("{}-{t}K.csv", scenario_stem(path))
+                    format!("{}-{}K.csv", scenario_stem(path), temperature_name(t))
                 }
                 None => format!("{}.csv", scenario_stem(path)),
             };
-            jobs.push((plan, args.output_dir.join(name)));
+            jobs.push(Job {
+                plan,
+                scenario: path.clone(),
+                temperature_k: t,
+                output: args.output_dir.join(name),
+            });
         }
     }
     match errors.len() {
@@ -71,12 +150,15 @@ fn plans(args: &BatchArgs) -> Result<Vec<(RunPlan, PathBuf)>, CliError> {
 /// Runs the batch: every run's CSV is written; failed runs are reported as they happen.
 pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
     let started = Instant::now();
-    std::fs::create_dir_all(&args.output_dir).map_err(|e| CliError::Write {
-        what: "create",
-        path: args.output_dir.clone(),
-        source: e.into(),
-    })?;
     let jobs = plans(args)?;
+    let created = create_output_dir(&args.output_dir)?;
+    if let Err(e) = check_outputs(&jobs) {
+        if created {
+            // Best effort: leave no empty folder behind a refused batch.
+            let _ = std::fs::remove_dir(&args.output_dir);
+        }
+        return Err(e);
+    }
     let total = jobs.len();
     let bar = if args.quiet {
         ProgressBar::hidden()
@@ -89,23 +171,39 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
         )
         .unwrap_or_else(|_| ProgressStyle::default_bar()),
     );
-    let plans: Vec<RunPlan> = jobs.iter().map(|(p, _)| p.clone()).collect();
+    let plans: Vec<RunPlan> = jobs.iter().map(|j| j.plan.clone()).collect();
     let outcomes = run_batch(&plans, &|| bar.inc(1));
     let mut failures = 0;
+    let mut refused = 0;
     let mut printed = HashSet::new();
-    for ((plan, output), outcome) in jobs.iter().zip(outcomes) {
+    for (job, outcome) in jobs.iter().zip(outcomes) {
+        let plan = &job.plan;
         let outcome = match outcome {
             Ok(o) => o,
             Err(e) => {
-                bar.suspend(|| eprintln!("{}: {}", output.display(), CliError::from(e)));
+                // Bad input found when the run was set up: exit 2, as `stoik run`.
+                bar.suspend(|| eprintln!("{}: {}", job.source(), CliError::from(e)));
                 failures += 1;
+                refused += 1;
                 continue;
             }
         };
-        if let Some(f) = outcome.failure() {
-            bar.suspend(|| eprintln!("{}: {f}; partial profile kept", output.display()));
+        // A failed run writes its partial profile beside its CSV, never over it.
+        let partial = partial_path(&job.output);
+        let output = if let Some(f) = outcome.failure() {
+            bar.suspend(|| {
+                eprintln!(
+                    "{}: {f}; partial profile written to {} ({} is left as it was)",
+                    job.source(),
+                    partial.display(),
+                    job.output.display()
+                )
+            });
             failures += 1;
-        }
+            &partial
+        } else {
+            &job.output
+        };
         if !args.quiet {
             // The warnings of `stoik run`, each distinct one once (a scenario's file
             // warnings are shared by its temperatures).
@@ -157,6 +255,7 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
     if failures > 0 {
         Err(CliError::RunsFailed {
             failed: failures,
+            refused,
             total,
         })
     } else {

@@ -9,7 +9,8 @@ use stoik::scenario::{load_scenario, RunPlan, ScenarioError};
 
 /// Whether `path` holds a scenario (it carries the scenario format key) rather than a mechanism.
 pub fn is_scenario(path: &Path) -> bool {
-    std::fs::read_to_string(path)
+    // The input reader refuses FIFOs and devices without opening them (no hang here).
+    stoik::mechanism::read_input_text(path)
         .map(|text| {
             text.lines()
                 .any(|line| line.trim_start().starts_with("stoik_scenario"))

@@ -50,6 +50,17 @@ pub enum CliError {
         /// The integration failure that produced the values, in words, if any.
         failure: Option<String>,
     },
+    /// An output path was refused before anything ran (its folder is missing, it is a folder,
+    /// it is an input of the command, or another output of the command has the same path).
+    #[error("error: {what}: {}: {reason}; nothing was written", path.display())]
+    Output {
+        /// The flag or the source of the output, e.g. `-o`.
+        what: String,
+        /// The path as given.
+        path: PathBuf,
+        /// Why it is refused.
+        reason: String,
+    },
     /// A file could not be written or a folder created.
     #[error("error: cannot {what} {}: {source}", path.display())]
     Write {
@@ -62,7 +73,7 @@ pub enum CliError {
         source: Box<dyn std::error::Error + Send + Sync>,
     },
     /// The integration of a run failed part way; its partial profile was written.
-    #[error("error: {failure}\n{advice}\nthe profile up to the failure ({rows} rows) was written to {}", output.display())]
+    #[error("error: {failure}\n{advice}\nthe profile up to the failure ({rows} rows) was written to {} ({} is left as it was)", output.display(), target.display())]
     IntegrationFailed {
         /// The failure.
         #[source]
@@ -71,14 +82,18 @@ pub enum CliError {
         advice: String,
         /// Rows written.
         rows: usize,
-        /// The CSV written.
+        /// The CSV written: the partial-profile file beside the requested output.
         output: PathBuf,
+        /// The requested output, not written by a failed run.
+        target: PathBuf,
     },
     /// Some runs of a batch failed (each was reported as it happened).
-    #[error("error: {failed} of {total} runs failed")]
+    #[error("error: {failed} of {total} runs failed{}", if *.refused > 0 { format!(" ({refused} refused as bad input)") } else { String::new() })]
     RunsFailed {
-        /// Failed runs.
+        /// Failed runs (refused ones included).
         failed: usize,
+        /// Runs refused as bad input when they were set up (exit 2, as `stoik run`).
+        refused: usize,
         /// All runs.
         total: usize,
     },
@@ -110,6 +125,7 @@ impl CliError {
     pub fn exit_code(&self) -> u8 {
         match self {
             CliError::StrictWarnings(_) => EXIT_WARNINGS,
+            CliError::RunsFailed { refused, .. } if *refused > 0 => EXIT_BAD_INPUT,
             CliError::NonFinite { .. }
             | CliError::IntegrationFailed { .. }
             | CliError::RunsFailed { .. } => EXIT_INTEGRATION_FAILED,

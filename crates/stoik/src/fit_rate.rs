@@ -2,6 +2,7 @@
 //! their uncertainties, written as a mechanism snippet and plotted as SVG.
 
 use crate::error::CliError;
+use crate::out_file::OutputPaths;
 use crate::{FitRateArgs, ModelArg};
 use stoik::fit::{
     fit_rate_constants, load_rate_data, mechanism_snippet, report_text, svg_plot, FitOptions,
@@ -11,6 +12,15 @@ use stoik::fit::{
 /// Runs the fit.
 pub fn fit_rate(args: &FitRateArgs) -> Result<(), CliError> {
     let label = args.data.display().to_string();
+    // Both outputs are checked before anything is fitted or written.
+    let mut outputs = OutputPaths::new();
+    outputs.input(&args.data);
+    if let Some(path) = &args.snippet {
+        outputs.output("--snippet", path)?;
+    }
+    if let Some(path) = &args.svg {
+        outputs.output("--svg", path)?;
+    }
     let data = load_rate_data(&args.data).map_err(|e| CliError::fit("", e))?;
     let options = FitOptions {
         model: match args.model {

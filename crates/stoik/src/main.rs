@@ -151,7 +151,7 @@ pub struct BatchArgs {
     /// then named <scenario>-<T>K.csv.
     #[arg(long, value_delimiter = ',')]
     pub temperatures_k: Vec<f64>,
-    /// Folder for the CSV files.
+    /// Folder for the CSV files (a failed run writes <name>.partial.csv instead).
     #[arg(long, default_value = ".")]
     pub output_dir: PathBuf,
     /// Do not enforce non-negative concentrations in the step acceptance.
@@ -167,7 +167,8 @@ pub struct BatchArgs {
 pub struct RunArgs {
     /// Scenario file (names the mechanism to run).
     pub scenario: PathBuf,
-    /// CSV output path [default: <scenario name>.csv in the current folder].
+    /// CSV output path [default: <scenario name>.csv in the current folder]. A failed run
+    /// writes its partial profile to <output stem>.partial.csv beside it instead.
     #[arg(short, long)]
     pub output: Option<PathBuf>,
     /// Override the temperature, in K.

@@ -4,7 +4,7 @@
 use crate::conservation_out::report_from_check;
 use crate::csv_out::{write_profiles, CsvError, CsvNotes};
 use crate::error::CliError;
-use crate::out_file::write_atomically;
+use crate::out_file::{partial_path, write_atomically, OutputPaths};
 use crate::RunArgs;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -59,6 +59,23 @@ fn failure_message(failure: &IntegrationFailure, mechanism: &Mechanism) -> Strin
 pub fn run(args: &RunArgs) -> Result<(), CliError> {
     let started = Instant::now();
     let plan = plan(args)?;
+    let output = args
+        .output
+        .clone()
+        .unwrap_or_else(|| PathBuf::from(format!("{}.csv", scenario_stem(&args.scenario))));
+    // Every output is checked before the integration, so a refused path costs no run time.
+    let mut outputs = OutputPaths::new();
+    record_inputs(&mut outputs, &args.scenario, &plan);
+    let flag = if args.output.is_some() {
+        "-o/--output"
+    } else {
+        "the default output (give another with -o)"
+    };
+    outputs.output(flag, &output)?;
+    outputs.output(
+        format!("{flag}, partial profile of a failed run"),
+        &partial_path(&output),
+    )?;
     let outcome = plan.run()?;
     let elapsed = started.elapsed();
     let mechanism = plan.mechanism();
@@ -68,10 +85,13 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         }
     }
     let profiles = outcome.profiles();
-    let output = args
-        .output
-        .clone()
-        .unwrap_or_else(|| PathBuf::from(format!("{}.csv", scenario_stem(&args.scenario))));
+    // A failed run writes its partial profile beside the output, never over it.
+    let target = output;
+    let output = if outcome.failure().is_some() {
+        partial_path(&target)
+    } else {
+        target.clone()
+    };
     match write_csv(&output, &plan, profiles) {
         // Printed even with --quiet: the file holds undefined values.
         Ok(notes) => {
@@ -117,6 +137,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
             rows: failure.partial.times_s.len(),
             failure,
             output,
+            target,
         }),
     }
 }
@@ -167,6 +188,16 @@ fn print_ignition(plan: &RunPlan, outcome: &RunOutcome) {
         println!(
             "CAUTION: ignition or thermal runaway detected (temperature rise {rise:.0} K). This mixture is flammable or explosive under these conditions.{hydrogen}"
         );
+    }
+}
+
+/// Records the files a plan was read from (the scenario, its mechanism, the mechanism's thermo
+/// files) as inputs no output may overwrite.
+pub fn record_inputs(outputs: &mut OutputPaths, scenario: &Path, plan: &RunPlan) {
+    outputs.input(scenario);
+    outputs.input(&plan.scenario().mechanism_path);
+    for thermo in &plan.mechanism_file().thermo_files {
+        outputs.input(thermo);
     }
 }
 

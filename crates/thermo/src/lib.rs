@@ -30,8 +30,8 @@ pub use fit::{fit_nasa7, Nasa7Fit, ThermoPoint, MIN_POINTS_PER_RANGE};
 pub use janaf::{read_janaf_tsv, JanafRow, JanafTable};
 pub use nasa7::Nasa7;
 pub use write::{
-    thermo_file_entry, thermo_file_header, toml_float, toml_string, PLAIN_DECIMAL_BELOW,
-    PLAIN_DECIMAL_FROM,
+    thermo_file_entry, thermo_file_header, toml_comment_text, toml_float, toml_string,
+    PLAIN_DECIMAL_BELOW, PLAIN_DECIMAL_FROM,
 };
 
 /// Standard-state pressure in Pa (1 bar) to which the polynomials' entropy and Gibbs

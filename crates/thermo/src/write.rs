@@ -42,8 +42,9 @@ pub fn toml_string(value: &str) -> String {
     toml::Value::String(value.to_string()).to_string()
 }
 
-/// `text` on one comment line: line breaks and other control characters become spaces.
-fn comment_text(text: &str) -> String {
+/// `text` made safe for one TOML comment line: line breaks and other control characters
+/// (which TOML forbids in comments or which would end the comment) become spaces.
+pub fn toml_comment_text(text: &str) -> String {
     text.chars()
         .map(|c| if c.is_control() { ' ' } else { c })
         .collect()
@@ -54,7 +55,7 @@ pub fn thermo_file_header(source_lines: &[&str]) -> String {
     let mut text = String::from("# Thermochemical data for stoik (format: stoik_thermo = 1).\n");
     for line in source_lines {
         text.push_str("# ");
-        text.push_str(&comment_text(line));
+        text.push_str(&toml_comment_text(line));
         text.push('\n');
     }
     text.push_str("\nstoik_thermo = 1\n");
@@ -93,7 +94,12 @@ pub fn thermo_file_entry(name: &str, origin: &str, fit: &Nasa7Fit) -> Result<Str
     let mut t = String::new();
     // Writing into a String cannot fail.
     let _ = writeln!(t);
-    let _ = writeln!(t, "# {}: {}", comment_text(name), comment_text(origin));
+    let _ = writeln!(
+        t,
+        "# {}: {}",
+        toml_comment_text(name),
+        toml_comment_text(origin)
+    );
     // The residual comments are for people: a short form.
     let _ = writeln!(
         t,

@@ -12,7 +12,7 @@ use crate::sections::{read_ignition, read_initial, read_output, read_reactor, re
 use std::path::{Path, PathBuf};
 use stoik_mechanism::ConcentrationUnit;
 use stoik_mechanism::{
-    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report,
+    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report, SourceLocation,
 };
 use stoik_reactor::{Constraint, Energy, LinearAlgebra};
 use toml::de::{DeTable, DeValue};
@@ -23,6 +23,39 @@ pub const SCENARIO_FORMAT_VERSION: i64 = 1;
 pub const MOLE_FRACTION_SUM_TOLERANCE: f64 = 1e-6;
 /// Largest number of output points a grid may ask for (bounds memory on hostile input).
 pub const MAX_GRID_POINTS: u64 = 10_000_000;
+/// Valid temperatures of a scenario (`[reactor] temperature`, history temperatures and the
+/// temperature overrides), (lowest, highest) in K, both included: below 1 K an Arrhenius
+/// factor with a negative activation temperature overflows, above 1e5 K no gas-phase
+/// thermochemistry applies.
+pub const TEMPERATURE_RANGE_K: (f64, f64) = (1.0, 1.0e5);
+/// Valid pressures of a scenario (`[reactor] pressure` and the pressure override), (lowest,
+/// highest) in Pa, both included: with [`TEMPERATURE_RANGE_K`] the total concentration
+/// P / (R T) stays between about 1e-15 and 1e9 mol/m3, finite and positive.
+pub const PRESSURE_RANGE_PA: (f64, f64) = (1.0e-9, 1.0e10);
+/// Longest simulated time of a scenario (`[output] end_time` and the end-time override), s
+/// (about 32 million years). The shortest is set by the output grid, whose times must be
+/// distinct in double precision.
+pub const MAX_END_TIME_S: f64 = 1.0e15;
+
+/// Where the values a [`crate::RunPlan`] checks were written in the scenario file, so that a
+/// problem found while resolving is reported at its key.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub(crate) struct Locations {
+    /// `[reactor] kind` (or the `[reactor]` header when the kind is the default).
+    pub(crate) reactor: Option<SourceLocation>,
+    /// `[reactor] temperature` (or the history).
+    pub(crate) temperature: Option<SourceLocation>,
+    /// `[reactor] pressure`.
+    pub(crate) pressure: Option<SourceLocation>,
+    /// The `concentrations` or `mole_fractions` key of `[initial]`.
+    pub(crate) initial: Option<SourceLocation>,
+    /// `[output] end_time`.
+    pub(crate) end_time: Option<SourceLocation>,
+    /// `[output] times` or `grid` (or `end_time` when neither is given).
+    pub(crate) output_times: Option<SourceLocation>,
+    /// The `[box]` section.
+    pub(crate) box_section: Option<SourceLocation>,
+}
 
 /// When to write output rows (t = 0 is always the first row, `end_time` the last).
 #[derive(Debug, Clone, PartialEq)]
@@ -106,6 +139,7 @@ pub struct Scenario {
     pub(crate) ignition: Option<IgnitionSpec>,
     pub(crate) box_spec: BoxSpec,
     pub(crate) file: String,
+    pub(crate) locations: Locations,
 }
 
 impl Scenario {
@@ -219,7 +253,42 @@ fn read_scenario(
         initial: initial?,
         tolerance_overrides: solver.tolerance_overrides?,
         file: file.to_string(),
+        locations: locations(r, root),
     })
+}
+
+/// The location of the key `path` (a chain of table keys from the root), if written.
+fn key_location(r: &Report<'_>, root: &DeTable<'_>, path: &[&str]) -> Option<SourceLocation> {
+    let (last, tables) = path.split_last()?;
+    let mut table = root;
+    for key in tables {
+        match table.get(*key)?.get_ref() {
+            DeValue::Table(t) => table = t,
+            _ => return None,
+        }
+    }
+    let (key, _) = table.get_key_value(*last)?;
+    Some(r.location(key.span().start))
+}
+
+/// Where the values that resolution checks were written.
+fn locations(r: &Report<'_>, root: &DeTable<'_>) -> Locations {
+    let at = |path: &[&str]| key_location(r, root, path);
+    let end_time = at(&["output", "end_time"]);
+    Locations {
+        reactor: at(&["reactor", "kind"]).or_else(|| at(&["reactor"])),
+        temperature: at(&["reactor", "temperature"])
+            .or_else(|| at(&["reactor", "temperature_history"])),
+        pressure: at(&["reactor", "pressure"]),
+        initial: at(&["initial", "concentrations"])
+            .or_else(|| at(&["initial", "mole_fractions"]))
+            .or_else(|| at(&["initial"])),
+        end_time,
+        output_times: at(&["output", "times"])
+            .or_else(|| at(&["output", "grid"]))
+            .or(end_time),
+        box_section: at(&["box"]),
+    }
 }
 
 fn read_version(r: &mut Report<'_>, root: &DeTable<'_>) {

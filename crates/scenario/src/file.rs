@@ -160,6 +160,15 @@ impl Scenario {
     }
 }
 
+/// Whether `text` is a scenario rather than a mechanism: its parsed TOML document has the
+/// scenario format key `stoik_scenario` at the top level, however the key is quoted. Text
+/// that is not TOML is not a scenario (a mechanism loader reports the same syntax error).
+pub fn is_scenario_text(text: &str) -> bool {
+    DeTable::parse(text)
+        .map(|doc| doc.get_ref().contains_key("stoik_scenario"))
+        .unwrap_or(false)
+}
+
 /// Reads and parses the scenario file at `path`; the mechanism path is resolved against the
 /// file's folder. Diagnostics name the path as given.
 pub fn load_scenario(path: &Path) -> Result<(Scenario, Diagnostics), LoadError> {

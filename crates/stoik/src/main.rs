@@ -170,10 +170,10 @@ pub struct RunArgs {
     /// CSV output path [default: <scenario name>.csv in the current folder].
     #[arg(short, long)]
     pub output: Option<PathBuf>,
-    /// Override the temperature, in K.
+    /// Override the temperature, in K (1 to 1e5 K).
     #[arg(long)]
     pub temperature_k: Option<f64>,
-    /// Override the end time, in s.
+    /// Override the end time, in s (positive, at most 1e15 s).
     #[arg(long)]
     pub end_time_s: Option<f64>,
     /// Override the relative tolerance.

@@ -80,8 +80,8 @@ pub struct FitRateArgs {
     /// The form fitted.
     #[arg(long, value_enum, default_value = "arrhenius")]
     pub model: ModelArg,
-    /// Reference temperature of the decorrelated form, in K [default: harmonic mean of the
-    /// data's temperatures].
+    /// Reference temperature of the decorrelated form, in K (1 to 1e5 K) [default: harmonic
+    /// mean of the data's temperatures].
     #[arg(long)]
     pub reference_temperature_k: Option<f64>,
     /// Equation of the step in the snippet, e.g. "CH3CHO -> CH4 + CO" [default: a placeholder
@@ -94,7 +94,7 @@ pub struct FitRateArgs {
     /// Write the fitted step as a mechanism-file snippet to this file.
     #[arg(long)]
     pub snippet: Option<PathBuf>,
-    /// Confidence level of intervals and band.
+    /// Confidence level of intervals and band (0.5 to 0.9999).
     #[arg(long, default_value_t = 0.95)]
     pub confidence: f64,
 }

@@ -110,3 +110,36 @@ fn check_refuses_a_rate_constant_that_overflows_in_the_checked_range() {
         "{err}"
     );
 }
+
+#[test]
+fn energetics_refuses_temperatures_outside_the_range_and_names_overflows_in_words() {
+    // The documented temperature range is 1 K to 1e5 K (the scenario range). At 1 K the
+    // equilibrium constant of H2 + OH <=> H2O + H, exp(-dG/(R T)) with dG = -61.85 kJ/mol, is
+    // exp(7439), beyond DBL_MAX = 1.8e308 (IEEE 754): printed in words, never as inf.
+    let mechanisms = repo().join("mechanisms");
+    for bad in ["1e308", "1e-320", "0.5"] {
+        let out = stoik(
+            &["energetics", "hydrogen-oxygen.toml", "--temperature-k", bad],
+            &mechanisms,
+        );
+        assert_eq!(out.status.code(), Some(2), "{bad}");
+        assert!(text(&out.stderr).contains("--temperature-k"), "{bad}");
+    }
+    let out = stoik(
+        &["energetics", "hydrogen-oxygen.toml", "--temperature-k", "1"],
+        &mechanisms,
+    );
+    assert_eq!(out.status.code(), Some(0));
+    let table = text(&out.stdout);
+    let row = table
+        .lines()
+        .find(|l| l.contains("H2 + OH <=> H2O + H"))
+        .expect("the step's row");
+    assert!(row.ends_with("out of range"), "{row}");
+    for token in table.split_whitespace() {
+        assert!(
+            !matches!(token.to_ascii_lowercase().as_str(), "inf" | "-inf" | "nan"),
+            "{table}"
+        );
+    }
+}

@@ -903,7 +903,7 @@ fn an_undefined_correlation_is_printed_in_words() {
     // With a standard error of 0 (unweighted data exactly on the curve) a correlation is
     // 0/0, NaN in IEEE 754 arithmetic: the report says `undefined` instead.
     assert_eq!(
-        crate::report::correlation_cell(0.0 / 0.0).trim(),
+        crate::report::correlation_cell(f64::NAN).trim(),
         "undefined"
     );
     assert_eq!(crate::report::correlation_cell(-0.25).trim(), "-0.250000");

@@ -298,11 +298,13 @@ fn fit_rate_snippet_reads_back_the_fitted_parameters_bit_for_bit() {
     }
 }
 
-/// Nothing to react (every initial concentration 0): concentrations stay exactly 0, the
-/// mole fractions 0/0 are undefined and written as `nan`, and the run says so even with
-/// `--quiet`.
+/// Nothing to react (every initial concentration 0): the mole fractions c_i / sum c would
+/// be 0/0 in every row, undefined (NaN in IEEE 754 arithmetic), so the run is refused before
+/// integrating, at the `concentrations` key (line 6, column 1), and no CSV is written
+/// (issue 12, section 3). A total that reaches 0 during a run is still written as the
+/// explicit `nan` marker with a warning (csv_out).
 #[test]
-fn undefined_mole_fractions_are_marked_and_warned_about() {
+fn undefined_mole_fractions_are_refused_before_running() {
     let dir = scratch("zero");
     std::fs::write(
         dir.join("m.toml"),
@@ -317,20 +319,13 @@ fn undefined_mole_fractions_are_marked_and_warned_about() {
     )
     .unwrap();
     let out = stoik(&["run", "z.scenario.toml", "-o", "z.csv", "--quiet"], &dir);
-    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    assert_eq!(out.status.code(), Some(2), "{}", text(&out.stderr));
     let err = text(&out.stderr);
     assert!(
-        err.contains("warning: z.csv: the total concentration is not positive in 3 row(s) (first: data row 1); their mole fractions are undefined and written as `nan`"),
+        err.contains("z.scenario.toml:6:1: error: every initial concentration is zero"),
         "{err}"
     );
-    let table = Table::read(&dir.join("z.csv"));
-    assert_eq!(table.rows.len(), 3);
-    for (row, t) in table.rows.iter().zip([0.0, 0.5, 1.0]) {
-        assert_eq!(row[0], t);
-        // c = 0 exactly (dc/dt = -k c = 0), P = 0 R T = 0, T held at 300 K.
-        assert_eq!(&row[1..5], &[0.0, 0.0, 300.0, 0.0]);
-        assert!(row[5].is_nan() && row[6].is_nan(), "{row:?}");
-    }
+    assert!(!dir.join("z.csv").exists());
     // Written atomically: no temporary file is left beside the CSV.
     let leftovers: Vec<_> = std::fs::read_dir(&dir)
         .unwrap()

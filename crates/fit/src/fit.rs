@@ -74,18 +74,35 @@ pub fn fit_rate_constants(data: &RateData, options: &FitOptions) -> Result<RateF
     Ok(fit)
 }
 
-/// The confidence lies in (0, 1); a reference temperature is positive and finite.
+/// Valid confidence levels of intervals and bands, (lowest, highest), both included: below
+/// 0.5 an interval says less than the standard error; above 0.9999 the Student t quantile of
+/// few degrees of freedom grows without bound (and is infinite at 1 in double precision).
+pub const CONFIDENCE_RANGE: (f64, f64) = (0.5, 0.9999);
+
+/// Valid reference temperatures of the decorrelated form, (lowest, highest) in K, both
+/// included (the temperature range of the scenario file).
+pub const REFERENCE_TEMPERATURE_RANGE_K: (f64, f64) = (1.0, 1.0e5);
+
+/// Valid standard uncertainties of ln k (the relative uncertainty of k), (lowest, highest),
+/// both included: 1e-6 (0.0001 %, far below any measured rate constant) to 10 (a factor of
+/// e^10). Outside this range the weights 1/u^2 of the points differ by more than 1e14, which
+/// the least-squares solution cannot resolve in double precision.
+pub const LN_UNCERTAINTY_RANGE: (f64, f64) = (1.0e-6, 10.0);
+
+/// The confidence and the reference temperature lie in their documented ranges.
 fn check_options(options: &FitOptions) -> Result<(), RateFitError> {
-    if !(options.confidence > 0.0 && options.confidence < 1.0) {
+    let (low, high) = CONFIDENCE_RANGE;
+    if !(options.confidence >= low && options.confidence <= high) {
         return Err(RateFitError::BadOption(format!(
-            "confidence level {} is not between 0 and 1 (e.g. 0.95)",
+            "confidence level {} is not between {low} and {high} (e.g. 0.95)",
             options.confidence
         )));
     }
     if let Some(t) = options.reference_temperature_k {
-        if !(t > 0.0 && t.is_finite()) {
+        let (low, high) = REFERENCE_TEMPERATURE_RANGE_K;
+        if !(t >= low && t <= high) {
             return Err(RateFitError::BadOption(format!(
-                "reference temperature {t} K is not positive"
+                "reference temperature {t:e} K is not between {low} and {high:e} K"
             )));
         }
     }
@@ -103,6 +120,22 @@ fn check_values(data: &RateData) -> Result<(), RateFitError> {
         Some(q) => Err(RateFitError::BadOption(format!(
             "the point of line {} needs T > 0 K, k > 0 and an uncertainty > 0, all finite (T = {} K, k = {}, uncertainty of ln k = {:?})",
             q.line, q.temperature_k, q.rate_constant_si, q.ln_uncertainty
+        ))),
+        None => check_uncertainties(data),
+    }
+}
+
+/// Every uncertainty of ln k lies in [`LN_UNCERTAINTY_RANGE`].
+fn check_uncertainties(data: &RateData) -> Result<(), RateFitError> {
+    let (low, high) = LN_UNCERTAINTY_RANGE;
+    match data.points.iter().find_map(|q| {
+        q.ln_uncertainty
+            .filter(|u| !(*u >= low && *u <= high))
+            .map(|u| (q, u))
+    }) {
+        Some((q, u)) => Err(RateFitError::BadOption(format!(
+            "{}, line {}: the relative uncertainty of k (uncertainty of ln k) is {u:e}; it must be between {low:e} and {high} (0.0001 % to a factor of e^10)",
+            data.source, q.line
         ))),
         None => Ok(()),
     }

@@ -65,7 +65,9 @@ mod warnings;
 
 pub use data::{RateData, RatePoint, UncertaintyKind};
 pub use error::RateFitError;
-pub use fit::fit_rate_constants;
+pub use fit::{
+    fit_rate_constants, CONFIDENCE_RANGE, LN_UNCERTAINTY_RANGE, REFERENCE_TEMPERATURE_RANGE_K,
+};
 pub use matrix::ParameterMatrix;
 pub use model::{FitOptions, Model};
 pub use plot::svg_plot;

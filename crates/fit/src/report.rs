@@ -192,7 +192,7 @@ fn matrices(s: &mut String, v: &View) {
         format!("{:>14}", sci(x, 6))
     });
     let _ = writeln!(s, "correlation:");
-    write_matrix(s, names, &v.fit.correlation(), |x| format!("{x:>14.6}"));
+    write_matrix(s, names, &v.fit.correlation(), correlation_cell);
 }
 
 /// The form about T_ref: k_ref with its interval, and the correlation of its parameters.
@@ -219,9 +219,17 @@ fn reference_form(s: &mut String, v: &View) {
     let mut ref_names: Vec<&str> = v.fit.model.parameter_names().to_vec();
     ref_names[0] = "ln k_ref";
     let _ = writeln!(s, "  correlation:");
-    write_matrix(s, &ref_names, &r.covariance.correlation(), |x| {
+    write_matrix(s, &ref_names, &r.covariance.correlation(), correlation_cell);
+}
+
+/// A correlation coefficient, or `undefined` in words when a standard error is 0 (data
+/// exactly on the fitted curve, unweighted: the correlation is then 0/0).
+pub(crate) fn correlation_cell(x: f64) -> String {
+    if x.is_finite() {
         format!("{x:>14.6}")
-    });
+    } else {
+        format!("{:>14}", "undefined")
+    }
 }
 
 /// Each point: measured and fitted k, ln residual, leverage, studentized residual.

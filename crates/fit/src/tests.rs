@@ -746,12 +746,11 @@ fn hand_built_values_give_errors_not_panics() {
         fit_rate_constants(&data, &FitOptions::default()),
         Err(RateFitError::Degenerate)
     );
-    // Uncertainties so small that the weights overflow (1/(1e-200)^2 = inf).
+    // Uncertainties so small that the weights overflow (1/(1e-200)^2 = inf): refused for
+    // being outside the documented range, naming the first point's line.
     let data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, Some(1e-200)));
-    assert_eq!(
-        fit_rate_constants(&data, &FitOptions::default()),
-        Err(RateFitError::Degenerate)
-    );
+    let err = fit_rate_constants(&data, &FitOptions::default()).expect_err("refused");
+    assert!(messages(err).starts_with("synthetic, line 2: the relative uncertainty"));
     // Some points with an uncertainty and some without.
     let mut data = synthetic(&temps, 20.0, 0.0, 50_000.0, |_| (0.0, Some(0.1)));
     data.points[2].ln_uncertainty = None;
@@ -880,4 +879,76 @@ fn non_finite_fits_are_not_written_or_plotted() {
     assert!(matches!(err, RateFitError::NonFinite { ref quantity, .. } if quantity == "prefactor"));
     let svg = svg_plot(&fit).unwrap();
     assert_eq!(markers(&svg).len(), 4 + 1);
+}
+
+#[test]
+fn confidence_reference_temperature_and_uncertainties_have_documented_ranges() {
+    // Documented ranges (docs/file-format.md): confidence 0.5 to 0.9999, T_ref 1 K to 1e5 K,
+    // uncertainty of ln k 1e-6 to 10. At confidence 0.9999999999999999 the two-sided
+    // quantile is taken at 1 - 5.6e-17, which rounds to 1 in double precision (IEEE 754):
+    // an infinite quantile and NaN intervals, so it must be refused.
+    assert_eq!(CONFIDENCE_RANGE, (0.5, 0.9999));
+    assert_eq!(REFERENCE_TEMPERATURE_RANGE_K, (1.0, 1.0e5));
+    assert_eq!(LN_UNCERTAINTY_RANGE, (1.0e-6, 10.0));
+    let temps: Vec<f64> = (0..6).map(|i| 300.0 + 100.0 * i as f64).collect();
+    let mut rng = Rng(12);
+    let noisy: Vec<f64> = (0..6).map(|_| 0.05 * rng.normal()).collect();
+    let data = synthetic(&temps, 25.0, 0.0, 80_000.0, |i| (noisy[i], None));
+    let with = |confidence: f64, reference: Option<f64>| {
+        fit_rate_constants(
+            &data,
+            &FitOptions {
+                confidence,
+                reference_temperature_k: reference,
+                ..FitOptions::default()
+            },
+        )
+    };
+    for bad in [0.9999999999999999, 0.49, f64::NAN, 1.0] {
+        let err = with(bad, None).expect_err("refused");
+        assert!(messages(err).contains("between 0.5 and 0.9999"), "{bad}");
+    }
+    for bad in [5e-324, 1e308, 0.5] {
+        let err = with(0.95, Some(bad)).expect_err("refused");
+        assert!(messages(err).contains("reference temperature"), "{bad}");
+    }
+    // The ends of the confidence range give finite intervals: 4 degrees of freedom, Student
+    // t quantile at 0.99995 = 15.544 (scipy.stats.t.ppf(0.99995, 4) = 15.5441).
+    let fit = with(0.9999, None).expect("the top of the range fits");
+    assert!(
+        (fit.quantile() - 15.5441).abs() < 1e-3,
+        "{}",
+        fit.quantile()
+    );
+    let report = report_text(&fit);
+    assert!(
+        !report.contains("NaN") && !report.contains("inf"),
+        "{report}"
+    );
+    // An uncertainty of 1e-160 (a relative uncertainty of 1e-158 %) once made the SVD panic
+    // on NaN singular values; it is now refused, naming the point's line (line 4 is the third
+    // point of `synthetic`).
+    let tiny = synthetic(&temps, 25.0, 0.0, 80_000.0, |i| {
+        (0.0, Some(if i == 2 { 1e-160 } else { 0.1 }))
+    });
+    let err = fit_rate_constants(&tiny, &FitOptions::default()).expect_err("refused");
+    let text = messages(err);
+    assert!(text.contains("line 4") && text.contains("1e-160"), "{text}");
+    assert!(!text.contains("separate"), "{text}");
+    // The lowest uncertainty of the range fits.
+    let sharp = synthetic(&temps, 25.0, 0.0, 80_000.0, |i| {
+        (0.0, Some(if i == 2 { 1e-6 } else { 0.1 }))
+    });
+    assert!(fit_rate_constants(&sharp, &FitOptions::default()).is_ok());
+}
+
+#[test]
+fn an_undefined_correlation_is_printed_in_words() {
+    // With a standard error of 0 (unweighted data exactly on the curve) a correlation is
+    // 0/0, NaN in IEEE 754 arithmetic: the report says `undefined` instead.
+    assert_eq!(
+        crate::report::correlation_cell(f64::NAN).trim(),
+        "undefined"
+    );
+    assert_eq!(crate::report::correlation_cell(-0.25).trim(), "-0.250000");
 }

@@ -252,3 +252,90 @@ pub fn collision_limit_warnings(mechanism: &Mechanism, file_label: &str) -> Vec<
     }
     out
 }
+
+/// The temperature range (lowest, highest) in K over which [`rate_constant_range_errors`]
+/// checks a mechanism when the caller knows no other: 200 K (the cold upper troposphere) to
+/// 3500 K (adiabatic flame temperatures), both included.
+pub const RATE_CHECK_RANGE_K: (f64, f64) = (200.0, 3500.0);
+
+/// Number of temperatures, spaced evenly in 1/T from the highest to the lowest, at which
+/// [`rate_constant_range_errors`] evaluates the rate constants.
+pub const RATE_CHECK_POINTS: usize = 64;
+
+/// Errors for every step whose forward rate constant, or reverse one (explicit, or
+/// kf / Kc from thermochemistry), is not finite somewhere on `range_k` ((lowest, highest)
+/// in K; [`RATE_CHECK_RANGE_K`] when the mechanism states none), evaluated at
+/// [`RATE_CHECK_POINTS`] temperatures evenly spaced in 1/T, both ends included. Such a
+/// step makes every integration over that range fail, so it is an error of the file,
+/// located at the step (`file_label` names the file) and given with the first temperature
+/// where it happens.
+///
+/// A mechanism that does not compile (only possible for one built by hand) gives one error
+/// diagnostic saying why.
+pub fn rate_constant_range_errors(
+    mechanism: &Mechanism,
+    file_label: &str,
+    range_k: (f64, f64),
+) -> Vec<Diagnostic> {
+    let kinetics = match Kinetics::compile(mechanism) {
+        Ok(kinetics) => kinetics,
+        Err(e) => return vec![Diagnostic::error(file_label, None, e.to_string())],
+    };
+    let (low, high) = range_k;
+    let n = RATE_CHECK_POINTS.max(2);
+    let mut k = kinetics.rate_constants(high);
+    // (direction, value, temperature) of the first non-finite rate constant per step.
+    let mut found: Vec<Option<(&str, f64, f64)>> = vec![None; mechanism.steps.len()];
+    for i in 0..n {
+        let inverse = 1.0 / high + (1.0 / low - 1.0 / high) * (i as f64 / (n - 1) as f64);
+        let t = match i {
+            0 => high,
+            _ if i == n - 1 => low,
+            _ => 1.0 / inverse,
+        };
+        kinetics.evaluate_rate_constants(t, &mut k);
+        for (j, slot) in found.iter_mut().enumerate() {
+            if slot.is_some() {
+                continue;
+            }
+            let mut forward = k.forward[j];
+            if let Some(PressureDependence::Table { points }) =
+                &mechanism.steps[j].pressure_dependence
+            {
+                forward = points
+                    .iter()
+                    .map(|p| p.rate_sets.iter().map(|a| a.rate_constant(t)).sum::<f64>())
+                    .fold(0.0, f64::max);
+            }
+            if !forward.is_finite() {
+                *slot = Some(("forward", forward, t));
+            } else if !k.reverse[j].is_finite() {
+                *slot = Some(("reverse", k.reverse[j], t));
+            }
+        }
+    }
+    mechanism
+        .steps
+        .iter()
+        .zip(found)
+        .filter_map(|(step, f)| {
+            let (direction, value, t) = f?;
+            let why = if direction == "reverse" && step.reverse.is_none() {
+                " (kf / Kc: the equilibrium constant from the species' thermochemistry under- or overflows)"
+            } else {
+                ""
+            };
+            Some(
+                Diagnostic::error(
+                    file_label,
+                    step.location,
+                    format!(
+                        "{direction} rate constant of step `{}` is {value} at {t} K{why}; rate constants must be finite from {low} K to {high} K",
+                        step.equation
+                    ),
+                )
+                .with_help("check the prefactor, the temperature exponent and the sign and units of the activation energy"),
+            )
+        })
+        .collect()
+}

@@ -6,4 +6,5 @@
 mod equilibrium;
 mod falloff;
 mod hand_built;
+mod rate_range;
 mod rates_and_jacobian;

@@ -301,10 +301,14 @@ pub fn non_negative_finite_problem(x: f64) -> Option<&'static str> {
     }
 }
 
-/// Formats a number for messages: integers without a decimal point.
+/// Formats a number for messages: integers without a decimal point, very large and very
+/// small magnitudes (1e15 and above, below 1e-4) in exponent form (`1e308`, `5e-324`), every
+/// form with the shortest digits that read back as the same `f64`.
 pub fn show_number(x: f64) -> String {
     if x.is_finite() && x == x.trunc() && x.abs() < 1e15 {
         format!("{}", x as i64)
+    } else if x.is_finite() && x != 0.0 && (x.abs() >= 1e15 || x.abs() < 1e-4) {
+        format!("{x:e}")
     } else {
         format!("{x}")
     }
@@ -313,6 +317,25 @@ pub fn show_number(x: f64) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn numbers_in_messages_are_short_and_read_back() {
+        // Expected strings: the decimal and exponent forms of each value; each reads back as
+        // the same f64 (IEEE 754 round trip of Rust's shortest-digit formatting).
+        for (x, shown) in [
+            (1e308, "1e308"),
+            (5e-324, "5e-324"),
+            (-1.5e-7, "-1.5e-7"),
+            (600.0, "600"),
+            (0.25, "0.25"),
+            (f64::NAN, "NaN"),
+            (f64::INFINITY, "inf"),
+        ] {
+            assert_eq!(show_number(x), shown);
+            let back: f64 = shown.parse().expect("reads back");
+            assert!(back == x || (x.is_nan() && back.is_nan()));
+        }
+    }
 
     #[test]
     fn locations_count_lines_and_characters() {

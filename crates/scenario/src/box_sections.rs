@@ -42,6 +42,8 @@ const EMISSION_UNITS: &[&str] = &["mol/m3/s", "mol/L/s", "molecule/cm3/s", "mol/
 struct PhotolysisEntry {
     equation: String,
     location: SourceLocation,
+    /// Byte offset of the entry's `diurnal` or `table` value.
+    at: usize,
     form: PhotolysisForm,
 }
 
@@ -68,6 +70,39 @@ fn number_in(
             None
         }
         Some(v) => r.number(key, v),
+    }
+}
+
+/// Records an error unless `x` is finite and not negative; `what` names the value in the
+/// message, `unit` follows it.
+fn non_negative(r: &mut Report<'_>, at: usize, what: &str, x: f64, unit: &str) -> Option<f64> {
+    if x.is_finite() && x >= 0.0 {
+        Some(x)
+    } else {
+        r.error(
+            at,
+            format!(
+                "{what} is {} {unit}; it must be finite and not negative",
+                show_number(x)
+            )
+            .replace(" ;", ";"),
+            None,
+        );
+        None
+    }
+}
+
+/// Records an error unless `x` is finite.
+fn finite(r: &mut Report<'_>, at: usize, what: &str, x: f64, unit: &str) -> Option<f64> {
+    if x.is_finite() {
+        Some(x)
+    } else {
+        r.error(
+            at,
+            format!("{what} is {} {unit}; it must be finite", show_number(x)),
+            None,
+        );
+        None
     }
 }
 
@@ -98,7 +133,15 @@ pub(crate) fn read_box(r: &mut Report<'_>, root: &DeTable<'_>) -> Option<BoxSpec
             if let Some(v) = t.get("emissions") {
                 match r.table("emissions", v).and_then(|table| {
                     named_values(r, table, |r, name, value| {
-                        quantity(r, name, value, "mol/m3/s", emission_to_si, EMISSION_UNITS)
+                        let x =
+                            quantity(r, name, value, "mol/m3/s", emission_to_si, EMISSION_UNITS)?;
+                        non_negative(
+                            r,
+                            value.span().start,
+                            &format!("emission of `{name}`"),
+                            x,
+                            "mol/(m3 s)",
+                        )
                     })
                 }) {
                     Some(values) => spec.emissions = values,
@@ -138,7 +181,8 @@ pub(crate) fn read_box(r: &mut Report<'_>, root: &DeTable<'_>) -> Option<BoxSpec
                 let day = number_in(r, t, "day_of_year", "[sun]", at);
                 let start = match t.get("start_time") {
                     None => Some(0.0),
-                    Some(v) => quantity(r, "start_time", v, "s", time_to_s, SCENARIO_TIME_UNITS),
+                    Some(v) => quantity(r, "start_time", v, "s", time_to_s, SCENARIO_TIME_UNITS)
+                        .and_then(|x| finite(r, v.span().start, "[sun] start_time", x, "s")),
                 };
                 if let Some(lat) = latitude.filter(|l| l.is_nan() || l.abs() > 90.0) {
                     r.error(
@@ -189,17 +233,22 @@ pub(crate) fn read_box(r: &mut Report<'_>, root: &DeTable<'_>) -> Option<BoxSpec
             }
         }
     }
-    if spec
-        .photolysis
-        .iter()
-        .any(|p| matches!(p.form, PhotolysisForm::Diurnal { .. }))
-        && spec.sun.is_none()
-    {
-        r.file_error(
-            "a `diurnal` photolysis rate needs a [sun] section",
-            Some("e.g. [sun] latitude = 48.1, day_of_year = 172, start_time = \"6 h\"".into()),
-        );
-        ok = false;
+    if spec.sun.is_none() && !root.contains_key("sun") {
+        for p in spec
+            .photolysis
+            .iter()
+            .filter(|p| matches!(p.form, PhotolysisForm::Diurnal { .. }))
+        {
+            r.error(
+                p.at,
+                format!(
+                    "the `diurnal` photolysis rate of `{}` needs a [sun] section",
+                    p.equation
+                ),
+                Some("e.g. [sun] latitude = 48.1, day_of_year = 172, start_time = \"6 h\"".into()),
+            );
+            ok = false;
+        }
     }
     ok.then_some(spec)
 }
@@ -219,6 +268,10 @@ fn read_photolysis(r: &mut Report<'_>, item: &Value<'_>) -> Option<PhotolysisEnt
         }
         Some(v) => (r.string("step", v)?.to_string(), r.location(v.span().start)),
     };
+    let form_at = t
+        .get("diurnal")
+        .or_else(|| t.get("table"))
+        .map_or(at, |v| v.span().start);
     let form = match (t.get("diurnal"), t.get("table")) {
         (Some(_), Some(_)) | (None, None) => {
             r.error(
@@ -237,12 +290,18 @@ fn read_photolysis(r: &mut Report<'_>, item: &Value<'_>) -> Option<PhotolysisEnt
                     r.error(start, "`diurnal` needs `scale` (1/s)", None);
                     None
                 }
-                Some(s) => quantity(r, "scale", s, "/s", rate_to_per_s, RATE_UNITS),
+                Some(s) => quantity(r, "scale", s, "/s", rate_to_per_s, RATE_UNITS)
+                    .and_then(|x| non_negative(r, s.span().start, "`scale`", x, "/s")),
             };
-            let cos_power = number_in(r, d, "cos_power", "`diurnal`", start);
+            let cos_power = number_in(r, d, "cos_power", "`diurnal`", start).and_then(|x| {
+                let at = d.get("cos_power").map_or(start, |v| v.span().start);
+                non_negative(r, at, "`cos_power`", x, "")
+            });
             let sec_factor = match d.get("sec_factor") {
                 None => Some(0.0),
-                Some(s) => r.number("sec_factor", s),
+                Some(s) => r
+                    .number("sec_factor", s)
+                    .and_then(|x| non_negative(r, s.span().start, "`sec_factor`", x, "")),
             };
             PhotolysisForm::Diurnal {
                 scale_per_s: scale?,
@@ -302,6 +361,7 @@ fn read_photolysis(r: &mut Report<'_>, item: &Value<'_>) -> Option<PhotolysisEnt
     Some(PhotolysisEntry {
         equation,
         location,
+        at: form_at,
         form,
     })
 }

@@ -10,10 +10,10 @@ use crate::box_sections::{read_box, BoxSpec};
 use crate::read::NamedValue;
 use crate::sections::{read_ignition, read_initial, read_output, read_reactor, read_solver};
 use std::path::{Path, PathBuf};
+use stoik_mechanism::ConcentrationUnit;
 use stoik_mechanism::{
-    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report,
+    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report, SourceLocation,
 };
-use stoik_mechanism::{ConcentrationUnit, SourceLocation};
 use stoik_reactor::{Constraint, Energy, LinearAlgebra};
 use toml::de::{DeTable, DeValue};
 
@@ -38,6 +38,40 @@ pub fn profile_bytes(rows: usize, species: usize) -> u64 {
         .saturating_mul(8)
         .saturating_add(24);
     (rows as u64).saturating_mul(per_row)
+}
+
+/// Valid temperatures of a scenario (`[reactor] temperature`, history temperatures and the
+/// temperature overrides), (lowest, highest) in K, both included: below 1 K an Arrhenius
+/// factor with a negative activation temperature overflows, above 1e5 K no gas-phase
+/// thermochemistry applies.
+pub const TEMPERATURE_RANGE_K: (f64, f64) = (1.0, 1.0e5);
+/// Valid pressures of a scenario (`[reactor] pressure` and the pressure override), (lowest,
+/// highest) in Pa, both included: with [`TEMPERATURE_RANGE_K`] the total concentration
+/// P / (R T) stays between about 1e-15 and 1e9 mol/m3, finite and positive.
+pub const PRESSURE_RANGE_PA: (f64, f64) = (1.0e-9, 1.0e10);
+/// Longest simulated time of a scenario (`[output] end_time` and the end-time override), s
+/// (about 32 million years). The shortest is set by the output grid, whose times must be
+/// distinct in double precision.
+pub const MAX_END_TIME_S: f64 = 1.0e15;
+
+/// Where the values a [`crate::RunPlan`] checks were written in the scenario file, so that a
+/// problem found while resolving is reported at its key.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub(crate) struct Locations {
+    /// `[reactor] kind` (or the `[reactor]` header when the kind is the default).
+    pub(crate) reactor: Option<SourceLocation>,
+    /// `[reactor] temperature` (or the history).
+    pub(crate) temperature: Option<SourceLocation>,
+    /// `[reactor] pressure`.
+    pub(crate) pressure: Option<SourceLocation>,
+    /// The `concentrations` or `mole_fractions` key of `[initial]`.
+    pub(crate) initial: Option<SourceLocation>,
+    /// `[output] end_time`.
+    pub(crate) end_time: Option<SourceLocation>,
+    /// `[output] times` or `grid` (or `end_time` when neither is given).
+    pub(crate) output_times: Option<SourceLocation>,
+    /// The `[box]` section.
+    pub(crate) box_section: Option<SourceLocation>,
 }
 
 /// When to write output rows (t = 0 is always the first row, `end_time` the last).
@@ -124,6 +158,7 @@ pub struct Scenario {
     pub(crate) file: String,
     /// Where the output times are asked for (diagnostics about them point there).
     pub(crate) output_at: Option<SourceLocation>,
+    pub(crate) locations: Locations,
 }
 
 impl Scenario {
@@ -142,6 +177,15 @@ impl Scenario {
     pub fn kind_label(&self) -> &'static str {
         kind_label(self.constraint, &self.energy)
     }
+}
+
+/// Whether `text` is a scenario rather than a mechanism: its parsed TOML document has the
+/// scenario format key `stoik_scenario` at the top level, however the key is quoted. Text
+/// that is not TOML is not a scenario (a mechanism loader reports the same syntax error).
+pub fn is_scenario_text(text: &str) -> bool {
+    DeTable::parse(text)
+        .map(|doc| doc.get_ref().contains_key("stoik_scenario"))
+        .unwrap_or(false)
 }
 
 /// Reads and parses the scenario file at `path`; the mechanism path is resolved against the
@@ -235,7 +279,42 @@ fn read_scenario(
         initial: initial?,
         tolerance_overrides: solver.tolerance_overrides?,
         file: file.to_string(),
+        locations: locations(r, root),
     })
+}
+
+/// The location of the key `path` (a chain of table keys from the root), if written.
+fn key_location(r: &Report<'_>, root: &DeTable<'_>, path: &[&str]) -> Option<SourceLocation> {
+    let (last, tables) = path.split_last()?;
+    let mut table = root;
+    for key in tables {
+        match table.get(*key)?.get_ref() {
+            DeValue::Table(t) => table = t,
+            _ => return None,
+        }
+    }
+    let (key, _) = table.get_key_value(*last)?;
+    Some(r.location(key.span().start))
+}
+
+/// Where the values that resolution checks were written.
+fn locations(r: &Report<'_>, root: &DeTable<'_>) -> Locations {
+    let at = |path: &[&str]| key_location(r, root, path);
+    let end_time = at(&["output", "end_time"]);
+    Locations {
+        reactor: at(&["reactor", "kind"]).or_else(|| at(&["reactor"])),
+        temperature: at(&["reactor", "temperature"])
+            .or_else(|| at(&["reactor", "temperature_history"])),
+        pressure: at(&["reactor", "pressure"]),
+        initial: at(&["initial", "concentrations"])
+            .or_else(|| at(&["initial", "mole_fractions"]))
+            .or_else(|| at(&["initial"])),
+        end_time,
+        output_times: at(&["output", "times"])
+            .or_else(|| at(&["output", "grid"]))
+            .or(end_time),
+        box_section: at(&["box"]),
+    }
 }
 
 fn read_version(r: &mut Report<'_>, root: &DeTable<'_>) {

@@ -43,9 +43,10 @@ mod sections;
 
 pub use error::ScenarioError;
 pub use file::{
-    kind_label, linear_algebra_from_name, load_scenario, parse_scenario, profile_bytes,
-    OutputTimes, Scenario, LINEAR_ALGEBRA_NAMES, MAX_GRID_POINTS, MAX_PROFILE_BYTES,
-    MOLE_FRACTION_SUM_TOLERANCE, REACTOR_KINDS, SCENARIO_FORMAT_VERSION,
+    is_scenario_text, kind_label, linear_algebra_from_name, load_scenario, parse_scenario,
+    profile_bytes, OutputTimes, Scenario, LINEAR_ALGEBRA_NAMES, MAX_END_TIME_S, MAX_GRID_POINTS,
+    MAX_PROFILE_BYTES, MOLE_FRACTION_SUM_TOLERANCE, PRESSURE_RANGE_PA, REACTOR_KINDS,
+    SCENARIO_FORMAT_VERSION, TEMPERATURE_RANGE_K,
 };
 pub use plan::RunPlan;
 pub use run::{

@@ -4,14 +4,17 @@
 //! end time...) are applied through methods that check the value and resolve the plan again.
 
 use crate::error::ScenarioError;
-use crate::file::{IgnitionSpec, InitialState, OutputTimes, Scenario};
+use crate::file::{
+    IgnitionSpec, InitialState, OutputTimes, Scenario, MAX_END_TIME_S, PRESSURE_RANGE_PA,
+    TEMPERATURE_RANGE_K,
+};
 use crate::read::{NamedValue, SpeciesLookup};
 use std::path::Path;
 use std::sync::Arc;
 use stoik_mechanism::ConcentrationUnit;
 use stoik_mechanism::{
-    load_mechanism, positive_finite_problem, Diagnostic, Diagnostics, LoadError, Mechanism,
-    MechanismFile, GAS_CONSTANT,
+    load_mechanism, positive_finite_problem, show_number, Diagnostic, Diagnostics, LoadError,
+    Mechanism, MechanismFile, GAS_CONSTANT,
 };
 use stoik_reactor::{
     BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel,
@@ -161,7 +164,12 @@ impl RunPlan {
     /// Overrides the temperature (K, finite and positive): the held or initial one; mole
     /// fractions are converted again. Refused for a prescribed temperature history.
     pub fn set_temperature_k(&mut self, temperature_k: f64) -> Result<(), ScenarioError> {
-        positive("temperature", "a positive number of kelvin", temperature_k)?;
+        in_range(
+            "temperature",
+            "between 1 and 1e5 kelvin (TEMPERATURE_RANGE_K)",
+            temperature_k,
+            TEMPERATURE_RANGE_K,
+        )?;
         if matches!(self.scenario.energy, Energy::Prescribed(_)) {
             return Err(ScenarioError::TemperaturePrescribed);
         }
@@ -170,13 +178,23 @@ impl RunPlan {
 
     /// Overrides the pressure (Pa, finite and positive); mole fractions are converted again.
     pub fn set_pressure_pa(&mut self, pressure_pa: f64) -> Result<(), ScenarioError> {
-        positive("pressure", "a positive number of pascals", pressure_pa)?;
+        in_range(
+            "pressure",
+            "between 1e-9 and 1e10 pascals (PRESSURE_RANGE_PA)",
+            pressure_pa,
+            PRESSURE_RANGE_PA,
+        )?;
         self.edit(|s| s.pressure_pa = Some(pressure_pa))
     }
 
     /// Overrides the end time (s, finite and positive); the output times follow.
     pub fn set_end_time_s(&mut self, end_time_s: f64) -> Result<(), ScenarioError> {
-        positive("end time", "a positive number of seconds", end_time_s)?;
+        in_range(
+            "end time",
+            "positive and at most 1e15 seconds (MAX_END_TIME_S)",
+            end_time_s,
+            (f64::from_bits(1), MAX_END_TIME_S),
+        )?;
         self.edit(|s| s.end_time_s = end_time_s)
     }
 
@@ -261,6 +279,24 @@ impl RunPlan {
     }
 }
 
+/// Checks that an override lies in `[low, high]` (NaN never does).
+fn in_range(
+    what: &'static str,
+    requirement: &'static str,
+    value: f64,
+    (low, high): (f64, f64),
+) -> Result<(), ScenarioError> {
+    if value >= low && value <= high {
+        Ok(())
+    } else {
+        Err(ScenarioError::BadOverride {
+            what,
+            requirement,
+            value,
+        })
+    }
+}
+
 /// Checks that an override is finite and positive.
 fn positive(
     what: &'static str,
@@ -309,7 +345,8 @@ impl Scenario {
             }
             OutputTimes::Linear { points } => {
                 let n = (*points).max(2);
-                times.extend((1..n).map(|i| end * i as f64 / (n - 1) as f64));
+                // i/(n-1) first: end * i could overflow for an end time near f64::MAX.
+                times.extend((1..n).map(|i| end * (i as f64 / (n - 1) as f64)));
                 if let Some(last) = times.last_mut() {
                     *last = end;
                 }
@@ -329,6 +366,15 @@ impl Scenario {
                 }
             }
         }
+        if let Some(w) = times
+            .windows(2)
+            .find(|w| !(w[1].is_finite() && w[1] > w[0]))
+        {
+            return Err(format!(
+                "the output times are not distinct in double precision ({} s then {} s); use fewer output points or a longer end time",
+                w[0], w[1]
+            ));
+        }
         Ok(times)
     }
 }
@@ -337,20 +383,24 @@ impl Scenario {
 /// concentrations by the ideal gas law, c_i = x_i P / (R T).
 fn initial_state(
     scenario: &Scenario,
-    n: usize,
+    names: &[&str],
     find: &mut dyn FnMut(&NamedValue, &str) -> Option<usize>,
     diagnostics: &mut Vec<Diagnostic>,
 ) -> Vec<f64> {
     let file = &scenario.file;
-    let mut initial = vec![0.0; n];
-    let temperature_ok = positive_finite_problem(scenario.temperature_k).is_none();
+    let at = &scenario.locations;
+    let mut initial = vec![0.0; names.len()];
+    let (low_k, high_k) = TEMPERATURE_RANGE_K;
+    let temperature_ok = (low_k..=high_k).contains(&scenario.temperature_k);
     if !temperature_ok {
         diagnostics.push(Diagnostic::error(
             file,
-            None,
+            at.temperature,
             format!(
-                "temperature {} K must be positive and finite",
-                scenario.temperature_k
+                "temperature {} K is outside {} to {} K",
+                show_number(scenario.temperature_k),
+                show_number(low_k),
+                show_number(high_k)
             ),
         ));
     }
@@ -370,7 +420,7 @@ fn initial_state(
                 _ => {
                     diagnostics.push(Diagnostic::error(
                         file,
-                        None,
+                        at.pressure.or(at.initial),
                         "mole fractions need a positive pressure and temperature",
                     ));
                     None
@@ -381,6 +431,27 @@ fn initial_state(
                     initial[i] += named.value * total;
                 }
             }
+        }
+    }
+    if temperature_ok && diagnostics.is_empty() {
+        if let Some((i, &x)) = initial.iter().enumerate().find(|(_, x)| !x.is_finite()) {
+            diagnostics.push(Diagnostic::error(
+                file,
+                at.initial,
+                format!(
+                    "the initial concentration of `{}` is {x} mol/m3, not finite",
+                    names.get(i).copied().unwrap_or("?")
+                ),
+            ));
+        } else if initial.iter().all(|&x| x == 0.0) {
+            diagnostics.push(
+                Diagnostic::error(
+                    file,
+                    at.initial,
+                    "every initial concentration is zero: the mole fractions (c_i / sum c) of the output are undefined",
+                )
+                .with_help("give at least one species (a bath gas, say) a positive concentration"),
+            );
         }
     }
     initial
@@ -401,7 +472,8 @@ fn resolve(
     let mut find =
         |named: &NamedValue, what: &str| species.find(named, what, &mut find_diagnostics);
     let n = mechanism.species.len();
-    let initial = initial_state(scenario, n, &mut find, &mut diagnostics);
+    let names: Vec<&str> = mechanism.species.iter().map(|s| s.name.as_str()).collect();
+    let initial = initial_state(scenario, &names, &mut find, &mut diagnostics);
 
     let atol = scenario.absolute_tolerance_mol_per_m3;
     let mut tolerances = vec![atol; n];
@@ -436,7 +508,11 @@ fn resolve(
     let output_times_s = match scenario.output_times_s() {
         Ok(t) => t,
         Err(message) => {
-            diagnostics.push(Diagnostic::error(file, None, message));
+            diagnostics.push(Diagnostic::error(
+                file,
+                scenario.locations.output_times,
+                message,
+            ));
             Vec::new()
         }
     };
@@ -459,6 +535,12 @@ fn resolve(
             .with_help("ask for fewer output times (`points` of `grid`, or `times`)"),
         );
     }
+    let model = ReactorModel {
+        constraint: scenario.constraint,
+        energy: scenario.energy.clone(),
+        conditions,
+    };
+    model_problems(scenario, mechanism, &model, &mut diagnostics);
     if !diagnostics.is_empty() {
         diagnostics.sort_by_key(|d| d.location.map(|l| (l.line, l.column)).unwrap_or((0, 0)));
         return Err(LoadError::Invalid {
@@ -472,11 +554,7 @@ fn resolve(
     };
     let watch = ignition.map_or_else(Vec::new, |c| c.watches(initial_k));
     Ok(Resolved {
-        model: ReactorModel {
-            constraint: scenario.constraint,
-            energy: scenario.energy.clone(),
-            conditions,
-        },
+        model,
         initial_mol_per_m3: initial,
         output_times_s,
         options: IntegrationOptions {
@@ -491,4 +569,57 @@ fn resolve(
         },
         ignition,
     })
+}
+
+/// What the reactor would refuse before integrating `model`, found here so that `check`
+/// reports it located, with names: species without thermochemistry under the energy
+/// balance, and box conditions on a reactor that cannot take them.
+fn model_problems(
+    scenario: &Scenario,
+    mechanism: &Mechanism,
+    model: &ReactorModel,
+    diagnostics: &mut Vec<Diagnostic>,
+) {
+    let file = scenario.file.as_str();
+    if model.solves_energy() {
+        let missing: Vec<&str> = mechanism
+            .species
+            .iter()
+            .filter(|s| s.thermo.is_none())
+            .map(|s| s.name.as_str())
+            .collect();
+        if !missing.is_empty() {
+            diagnostics.push(
+                Diagnostic::error(
+                    file,
+                    scenario.locations.reactor,
+                    format!(
+                        "the `{}` reactor solves the energy balance, which needs thermochemistry for every species; none for {}",
+                        scenario.kind_label(),
+                        missing
+                            .iter()
+                            .map(|n| format!("`{n}`"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    ),
+                )
+                .with_help("give those species `thermo` or a `thermo_files` entry in the mechanism, or use an isothermal kind"),
+            );
+        }
+    }
+    let c = &model.conditions;
+    let needs_closed_volume =
+        !c.fixed_species.is_empty() || !c.emissions.is_empty() || !c.deposition.is_empty();
+    if needs_closed_volume
+        && (model.constraint != stoik_reactor::Constraint::ConstantVolume || model.solves_energy())
+    {
+        diagnostics.push(Diagnostic::error(
+            file,
+            scenario.locations.box_section.or(scenario.locations.reactor),
+            format!(
+                "fixed species, emissions and deposition need an isothermal or prescribed-temperature constant-volume reactor, not `{}`",
+                scenario.kind_label()
+            ),
+        ));
+    }
 }

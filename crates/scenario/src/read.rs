@@ -4,8 +4,8 @@
 
 use std::collections::HashMap;
 use stoik_mechanism::{
-    nearest_name, positive_finite_problem, value_as_number, Diagnostic, Mechanism, Report,
-    SourceLocation, SpannedValue as Value,
+    nearest_name, positive_finite_problem, show_number, value_as_number, Diagnostic, Mechanism,
+    Report, SourceLocation, SpannedValue as Value,
 };
 use stoik_mechanism::{split_quantity, ConcentrationUnit};
 use toml::de::{DeTable, DeValue};
@@ -103,6 +103,33 @@ pub(crate) fn require_positive(
             );
             None
         }
+    }
+}
+
+/// Records an error unless `x` lies in `[low, high]` (given in `unit`, both included); NaN
+/// and infinities are outside every range.
+pub(crate) fn require_in_range(
+    r: &mut Report<'_>,
+    key: &str,
+    at: usize,
+    x: f64,
+    (low, high): (f64, f64),
+    unit: &str,
+) -> Option<f64> {
+    if x >= low && x <= high {
+        Some(x)
+    } else {
+        r.error(
+            at,
+            format!(
+                "`{key}` is {} {unit}; it must be between {} and {} {unit}",
+                show_number(x),
+                show_number(low),
+                show_number(high)
+            ),
+            None,
+        );
+        None
     }
 }
 

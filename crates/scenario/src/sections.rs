@@ -4,18 +4,19 @@
 
 use crate::file::{
     parse_kind, IgnitionSpec, InitialState, OutputTimes, Thermal, LINEAR_ALGEBRA_NAMES,
-    MAX_GRID_POINTS, MOLE_FRACTION_SUM_TOLERANCE, REACTOR_KINDS,
+    MAX_END_TIME_S, MAX_GRID_POINTS, MOLE_FRACTION_SUM_TOLERANCE, PRESSURE_RANGE_PA, REACTOR_KINDS,
+    TEMPERATURE_RANGE_K,
 };
 use crate::read::{
-    bare_name, concentration, concentration_unit, named_values, quantity, require_positive,
-    section, Converter,
+    bare_name, concentration, concentration_unit, named_values, quantity, require_in_range,
+    require_positive, section, Converter,
 };
 use stoik_mechanism::SourceLocation;
-use stoik_mechanism::{positive_finite_problem, show_number, Report, SpannedValue as Value};
 use stoik_mechanism::{
     pressure_to_pa, temperature_to_k, time_to_s, ConcentrationUnit, PRESSURE_UNITS,
     SCENARIO_TIME_UNITS, TEMPERATURE_UNITS,
 };
+use stoik_mechanism::{show_number, Report, SpannedValue as Value};
 use stoik_reactor::{Constraint, Energy, LinearAlgebra, TemperatureHistory};
 use toml::de::{DeTable, DeValue};
 
@@ -113,13 +114,24 @@ pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSec
                 temperature_to_k,
                 TEMPERATURE_UNITS,
             )
-            .and_then(|x| require_positive(r, "temperature", v, x));
+            .and_then(|x| {
+                require_in_range(
+                    r,
+                    "temperature",
+                    v.span().start,
+                    x,
+                    TEMPERATURE_RANGE_K,
+                    "K",
+                )
+            });
         }
     }
     if let Some(v) = t.get("pressure") {
         out.pressure_given = true;
         out.pressure_pa = quantity(r, "pressure", v, "Pa", pressure_to_pa, PRESSURE_UNITS)
-            .and_then(|x| require_positive(r, "pressure", v, x));
+            .and_then(|x| {
+                require_in_range(r, "pressure", v.span().start, x, PRESSURE_RANGE_PA, "Pa")
+            });
     }
     out
 }
@@ -210,8 +222,7 @@ fn read_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<TemperatureHist
         }
     }
     for &(x, pos) in &temperatures {
-        if let Some(problem) = positive_finite_problem(x) {
-            r.error(pos, format!("history temperature {problem}"), None);
+        if require_in_range(r, "temperature", pos, x, TEMPERATURE_RANGE_K, "K").is_none() {
             ok = false;
         }
     }
@@ -372,7 +383,17 @@ pub(crate) fn read_output(r: &mut Report<'_>, root: &DeTable<'_>) -> OutputSecti
         ),
         Some(v) => {
             out.end_time_s = quantity(r, "end_time", v, "s", time_to_s, SCENARIO_TIME_UNITS)
-                .and_then(|x| require_positive(r, "end_time", v, x));
+                .and_then(|x| require_positive(r, "end_time", v, x))
+                .and_then(|x| {
+                    require_in_range(
+                        r,
+                        "end_time",
+                        v.span().start,
+                        x,
+                        (f64::from_bits(1), MAX_END_TIME_S),
+                        "s",
+                    )
+                });
         }
     }
     if let Some(v) = t.get("concentration_unit") {

@@ -181,7 +181,10 @@ fn scenario_problems_are_all_reported_with_locations() {
     // 7 concentrations, 8 [output], 9 end_time, 10 times.
     assert_eq!(got.len(), 5, "{got:#?}");
     assert_eq!((got[0].0, got[0].1), (4, 15));
-    assert!(got[0].2.contains("`temperature` is negative"));
+    // The documented range of temperatures is 1 K to 1e5 K (docs/file-format.md).
+    assert!(got[0]
+        .2
+        .contains("`temperature` is -5 K; it must be between 1 and 100000 K"));
     assert_eq!((got[1].0, got[1].1), (5, 1));
     assert_eq!(diags[1].help.as_deref(), Some("did you mean `pressure`?"));
     assert_eq!((got[2].0, got[2].1), (7, 25));
@@ -240,12 +243,16 @@ fn solver_keys_ignition_and_kind_reach_the_reactor_terms() {
     );
     assert_eq!(s.newton_tolerance, Some(0.2));
     assert!(!s.keep_invariants);
-    let p = plan(&s).expect("resolves");
+    // The energy balance needs thermochemistry (good.mech.toml has none): resolve against
+    // the bundled hydrogen-oxygen mechanism, whose species order is H2, O2, H2O, OH, ...
+    let hydrogen = stoik_testsupport::mechanisms_dir().join("hydrogen-oxygen.toml");
+    let file = Arc::new(stoik_mechanism::load_mechanism(&hydrogen).expect("bundled mechanism"));
+    let p = RunPlan::new(s.clone(), Diagnostics::default(), file).expect("resolves");
     assert_eq!(p.model().constraint, Constraint::ConstantPressure);
     assert_eq!(p.model().energy, Energy::Adiabatic);
     assert_eq!(p.options().newton_tolerance, Some(0.2));
     assert!(!p.options().keep_invariants);
-    // OH is species 3 of good.mech.toml (H2, O2, H, OH, H2O, AR).
+    // OH is species 3 of hydrogen-oxygen.toml (H2, O2, H2O, OH, ...).
     assert_eq!(
         p.ignition(),
         Some(stoik_reactor::IgnitionCriterion::SpeciesMaximum(3))
@@ -325,4 +332,145 @@ fn a_grid_whose_profile_exceeds_the_memory_limit_is_refused_at_its_key() {
         .set_output_times(OutputTimes::Linear { points: 10_000_000 })
         .is_err());
     assert_eq!(p.output_times_s().len(), 1_000_000);
+}
+
+/// The diagnostics of a scenario that parses but does not resolve.
+fn plan_errors(body: &str) -> Vec<Diagnostic> {
+    match plan(&scenario(body)) {
+        Ok(_) => panic!("expected the plan to be refused"),
+        Err(ScenarioError::Load(LoadError::Invalid { diagnostics })) => diagnostics.0,
+        Err(e) => panic!("unexpected {e}"),
+    }
+}
+
+/// The one error of `errors`, with its line and column.
+fn only_error(errors: &[Diagnostic]) -> (usize, usize, &str) {
+    assert_eq!(errors.len(), 1, "{errors:?}");
+    let at = errors[0].location.expect("located");
+    (at.line, at.column, errors[0].message.as_str())
+}
+
+#[test]
+fn zero_total_concentration_is_refused_at_the_initial_key() {
+    // Mole fractions are c_i / sum c: with every concentration 0 the quotient is 0/0, NaN in
+    // IEEE 754 arithmetic, so the plan must refuse the scenario (issue 12, section 3). The
+    // scenario text puts `concentrations` on line 6, column 1.
+    let errors = plan_errors(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 0, O2 = 0.0 }\n[output]\nend_time = 1\n",
+    );
+    let (line, column, message) = only_error(&errors);
+    assert_eq!((line, column), (6, 1));
+    assert!(
+        message.contains("every initial concentration is zero"),
+        "{message}"
+    );
+}
+
+#[test]
+fn temperature_and_pressure_outside_their_documented_ranges_are_refused() {
+    // The documented ranges (docs/file-format.md): 1 K <= T <= 1e5 K, 1e-9 Pa <= P <= 1e10 Pa.
+    // At T = 1e308 K and P = 1 atm, P/(R T) underflows to 0 (IEEE 754), the zero total of the
+    // test above; at P = 5e-324 Pa likewise.
+    assert_eq!(TEMPERATURE_RANGE_K, (1.0, 1.0e5));
+    assert_eq!(PRESSURE_RANGE_PA, (1.0e-9, 1.0e10));
+    let errors = scenario_errors(
+        "[reactor]\ntemperature = 1e308\npressure = 5e-324\n[initial]\nmole_fractions = { AR = 1 }\n[output]\nend_time = 1\n",
+    );
+    assert_eq!(errors.len(), 2, "{errors:?}");
+    let at: Vec<(usize, usize)> = errors
+        .iter()
+        .map(|d| d.location.map(|l| (l.line, l.column)).unwrap_or_default())
+        .collect();
+    assert_eq!(at, vec![(4, 15), (5, 12)]);
+    assert!(errors[0].message.contains("`temperature` is 1e308 K"));
+    assert!(errors[1].message.contains("`pressure`"));
+    // The lowest and highest values of the ranges themselves are accepted.
+    let s = scenario(
+        "[reactor]\ntemperature = 1e5\npressure = 1e-9\n[initial]\nmole_fractions = { AR = 1 }\n[output]\nend_time = 1\n",
+    );
+    let c = plan(&s)
+        .expect("the ends of the ranges resolve")
+        .initial_mol_per_m3()[5];
+    // Ideal gas: c = P / (R T) with R = 8.314462618 J/(mol K) (CODATA 2018).
+    assert!(rel(c, 1e-9 / (8.314_462_618 * 1e5)) < 1e-12);
+    // The override methods enforce the same ranges and leave the plan unchanged.
+    let mut p = plan(&s).expect("resolves");
+    assert!(p.set_temperature_k(1e308).is_err());
+    assert!(p.set_temperature_k(0.5).is_err());
+    assert!(p.set_pressure_pa(5e-324).is_err());
+    assert!(p.set_end_time_s(1e308).is_err());
+    assert_eq!(p.temperature_k(), 1e5);
+}
+
+#[test]
+fn output_times_that_are_not_distinct_are_refused_at_their_key() {
+    // An end time of 5e-324 s (the smallest subnormal double) on the default 101-point grid
+    // gives times that round to 0 or 5e-324 (IEEE 754), not strictly increasing.
+    let errors = plan_errors(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 5e-324\n",
+    );
+    let (line, column, message) = only_error(&errors);
+    assert_eq!((line, column), (8, 1));
+    assert!(message.contains("not distinct"), "{message}");
+    // An end time above the documented 1e15 s is refused by the reader, located.
+    let errors = scenario_errors(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 1e308\n",
+    );
+    let (line, column, _) = only_error(&errors);
+    assert_eq!((line, column), (8, 12));
+    // At the largest end time the linear grid stays finite: t_1 = 1e15 / 100 exactly
+    // (i/(n-1) is formed first).
+    let s = scenario(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 1e15\n",
+    );
+    assert_eq!(MAX_END_TIME_S, 1e15);
+    assert_eq!(plan(&s).expect("resolves").output_times_s()[1], 1e13);
+}
+
+#[test]
+fn box_values_that_the_reactor_refuses_are_refused_at_their_key() {
+    // Emissions must be finite and not negative, as must the zenith-angle exponents
+    // (cos(zenith)^cos_power is not bounded for a negative power as the sun sets); each
+    // value is reported where it is written.
+    let errors = scenario_errors(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 1\n[box]\nemissions = { H2 = 1e308, O2 = -1 }\n[sun]\nlatitude = 45\nday_of_year = 172\n[[photolysis]]\nstep = \"H2 -> 2 H\"\ndiurnal = { scale = 1e-3, cos_power = -1 }\n",
+    );
+    let at: Vec<(usize, usize)> = errors
+        .iter()
+        .map(|d| d.location.map(|l| (l.line, l.column)).unwrap_or_default())
+        .collect();
+    // 1e308 mol/m3/s is finite; "1e308 molecule/cm3/s" is too, but 1e308 mol/cm3/s overflows.
+    assert_eq!(at, vec![(10, 32), (16, 39)], "{errors:?}");
+    assert!(errors[0].message.contains("emission of `O2` is -1"));
+    assert!(errors[1].message.contains("`cos_power` is -1"));
+    let errors = scenario_errors(
+        "[reactor]\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 1\n[box]\nemissions = { H2 = \"1e308 mol/cm3/s\" }\n[[photolysis]]\nstep = \"H2 -> 2 H\"\ndiurnal = { scale = 1e-3, cos_power = 1 }\n",
+    );
+    let (line, column, _) = (
+        errors[0].location.expect("located").line,
+        errors[0].location.expect("located").column,
+        (),
+    );
+    assert_eq!((line, column), (10, 20), "{errors:?}");
+    assert!(errors[0].message.contains("infinite") || errors[0].message.contains("inf"));
+    // The zenith-angle form without a [sun] is reported at the entry's `diurnal`.
+    assert_eq!(errors.len(), 2, "{errors:?}");
+    let sun = errors[1].location.expect("located");
+    assert_eq!((sun.line, sun.column), (13, 11));
+    assert!(errors[1].message.contains("needs a [sun] section"));
+}
+
+#[test]
+fn the_energy_balance_names_the_species_without_thermochemistry() {
+    // good.mech.toml gives no thermochemistry: the adiabatic reactor needs cp and U of
+    // every species (energy balance of a closed constant-volume reactor), so the plan is
+    // refused at `kind` (line 4, column 1) naming the species, not their indices.
+    let errors = plan_errors(
+        "[reactor]\nkind = \"adiabatic-constant-volume\"\ntemperature = 300\n[initial]\nconcentrations = { H2 = 1 }\n[output]\nend_time = 1\n",
+    );
+    let (line, column, message) = only_error(&errors);
+    assert_eq!((line, column), (4, 1));
+    for name in ["`H2`", "`O2`", "`H`", "`OH`", "`H2O`", "`AR`"] {
+        assert!(message.contains(name), "{message}");
+    }
 }

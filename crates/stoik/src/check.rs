@@ -3,20 +3,9 @@
 use crate::error::CliError;
 use std::path::Path;
 use std::sync::Arc;
-use stoik::kinetics::collision_limit_warnings;
-use stoik::mechanism::{load_mechanism, Diagnostics, LoadError, MechanismFile};
-use stoik::scenario::{load_scenario, RunPlan, ScenarioError};
-
-/// Whether `path` holds a scenario (it carries the scenario format key) rather than a mechanism.
-pub fn is_scenario(path: &Path) -> bool {
-    // The input reader refuses FIFOs and devices without opening them (no hang here).
-    stoik::mechanism::read_input_text(path)
-        .map(|text| {
-            text.lines()
-                .any(|line| line.trim_start().starts_with("stoik_scenario"))
-        })
-        .unwrap_or(false)
-}
+use stoik::kinetics::{collision_limit_warnings, rate_constant_range_errors, RATE_CHECK_RANGE_K};
+use stoik::mechanism::{load_mechanism, parse_mechanism_in, Diagnostics, LoadError, MechanismFile};
+use stoik::scenario::{is_scenario_text, parse_scenario, RunPlan, ScenarioError};
 
 /// Prints the summary line; errors and, with `strict`, warnings end the command (printed by
 /// `main`), other warnings are printed here.
@@ -53,6 +42,11 @@ fn summary(path: &Path, file: &MechanismFile) -> String {
 fn mechanism_warnings(file: &MechanismFile, path: &Path) -> Diagnostics {
     let mut warnings = file.warnings.clone();
     let label = path.display().to_string();
+    warnings.0.extend(rate_constant_range_errors(
+        &file.mechanism,
+        &label,
+        RATE_CHECK_RANGE_K,
+    ));
     warnings
         .0
         .extend(collision_limit_warnings(&file.mechanism, &label));
@@ -61,16 +55,24 @@ fn mechanism_warnings(file: &MechanismFile, path: &Path) -> Diagnostics {
 
 /// Validates `path`: a mechanism, or a scenario with its mechanism (the scenario's names
 /// resolved against it; the mechanism gets the same checks as on its own).
+///
+/// The file is read once (so a pipe such as `/dev/stdin` works) and its kind is decided from
+/// the parsed document ([`is_scenario_text`]). The mechanism's rate constants must be finite from
+/// 200 K to 3500 K ([`RATE_CHECK_RANGE_K`]): a step that overflows there is an error.
 pub fn check(path: &Path, strict: bool) -> Result<(), CliError> {
-    if !is_scenario(path) {
-        let file = load_mechanism(path)?;
+    let label = path.display().to_string();
+    // The input reader refuses FIFOs and devices without opening them (no hang here).
+    let text = stoik::mechanism::read_input_text(path).map_err(|e| e.into_load_error(&label))?;
+    let folder = path.parent().unwrap_or(Path::new(""));
+    if !is_scenario_text(&text) {
+        let file = parse_mechanism_in(&text, &label, Some(folder))?;
         return finish(
             mechanism_warnings(&file, path),
             strict,
             &summary(path, &file),
         );
     }
-    let (scenario, mut diagnostics) = load_scenario(path)?;
+    let (scenario, mut diagnostics) = parse_scenario(&text, &label, folder)?;
     let file = Arc::new(load_mechanism(&scenario.mechanism_path)?);
     diagnostics
         .0

@@ -80,8 +80,8 @@ pub struct FitRateArgs {
     /// The form fitted.
     #[arg(long, value_enum, default_value = "arrhenius")]
     pub model: ModelArg,
-    /// Reference temperature of the decorrelated form, in K [default: harmonic mean of the
-    /// data's temperatures].
+    /// Reference temperature of the decorrelated form, in K (1 to 1e5 K) [default: harmonic
+    /// mean of the data's temperatures].
     #[arg(long)]
     pub reference_temperature_k: Option<f64>,
     /// Equation of the step in the snippet, e.g. "CH3CHO -> CH4 + CO" [default: a placeholder
@@ -94,7 +94,7 @@ pub struct FitRateArgs {
     /// Write the fitted step as a mechanism-file snippet to this file.
     #[arg(long)]
     pub snippet: Option<PathBuf>,
-    /// Confidence level of intervals and band.
+    /// Confidence level of intervals and band (0.5 to 0.9999).
     #[arg(long, default_value_t = 0.95)]
     pub confidence: f64,
 }
@@ -171,10 +171,10 @@ pub struct RunArgs {
     /// writes its partial profile to <output stem>.partial.csv beside it instead.
     #[arg(short, long)]
     pub output: Option<PathBuf>,
-    /// Override the temperature, in K.
+    /// Override the temperature, in K (1 to 1e5 K).
     #[arg(long)]
     pub temperature_k: Option<f64>,
-    /// Override the end time, in s.
+    /// Override the end time, in s (positive, at most 1e15 s).
     #[arg(long)]
     pub end_time_s: Option<f64>,
     /// Override the relative tolerance.

@@ -2,7 +2,7 @@
 //! refusals, a pipe read once, the file kind decided from the parsed document, and rate
 //! constants that overflow over the checked temperature range.
 
-use crate::common;
+mod common;
 
 use common::{repo, scratch, stoik, text};
 use std::io::Write;

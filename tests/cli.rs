@@ -3,7 +3,7 @@
 // Reference values are quoted with every digit their source publishes.
 #![allow(clippy::excessive_precision)]
 
-use crate::common;
+mod common;
 
 use common::{repo, stoik, text, Table};
 

@@ -4,7 +4,7 @@
 //! located. The expectations are the rules of issue 12 and docs/file-format.md (exit 2 for a
 //! refused path, every input byte left as it was, the partial profile beside the output).
 
-use crate::common;
+mod common;
 
 use common::{repo, stoik, text};
 use std::path::{Path, PathBuf};

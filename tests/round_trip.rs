@@ -6,7 +6,7 @@
 //! crate's parser. Bit identity holds because the binary runs the same computation and writes
 //! the shortest digits that round-trip.
 
-use crate::common;
+mod common;
 
 use common::{repo, stoik, text, Table};
 use std::path::Path;

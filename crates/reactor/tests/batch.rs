@@ -3,7 +3,7 @@
 //! integrated first-order rate law, e.g. Atkins' Physical Chemistry), and the parallel and
 //! serial batches agree exactly.
 
-use crate::common;
+mod common;
 
 use common::*;
 use stoik_mechanism::Arrhenius;

@@ -12,7 +12,7 @@
 //! checked to 1e-6 relative (the global error of a BDF run is typically a few times the local
 //! tolerance; two orders of magnitude leave room for that).
 
-use crate::common;
+mod common;
 
 use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};

@@ -1,7 +1,7 @@
 //! Values built by hand (photolysis rates, profiles, watches, criteria with species indices)
 //! give errors through the public API, never panics.
 
-use crate::common;
+mod common;
 
 use common::{kinetics, options, step, T};
 use stoik_reactor::{

@@ -9,7 +9,7 @@
 // Reference values are quoted with every digit their source publishes.
 #![allow(clippy::excessive_precision)]
 
-use crate::common;
+mod common;
 
 use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};

@@ -15,7 +15,7 @@
 // Published values are kept with all their digits; components are indexed in parallel.
 #![allow(clippy::excessive_precision, clippy::needless_range_loop)]
 
-use crate::common;
+mod common;
 
 use common::*;
 use stoik_reactor::{integrate, LinearAlgebra};

@@ -2,7 +2,7 @@
 
 #![allow(clippy::needless_range_loop)]
 
-use crate::common;
+mod common;
 
 use common::*;
 use stoik_kinetics::Kinetics;

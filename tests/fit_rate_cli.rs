@@ -182,3 +182,33 @@ fn bad_input_exits_2_with_located_messages() {
     assert!(text(&out.stderr)
         .contains("add up to 3 but the rate constant's unit `dm3 mol-1 s-1` is of order 2"));
 }
+
+#[test]
+fn out_of_range_flags_are_refused_naming_the_flag_before_anything_is_written() {
+    // The documented ranges (docs/file-format.md): confidence 0.5 to 0.9999, reference
+    // temperature 1 K to 1e5 K. Values just outside, tiny, infinite and NaN are refused with
+    // exit 2 and the flag's name; no snippet is written.
+    let dir = scratch("flag-ranges");
+    let data = repo().join("mechanisms/data/ethanal-decomposition.csv");
+    let cases: [(&str, &str); 6] = [
+        ("--confidence", "0.99991"),
+        ("--confidence", "5e-324"),
+        ("--confidence", "inf"),
+        ("--reference-temperature-k", "0.9999999999999999"),
+        ("--reference-temperature-k", "1e300"),
+        ("--reference-temperature-k", "NaN"),
+    ];
+    for (flag, value) in cases {
+        let mut argv = vec!["fit-rate", data.to_str().unwrap(), "--snippet", "s.toml"];
+        if flag == "--reference-temperature-k" {
+            argv.extend(["--model", "modified"]);
+        }
+        argv.extend([flag, value]);
+        let out = stoik(&argv, &dir);
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{flag} {value}: {err}");
+        assert!(err.contains(flag), "{flag} {value}: {err}");
+        assert!(!err.contains("00000000000"), "{flag} {value}: {err}");
+        assert!(!dir.join("s.toml").exists(), "{flag} {value}");
+    }
+}

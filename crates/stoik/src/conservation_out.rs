@@ -81,13 +81,17 @@ pub fn report_lines(
             .max()
             .unwrap_or(0);
         for d in drifts.iter().take(MAX_LISTED) {
-            let drift = if d.scale > 0.0 {
+            let allowed = d.allowed / d.scale;
+            let drift = if d.scale > 0.0 && allowed.is_finite() && d.relative_drift.is_finite() {
                 format!(
-                    "drift {:.1e} (allowed {:.1e}){}",
+                    "drift {:.1e} (allowed {allowed:.1e}){}",
                     d.relative_drift,
-                    d.allowed / d.scale,
                     if d.exceeded { "  EXCEEDED" } else { "" }
                 )
+            } else if d.scale > 0.0 {
+                // Tolerances so loose (or values so large) that the allowance, or the drift,
+                // is beyond the range of f64: say so in words, never print `inf`.
+                "drift not bounded (the tolerances allow any drift at these magnitudes)".to_string()
             } else {
                 // Every species of the law stayed at exactly zero.
                 "(none present)".to_string()
@@ -199,5 +203,22 @@ mod tests {
             w.ends_with("try a tighter --rtol or --atol-mol-per-m3"),
             "{w}"
         );
+
+        // Absolute tolerances of 1e308 mol/m3: the allowance rtol + 3 atol overflows f64
+        // (IEEE 754: the largest finite double is about 1.8e308); the line says so in words.
+        let mut loose = options.clone();
+        loose.absolute_tolerances_mol_per_m3 = vec![1e308; 3];
+        let report = conservation_report(&m, &model, &p, &loose);
+        assert!(
+            report.lines[1].ends_with(
+                "drift not bounded (the tolerances allow any drift at these magnitudes)"
+            ),
+            "{:?}",
+            report.lines
+        );
+        assert!(!report
+            .lines
+            .iter()
+            .any(|l| l.contains("inf") || l.contains("NaN")));
     }
 }

@@ -6,12 +6,34 @@ use crate::out_file::OutputPaths;
 use crate::{FitRateArgs, ModelArg};
 use stoik::fit::{
     fit_rate_constants, load_rate_data, mechanism_snippet, report_text, svg_plot, FitOptions,
-    Model, RateFitError,
+    Model, RateFitError, CONFIDENCE_RANGE, REFERENCE_TEMPERATURE_RANGE_K,
 };
+
+/// Refuses `--confidence` and `--reference-temperature-k` outside their documented ranges,
+/// naming the flag (the fit would refuse them too, without knowing the flag).
+fn check_flags(args: &FitRateArgs) -> Result<(), CliError> {
+    let (low, high) = CONFIDENCE_RANGE;
+    let c = args.confidence;
+    if !(c >= low && c <= high) {
+        return Err(CliError::BadFlag(format!(
+            "--confidence: {c:e} is not a confidence level between {low} and {high} (e.g. 0.95)"
+        )));
+    }
+    if let Some(t) = args.reference_temperature_k {
+        let (low, high) = REFERENCE_TEMPERATURE_RANGE_K;
+        if !(t >= low && t <= high) {
+            return Err(CliError::BadFlag(format!(
+                "--reference-temperature-k: {t:e} K is not between {low} K and {high:e} K"
+            )));
+        }
+    }
+    Ok(())
+}
 
 /// Runs the fit.
 pub fn fit_rate(args: &FitRateArgs) -> Result<(), CliError> {
     let label = args.data.display().to_string();
+    check_flags(args)?;
     // Both outputs are checked before anything is fitted or written.
     let mut outputs = OutputPaths::new();
     outputs.input(&args.data);

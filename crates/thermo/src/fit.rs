@@ -34,11 +34,13 @@ pub struct Nasa7Fit {
     pub polynomial: Nasa7,
     /// Number of table points used.
     pub n_points: usize,
-    /// Largest |cp_fit - cp_table| / |cp_table| over the points (dimensionless).
+    /// Largest |cp_fit - cp_table| / max(|cp_table|, 1 J/(mol K)) over the points
+    /// (dimensionless).
     pub max_relative_error_cp: f64,
     /// Root mean square of the relative cp errors (dimensionless).
     pub rms_relative_error_cp: f64,
-    /// Largest |S_fit - S_table| / |S_table| over the points (dimensionless).
+    /// Largest |S_fit - S_table| / max(|S_table|, 1 J/(mol K)) over the points
+    /// (dimensionless).
     pub max_relative_error_s: f64,
     /// Root mean square of the relative S errors (dimensionless).
     pub rms_relative_error_s: f64,
@@ -316,15 +318,21 @@ fn validate(
     Ok(())
 }
 
+/// The smallest denominator of the relative cp and S errors of a fit, J/(mol K): gas-phase
+/// heat capacities and entropies lie far above it (cp >= 5R/2 = 20.8 J/(mol K) for any gas).
+const RELATIVE_ERROR_FLOOR_J_PER_MOL_K: f64 = 1.0;
+
 fn residuals(polynomial: Nasa7, table: &[ThermoPoint], h298: f64) -> Nasa7Fit {
     let n = table.len();
     let (mut max_cp, mut sum_cp, mut max_s, mut sum_s, mut max_h, mut sum_h) =
         (0.0f64, 0.0f64, 0.0f64, 0.0f64, 0.0f64, 0.0f64);
     for p in table {
+        // Relative to the table value, or to 1 J/(mol K) where the table value is smaller
+        // (a row with S or cp at or near 0 would otherwise give an infinite "relative" error).
         let e_cp = (polynomial.cp_j_per_mol_k(p.t_k) - p.cp_j_per_mol_k).abs()
-            / p.cp_j_per_mol_k.abs().max(f64::MIN_POSITIVE);
+            / p.cp_j_per_mol_k.abs().max(RELATIVE_ERROR_FLOOR_J_PER_MOL_K);
         let e_s = (polynomial.entropy_j_per_mol_k(p.t_k) - p.s_j_per_mol_k).abs()
-            / p.s_j_per_mol_k.abs().max(f64::MIN_POSITIVE);
+            / p.s_j_per_mol_k.abs().max(RELATIVE_ERROR_FLOOR_J_PER_MOL_K);
         let e_h = (polynomial.enthalpy_j_per_mol(p.t_k) - (h298 + p.h_minus_h298_j_per_mol)).abs();
         max_cp = max_cp.max(e_cp);
         max_s = max_s.max(e_s);

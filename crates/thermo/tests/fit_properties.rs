@@ -203,3 +203,27 @@ fn bad_input_gives_typed_errors() {
         Err(FitError::NonFiniteInput { .. })
     ));
 }
+
+#[test]
+fn a_table_row_with_zero_entropy_gives_finite_fit_errors() {
+    // A table whose 3000 K row says S = 0 (a corrupted or mistyped row) fits with a finite
+    // "relative" S error: the error is taken relative to max(|S|, 1 J/(mol K)). Before, the
+    // denominator was the smallest positive double and the error was infinite.
+    let truth = continuous_pair(LOW, 1000.0);
+    let h298 = truth.enthalpy_j_per_mol(T_REFERENCE_K);
+    let mut table = table_from(&truth, &janaf_grid());
+    let row = table
+        .iter()
+        .position(|p| p.t_k == 3000.0)
+        .expect("3000 K row");
+    table[row].s_j_per_mol_k = 0.0;
+    let fit = fit_nasa7(&table, 1000.0, h298, None).expect("fit");
+    assert!(fit.max_relative_error_s.is_finite());
+    assert!(fit.rms_relative_error_s.is_finite());
+    // By the documented definition, that row's error is |S_fit(3000 K) - 0| / (1 J/(mol K)),
+    // and the largest error is at least that (the fit itself is pulled toward the bad row,
+    // so its value is not known in advance).
+    let row_error = fit.polynomial.entropy_j_per_mol_k(3000.0).abs() / 1.0;
+    assert!(fit.max_relative_error_s >= row_error, "{fit:?}");
+    assert!(row_error > 0.0);
+}

@@ -54,14 +54,26 @@ pub enum FitError {
         what: String,
     },
     /// A line of a JANAF table could not be parsed.
-    #[error("JANAF table, line {line}: {message}")]
+    #[error("JANAF table, line {line}, column {column}: {message}")]
     Parse {
         /// 1-based line number in the text.
         line: usize,
+        /// 1-based column (in characters) of the offending cell, or where a missing one
+        /// would start.
+        column: usize,
         /// What was wrong with the line.
         message: String,
     },
-    /// A JANAF table lacks the row at the 298.15 K reference temperature.
-    #[error("JANAF table has no row at 298.15 K (needed for the formation enthalpy)")]
-    MissingReferenceRow,
+    /// A JANAF table lacks a usable row at the 298.15 K reference temperature: none, or one
+    /// whose entropy or formation enthalpy is not finite. Located at that row, or at the
+    /// header line when there is none.
+    #[error("JANAF table, line {line}, column {column}: {message}")]
+    MissingReferenceRow {
+        /// 1-based line number.
+        line: usize,
+        /// 1-based column (in characters).
+        column: usize,
+        /// What is missing.
+        message: String,
+    },
 }

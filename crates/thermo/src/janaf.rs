@@ -91,55 +91,74 @@ impl JanafTable {
 /// unreadable number or a non-finite temperature; [`FitError::MissingReferenceRow`]
 /// when there is no 298.15 K row or its formation enthalpy or entropy is not finite.
 pub fn read_janaf_tsv(text: &str) -> Result<JanafTable, FitError> {
+    // (line number, raw line, trimmed line); columns count characters of the raw line.
     let mut lines = text
         .lines()
         .enumerate()
-        .map(|(i, l)| (i + 1, l.trim()))
-        .filter(|(_, l)| !l.is_empty());
-    let (_, title) = lines.next().ok_or(FitError::Parse {
-        line: 1,
-        message: "empty text (expected a title line)".into(),
-    })?;
+        .map(|(i, l)| (i + 1, l, l.trim()))
+        .filter(|(_, _, l)| !l.is_empty());
+    let parse = |line: usize, column: usize, message: String| FitError::Parse {
+        line,
+        column,
+        message,
+    };
+    let (title_line, _, title) = lines
+        .next()
+        .ok_or_else(|| parse(1, 1, "empty text (expected a title line)".into()))?;
     let mut title_parts = title.split('\t').map(str::trim);
     let name = title_parts.next().unwrap_or_default().to_string();
     let formula = title_parts.next().unwrap_or_default().to_string();
 
-    let (header_line, header) = lines.next().ok_or(FitError::Parse {
-        line: 2,
-        message: "missing header line".into(),
-    })?;
+    let (header_line, header_raw, header) = lines
+        .next()
+        .ok_or_else(|| parse(title_line + 1, 1, "missing header line".into()))?;
     if !header.starts_with("T(K)") {
-        return Err(FitError::Parse {
-            line: header_line,
-            message: format!("expected a header line starting with \"T(K)\", found \"{header}\""),
-        });
+        return Err(parse(
+            header_line,
+            column_of(header_raw, header),
+            format!("expected a header line starting with \"T(K)\", found \"{header}\""),
+        ));
     }
 
     let mut rows = Vec::new();
-    for (line, text) in lines {
+    let mut reference: Option<(usize, usize, usize)> = None;
+    for (line, raw, text) in lines {
         let cells: Vec<&str> = if text.contains('\t') {
             text.split('\t').map(str::trim).collect()
         } else {
             text.split_whitespace().collect()
         };
         if cells.len() != 8 {
-            return Err(FitError::Parse {
+            // Where the ninth cell starts, or just after the last cell when one is missing.
+            let column = match cells.get(8) {
+                Some(extra) => column_of(raw, extra),
+                None => column_of(raw, text) + text.chars().count(),
+            };
+            return Err(parse(
                 line,
-                message: format!("expected 8 cells, found {}", cells.len()),
-            });
+                column,
+                format!("expected 8 cells, found {}", cells.len()),
+            ));
         }
         let mut v = [0.0f64; 8];
         for (k, cell) in cells.iter().enumerate() {
-            v[k] = parse_cell(cell).ok_or_else(|| FitError::Parse {
-                line,
-                message: format!("cannot read number \"{cell}\" in column {}", k + 1),
+            v[k] = parse_cell(cell).ok_or_else(|| {
+                parse(
+                    line,
+                    column_of(raw, cell),
+                    format!("cannot read number \"{cell}\" in column {}", k + 1),
+                )
             })?;
         }
         if !v[0].is_finite() {
-            return Err(FitError::Parse {
+            return Err(parse(
                 line,
-                message: "temperature is not finite".into(),
-            });
+                column_of(raw, cells[0]),
+                "temperature is not finite".into(),
+            ));
+        }
+        if reference.is_none() && (v[0] - T_REFERENCE_K).abs() <= 1e-6 {
+            reference = Some((line, column_of(raw, cells[2]), column_of(raw, cells[5])));
         }
         rows.push(JanafRow {
             t_k: v[0],
@@ -152,21 +171,51 @@ pub fn read_janaf_tsv(text: &str) -> Result<JanafTable, FitError> {
             log10_kf: v[7],
         });
     }
-    let reference = rows
+    let missing = |line, column, message: &str| FitError::MissingReferenceRow {
+        line,
+        column,
+        message: message.to_string(),
+    };
+    let Some((line, s_column, h_column)) = reference else {
+        return Err(missing(
+            header_line,
+            column_of(header_raw, header),
+            "the table has no row at 298.15 K (needed for the formation enthalpy and S298)",
+        ));
+    };
+    let row = rows
         .iter()
         .find(|r| (r.t_k - T_REFERENCE_K).abs() <= 1e-6)
-        .ok_or(FitError::MissingReferenceRow)?;
-    if !(reference.formation_enthalpy_j_per_mol.is_finite() && reference.s_j_per_mol_k.is_finite())
-    {
-        return Err(FitError::MissingReferenceRow);
+        .ok_or_else(|| missing(line, 1, "the 298.15 K row was not kept"))?;
+    if !row.s_j_per_mol_k.is_finite() {
+        return Err(missing(
+            line,
+            s_column,
+            "the entropy of the 298.15 K row is not finite",
+        ));
+    }
+    if !row.formation_enthalpy_j_per_mol.is_finite() {
+        return Err(missing(
+            line,
+            h_column,
+            "the formation enthalpy of the 298.15 K row is not finite (kJ/mol beyond the range of f64)",
+        ));
     }
     Ok(JanafTable {
         name,
         formula,
-        h298_formation_j_per_mol: reference.formation_enthalpy_j_per_mol,
-        s298_j_per_mol_k: reference.s_j_per_mol_k,
+        h298_formation_j_per_mol: row.formation_enthalpy_j_per_mol,
+        s298_j_per_mol_k: row.s_j_per_mol_k,
         rows,
     })
+}
+
+/// The 1-based column, in characters, where `part` (a slice of `raw`) starts in `raw`.
+fn column_of(raw: &str, part: &str) -> usize {
+    let offset = (part.as_ptr() as usize)
+        .saturating_sub(raw.as_ptr() as usize)
+        .min(raw.len());
+    raw.get(..offset).map_or(offset, |p| p.chars().count()) + 1
 }
 
 fn parse_cell(cell: &str) -> Option<f64> {

@@ -188,20 +188,45 @@ fn reader_accepts_the_word_infinite_and_rejects_bad_rows() {
     assert_eq!(t.h298_formation_j_per_mol, 1500.0);
 
     let short_row = good.replace("298.15\t29.0\t130.0", "298.15\t29.0");
+    // Columns count characters: the seven cells of the short row take 35 characters, so the
+    // missing eighth would start at column 36; the cp cell starts after "298.15\t", column 8.
     assert!(matches!(
         read_janaf_tsv(&short_row),
-        Err(FitError::Parse { line: 4, .. })
+        Err(FitError::Parse {
+            line: 4,
+            column: 36,
+            ..
+        })
     ));
     let bad_number = good.replace("29.0", "2x9");
     assert!(matches!(
         read_janaf_tsv(&bad_number),
-        Err(FitError::Parse { line: 4, .. })
+        Err(FitError::Parse {
+            line: 4,
+            column: 8,
+            ..
+        })
     ));
     let no_reference = good.replace("298.15", "300");
-    assert_eq!(
+    assert!(matches!(
         read_janaf_tsv(&no_reference),
-        Err(FitError::MissingReferenceRow)
-    );
+        Err(FitError::MissingReferenceRow {
+            line: 2,
+            column: 1,
+            ..
+        })
+    ));
+    // A formation enthalpy of 1e308 kJ/mol is 1e311 J/mol, beyond f64: reported at its cell
+    // (the sixth: "298.15\t29.0\t130.0\t130.0\t0.\t" is 27 characters), not as a missing row.
+    let huge = good.replace("0.\t1.5\t2.5\t-0.438", "0.\t1e308\t2.5\t-0.438");
+    match read_janaf_tsv(&huge) {
+        Err(FitError::MissingReferenceRow {
+            line: 4,
+            column: 28,
+            message,
+        }) => assert!(message.contains("formation enthalpy"), "{message}"),
+        other => panic!("{other:?}"),
+    }
     assert!(matches!(read_janaf_tsv(""), Err(FitError::Parse { .. })));
     let no_header = good.replace("T(K)", "Temp");
     assert!(matches!(

@@ -50,8 +50,13 @@ pub fn parse_rate_data(text: &str, file_label: &str) -> Result<RateData, RateFit
     let rows = records(text, file_label, &mut diagnostics);
     let Some((header_row, data_rows)) = rows.split_first() else {
         diagnostics.push(
-            Diagnostic::error(file_label, None, "no header line and no data")
-                .with_help("the first line should be e.g. `temperature [K], rate_constant [s-1]`"),
+            // Located where the header should start (the file is empty or only comments).
+            Diagnostic::error(
+                file_label,
+                Some(SourceLocation { line: 1, column: 1 }),
+                "no header line and no data",
+            )
+            .with_help("the first line should be e.g. `temperature [K], rate_constant [s-1]`"),
         );
         return Err(RateFitError::Invalid { diagnostics });
     };
@@ -517,11 +522,18 @@ impl RowReader<'_> {
             }
             _ => None,
         };
+        let (low, high) = crate::fit::LN_UNCERTAINTY_RANGE;
         match sigma {
-            Some(s) => {
+            Some(s) if s.is_finite() && s >= low && s <= high => {
                 self.point.ln_uncertainty = Some(s);
                 Ok(())
             }
+            Some(s) => Err((
+                *column,
+                format!(
+                    "uncertainty `{text}` is a relative uncertainty of k (of ln k) of {s:e}; it must be between {low:e} and {high} (0.0001 % to a factor of e^10)"
+                ),
+            )),
             None => {
                 let expected = if *kind == UncertaintyKind::Factor {
                     "a factor above 1"

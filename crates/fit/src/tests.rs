@@ -860,7 +860,7 @@ fn the_csv_reader_locates_fields_in_quoted_and_crlf_files() {
     assert_eq!(data.points[1].rate_constant_si, 3.0);
     // Every problem at once: an empty file has no header; a header alone has no rows.
     let err = parse_rate_data("", "e.csv").unwrap_err();
-    assert!(messages(err).contains("no header line and no data"));
+    assert!(messages(err).contains("e.csv:1:1: error: no header line and no data"));
     let err = parse_rate_data("temperature [K], rate_constant [s-1]\n", "h.csv").unwrap_err();
     assert!(messages(err).contains("h.csv:1:1: error: no data rows after the header"));
 }
@@ -951,4 +951,34 @@ fn an_undefined_correlation_is_printed_in_words() {
         "undefined"
     );
     assert_eq!(crate::report::correlation_cell(-0.25).trim(), "-0.250000");
+}
+
+#[test]
+fn an_uncertainty_outside_its_range_is_refused_at_its_cell() {
+    // LN_UNCERTAINTY_RANGE is 1e-6 to 10 for the uncertainty of ln k. 1e-160 % is a relative
+    // uncertainty of 1e-162 (percent / 100), a factor of 1.0000000000000002 one of
+    // ln(1 + 2^-52) = 2.22e-16 (IEEE 754 machine epsilon): both are refused where they are
+    // written (line 3, column 10), with every bad row reported at once.
+    let err = parse_rate_data(
+        "temperature [K], rate_constant [s-1], uncertainty [%]\n300, 1.0, 10\n310, 2.0, 1e-160\n",
+        "tiny.csv",
+    )
+    .unwrap_err();
+    let text = messages(err);
+    assert!(
+        text.contains("tiny.csv:3:11: error: uncertainty `1e-160` is a relative uncertainty of k (of ln k) of 1e-162"),
+        "{text}"
+    );
+    let err = parse_rate_data(
+        "temperature [K], rate_constant [s-1], uncertainty [factor]\n300, 1.0, 1.0000000000000002\n310, 2.0, 1e300\n",
+        "f.csv",
+    )
+    .unwrap_err();
+    let text = messages(err);
+    assert!(text.contains("f.csv:2:11: error: uncertainty `1.0000000000000002` is a relative uncertainty of k (of ln k) of 2.22044604925031"), "{text}");
+    // ln(1e300) = 690.8 > 10.
+    assert!(
+        text.contains("f.csv:3:11: error: uncertainty `1e300`"),
+        "{text}"
+    );
 }

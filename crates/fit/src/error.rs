@@ -73,6 +73,15 @@ pub enum RateFitError {
         /// The value (NaN or infinite), in the snippet's units.
         value: f64,
     },
+    /// A fitted value that must be positive in the mechanism snippet is not (e.g. a
+    /// prefactor that underflows to 0 in the snippet's units).
+    #[error("the fitted {quantity} is {value:e} in the snippet's units, not positive (it underflows); no snippet is written")]
+    NotPositive {
+        /// Which value (`prefactor`).
+        quantity: String,
+        /// The value (zero or negative), in the snippet's units.
+        value: f64,
+    },
     /// The equation given for the mechanism snippet cannot be used.
     #[error("equation `{equation}`: {message}")]
     Equation {

@@ -83,6 +83,11 @@ pub const CONFIDENCE_RANGE: (f64, f64) = (0.5, 0.9999);
 /// included (the temperature range of the scenario file).
 pub const REFERENCE_TEMPERATURE_RANGE_K: (f64, f64) = (1.0, 1.0e5);
 
+/// Valid temperatures of rate-data points, (lowest, highest) in K, both included: the same
+/// span as the reference temperature. Outside it 1/T or ln T of the design matrix reaches
+/// magnitudes (1/T above 1 or ln T beyond 11.5) that no measured rate constant calls for.
+pub const DATA_TEMPERATURE_RANGE_K: (f64, f64) = REFERENCE_TEMPERATURE_RANGE_K;
+
 /// Valid standard uncertainties of ln k (the relative uncertainty of k), (lowest, highest),
 /// both included: 1e-6 (0.0001 %, far below any measured rate constant) to 10 (a factor of
 /// e^10). Outside this range the weights 1/u^2 of the points differ by more than 1e14, which

@@ -66,7 +66,8 @@ mod warnings;
 pub use data::{RateData, RatePoint, UncertaintyKind};
 pub use error::RateFitError;
 pub use fit::{
-    fit_rate_constants, CONFIDENCE_RANGE, LN_UNCERTAINTY_RANGE, REFERENCE_TEMPERATURE_RANGE_K,
+    fit_rate_constants, CONFIDENCE_RANGE, DATA_TEMPERATURE_RANGE_K, LN_UNCERTAINTY_RANGE,
+    REFERENCE_TEMPERATURE_RANGE_K,
 };
 pub use matrix::ParameterMatrix;
 pub use model::{FitOptions, Model};

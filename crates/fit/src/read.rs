@@ -471,6 +471,12 @@ impl RowReader<'_> {
                 if t.is_nan() || t <= 0.0 {
                     return Err(format!("temperature `{text}` {unit} is not above 0 K"));
                 }
+                let (low, high) = crate::fit::DATA_TEMPERATURE_RANGE_K;
+                if !(t >= low && t <= high) {
+                    return Err(format!(
+                        "temperature `{text}` {unit} is outside {low} K to {high:e} K, the range of measured rate constants stoik fits"
+                    ));
+                }
                 self.point.temperature_k = t;
             }
             Column::RateConstant => {

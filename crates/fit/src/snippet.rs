@@ -34,7 +34,7 @@ pub fn mechanism_snippet(fit: &RateFit, equation: Option<&str>) -> Result<String
     let prefactor = fit.prefactor_si() / units.prefactor_to_si(1.0, order as f64);
     let forward = format!(
         "forward = {{ prefactor = {}, temperature_exponent = {}, activation_energy = {} }}",
-        number("prefactor", prefactor)?,
+        number("prefactor", positive("prefactor", prefactor)?)?,
         number("temperature_exponent", fit.temperature_exponent())?,
         number("activation_energy", fit.activation_energy_j_per_mol() / 1e3)?
     );
@@ -173,6 +173,19 @@ fn note(fit: &RateFit) -> String {
         fit.point_count(),
         fit.model.short_name()
     )
+}
+
+/// `value` when it is positive; [`RateFitError::NotPositive`] otherwise (a prefactor that
+/// underflows to 0 in the snippet's units would not load back).
+fn positive(quantity: &str, value: f64) -> Result<f64, RateFitError> {
+    if value > 0.0 || value.is_nan() {
+        Ok(value)
+    } else {
+        Err(RateFitError::NotPositive {
+            quantity: quantity.to_string(),
+            value,
+        })
+    }
 }
 
 /// `value` in the snippet's number form ([`toml_float`]: the shortest digits that read back

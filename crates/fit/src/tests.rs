@@ -982,3 +982,39 @@ fn an_uncertainty_outside_its_range_is_refused_at_its_cell() {
         "{text}"
     );
 }
+
+#[test]
+fn a_prefactor_that_underflows_is_not_written() {
+    // ln A = -800 (e^-800 is below the smallest subnormal double, about e^-744.4, IEEE 754),
+    // with Ea = -2000 kJ/mol keeping every k representable: ln k = -800 + 2e6/(R T) is -199
+    // at 400 K and -456 at 700 K. The fitted prefactor is 0 in f64, and the snippet refuses
+    // to write it (a prefactor of 0 would not load back).
+    let temps = [400.0, 500.0, 600.0, 700.0];
+    let data = synthetic(&temps, -800.0, 0.0, -2_000_000.0, |_| (0.0, None));
+    let fit = fit_rate_constants(&data, &FitOptions::default()).unwrap();
+    assert_eq!(fit.prefactor_si(), 0.0);
+    let err = mechanism_snippet(&fit, None).unwrap_err();
+    assert!(
+        matches!(err, RateFitError::NotPositive { ref quantity, .. } if quantity == "prefactor")
+    );
+}
+
+#[test]
+fn temperatures_outside_the_documented_range_are_refused_at_their_cell() {
+    // DATA_TEMPERATURE_RANGE_K is 1 K to 1e5 K: 1e-300 K and 1e308 K are refused where they
+    // are written (line 3 and 4, column 1), both reported at once.
+    let err = parse_rate_data(
+        "temperature [K], rate_constant [s-1]\n300, 1.0\n1e-300, 2.0\n1e308, 3.0\n",
+        "t.csv",
+    )
+    .unwrap_err();
+    let text = messages(err);
+    assert!(
+        text.contains("t.csv:3:1: error: temperature `1e-300` K is outside 1 K to 1e5 K"),
+        "{text}"
+    );
+    assert!(
+        text.contains("t.csv:4:1: error: temperature `1e308` K is outside 1 K to 1e5 K"),
+        "{text}"
+    );
+}

@@ -9,6 +9,16 @@ use stoik::fit::{
     Model, RateFitError, CONFIDENCE_RANGE, REFERENCE_TEMPERATURE_RANGE_K,
 };
 
+/// `value` as a user would have typed it: plain digits for ordinary magnitudes, exponent
+/// form for very large or small ones (never hundreds of digits).
+fn as_given(value: f64) -> String {
+    if value == 0.0 || (1e-4..1e16).contains(&value.abs()) || !value.is_finite() {
+        format!("{value}")
+    } else {
+        format!("{value:e}")
+    }
+}
+
 /// Refuses `--confidence` and `--reference-temperature-k` outside their documented ranges,
 /// naming the flag (the fit would refuse them too, without knowing the flag).
 fn check_flags(args: &FitRateArgs) -> Result<(), CliError> {
@@ -16,14 +26,16 @@ fn check_flags(args: &FitRateArgs) -> Result<(), CliError> {
     let c = args.confidence;
     if !(c >= low && c <= high) {
         return Err(CliError::BadFlag(format!(
-            "--confidence: {c:e} is not a confidence level between {low} and {high} (e.g. 0.95)"
+            "--confidence: {} is not a confidence level between {low} and {high} (e.g. 0.95)",
+            as_given(c)
         )));
     }
     if let Some(t) = args.reference_temperature_k {
         let (low, high) = REFERENCE_TEMPERATURE_RANGE_K;
         if !(t >= low && t <= high) {
             return Err(CliError::BadFlag(format!(
-                "--reference-temperature-k: {t:e} K is not between {low} K and {high:e} K"
+                "--reference-temperature-k: {} K is not between {low} K and {high:e} K",
+                as_given(t)
             )));
         }
     }

@@ -95,7 +95,7 @@ impl<'t> Report<'t> {
     }
 
     /// Checks that every key of `table` is one of `allowed`; unknown keys are errors with a
-    /// nearest-key suggestion. `context` names the table in messages, e.g. "[[step]]".
+    /// nearest-key suggestion. `context` names the table in messages, e.g. `"[[step]]"`.
     pub fn check_keys(&mut self, table: &DeTable<'_>, allowed: &[&str], context: &str) {
         for (key, _) in table.iter() {
             let name: &str = key.get_ref();

@@ -15,15 +15,6 @@ use stoik::reactor::Profiles;
 /// (mole fractions undefined). Rust's and Python's float parsers read it as NaN.
 pub const UNDEFINED: &str = "nan";
 
-/// Quotes a CSV field when it holds a comma, quote or line break (species such as `1,3-C4H6`).
-fn field(text: &str) -> String {
-    if text.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", text.replace('"', "\"\""))
-    } else {
-        text.to_string()
-    }
-}
-
 /// `value` with the shortest digits that read back as exactly the same `f64` (Rust's
 /// `LowerExp`: `0e0`, `6e2`, `1.01325e5`, `-2.5e-7`, `5e-324`), or `None` when it is NaN or
 /// infinite.
@@ -131,7 +122,7 @@ pub fn write_profiles(
         mechanism
             .species
             .iter()
-            .map(|s| field(&format!("{} [{unit_label}]", s.name))),
+            .map(|s| format!("{} [{unit_label}]", s.name)),
     );
     header.push("temperature [K]".to_string());
     header.push("pressure [Pa]".to_string());
@@ -142,11 +133,16 @@ pub fn write_profiles(
         mechanism
             .species
             .iter()
-            .map(|s| field(&format!("{} [mole fraction]", s.name))),
+            .map(|s| format!("{} [mole fraction]", s.name)),
     );
-    writeln!(out, "{}", header.join(","))?;
+    // The csv crate quotes a field only when it must (species such as `1,3-C4H6`); rows end
+    // with a bare line feed.
+    let mut writer = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
+        .from_writer(out);
+    writer.write_record(&header).map_err(io::Error::from)?;
     let mut notes = CsvNotes::default();
-    let mut line = String::new();
+    let mut line: Vec<String> = Vec::with_capacity(header.len());
     for (i, ((&t, row), &temperature_k)) in profiles
         .times_s
         .iter()
@@ -168,27 +164,19 @@ pub fn write_profiles(
         }
         line.clear();
         for (k, &value) in cells.iter().enumerate() {
-            if k > 0 {
-                line.push(',');
-            }
-            line.push_str(&cell(value, &header[k], i, t)?);
+            line.push(cell(value, &header[k], i, t)?);
         }
         match &fractions {
             Some(x) => {
                 for (k, &value) in x.iter().enumerate() {
-                    line.push(',');
-                    line.push_str(&cell(value, &header[cells.len() + k], i, t)?);
+                    line.push(cell(value, &header[cells.len() + k], i, t)?);
                 }
             }
-            None => {
-                for _ in &mechanism.species {
-                    line.push(',');
-                    line.push_str(UNDEFINED);
-                }
-            }
+            None => line.extend(mechanism.species.iter().map(|_| UNDEFINED.to_string())),
         }
-        writeln!(out, "{line}")?;
+        writer.write_record(&line).map_err(io::Error::from)?;
     }
+    writer.flush()?;
     Ok(notes)
 }
 
@@ -367,5 +355,30 @@ mod tests {
                 .contains("column `pressure [Pa]`, data row 1"),
             "{err}"
         );
+    }
+
+    #[test]
+    fn species_names_with_commas_and_quotes_are_quoted_and_read_back() {
+        // RFC 4180: a field holding a comma or a quote is quoted, inner quotes doubled. The
+        // header read back by the csv crate's reader gives the names exactly.
+        let mut m = two_species();
+        m.species[0].name = "1,3-C4H6".to_string();
+        m.species[1].name = "A\"B".to_string();
+        let mut out = Vec::new();
+        write_profiles(&mut out, &m, &profiles(vec![vec![1.0, 3.0]]), 1.0, "mol/m3")
+            .expect("written");
+        let text = String::from_utf8(out).expect("UTF-8");
+        assert!(
+            text.starts_with("time [s],\"1,3-C4H6 [mol/m3]\",\"A\"\"B [mol/m3]\",temperature [K]"),
+            "{text}"
+        );
+        let mut reader = csv::Reader::from_reader(text.as_bytes());
+        let header = reader.headers().expect("header").clone();
+        assert_eq!(&header[1], "1,3-C4H6 [mol/m3]");
+        assert_eq!(&header[2], "A\"B [mol/m3]");
+        let row = reader.records().next().expect("a row").expect("valid row");
+        assert_eq!(row.len(), header.len());
+        assert_eq!(row[1].parse::<f64>(), Ok(1.0));
+        assert!(!text.contains('\r'));
     }
 }

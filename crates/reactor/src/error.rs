@@ -1,0 +1,226 @@
+//! Why an integration did not return profiles: bad arguments ([`ReactorError`]) or a solver
+//! failure part way ([`IntegrationFailure`](crate::IntegrationFailure), with the profile computed so far).
+
+use crate::Profiles;
+
+/// What kind of failure stopped an integration.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FailureKind {
+    /// The budget of accepted steps per call ([`IntegrationOptions::max_steps`](crate::IntegrationOptions::max_steps)) ran out.
+    StepBudget {
+        /// Accepted steps taken in the call.
+        steps: usize,
+    },
+    /// The step size fell to the round-off level of the time reached (ten units of
+    /// round-off of t).
+    StepSizeTooSmall,
+    /// The local error test rejected too many attempts at one step.
+    ErrorTestFailures {
+        /// Rejected attempts counted by the solver.
+        count: usize,
+    },
+    /// Newton's iteration failed to converge too many times in one step.
+    NewtonFailures {
+        /// Failures in the step.
+        count: usize,
+    },
+    /// Any other solver error (see [`IntegrationFailure::reason`]).
+    Other,
+}
+
+/// The state component that changed fastest relative to its error weight when an
+/// integration failed: the largest |dy_i/dt| / (atol_i + rtol |y_i|).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FastestComponent {
+    /// Species index (mechanism order), or `None` for the temperature state.
+    pub index: Option<usize>,
+    /// Its value (mol/m3, or K for the temperature).
+    pub value: f64,
+    /// Its time derivative (mol/(m3 s), or K/s).
+    pub rate_per_s: f64,
+    /// Its absolute tolerance (mol/m3 or K).
+    pub absolute_tolerance: f64,
+    /// |rate| / (atol + rtol |value|): tolerance units per second (1/s).
+    pub relative_rate_per_s: f64,
+}
+
+/// An integration that stopped before its end: the solver reported an error.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("integration failed at t = {time_s:e} s: {reason}")]
+pub struct IntegrationFailure {
+    /// Time reached (s): the end of the last accepted step.
+    pub time_s: f64,
+    /// What happened, in words.
+    pub reason: String,
+    /// What happened, as a kind.
+    pub kind: FailureKind,
+    /// The component changing fastest relative to its tolerance at the failure; see
+    /// [`IntegrationFailure::advice`] for a user-facing explanation with species names.
+    pub fastest: Option<FastestComponent>,
+    /// The output rows produced before the failure (for [`BatchIntegrator`](crate::BatchIntegrator), the single row
+    /// of the state at `time_s`), with the statistics up to the failure.
+    pub partial: Profiles,
+    /// The solver's own error, when the solver reported one.
+    #[source]
+    pub source: Option<SolverError>,
+}
+
+/// An error of the diffsol solver, kept typed as the source of [`ReactorError::Setup`] and
+/// [`IntegrationFailure`](crate::IntegrationFailure). Two are equal when their messages are (diffsol's error type does
+/// not compare).
+#[derive(Debug, Clone, thiserror::Error)]
+#[error(transparent)]
+pub struct SolverError(std::sync::Arc<diffsol::error::DiffsolError>);
+
+impl SolverError {
+    pub(crate) fn new(error: diffsol::error::DiffsolError) -> Self {
+        SolverError(std::sync::Arc::new(error))
+    }
+
+    /// diffsol's error.
+    pub fn diffsol_error(&self) -> &diffsol::error::DiffsolError {
+        &self.0
+    }
+}
+
+impl PartialEq for SolverError {
+    fn eq(&self, other: &Self) -> bool {
+        self.0.to_string() == other.0.to_string()
+    }
+}
+
+/// A bad argument: nothing was integrated.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ReactorError {
+    /// The Newton tolerance is not a positive finite number.
+    #[error("Newton tolerance must be positive and finite, got {0}")]
+    BadNewtonTolerance(f64),
+    /// A per-species vector has the wrong length.
+    #[error("{what} has {found} values but the mechanism has {expected} species")]
+    WrongLength {
+        /// Which argument.
+        what: &'static str,
+        /// Number of species.
+        expected: usize,
+        /// Length given.
+        found: usize,
+    },
+    /// A concentration is NaN or infinite.
+    #[error("{what}: concentration of species {species} is not finite ({value} mol/m3)")]
+    NonFiniteConcentration {
+        /// Which argument.
+        what: &'static str,
+        /// Species index.
+        species: usize,
+        /// The offending value (mol/m3).
+        value: f64,
+    },
+    /// No output times were given.
+    #[error("no output times given")]
+    NoOutputTimes,
+    /// Output times are not finite and strictly increasing.
+    #[error("output times must be finite and strictly increasing: t[{index}] = {value} s")]
+    OutputTimesNotIncreasing {
+        /// Index of the first offending time.
+        index: usize,
+        /// Its value (s).
+        value: f64,
+    },
+    /// A requested time lies before the integrator's current time (or is not finite).
+    #[error("cannot advance to t = {requested_s} s: the integrator is at t = {current_s} s")]
+    TimeNotAhead {
+        /// Requested time (s).
+        requested_s: f64,
+        /// Current time (s).
+        current_s: f64,
+    },
+    /// The temperature is not finite and positive.
+    #[error("temperature must be finite and positive, got {0} K")]
+    BadTemperature(f64),
+    /// The relative tolerance is not finite and positive.
+    #[error("relative tolerance must be finite and positive, got {0}")]
+    BadRelativeTolerance(f64),
+    /// An absolute tolerance is not finite and positive.
+    #[error(
+        "absolute tolerance of species {species} must be finite and positive, got {value} mol/m3"
+    )]
+    BadAbsoluteTolerance {
+        /// Species index.
+        species: usize,
+        /// The offending value (mol/m3).
+        value: f64,
+    },
+    /// `max_steps` is zero.
+    #[error("max_steps must be at least 1")]
+    NoSteps,
+    /// The kinetics' Jacobian pattern is malformed (a defect of the kinetics compiler).
+    #[error("the Jacobian pattern of the kinetics is malformed")]
+    BadPattern,
+    /// A [`Profiles`] whose vectors disagree in length (see [`Profiles::validate`]).
+    #[error("inconsistent profiles: {what} has {found} entries, expected {expected}")]
+    InconsistentProfiles {
+        /// Which vector.
+        what: &'static str,
+        /// Expected length (the number of output times, or of species for a row).
+        expected: usize,
+        /// Length found.
+        found: usize,
+    },
+    /// An index argument names a species the mechanism does not have.
+    #[error(
+        "{what}: species index {species} is out of range (the mechanism has {n_species} species)"
+    )]
+    SpeciesOutOfRange {
+        /// Which argument.
+        what: &'static str,
+        /// The offending species index.
+        species: usize,
+        /// Number of species of the mechanism.
+        n_species: usize,
+    },
+    /// A prescribed temperature history is malformed.
+    #[error("bad temperature history: {0}")]
+    BadTemperatureHistory(String),
+    /// The energy balance needs thermochemistry for every species.
+    #[error("species {species} has no thermochemistry, which the energy balance needs")]
+    MissingThermo {
+        /// Species index.
+        species: usize,
+    },
+    /// Box conditions are malformed or combined with a model that cannot take them.
+    #[error("bad box conditions: {0}")]
+    BadBoxConditions(String),
+    /// The temperature follows a prescribed history and cannot be set.
+    #[error("the temperature follows a prescribed history and cannot be set")]
+    TemperaturePrescribed,
+    /// diffsol refused to set the problem up.
+    #[error("could not set up the solver: {0}")]
+    Setup(#[source] SolverError),
+}
+
+/// Why an integration did not return profiles.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum IntegrationError {
+    /// Bad arguments; nothing was integrated.
+    #[error(transparent)]
+    InvalidArgument(#[from] ReactorError),
+    /// The solver failed part way; the failure carries the partial profile.
+    #[error(transparent)]
+    Failed(Box<IntegrationFailure>),
+}
+
+impl From<IntegrationFailure> for IntegrationError {
+    fn from(failure: IntegrationFailure) -> Self {
+        IntegrationError::Failed(Box::new(failure))
+    }
+}
+
+impl IntegrationError {
+    /// The solver failure, if this is one.
+    pub fn failure(&self) -> Option<&IntegrationFailure> {
+        match self {
+            IntegrationError::Failed(failure) => Some(failure),
+            IntegrationError::InvalidArgument(_) => None,
+        }
+    }
+}

@@ -108,12 +108,13 @@ struct Row {
 fn records(text: &str, file: &str, diagnostics: &mut Diagnostics) -> Vec<Row> {
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let mut rows = Vec::new();
+    let mut splitter = LineSplitter::new();
     for (index, line) in text.lines().enumerate() {
         let trimmed = line.trim();
         if trimmed.is_empty() || trimmed.starts_with('#') {
             continue;
         }
-        match split_fields(line) {
+        match splitter.split(line) {
             Ok(fields) => rows.push(Row {
                 line: index + 1,
                 fields,
@@ -124,18 +125,60 @@ fn records(text: &str, file: &str, diagnostics: &mut Diagnostics) -> Vec<Row> {
     rows
 }
 
-/// Splits one line into fields with the `csv` crate.
-fn split_fields(line: &str) -> Result<Vec<Field>, String> {
-    let mut reader = csv::ReaderBuilder::new()
-        .has_headers(false)
-        .flexible(true)
-        .from_reader(line.as_bytes());
-    let mut record = csv::StringRecord::new();
-    match reader.read_record(&mut record) {
-        Ok(_) => Ok(located_fields(line, &record)),
-        Err(e) => Err(format!(
-            "the line is not readable as comma-separated values: {e}"
-        )),
+/// Splits lines into fields with `csv-core` (the parser under the `csv` crate), one line at a
+/// time so that every field keeps its line; the parser is built once per file (building one
+/// per line took most of the time on large files).
+struct LineSplitter {
+    reader: csv_core::Reader,
+    output: Vec<u8>,
+    ends: Vec<usize>,
+}
+
+impl LineSplitter {
+    fn new() -> Self {
+        LineSplitter {
+            reader: csv_core::ReaderBuilder::new().build(),
+            output: Vec::new(),
+            ends: Vec::new(),
+        }
+    }
+
+    /// The fields of `line`, each with its column.
+    fn split(&mut self, line: &str) -> Result<Vec<Field>, String> {
+        use csv_core::ReadRecordResult;
+        self.reader.reset();
+        // A record's unescaped text is never longer than the line, and it has at most one
+        // field more than the line has bytes.
+        self.output.resize(line.len() + 1, 0);
+        self.ends.resize(line.len() + 2, 0);
+        let mut input = line.as_bytes();
+        let (mut out_at, mut ends_at) = (0, 0);
+        loop {
+            let (result, read, written, ended) = self.reader.read_record(
+                input,
+                &mut self.output[out_at..],
+                &mut self.ends[ends_at..],
+            );
+            input = &input[read..];
+            out_at += written;
+            ends_at += ended;
+            match result {
+                // The line is all given: an empty call ends the record.
+                ReadRecordResult::InputEmpty => continue,
+                ReadRecordResult::Record | ReadRecordResult::End => break,
+                ReadRecordResult::OutputFull | ReadRecordResult::OutputEndsFull => {
+                    return Err("the line is not readable as comma-separated values".to_string())
+                }
+            }
+        }
+        let mut start = 0;
+        let mut contents = Vec::with_capacity(ends_at);
+        for &end in &self.ends[..ends_at] {
+            let bytes = self.output.get(start..end).unwrap_or_default();
+            contents.push(String::from_utf8_lossy(bytes).into_owned());
+            start = end;
+        }
+        Ok(located_fields(line, &csv::StringRecord::from(contents)))
     }
 }
 

@@ -326,9 +326,9 @@ fn energetics_reports_the_heat_of_reaction_from_thermochemistry() {
     assert!(row.contains("exothermic"));
 }
 
-#[test]
-fn a_run_outside_a_species_thermo_range_is_warned_about() {
-    let dir = scratch("range");
+/// Writes `h2.toml` in `dir`: H2 <=> H + H with the bundled NASA-7 thermochemistry (fitted
+/// to NIST-JANAF from 200 to 6000 K).
+fn write_h2_dissociation(dir: &std::path::Path) {
     let thermo = repo().join("mechanisms/thermo/janaf-nasa7.toml");
     std::fs::write(
         dir.join("h2.toml"),
@@ -341,6 +341,12 @@ fn a_run_outside_a_species_thermo_range_is_warned_about() {
         ),
     )
     .unwrap();
+}
+
+#[test]
+fn a_run_outside_a_species_thermo_range_is_warned_about() {
+    let dir = scratch("range");
+    write_h2_dissociation(&dir);
     std::fs::write(
         dir.join("hot.scenario.toml"),
         "stoik_scenario = 1\nmechanism = \"h2.toml\"\n[reactor]\ntemperature = \"7000 K\"\n\
@@ -365,18 +371,7 @@ fn a_run_outside_a_species_thermo_range_is_warned_about() {
 #[test]
 fn batch_prints_the_warnings_run_prints() {
     let dir = scratch("batch-warnings");
-    let thermo = repo().join("mechanisms/thermo/janaf-nasa7.toml");
-    std::fs::write(
-        dir.join("h2.toml"),
-        format!(
-            "stoik_mechanism = 1\nthermo_files = [\"{}\"]\n[units]\nlength = \"m\"\n\
-             [[species]]\nname = \"H2\"\natoms = {{ H = 2 }}\n\
-             [[species]]\nname = \"H\"\natoms = {{ H = 1 }}\n\
-             [[step]]\nequation = \"H2 <=> H + H\"\nforward = {{ prefactor = 1.0 }}\n",
-            thermo.display()
-        ),
-    )
-    .unwrap();
+    write_h2_dissociation(&dir);
     std::fs::write(
         dir.join("hot.scenario.toml"),
         "stoik_scenario = 1\nmechanism = \"h2.toml\"\n[reactor]\ntemperature = \"7000 K\"\n\

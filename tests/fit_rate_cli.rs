@@ -141,12 +141,12 @@ fn bad_input_exits_2_with_located_messages() {
         (
             "onepoint.csv",
             "temperature [K], rate_constant [s-1]\n300, 1.0\n",
-            &["onepoint.csv: error: 1 data point(s) cannot determine 2 parameters"],
+            &["onepoint.csv:2:1: error: 1 data point(s) (line 2) cannot determine 2 parameters"],
         ),
         (
             "same-t.csv",
             "temperature [K], rate_constant [s-1]\n300, 1.0\n300, 1.2\n300, 0.9\n",
-            &["same-t.csv: error: the points are at 1 distinct temperature(s) (300 K)"],
+            &["same-t.csv:2:1: error: the points (lines 2-4) are at 1 distinct temperature(s) (300 K)"],
         ),
         (
             "badunit.csv",

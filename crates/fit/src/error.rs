@@ -34,10 +34,12 @@ pub enum RateFitError {
         reason: String,
     },
     /// Too few points for the model.
-    #[error("{points} data point(s) cannot determine {parameters} parameters: at least {needed} are needed{}", if *weighted { "" } else { " (one more than the parameters, to estimate the scatter; or give an `uncertainty` column)" })]
+    #[error("{points} data point(s) ({}) cannot determine {parameters} parameters: at least {needed} are needed{}", line_list(lines), if *weighted { "" } else { " (one more than the parameters, to estimate the scatter; or give an `uncertainty` column)" })]
     TooFewPoints {
         /// Number of points.
         points: usize,
+        /// 1-based lines of the points in the data file.
+        lines: Vec<usize>,
         /// Number needed.
         needed: usize,
         /// Number of parameters.
@@ -46,8 +48,10 @@ pub enum RateFitError {
         weighted: bool,
     },
     /// Too few distinct temperatures for the model.
-    #[error("the points are at {distinct} distinct temperature(s) ({}): a {parameters}-parameter fit needs at least {parameters}", temperatures_k.iter().map(|t| format!("{t} K")).collect::<Vec<_>>().join(", "))]
+    #[error("the points ({}) are at {distinct} distinct temperature(s) ({}): a {parameters}-parameter fit needs at least {parameters}", line_list(lines), temperatures_k.iter().map(|t| format!("{t} K")).collect::<Vec<_>>().join(", "))]
     TooFewTemperatures {
+        /// 1-based lines of the points in the data file.
+        lines: Vec<usize>,
         /// Number of distinct temperatures.
         distinct: usize,
         /// Number of parameters.
@@ -66,19 +70,28 @@ pub enum RateFitError {
     BadOption(String),
     /// A fitted value to be written in the mechanism snippet is NaN or infinite (e.g. a
     /// prefactor beyond the range of `f64`); stoik writes finite numbers only.
-    #[error("the fitted {quantity} is {value}, not a finite number; no snippet is written")]
+    #[error(
+        "the fitted {quantity} is {value}, not a finite number{}; no snippet is written",
+        driver_text(driver)
+    )]
     NonFinite {
         /// Which value (`prefactor`, `temperature_exponent`, `activation_energy`).
         quantity: String,
+        /// The point whose rate constant drives the value out of range (the largest measured
+        /// k for an overflow), when the fit has points.
+        driver: Option<Driver>,
         /// The value (NaN or infinite), in the snippet's units.
         value: f64,
     },
     /// A fitted value that must be positive in the mechanism snippet is not (e.g. a
     /// prefactor that underflows to 0 in the snippet's units).
-    #[error("the fitted {quantity} is {value:e} in the snippet's units, not positive (it underflows); no snippet is written")]
+    #[error("the fitted {quantity} is {value:e} in the snippet's units, not positive (it underflows){}; no snippet is written", driver_text(driver))]
     NotPositive {
         /// Which value (`prefactor`).
         quantity: String,
+        /// The point whose rate constant drives the value out of range (the smallest measured
+        /// k for an underflow), when the fit has points.
+        driver: Option<Driver>,
         /// The value (zero or negative), in the snippet's units.
         value: f64,
     },
@@ -94,4 +107,67 @@ pub enum RateFitError {
     /// failed).
     #[error("cannot draw the plot: {0}")]
     Plot(String),
+}
+
+/// The data point that drives a fitted value out of the range of `f64`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Driver {
+    /// 1-based line of the point in the data file.
+    pub line: usize,
+    /// Its measured rate constant in SI, (m3/mol)^(m-1)/s.
+    pub rate_constant_si: f64,
+}
+
+impl RateFitError {
+    /// The 1-based line of the data file to look at first, for errors about the data set as a
+    /// whole (too few points or temperatures, a fitted value out of range); `None` for the
+    /// others (`Invalid` locates each of its problems itself).
+    pub fn line(&self) -> Option<usize> {
+        match self {
+            RateFitError::TooFewPoints { lines, .. }
+            | RateFitError::TooFewTemperatures { lines, .. } => lines.first().copied(),
+            RateFitError::NonFinite { driver, .. } | RateFitError::NotPositive { driver, .. } => {
+                driver.map(|d| d.line)
+            }
+            _ => None,
+        }
+    }
+}
+
+/// `line 4`, `lines 2-3` or `lines 2, 5-7, 9` (runs of consecutive lines joined); `no rows`
+/// when empty.
+fn line_list(lines: &[usize]) -> String {
+    let mut runs: Vec<(usize, usize)> = Vec::new();
+    for &l in lines {
+        match runs.last_mut() {
+            Some((_, end)) if l == *end + 1 => *end = l,
+            _ => runs.push((l, l)),
+        }
+    }
+    let text: Vec<String> = runs
+        .iter()
+        .map(|&(a, b)| {
+            if a == b {
+                a.to_string()
+            } else {
+                format!("{a}-{b}")
+            }
+        })
+        .collect();
+    match lines.len() {
+        0 => "no rows".to_string(),
+        1 => format!("line {}", text[0]),
+        _ => format!("lines {}", text.join(", ")),
+    }
+}
+
+/// `, driven by the rate constant 1e300 (SI) at line 7` or nothing.
+fn driver_text(driver: &Option<Driver>) -> String {
+    match driver {
+        Some(d) => format!(
+            ", driven by the rate constant {:e} (SI) at line {}",
+            d.rate_constant_si, d.line
+        ),
+        None => String::new(),
+    }
 }

@@ -169,6 +169,7 @@ fn check_point_count(data: &RateData, model: Model, weighted: bool) -> Result<()
     if n < needed {
         return Err(RateFitError::TooFewPoints {
             points: n,
+            lines: data.points.iter().map(|q| q.line).collect(),
             needed,
             parameters: p,
             weighted,
@@ -185,6 +186,7 @@ fn check_distinct_temperatures(data: &RateData, model: Model) -> Result<(), Rate
     temperatures.dedup();
     if temperatures.len() < p {
         return Err(RateFitError::TooFewTemperatures {
+            lines: data.points.iter().map(|q| q.line).collect(),
             distinct: temperatures.len(),
             parameters: p,
             temperatures_k: temperatures,

@@ -64,7 +64,7 @@ mod units;
 mod warnings;
 
 pub use data::{RateData, RatePoint, UncertaintyKind};
-pub use error::RateFitError;
+pub use error::{Driver, RateFitError};
 pub use fit::{
     fit_rate_constants, CONFIDENCE_RANGE, DATA_TEMPERATURE_RANGE_K, LN_UNCERTAINTY_RANGE,
     REFERENCE_TEMPERATURE_RANGE_K,

@@ -1,6 +1,7 @@
 //! The fitted step as a `[[step]]` table of the mechanism format.
 
-use crate::{Model, RateFit, RateFitError};
+use crate::error::Driver;
+use crate::{Model, RateFit, RateFitError, Residual};
 use std::fmt::Write as _;
 use stoik_mechanism::parse_equation;
 use stoik_mechanism::{AmountUnit, EnergyUnit, LengthUnit, RateUnits, TimeUnit};
@@ -34,9 +35,13 @@ pub fn mechanism_snippet(fit: &RateFit, equation: Option<&str>) -> Result<String
     let prefactor = fit.prefactor_si() / units.prefactor_to_si(1.0, order as f64);
     let forward = format!(
         "forward = {{ prefactor = {}, temperature_exponent = {}, activation_energy = {} }}",
-        number("prefactor", positive("prefactor", prefactor)?)?,
-        number("temperature_exponent", fit.temperature_exponent())?,
-        number("activation_energy", fit.activation_energy_j_per_mol() / 1e3)?
+        number(fit, "prefactor", positive(fit, "prefactor", prefactor)?)?,
+        number(fit, "temperature_exponent", fit.temperature_exponent())?,
+        number(
+            fit,
+            "activation_energy",
+            fit.activation_energy_j_per_mol() / 1e3
+        )?
     );
     let (amount, length, time) = unit_names(&units);
     let (t_min, t_max) = fit.temperature_range_k;
@@ -177,22 +182,40 @@ fn note(fit: &RateFit) -> String {
 
 /// `value` when it is positive; [`RateFitError::NotPositive`] otherwise (a prefactor that
 /// underflows to 0 in the snippet's units would not load back).
-fn positive(quantity: &str, value: f64) -> Result<f64, RateFitError> {
+fn positive(fit: &RateFit, quantity: &str, value: f64) -> Result<f64, RateFitError> {
     if value > 0.0 || value.is_nan() {
         Ok(value)
     } else {
         Err(RateFitError::NotPositive {
             quantity: quantity.to_string(),
+            driver: extreme_point(fit, false),
             value,
         })
     }
 }
 
+/// The point with the largest (`largest`) or smallest measured rate constant: the one that
+/// pushes a fitted prefactor furthest up or down.
+fn extreme_point(fit: &RateFit, largest: bool) -> Option<Driver> {
+    let by_k = |a: &&Residual, b: &&Residual| a.measured_si.total_cmp(&b.measured_si);
+    let point = if largest {
+        fit.residuals.iter().max_by(by_k)
+    } else {
+        fit.residuals.iter().min_by(by_k)
+    };
+    point.map(|r| Driver {
+        line: r.line,
+        rate_constant_si: r.measured_si,
+    })
+}
+
 /// `value` in the snippet's number form ([`toml_float`]: the shortest digits that read back
 /// as the same `f64`); [`RateFitError::NonFinite`] for NaN and infinities.
-fn number(quantity: &str, value: f64) -> Result<String, RateFitError> {
+fn number(fit: &RateFit, quantity: &str, value: f64) -> Result<String, RateFitError> {
     toml_float(value).ok_or_else(|| RateFitError::NonFinite {
         quantity: quantity.to_string(),
+        // An overflow (+inf) comes from the largest rate constants, -inf from the smallest.
+        driver: extreme_point(fit, value > 0.0 || value.is_nan()),
         value,
     })
 }

@@ -296,13 +296,13 @@ fn bad_input_gets_clear_located_errors() {
     let err = fit_rate_constants(&data, &FitOptions::default()).unwrap_err();
     assert_eq!(
         messages(err),
-        "the points are at 1 distinct temperature(s) (700 K): a 2-parameter fit needs at least 2"
+        "the points (lines 2-4) are at 1 distinct temperature(s) (700 K): a 2-parameter fit needs at least 2"
     );
     // One point.
     let data =
         parse_rate_data("temperature [K], rate_constant [s-1]\n700, 1.0\n", "o.csv").unwrap();
     let err = fit_rate_constants(&data, &FitOptions::default()).unwrap_err();
-    assert!(messages(err).starts_with("1 data point(s) cannot determine 2 parameters"));
+    assert!(messages(err).starts_with("1 data point(s) (line 2) cannot determine 2 parameters"));
     // Bad uncertainty factor and field count.
     let err = parse_rate_data(
         "temperature [K], rate_constant [s-1], uncertainty [factor]\n700, 1.0, 0.5\n710, 2\n",
@@ -721,6 +721,7 @@ fn hand_built_values_give_errors_not_panics() {
         fit_rate_constants(&empty, &FitOptions::default()),
         Err(RateFitError::TooFewPoints {
             points: 0,
+            lines: vec![],
             needed: 3,
             parameters: 2,
             weighted: false
@@ -877,6 +878,14 @@ fn non_finite_fits_are_not_written_or_plotted() {
     assert!(fit.prefactor_si().is_infinite());
     let err = mechanism_snippet(&fit, None).unwrap_err();
     assert!(matches!(err, RateFitError::NonFinite { ref quantity, .. } if quantity == "prefactor"));
+    // The largest k (700 K, the fourth point, line 5) drives the overflow, and the error is
+    // located there.
+    assert_eq!(err.line(), Some(5));
+    assert!(
+        err.to_string().contains("driven by the rate constant")
+            && err.to_string().contains("at line 5"),
+        "{err}"
+    );
     let svg = svg_plot(&fit).unwrap();
     assert_eq!(markers(&svg).len(), 4 + 1);
 }
@@ -996,6 +1005,50 @@ fn a_prefactor_that_underflows_is_not_written() {
     let err = mechanism_snippet(&fit, None).unwrap_err();
     assert!(
         matches!(err, RateFitError::NotPositive { ref quantity, .. } if quantity == "prefactor")
+    );
+    // The smallest k (ln k = -456 at 700 K, line 5) drives the underflow.
+    assert_eq!(err.line(), Some(5));
+}
+
+#[test]
+fn conclusions_about_the_whole_data_set_name_the_rows() {
+    // Two points cannot fix three parameters (modified Arrhenius) with one left to estimate the
+    // scatter (common practice: n - p degrees of freedom); every point at one temperature
+    // cannot separate A from Ea.
+    let unit = RateConstantUnit::parse("s-1").unwrap();
+    let two = synthetic(&[500.0, 600.0], 20.0, 0.0, 50_000.0, |_| (0.0, None));
+    let options = FitOptions {
+        model: Model::ModifiedArrhenius,
+        ..FitOptions::default()
+    };
+    let err = fit_rate_constants(&two, &options).unwrap_err();
+    assert_eq!(err.line(), Some(2));
+    assert!(
+        err.to_string()
+            .starts_with("2 data point(s) (lines 2-3) cannot determine 3"),
+        "{err}"
+    );
+    let same = RateData {
+        source: "same".to_string(),
+        rate_constant_unit: unit,
+        uncertainty: None,
+        points: [4, 5, 9]
+            .iter()
+            .map(|&line| RatePoint {
+                temperature_k: 800.0,
+                rate_constant_si: 1e3,
+                ln_uncertainty: None,
+                pressure_pa: None,
+                line,
+            })
+            .collect(),
+    };
+    let err = fit_rate_constants(&same, &FitOptions::default()).unwrap_err();
+    assert_eq!(err.line(), Some(4));
+    assert!(
+        err.to_string()
+            .starts_with("the points (lines 4-5, 9) are at 1 distinct temperature(s) (800 K)"),
+        "{err}"
     );
 }
 

@@ -64,13 +64,18 @@ pub fn fit_rate(args: &FitRateArgs) -> Result<(), CliError> {
         confidence: args.confidence,
         reference_temperature_k: args.reference_temperature_k,
     };
+    // Conclusions about the data set as a whole are located at the row to look at first.
+    let at = |e: &RateFitError| match e.line() {
+        Some(line) => format!("{label}:{line}:1: error: "),
+        None => format!("{label}: error: "),
+    };
     let fit = fit_rate_constants(&data, &options).map_err(|e| match e {
         RateFitError::BadOption(_) => CliError::fit("error: ", e),
-        _ => CliError::fit(format!("{label}: error: "), e),
+        _ => CliError::fit(at(&e), e),
     })?;
     let snippet = mechanism_snippet(&fit, args.equation.as_deref()).map_err(|e| match e {
         RateFitError::Equation { .. } => CliError::fit("error: --equation: ", e),
-        _ => CliError::fit(format!("{label}: error: "), e),
+        _ => CliError::fit(at(&e), e),
     })?;
     let plot = args
         .svg

@@ -112,6 +112,51 @@ fn check_refuses_a_rate_constant_that_overflows_in_the_checked_range() {
 }
 
 #[test]
+fn check_and_run_refuse_a_rate_constant_that_overflows_at_the_scenarios_temperature() {
+    // k = 1e-50 T^100 s-1: log10 k = -50 + 100 log10 T is 304.4 at 3500 K (finite, so the
+    // mechanism alone passes the 200-3500 K check) and 319.9 at 5000 K, past DBL_MAX
+    // (IEEE 754 binary64, about 1.8e308). A scenario at 5000 K is refused by `check` and by
+    // `run` (exit 2, before integrating), at the step's header (line 10), the same way.
+    let dir = scratch("check", "hot");
+    std::fs::write(
+        dir.join("hot.toml"),
+        "stoik_mechanism = 1\n[units]\namount = \"mol\"\nlength = \"m\"\ntime = \"s\"\n\
+         [[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n[[step]]\nequation = \"A -> B\"\n\
+         forward = { prefactor = 1e-50, temperature_exponent = 100 }\n",
+    )
+    .expect("written");
+    std::fs::write(
+        dir.join("hot.scenario.toml"),
+        "stoik_scenario = 1\nmechanism = \"hot.toml\"\n[reactor]\ntemperature = \"5000 K\"\n\
+         [initial]\nconcentrations = { A = 1 }\n[output]\nend_time = \"1 s\"\n",
+    )
+    .expect("written");
+    let out = stoik(&["check", "hot.toml"], &dir);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let expected = "hot.toml:10:1: error: forward rate constant of step `A -> B` is inf at 5000 K";
+    for args in [
+        &["check", "hot.scenario.toml"][..],
+        &["run", "hot.scenario.toml", "-o", "hot.csv"][..],
+    ] {
+        let out = stoik(args, &dir);
+        assert_eq!(
+            out.status.code(),
+            Some(2),
+            "{args:?}: {}",
+            text(&out.stderr)
+        );
+        let err = text(&out.stderr);
+        assert!(err.contains(expected), "{args:?}: {err}");
+        assert!(
+            err.contains("the scenario runs at 5000 K"),
+            "{args:?}: {err}"
+        );
+    }
+    assert!(!dir.join("hot.csv").exists());
+    assert!(!dir.join("hot.partial.csv").exists());
+}
+
+#[test]
 fn energetics_refuses_temperatures_outside_the_range_and_names_overflows_in_words() {
     // The documented temperature range is 1 K to 1e5 K (the scenario range). At 1 K the
     // equilibrium constant of H2 + OH <=> H2O + H, exp(-dG/(R T)) with dG = -61.85 kJ/mol, is

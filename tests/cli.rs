@@ -197,6 +197,21 @@ fn failed_integration_exits_3_and_keeps_the_partial_profile() {
     assert_eq!(out.status.code(), Some(3), "{}", text(&out.stderr));
     let err = text(&out.stderr);
     assert!(err.contains("integration failed at t ="), "{err}");
+    // The advice names the step that drives the fastest species by its equation as written
+    // in robertson.toml (one of its three steps).
+    let mechanism = std::fs::read_to_string(dir.join("robertson.toml")).unwrap();
+    let named = err
+        .lines()
+        .find_map(|l| l.strip_prefix("step driving "))
+        .unwrap_or_else(|| panic!("no driving step in {err}"));
+    let equation = named
+        .split('`')
+        .nth(1)
+        .unwrap_or_else(|| panic!("no equation in {named}"));
+    assert!(
+        mechanism.contains(&format!("\"{equation}\"")),
+        "{equation} not in robertson.toml"
+    );
     // The partial profile goes beside the requested output (issue 12: a failed run never
     // replaces the output name), `partial.csv` -> `partial.partial.csv`.
     assert!(!dir.join("partial.csv").exists());

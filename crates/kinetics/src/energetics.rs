@@ -277,10 +277,34 @@ pub fn rate_constant_range_errors(
     file_label: &str,
     range_k: (f64, f64),
 ) -> Vec<Diagnostic> {
-    let kinetics = match Kinetics::compile(mechanism) {
-        Ok(kinetics) => kinetics,
-        Err(e) => return vec![Diagnostic::error(file_label, None, e.to_string())],
-    };
+    match Kinetics::compile(mechanism) {
+        Ok(kinetics) => {
+            compiled_rate_constant_range_errors(&kinetics, mechanism, file_label, range_k)
+        }
+        Err(e) => vec![Diagnostic::error(file_label, None, e.to_string())],
+    }
+}
+
+/// [`rate_constant_range_errors`] with the mechanism already compiled: `kinetics` must come
+/// from `mechanism` (a process model that runs many plans of one mechanism compiles it
+/// once). A range of one temperature (`low == high`) checks that temperature alone.
+pub fn compiled_rate_constant_range_errors(
+    kinetics: &Kinetics,
+    mechanism: &Mechanism,
+    file_label: &str,
+    range_k: (f64, f64),
+) -> Vec<Diagnostic> {
+    if kinetics.n_steps() != mechanism.steps.len() {
+        return vec![Diagnostic::error(
+            file_label,
+            None,
+            format!(
+                "the compiled kinetics has {} steps but the mechanism {}: they are not the same mechanism",
+                kinetics.n_steps(),
+                mechanism.steps.len()
+            ),
+        )];
+    }
     let (low, high) = range_k;
     let n = RATE_CHECK_POINTS.max(2);
     let mut k = kinetics.rate_constants(high);
@@ -330,8 +354,9 @@ pub fn rate_constant_range_errors(
                     file_label,
                     step.location,
                     format!(
-                        "{direction} rate constant of step `{}` is {value} at {t} K{why}; rate constants must be finite from {low} K to {high} K",
-                        step.equation
+                        "{direction} rate constant of step `{}` is {value} at {t} K{why}; rate constants must be finite {}",
+                        step.equation,
+                        if low == high { format!("at {low} K") } else { format!("from {low} K to {high} K") }
                     ),
                 )
                 .with_help("check the prefactor, the temperature exponent and the sign and units of the activation energy"),

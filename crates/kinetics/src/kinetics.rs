@@ -106,17 +106,31 @@ impl CompiledArrhenius {
         if self.activation_temperature_k != 0.0 {
             k *= (-self.activation_temperature_k / temperature_k).exp();
         }
-        k
+        if k.is_finite() && k != 0.0 {
+            k
+        } else {
+            // A factor over- or underflowed on its own (1e-50 x 3500^100): the product in
+            // logarithms, which is finite whenever k is.
+            self.evaluate_log(temperature_k.ln(), 1.0 / temperature_k)
+        }
     }
 
     /// k from ln T and 1/T computed once per temperature: A exp(n ln T - (Ea/R)/T).
+    ///
+    /// When exp(n ln T - (Ea/R)/T) alone over- or underflows (a tiny prefactor times a huge
+    /// temperature factor, or the reverse), k is formed as exp(ln A + n ln T - (Ea/R)/T),
+    /// finite whenever k itself is.
     #[inline]
     pub(crate) fn evaluate_log(&self, ln_t: f64, inv_t: f64) -> f64 {
         let exponent = self.temperature_exponent * ln_t - self.activation_temperature_k * inv_t;
         if exponent == 0.0 {
-            self.pre_exponential_si
+            return self.pre_exponential_si;
+        }
+        let factor = exponent.exp();
+        if (factor.is_finite() && factor >= f64::MIN_POSITIVE) || self.pre_exponential_si <= 0.0 {
+            self.pre_exponential_si * factor
         } else {
-            self.pre_exponential_si * exponent.exp()
+            (self.pre_exponential_si.ln() + exponent).exp()
         }
     }
 
@@ -593,6 +607,34 @@ impl Kinetics {
             let (fwd, rev) = self.directional_rates(k, j, c);
             *qj = self.third_body_concentration(k, j, c, total) * (fwd - rev);
         }
+    }
+
+    /// The terms of species `species`' net production rate at rate constants `k` and
+    /// concentrations `c` (mol/m3): `(step, nu q)` for every step whose net coefficient `nu`
+    /// for the species is not zero, in step order, with `q` the step's rate of progress;
+    /// mol/(m3 s). They add up to [`production_rates`](Self::production_rates)`[species]`.
+    /// Allocates (meant for diagnosis, e.g. naming the step that drives a failed
+    /// integration); empty for an index out of range.
+    pub fn production_terms(
+        &self,
+        k: &RateConstants,
+        c: &[f64],
+        species: usize,
+    ) -> Vec<(usize, f64)> {
+        if species >= self.n_species || c.len() < self.n_species {
+            return Vec::new();
+        }
+        let mut q = vec![0.0; self.n_steps];
+        self.rates_of_progress(k, c, &mut q);
+        (0..self.n_steps)
+            .filter_map(|j| {
+                self.net
+                    .row(j)
+                    .iter()
+                    .find(|&&(s, _)| s == species)
+                    .map(|&(_, nu)| (j, nu * q[j]))
+            })
+            .collect()
     }
 
     /// Writes the net production rate of every species (mol/(m3 s)) into `w` (length

@@ -53,9 +53,9 @@ pub use validate::CompileError;
 
 // Step energetics and the collision-limit check.
 pub use energetics::{
-    collision_limit_warnings, hard_sphere_rate_constant, rate_constant_range_errors,
-    step_energetics, StepEnergetics, COLLISION_LIMIT_M3_PER_MOL_S, COLLISION_LIMIT_TEMPERATURES_K,
-    RATE_CHECK_POINTS, RATE_CHECK_RANGE_K,
+    collision_limit_warnings, compiled_rate_constant_range_errors, hard_sphere_rate_constant,
+    rate_constant_range_errors, step_energetics, StepEnergetics, COLLISION_LIMIT_M3_PER_MOL_S,
+    COLLISION_LIMIT_TEMPERATURES_K, RATE_CHECK_POINTS, RATE_CHECK_RANGE_K,
 };
 
 // Conservation laws.

@@ -60,3 +60,37 @@ fn a_temperature_exponent_of_100_overflows_at_the_hot_end() {
     let fine = mechanism("prefactor = 1, temperature_exponent = 0, activation_energy = 0");
     assert!(rate_constant_range_errors(&fine, "m.toml", RATE_CHECK_RANGE_K).is_empty());
 }
+
+#[test]
+fn a_tiny_prefactor_times_a_huge_temperature_factor_stays_finite() {
+    // k = 1e-50 T^100 at 3500 K: log10 k = -50 + 100 log10(3500) = 304.4068 (finite), although
+    // 3500^100 = 10^354.4 alone overflows a double (IEEE 754: DBL_MAX about 10^308.25). The
+    // evaluation must not overflow on the way: ln k = ln(1e-50) + 100 ln(3500), exact calculus.
+    let m = mechanism("prefactor = 1e-50, temperature_exponent = 100, activation_energy = 0");
+    assert!(rate_constant_range_errors(&m, "m.toml", RATE_CHECK_RANGE_K).is_empty());
+    let expected = (1e-50f64.ln() + 100.0 * 3500f64.ln()).exp();
+    assert!((expected.log10() - 304.4068).abs() < 1e-4, "{expected:e}");
+    let by_mechanism = m.steps[0].forward.rate_constant(3500.0);
+    let kinetics = stoik_kinetics::Kinetics::compile(&m).expect("compiles");
+    let by_kinetics = kinetics.rate_constants(3500.0).forward[0];
+    for k in [by_mechanism, by_kinetics] {
+        assert!(
+            ((k - expected) / expected).abs() < 1e-12,
+            "{k:e} vs {expected:e}"
+        );
+    }
+    // The same the other way: 1e250 T^-100 at 3500 K is 10^-104.4, though 3500^-100 = 10^-354
+    // underflows alone.
+    let m = mechanism("prefactor = 1e250, temperature_exponent = -100, activation_energy = 0");
+    let expected = (1e250f64.ln() - 100.0 * 3500f64.ln()).exp();
+    let kinetics = stoik_kinetics::Kinetics::compile(&m).expect("compiles");
+    for k in [
+        m.steps[0].forward.rate_constant(3500.0),
+        kinetics.rate_constants(3500.0).forward[0],
+    ] {
+        assert!(
+            ((k - expected) / expected).abs() < 1e-12,
+            "{k:e} vs {expected:e}"
+        );
+    }
+}

@@ -75,7 +75,9 @@ pub struct Arrhenius {
 }
 
 impl Arrhenius {
-    /// Evaluates `k(T)` in SI units at temperature `temperature_k` (K).
+    /// Evaluates `k(T)` in SI units at temperature `temperature_k` (K). Finite whenever k is:
+    /// when a factor over- or underflows on its own (a tiny A times a huge T^n), k is formed in
+    /// logarithms.
     pub fn rate_constant(&self, temperature_k: f64) -> f64 {
         let mut k = self.pre_exponential_si;
         if self.temperature_exponent != 0.0 {
@@ -84,7 +86,16 @@ impl Arrhenius {
         if self.activation_energy_j_per_mol != 0.0 {
             k *= (-self.activation_energy_j_per_mol / (crate::GAS_CONSTANT * temperature_k)).exp();
         }
-        k
+        if k.is_finite() && k != 0.0 || self.pre_exponential_si <= 0.0 || !temperature_k.is_finite()
+        {
+            k
+        } else {
+            // A factor over- or underflowed on its own (1e-50 x 3500^100): the product in
+            // logarithms, finite whenever k itself is.
+            (self.pre_exponential_si.ln() + self.temperature_exponent * temperature_k.ln()
+                - self.activation_energy_j_per_mol / (crate::GAS_CONSTANT * temperature_k))
+                .exp()
+        }
     }
 }
 

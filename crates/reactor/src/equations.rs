@@ -20,7 +20,7 @@ use stoik_thermo::Nasa7;
 use crate::fixed_lu::FixedPatternSolver;
 use crate::model::{state_pattern, Constraint, Energy, ModelEquations, ModelScratch, ReactorModel};
 use crate::watch::Quantity;
-use crate::ReactorError;
+use crate::{DrivingStep, ReactorError};
 
 /// A host linear-algebra backend: how to see diffsol's vectors as slices and how to write
 /// the analytic Jacobian into its matrix type.
@@ -278,6 +278,48 @@ impl<M: Backend> BatchEquations<M> {
         }
         let n = self.kinetics.n_species();
         self.model.conditions.apply_to_rhs(&y[..n], &mut f[..n]);
+    }
+
+    /// The step with the largest term in species `species`' production rate at
+    /// concentrations `c` (mol/m3), with the rate constants of the last evaluation (call
+    /// [`state_derivative`](Self::state_derivative) at the state first). Allocates
+    /// (diagnosis only).
+    pub(crate) fn driving_step(&self, species: usize, c: &[f64]) -> Option<DrivingStep> {
+        let k = self.rate_constants.borrow();
+        let (index, rate) = self
+            .kinetics
+            .production_terms(&k, c, species)
+            .into_iter()
+            .filter(|(_, r)| !r.is_nan())
+            .max_by(|a, b| a.1.abs().total_cmp(&b.1.abs()))?;
+        let mut effective = vec![0.0; self.kinetics.n_steps()];
+        self.kinetics
+            .effective_forward_rate_constants(&k, c, &mut effective);
+        Some(DrivingStep {
+            index,
+            rate_mol_per_m3_s: rate,
+            forward_rate_constant: effective[index],
+            reverse_rate_constant: k.reverse[index],
+        })
+    }
+
+    /// Steps whose effective forward or reverse rate constant is NaN or infinite at
+    /// concentrations `c` (mol/m3), with the rate constants of the last evaluation.
+    /// Allocates (diagnosis only).
+    pub(crate) fn nonfinite_steps(&self, y: &[f64]) -> Vec<usize> {
+        let n = self.kinetics.n_species();
+        let Some(c) = y.get(..n) else {
+            return Vec::new();
+        };
+        let k = self.rate_constants.borrow();
+        let mut effective = vec![0.0; self.kinetics.n_steps()];
+        self.kinetics
+            .effective_forward_rate_constants(&k, c, &mut effective);
+        (0..self.kinetics.n_steps())
+            .filter(|&j| {
+                !effective[j].is_finite() || !k.forward[j].is_finite() || !k.reverse[j].is_finite()
+            })
+            .collect()
     }
 
     /// Makes the rate constants those at time `t_s` and state `y` (temperature, then the

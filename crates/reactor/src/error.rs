@@ -42,6 +42,28 @@ pub struct FastestComponent {
     pub absolute_tolerance: f64,
     /// |rate| / (atol + rtol |value|): tolerance units per second (1/s).
     pub relative_rate_per_s: f64,
+    /// Whether the component's error weight, atol + rtol |value|, is within a few units of
+    /// round-off of its value (below 8 machine epsilons times |value|): no step can meet
+    /// such a tolerance.
+    pub tolerance_unreachable: bool,
+    /// The step whose term in this species' production rate is the largest in magnitude at
+    /// the failure; `None` for the temperature or when no step involves the species.
+    pub driving_step: Option<DrivingStep>,
+}
+
+/// The step that contributes most to a species' rate of change at a failure.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DrivingStep {
+    /// Step index (mechanism order).
+    pub index: usize,
+    /// Its term nu q in the species' production rate, mol/(m3 s).
+    pub rate_mol_per_m3_s: f64,
+    /// Its effective forward rate constant at the failure (third-body and pressure factors
+    /// included), (m3/mol)^(m-1)/s for forward order m.
+    pub forward_rate_constant: f64,
+    /// Its reverse rate constant at the failure (0 for an irreversible step), SI units of
+    /// its reverse order (third-body factor not included).
+    pub reverse_rate_constant: f64,
 }
 
 /// An integration that stopped before its end: the solver reported an error.
@@ -57,6 +79,9 @@ pub struct IntegrationFailure {
     /// The component changing fastest relative to its tolerance at the failure; see
     /// [`IntegrationFailure::advice`] for a user-facing explanation with species names.
     pub fastest: Option<FastestComponent>,
+    /// Steps whose rate constant (effective forward, with third-body and pressure factors,
+    /// or reverse) is NaN or infinite at the state of the failure, mechanism order.
+    pub nonfinite_steps: Vec<usize>,
     /// The output rows produced before the failure (for [`BatchIntegrator`](crate::BatchIntegrator), the single row
     /// of the state at `time_s`), with the statistics up to the failure.
     pub partial: Profiles,

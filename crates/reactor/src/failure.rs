@@ -10,12 +10,18 @@ use crate::{FailureKind, FastestComponent, IntegrationFailure, SolverError};
 pub(crate) struct Diagnosis {
     pub(crate) kind: FailureKind,
     pub(crate) message: String,
-    pub(crate) fastest: Option<FastestComponent>,
+    /// Boxed: it is large, and the step loop returns a `Diagnosis` as its error.
+    pub(crate) fastest: Option<Box<FastestComponent>>,
+    pub(crate) nonfinite_steps: Vec<usize>,
     pub(crate) source: SolverError,
 }
 
 impl Diagnosis {
-    pub(crate) fn new(error: &DiffsolError, fastest: Option<FastestComponent>) -> Diagnosis {
+    pub(crate) fn new(
+        error: &DiffsolError,
+        fastest: Option<FastestComponent>,
+        nonfinite_steps: Vec<usize>,
+    ) -> Diagnosis {
         let kind = match error {
             DiffsolError::OdeSolverError(e) => match e {
                 OdeSolverError::TooManyTimesteps { num_steps, .. } => {
@@ -54,17 +60,41 @@ impl Diagnosis {
         Diagnosis {
             kind,
             message,
-            fastest,
+            fastest: fastest.map(Box::new),
+            nonfinite_steps,
             source: SolverError::new(error.clone()),
         }
     }
 }
 
 impl IntegrationFailure {
-    /// A paragraph for the user: what happened, which species (named by `species_names`, in
-    /// mechanism order) was changing fastest relative to its tolerance, and what to try.
-    pub fn advice(&self, species_names: &[String]) -> String {
+    /// A paragraph for the user: what happened; which species (named by `species_names`, in
+    /// mechanism order) was changing fastest relative to its tolerance, and which step
+    /// (`step_equations`, mechanism order) drives it; whether a rate constant is NaN or
+    /// infinite or the tolerance cannot be met; and what to try.
+    pub fn advice(&self, species_names: &[String], step_equations: &[String]) -> String {
+        let step_name = |j: usize| {
+            step_equations
+                .get(j)
+                .map(|e| format!("step {} `{e}`", j + 1))
+                .unwrap_or_else(|| format!("step {}", j + 1))
+        };
         let mut lines = Vec::new();
+        if !self.nonfinite_steps.is_empty() {
+            let listed: Vec<String> = self
+                .nonfinite_steps
+                .iter()
+                .take(5)
+                .map(|&j| step_name(j))
+                .collect();
+            let more = self.nonfinite_steps.len().saturating_sub(listed.len());
+            lines.push(format!(
+                "rate constant not finite (NaN or infinite) at the failure: {}{}; no step size can follow it: check that step's parameters and the temperature reached",
+                listed.join(", "),
+                if more > 0 { format!(" and {more} more") } else { String::new() }
+            ));
+        }
+        let mut tolerance_unreachable = false;
         if let Some(f) = &self.fastest {
             let name = match f.index {
                 Some(i) => species_names
@@ -78,6 +108,21 @@ impl IntegrationFailure {
                 "fastest-changing component at the failure: {name} = {:.4e} {unit}, changing at {:.4e} {unit}/s ({:.3e} tolerance units per second; its absolute tolerance is {:.1e} {unit})",
                 f.value, f.rate_per_s, f.relative_rate_per_s, f.absolute_tolerance
             ));
+            if let Some(d) = &f.driving_step {
+                lines.push(format!(
+                    "step driving {name}: {} contributes {:.4e} mol/m3/s (effective forward rate constant {:.4e}, reverse {:.4e}, SI units)",
+                    step_name(d.index),
+                    d.rate_mol_per_m3_s,
+                    d.forward_rate_constant,
+                    d.reverse_rate_constant
+                ));
+            }
+            if f.tolerance_unreachable {
+                tolerance_unreachable = true;
+                lines.push(format!(
+                    "the tolerance of {name} cannot be met: its error weight (absolute tolerance + relative tolerance x |value|) is within round-off of its value"
+                ));
+            }
         }
         let tips: &[&str] = match self.kind {
             FailureKind::StepBudget { .. } => &[
@@ -85,17 +130,20 @@ impl IntegrationFailure {
                 "a budget spent on tiny steps often means an absolute tolerance far below the concentrations that matter: raise it for the species named above",
             ],
             FailureKind::StepSizeTooSmall => &[
-                "check the rate constants of the steps that make or destroy the species named above (units, exponents, a prefactor off by powers of ten)",
+                "check the rate constants of the steps named above (units, exponents, a prefactor off by powers of ten)",
                 "loosen the relative tolerance or raise that species' absolute tolerance (`[solver] absolute_tolerance_for`)",
                 "a concentration driven negative by a fast step can stall the solver: keep non-negativity on (the default)",
             ],
             FailureKind::ErrorTestFailures { .. } | FailureKind::NewtonFailures { .. } => &[
-                "the solution may be changing abruptly here (an ignition, a runaway, a switch in a prescribed history): check the rate constants of the species named above",
+                "the solution may be changing abruptly here (an ignition, a runaway, a switch in a prescribed history): check the rate constants of the steps named above",
                 "try a tighter relative tolerance (smaller steps before the event) or raise that species' absolute tolerance",
                 "with a large mechanism, try `--linear-algebra dense` to rule out the sparse factorization",
             ],
             FailureKind::Other => &["report the input that causes this; it is not a known failure mode"],
         };
+        if tolerance_unreachable {
+            lines.push("try: a relative tolerance of at least 1e-14 (double precision resolves about 2.2e-16 relative)".to_string());
+        }
         lines.extend(tips.iter().map(|t| format!("try: {t}")));
         lines.join("\n")
     }

@@ -516,7 +516,22 @@ where
                 rate_per_s: self.probe_w[i],
                 absolute_tolerance: atol[i],
                 relative_rate_per_s: r,
+                tolerance_unreachable: atol[i] + rtol * y[i].abs()
+                    <= 8.0 * f64::EPSILON * y[i].abs(),
+                driving_step: (i < n)
+                    .then(|| problem.eqn.driving_step(i, &y[..n]))
+                    .flatten(),
             })
+    }
+
+    /// Steps whose effective forward or reverse rate constant is NaN or infinite at the
+    /// current state.
+    fn nonfinite_steps(&mut self) -> Vec<usize> {
+        let t = self.time();
+        let problem = self.solver.problem();
+        let y = M::slice(self.solver.state().y);
+        problem.eqn.state_derivative(t, y, &mut self.probe_w);
+        problem.eqn.nonfinite_steps(y)
     }
 
     /// `quantity` at the current state (no allocation).
@@ -901,7 +916,8 @@ impl BatchSystem {
                 time_s,
                 reason: d.message,
                 kind: d.kind,
-                fastest: d.fastest,
+                fastest: d.fastest.map(|f| *f),
+                nonfinite_steps: d.nonfinite_steps,
                 partial: profiles,
                 source: Some(d.source),
             }
@@ -998,7 +1014,8 @@ impl BatchIntegrator<'_> {
                     time_s,
                     reason: d.message,
                     kind: d.kind,
-                    fastest: d.fastest,
+                    fastest: d.fastest.map(|f| *f),
+                    nonfinite_steps: d.nonfinite_steps,
                     source: Some(d.source),
                     partial: Profiles {
                         times_s: vec![time_s],
@@ -1092,7 +1109,8 @@ impl BatchIntegrator<'_> {
         let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, projections, record, negative, rejections));
         let reason = result.map_err(|e| {
             let fastest = with_stepper!(&mut self.session, s => s.fastest_component());
-            Diagnosis::new(&e, fastest)
+            let nonfinite = with_stepper!(&mut self.session, s => s.nonfinite_steps());
+            Diagnosis::new(&e, fastest, nonfinite)
         });
         most_negative(
             with_stepper!(&self.session, s => s.state()),

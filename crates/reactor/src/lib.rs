@@ -64,7 +64,8 @@ pub use conservation::{
     ROUNDING_PER_STEP,
 };
 pub use error::{
-    FailureKind, FastestComponent, IntegrationError, IntegrationFailure, ReactorError, SolverError,
+    DrivingStep, FailureKind, FastestComponent, IntegrationError, IntegrationFailure, ReactorError,
+    SolverError,
 };
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};

@@ -4,8 +4,8 @@
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::{load_mechanism, parse_mechanism, Mechanism, GAS_CONSTANT as R};
 use stoik_reactor::{
-    ignition_delay, simulate, Constraint, Energy, IgnitionCriterion, IntegrationOptions, Profiles,
-    ReactorModel, SolverStats, TemperatureHistory,
+    ignition_delay, simulate, BatchSystem, Constraint, Energy, IgnitionCriterion,
+    IntegrationOptions, Profiles, ReactorModel, SolverStats, TemperatureHistory,
 };
 
 fn model(constraint: Constraint, energy: Energy) -> ReactorModel {
@@ -424,4 +424,35 @@ fn adiabatic_model_without_thermochemistry_is_refused() {
     .map(|e| e.to_string())
     .unwrap_or_default();
     assert!(err.contains("species 0 has no thermochemistry"), "{err}");
+}
+
+/// A failure caused by a rate constant that overflows names the step. k = A T^n exp(-theta/T)
+/// with A = 1e165 s-1, n = 50, theta = 200,000 K (exact arithmetic on the exponents):
+/// log10 k = 165 + 50 log10 T - 86,859/T is -0.6 at 300 K (k = 0.25 s-1) and 309.9 at
+/// 3000 K, past the largest IEEE 754 double (about 1.8e308). Held at 300 K the run proceeds;
+/// moved to 3000 K it cannot take a step, and the failure names the step with the infinite k.
+#[test]
+fn a_failure_from_an_overflowing_rate_constant_names_the_step() {
+    let mech = constant_cp_mechanism("A -> B", 1e165, 50.0, 200_000.0);
+    let kinetics = Kinetics::compile(&mech).unwrap_or_else(|e| panic!("{e}"));
+    let opts = options(2, 1e-6, 1e-12);
+    let mut system = BatchSystem::new(&kinetics, 300.0, &opts).unwrap_or_else(|e| panic!("{e}"));
+    let mut stepper = system
+        .integrator(&[10.0, 0.0])
+        .unwrap_or_else(|e| panic!("{e}"));
+    let c = stepper.advance_to(1.0).unwrap_or_else(|e| panic!("{e}"))[0];
+    let k300 = 1e165 * 300f64.powi(50) * (-200_000.0f64 / 300.0).exp();
+    assert!((c / (10.0 * (-k300).exp()) - 1.0).abs() < 1e-4, "{c}");
+    stepper
+        .set_temperature(3000.0)
+        .unwrap_or_else(|e| panic!("{e}"));
+    let err = stepper.advance_to(2.0).unwrap_err();
+    let failure = err.failure().expect("an integration failure");
+    assert_eq!(failure.nonfinite_steps, vec![0]);
+    let advice = failure.advice(&["A".into(), "B".into()], &["A -> B".into()]);
+    assert!(
+        advice
+            .contains("rate constant not finite (NaN or infinite) at the failure: step 1 `A -> B`"),
+        "{advice}"
+    );
 }

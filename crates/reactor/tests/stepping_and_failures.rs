@@ -237,7 +237,8 @@ fn step_limit_failure_keeps_partial_profile_and_names_time() {
         .expect("the fastest-changing component is named");
     assert!(fastest.index.is_some_and(|i| i < 3));
     let names = ["A", "B", "C"].map(String::from);
-    let advice = failure.advice(&names);
+    let equations = ["A -> B", "2 B -> B + C", "B + C -> A + C"].map(String::from);
+    let advice = failure.advice(&names, &equations);
     assert!(advice.contains("max_steps"), "{advice}");
     assert!(
         advice.contains(&format!("{} = ", names[fastest.index.unwrap_or(0)])),
@@ -267,6 +268,61 @@ fn step_limit_failure_keeps_partial_profile_and_names_time() {
     );
     let sum: f64 = stepper.state().iter().sum();
     assert_close("y1 + y2 + y3 at failure", sum, 1.0, 1e-9, 0.0);
+
+    // The step named as driving the fastest species is the largest term of its rate in
+    // Robertson's equations written out by hand (Robertson 1966; Hairer & Wanner IV.10):
+    // y1' = -0.04 y1 + 1e4 y2 y3, y2' = 0.04 y1 - 1e4 y2 y3 - 3e7 y2^2, y3' = 3e7 y2^2.
+    let fastest = failure.fastest.expect("a fastest component");
+    let i = fastest.index.expect("a species");
+    let y = stepper.state().to_vec();
+    // Per species, the terms of steps 1 (A -> B), 2 (2 B -> B + C), 3 (B + C -> A + C).
+    let terms: [[f64; 3]; 3] = [
+        [-0.04 * y[0], 0.0, 1e4 * y[1] * y[2]],
+        [0.04 * y[0], -3e7 * y[1] * y[1], -1e4 * y[1] * y[2]],
+        [0.0, 3e7 * y[1] * y[1], 0.0],
+    ];
+    let (step, term) = terms[i]
+        .iter()
+        .copied()
+        .enumerate()
+        .max_by(|a, b| a.1.abs().total_cmp(&b.1.abs()))
+        .unwrap();
+    let driving = fastest.driving_step.expect("a driving step");
+    assert_eq!(driving.index, step, "species {i}: terms {:?}", terms[i]);
+    assert_close("driving term", driving.rate_mol_per_m3_s, term, 1e-12, 0.0);
+    assert_close(
+        "its rate constant",
+        driving.forward_rate_constant,
+        [0.04, 3e7, 1e4][step],
+        1e-15,
+        0.0,
+    );
+    assert!(failure.nonfinite_steps.is_empty());
+    assert!(!fastest.tolerance_unreachable);
+    let advice = failure.advice(&names, &equations);
+    assert!(
+        advice.contains(&format!(
+            "step {} `{}` contributes",
+            step + 1,
+            equations[step]
+        )),
+        "{advice}"
+    );
+}
+
+#[test]
+fn a_tolerance_below_round_off_is_named_unreachable() {
+    // rtol 1e-17 is below the spacing of doubles near 1 (2.2e-16, IEEE 754): no step can
+    // meet it, and the failure says so.
+    let kin = robertson();
+    let mut opts = options(3, 1e-17, 1e-40, LinearAlgebra::Dense);
+    opts.max_steps = 200;
+    let err = integrate(&kin, T, &[1.0, 0.0, 0.0], &[0.0, 1.0], &opts).unwrap_err();
+    let failure = err.failure().expect("a solver failure");
+    let fastest = failure.fastest.expect("a fastest component");
+    assert!(fastest.tolerance_unreachable, "{fastest:?}");
+    let advice = failure.advice(&["A", "B", "C"].map(String::from), &[]);
+    assert!(advice.contains("cannot be met"), "{advice}");
 }
 
 #[test]

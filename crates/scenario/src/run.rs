@@ -7,8 +7,8 @@ use crate::error::ScenarioError;
 use crate::plan::RunPlan;
 use std::path::Path;
 use std::sync::Arc;
-use stoik_kinetics::Kinetics;
-use stoik_mechanism::{Diagnostic, Mechanism};
+use stoik_kinetics::{compiled_rate_constant_range_errors, Kinetics};
+use stoik_mechanism::{Diagnostic, Diagnostics, LoadError, Mechanism};
 use stoik_reactor::{
     ignition_delay, integrate_batch, simulate, BatchError, ConservationCheckError,
     ConservationDrift, Energy, IgnitionCriterion, IgnitionDelay, IntegrationError,
@@ -137,7 +137,12 @@ impl RunPlan {
 
     /// Runs the plan on `kinetics`, compiled from [`RunPlan::mechanism`] (a process model
     /// running many plans of one mechanism compiles it once).
+    ///
+    /// Refused before integrating ([`ScenarioError::Load`], located at the steps): a rate
+    /// constant that is NaN or infinite at a planned temperature
+    /// ([`RunPlan::rate_constant_errors`]).
     pub fn run_compiled(&self, kinetics: &Kinetics) -> Result<RunOutcome, ScenarioError> {
+        self.refuse_nonfinite_rate_constants(kinetics)?;
         let result = simulate(
             kinetics,
             self.model(),
@@ -147,6 +152,41 @@ impl RunPlan {
             self.options(),
         );
         self.outcome(result)
+    }
+
+    /// Errors for the steps whose forward or reverse rate constant is NaN or infinite
+    /// somewhere in the plan's temperature span ([`RunPlan::planned_temperature_span_k`], at
+    /// the temperatures [`compiled_rate_constant_range_errors`] samples): the run would fail
+    /// there. Each is located at its step in the mechanism file, with the span in its help.
+    /// `kinetics` must be compiled from [`RunPlan::mechanism`].
+    pub fn rate_constant_errors(&self, kinetics: &Kinetics) -> Vec<Diagnostic> {
+        let span = self.planned_temperature_span_k();
+        let label = self.scenario().mechanism_path.display().to_string();
+        let plan = if span.0 == span.1 {
+            format!("{} K", span.0)
+        } else {
+            format!("{} K to {} K", span.0, span.1)
+        };
+        compiled_rate_constant_range_errors(kinetics, self.mechanism(), &label, span)
+            .into_iter()
+            .map(|d| {
+                d.with_help(format!(
+                    "the scenario runs at {plan}; check the step's prefactor, temperature exponent and activation energy (sign and units), or the scenario's temperature"
+                ))
+            })
+            .collect()
+    }
+
+    fn refuse_nonfinite_rate_constants(&self, kinetics: &Kinetics) -> Result<(), ScenarioError> {
+        let errors = self.rate_constant_errors(kinetics);
+        if errors.is_empty() {
+            Ok(())
+        } else {
+            Err(LoadError::Invalid {
+                diagnostics: Diagnostics(errors),
+            }
+            .into())
+        }
     }
 
     /// The outcome of an integration of this plan.
@@ -229,6 +269,21 @@ pub fn run_batch(
                 continue;
             }
         };
+        // Plans with a rate constant that is not finite at their temperatures are refused
+        // before integrating, as `RunPlan::run` refuses them.
+        let members: Vec<usize> = members
+            .into_iter()
+            .filter(
+                |&i| match plans[i].refuse_nonfinite_rate_constants(&kinetics) {
+                    Ok(()) => true,
+                    Err(e) => {
+                        done[i] = true;
+                        results[i] = Some(Err(e));
+                        false
+                    }
+                },
+            )
+            .collect();
         let cases: Vec<_> = members.iter().map(|&i| plans[i].batch_case()).collect();
         let outcomes = integrate_batch(&kinetics, &cases, progress);
         for (&i, outcome) in members.iter().zip(outcomes) {

@@ -474,3 +474,56 @@ fn the_energy_balance_names_the_species_without_thermochemistry() {
         assert!(message.contains(name), "{message}");
     }
 }
+
+/// A step whose rate constant is finite from 200 K to 3500 K but overflows at the scenario's
+/// 5000 K: k = 1e-50 T^100 s-1 has log10 k = -50 + 100 log10 T = 304.4 at 3500 K and 319.9 at
+/// 5000 K, past the largest IEEE 754 double (about 1.8e308). The plan refuses to run it,
+/// located at the step, as `check` reports it; at 1000 K (k = 1e250 s-1, finite) it is not
+/// refused.
+#[test]
+fn a_rate_constant_that_overflows_at_the_planned_temperature_is_refused_before_running() {
+    let dir = std::env::temp_dir().join(format!("stoik-hot-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("scratch folder");
+    std::fs::write(
+        dir.join("hot.toml"),
+        "stoik_mechanism = 1\n[units]\namount = \"mol\"\nlength = \"m\"\ntime = \"s\"\n\
+         [[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n\
+         [[step]]\nequation = \"A -> B\"\n\
+         forward = { prefactor = 1e-50, temperature_exponent = 100 }\n",
+    )
+    .expect("writes the mechanism");
+    let scenario_path = dir.join("hot.scenario.toml");
+    std::fs::write(
+        &scenario_path,
+        "stoik_scenario = 1\nmechanism = \"hot.toml\"\n[reactor]\ntemperature = \"5000 K\"\n\
+         [initial]\nconcentrations = { A = 1 }\n[output]\nend_time = \"1 s\"\n",
+    )
+    .expect("writes the scenario");
+    let mut p = RunPlan::load(&scenario_path).expect("loads and resolves");
+    std::fs::remove_dir_all(&dir).expect("removes the scratch folder");
+    let kinetics = stoik_kinetics::Kinetics::compile(p.mechanism()).expect("compiles");
+    let errors = p.rate_constant_errors(&kinetics);
+    assert_eq!(errors.len(), 1, "{errors:?}");
+    assert_eq!(
+        errors[0].location.map(|l| (l.line, l.column)),
+        Some((10, 1))
+    ); // the `[[step]]` header
+    assert!(
+        errors[0].message.contains("is inf at 5000 K"),
+        "{}",
+        errors[0].message
+    );
+    match p.run() {
+        Err(ScenarioError::Load(LoadError::Invalid { diagnostics })) => {
+            assert_eq!(diagnostics.0, errors)
+        }
+        other => panic!("expected the run to be refused, got {other:?}"),
+    }
+    let batch = run_batch(std::slice::from_ref(&p), &|| {});
+    assert!(matches!(
+        batch[0],
+        Err(ScenarioError::Load(LoadError::Invalid { .. }))
+    ));
+    p.set_temperature_k(1000.0).expect("in range");
+    assert!(p.rate_constant_errors(&kinetics).is_empty());
+}

@@ -3,7 +3,9 @@
 use crate::error::CliError;
 use std::path::Path;
 use std::sync::Arc;
-use stoik::kinetics::{collision_limit_warnings, rate_constant_range_errors, RATE_CHECK_RANGE_K};
+use stoik::kinetics::{
+    collision_limit_warnings, rate_constant_range_errors, Kinetics, RATE_CHECK_RANGE_K,
+};
 use stoik::mechanism::{load_mechanism, parse_mechanism_in, Diagnostics, LoadError, MechanismFile};
 use stoik::scenario::{is_scenario_text, parse_scenario, RunPlan, ScenarioError};
 
@@ -58,7 +60,8 @@ fn mechanism_warnings(file: &MechanismFile, path: &Path) -> Diagnostics {
 ///
 /// The file is read once (so a pipe such as `/dev/stdin` works) and its kind is decided from
 /// the parsed document ([`is_scenario_text`]). The mechanism's rate constants must be finite from
-/// 200 K to 3500 K ([`RATE_CHECK_RANGE_K`]): a step that overflows there is an error.
+/// 200 K to 3500 K ([`RATE_CHECK_RANGE_K`]) and, for a scenario, at its planned temperatures
+/// (as `run` checks them): a step that overflows there is an error.
 pub fn check(path: &Path, strict: bool) -> Result<(), CliError> {
     let label = path.display().to_string();
     // The input reader refuses FIFOs and devices without opening them (no hang here).
@@ -79,7 +82,20 @@ pub fn check(path: &Path, strict: bool) -> Result<(), CliError> {
         .extend(mechanism_warnings(&file, &scenario.mechanism_path).0);
     let what = summary(path, &file);
     match RunPlan::new(scenario, Diagnostics::default(), file) {
-        Ok(_) => {}
+        Ok(plan) => {
+            // The rate constants at the scenario's own temperatures, as `run` checks them;
+            // a step already reported over the default range is not reported twice.
+            if let Ok(kinetics) = Kinetics::compile(plan.mechanism()) {
+                for d in plan.rate_constant_errors(&kinetics) {
+                    let known = diagnostics.iter().any(|k| {
+                        k.file == d.file && k.location == d.location && k.severity == d.severity
+                    });
+                    if !known {
+                        diagnostics.0.push(d);
+                    }
+                }
+            }
+        }
         Err(ScenarioError::Load(LoadError::Invalid { diagnostics: d })) => {
             diagnostics.0.extend(d.0)
         }

@@ -51,8 +51,16 @@ fn plan(args: &RunArgs) -> Result<RunPlan, CliError> {
 
 /// The failure of a run in words, with advice naming the species.
 fn failure_message(failure: &IntegrationFailure, mechanism: &Mechanism) -> String {
-    let names: Vec<String> = mechanism.species.iter().map(|s| s.name.clone()).collect();
-    format!("{failure}\n{}", failure.advice(&names))
+    let (names, equations) = names_and_equations(mechanism);
+    format!("{failure}\n{}", failure.advice(&names, &equations))
+}
+
+/// The species names and step equations of `mechanism`, in mechanism order.
+fn names_and_equations(mechanism: &Mechanism) -> (Vec<String>, Vec<String>) {
+    (
+        mechanism.species.iter().map(|s| s.name.clone()).collect(),
+        mechanism.steps.iter().map(|s| s.equation.clone()).collect(),
+    )
 }
 
 /// Runs a scenario.
@@ -127,13 +135,10 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
     match outcome.result {
         Ok(_) => Ok(()),
         Err(failure) => Err(CliError::IntegrationFailed {
-            advice: failure.advice(
-                &mechanism
-                    .species
-                    .iter()
-                    .map(|s| s.name.clone())
-                    .collect::<Vec<_>>(),
-            ),
+            advice: {
+                let (names, equations) = names_and_equations(mechanism);
+                failure.advice(&names, &equations)
+            },
             rows: failure.partial.times_s.len(),
             failure,
             output,

@@ -17,7 +17,7 @@ use stoik_mechanism::{
     Mechanism, MechanismFile, GAS_CONSTANT,
 };
 use stoik_reactor::{
-    BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel,
+    BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel, Watch,
 };
 
 /// A scenario resolved against its mechanism into reactor terms, ready to run
@@ -34,6 +34,8 @@ pub struct RunPlan {
     file_warnings: Vec<Diagnostic>,
     absolute_tolerance_override_mol_per_m3: Option<f64>,
     non_negative: bool,
+    /// Watches asked for by the caller ([`RunPlan::add_watches`]), kept across overrides.
+    extra_watches: Vec<Watch>,
     resolved: Resolved,
 }
 
@@ -72,6 +74,7 @@ impl RunPlan {
             file_warnings,
             absolute_tolerance_override_mol_per_m3: None,
             non_negative: true,
+            extra_watches: Vec::new(),
             resolved,
         })
     }
@@ -263,6 +266,15 @@ impl RunPlan {
         self.resolved.options.non_negative = non_negative;
     }
 
+    /// Adds quantities for the run to locate on the solver's own steps (maxima, crossings;
+    /// see [`Watch`]), after those of the ignition criterion; what they find is in
+    /// [`stoik_reactor::Profiles::located`]. Kept across later overrides. A species index
+    /// beyond the mechanism's species is refused when the plan runs.
+    pub fn add_watches(&mut self, watches: &[Watch]) {
+        self.extra_watches.extend_from_slice(watches);
+        self.resolved.options.watch.extend_from_slice(watches);
+    }
+
     /// Applies `change` to a copy of the scenario and resolves it; keeps the result only
     /// when it resolves.
     fn edit(&mut self, change: impl FnOnce(&mut Scenario)) -> Result<(), ScenarioError> {
@@ -274,6 +286,10 @@ impl RunPlan {
             self.absolute_tolerance_override_mol_per_m3,
             self.non_negative,
         )?;
+        self.resolved
+            .options
+            .watch
+            .extend_from_slice(&self.extra_watches);
         self.scenario = scenario;
         Ok(())
     }

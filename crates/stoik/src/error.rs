@@ -1,6 +1,6 @@
 //! The one error type of the binary: every subcommand returns it, `main` prints it once and
 //! exits with its status (DEVELOPERS.md: 1 warnings only under `--strict`, 2 bad input,
-//! 3 integration failure).
+//! 3 integration failure, 4 an observable of `suite verify` moved beyond tolerance).
 
 use crate::csv_out::CsvError;
 use std::path::PathBuf;
@@ -14,6 +14,8 @@ pub const EXIT_WARNINGS: u8 = 1;
 pub const EXIT_BAD_INPUT: u8 = 2;
 /// Exit status for a failed integration (the partial profile is still written).
 pub const EXIT_INTEGRATION_FAILED: u8 = 3;
+/// Exit status of `suite verify` when an observable moved beyond its tolerance.
+pub const EXIT_MOVED: u8 = 4;
 
 /// Why a subcommand ended with a nonzero exit status.
 #[derive(Debug, thiserror::Error)]
@@ -106,6 +108,12 @@ pub enum CliError {
         #[source]
         source: Box<dyn std::error::Error + Send + Sync>,
     },
+    /// `suite verify`: observables moved beyond their tolerances (the report lists them).
+    #[error("error: {moved} observable(s) moved beyond tolerance")]
+    Moved {
+        /// How many.
+        moved: usize,
+    },
     /// Several inputs failed (a batch reports every bad scenario).
     #[error("{}", .0.iter().map(|e| e.to_string()).collect::<Vec<_>>().join("\n"))]
     Several(Vec<CliError>),
@@ -125,6 +133,7 @@ impl CliError {
     pub fn exit_code(&self) -> u8 {
         match self {
             CliError::StrictWarnings(_) => EXIT_WARNINGS,
+            CliError::Moved { .. } => EXIT_MOVED,
             CliError::RunsFailed { refused, .. } if *refused > 0 => EXIT_BAD_INPUT,
             CliError::NonFinite { .. }
             | CliError::IntegrationFailed { .. }

@@ -13,6 +13,9 @@
 //! - [`scenario`]: the scenario file (what to run) resolved into reactor terms, and scenario
 //!   runs as library calls ([`scenario::run_scenario`], [`scenario::run_batch`]) with every
 //!   warning;
+//! - [`suite`]: regression suites: named observables of scenario runs recorded in a baseline
+//!   with provenance, verified after every mechanism edit ([`suite::record`],
+//!   [`suite::verify`]);
 //! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables;
 //! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties.
 //!
@@ -51,4 +54,5 @@ pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;
 pub use stoik_reactor as reactor;
 pub use stoik_scenario as scenario;
+pub use stoik_suite as suite;
 pub use stoik_thermo as thermo;

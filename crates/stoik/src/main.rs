@@ -10,6 +10,7 @@ mod fit_rate;
 mod fit_thermo;
 mod out_file;
 mod run;
+mod suite;
 
 use clap::builder::{PossibleValue, PossibleValuesParser, TypedValueParser};
 use clap::{Parser, Subcommand, ValueEnum};
@@ -23,7 +24,7 @@ use stoik::scenario::linear_algebra_from_name;
     name = "stoik",
     version,
     about = "Simulate chemical reaction mechanisms: TOML mechanism + scenario in, concentration-time profiles out.",
-    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --svg ethanal.svg\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure.\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
+    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --svg ethanal.svg\n  stoik suite record mechanisms/hydrogen-oxygen.suite.toml\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --junit suite.xml\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure,\n4 an observable moved beyond tolerance (suite verify).\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -70,6 +71,64 @@ enum Command {
         after_help = "Examples:\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --equation \"CH3CHO -> CH4 + CO\" --svg ethanal.svg --snippet ethanal-step.toml\n  stoik fit-rate data.csv --model modified --reference-temperature-k 1000 --confidence 0.9\n\nThe CSV starts with a header naming columns with units in brackets, e.g.\n  temperature [K], rate_constant [cm3 molecule-1 s-1], uncertainty [factor]\nColumns: temperature (K, C), rate_constant (its unit sets the reaction order), optional\nuncertainty (factor, %, or an absolute rate-constant unit) and pressure. '#' starts a comment line."
     )]
     FitRate(FitRateArgs),
+    /// Regression suites: record trusted predictions of scenario runs in a baseline, then
+    /// verify a mechanism edit against them.
+    #[command(subcommand)]
+    Suite(SuiteCommand),
+}
+
+/// The subcommands of `stoik suite`.
+#[derive(Subcommand)]
+enum SuiteCommand {
+    /// Run every case of a suite and write a baseline (values, noise estimates, provenance).
+    #[command(
+        after_help = "Examples:\n  stoik suite record mechanisms/hydrogen-oxygen.suite.toml -o h2.baseline.toml\n\nExit status: 0 recorded, 2 bad input, 3 some case or observable gave no value (the rest is recorded)."
+    )]
+    Record(SuiteRecordArgs),
+    /// Run every case of a suite again and compare each observable with the baseline.
+    #[command(
+        after_help = "Examples:\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --baseline h2.baseline.toml --junit suite.xml --markdown suite.md\n\nExit status: 0 every observable within tolerance, 4 some observable moved beyond tolerance,\n3 some case or observable gave no value (and nothing moved), 2 bad input."
+    )]
+    Verify(SuiteVerifyArgs),
+}
+
+/// Flags of `stoik suite record`.
+#[derive(clap::Args)]
+pub struct SuiteRecordArgs {
+    /// Suite file.
+    pub suite: PathBuf,
+    /// Baseline file to write [default: <suite name>.baseline.toml beside the suite].
+    #[arg(short, long)]
+    pub output: Option<PathBuf>,
+    /// Do not estimate the solver noise (halves the cost; no noise warnings).
+    #[arg(long)]
+    pub no_noise: bool,
+    /// Print only errors and warnings (no progress bar).
+    #[arg(short, long)]
+    pub quiet: bool,
+}
+
+/// Flags of `stoik suite verify`.
+#[derive(clap::Args)]
+pub struct SuiteVerifyArgs {
+    /// Suite file.
+    pub suite: PathBuf,
+    /// Baseline file [default: <suite name>.baseline.toml beside the suite].
+    #[arg(long)]
+    pub baseline: Option<PathBuf>,
+    /// Skip the cases whose scenario, mechanism and thermo files have the content hashes
+    /// recorded in the baseline.
+    #[arg(long)]
+    pub changed_only: bool,
+    /// Write a JUnit XML report (one test case per observable) to this file.
+    #[arg(long)]
+    pub junit: Option<PathBuf>,
+    /// Write a Markdown summary (for a pull-request comment) to this file.
+    #[arg(long)]
+    pub markdown: Option<PathBuf>,
+    /// No progress bar and no closing line (the report is still printed).
+    #[arg(short, long)]
+    pub quiet: bool,
 }
 
 /// Flags of `stoik fit-rate`.
@@ -225,6 +284,8 @@ fn main() -> ExitCode {
         Command::FitThermo(args) => fit_thermo::fit_thermo(&args),
         Command::Energetics(args) => energetics::energetics(&args),
         Command::FitRate(args) => fit_rate::fit_rate(&args),
+        Command::Suite(SuiteCommand::Record(args)) => suite::record(&args),
+        Command::Suite(SuiteCommand::Verify(args)) => suite::verify(&args),
     };
     // Every error is reported here, once.
     match result {

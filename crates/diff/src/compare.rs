@@ -373,13 +373,16 @@ fn step_aspects(
             new: sn.pressure_dependence.clone(),
         });
     }
+    // Explicit orders exist on one-way steps only; compared in one orientation (a change of
+    // orientation is reported as such).
     let (oo, on) = (orders(old, so), orders(new, sn));
     let orders_same = oo.len() == on.len()
         && oo
             .iter()
             .zip(&on)
             .all(|((a, x), (b, y))| a == b && close(*x, *y, tol));
-    if !orders_same {
+    let explicit = so.forward_orders.is_some() || sn.forward_orders.is_some();
+    if explicit && same_orientation && !orders_same {
         aspects.push(StepAspect::ReactionOrders);
     }
     aspects

@@ -14,7 +14,9 @@
 //!   runs as library calls ([`scenario::run_scenario`], [`scenario::run_batch`]) with every
 //!   warning;
 //! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables;
-//! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties.
+//! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties;
+//! - [`diff`]: the kinetic edits between two mechanisms (steps matched by canonical
+//!   equation, k_new/k_old ratios), a mechanism with one edit reverted, git revisions.
 //!
 //! A process model compiles a mechanism once and integrates it many times:
 //!
@@ -46,6 +48,7 @@
 
 #![warn(missing_docs)]
 
+pub use stoik_diff as diff;
 pub use stoik_fit as fit;
 pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;

@@ -774,7 +774,7 @@ fn a_git_revision_is_read_with_its_thermo_files() {
     // A plain file whose name holds a `:` is read as a file.
     std::fs::write(
         dir.join("v1:h2.toml"),
-        &edited.replace("thermo/", "mech/thermo/"),
+        edited.replace("thermo/", "mech/thermo/"),
     )
     .expect("write");
     let source = MechanismSource::from_argument("v1:h2.toml", &dir);

@@ -783,3 +783,56 @@ fn a_git_revision_is_read_with_its_thermo_files() {
     assert_eq!(colon.mechanism, new.mechanism);
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+const TABLE: &str = r#"
+stoik_mechanism = 1
+[units]
+length = "m"
+[[species]]
+name = "A"
+[[species]]
+name = "B"
+[[species]]
+name = "C"
+[[step]]
+equation = "A + B -> C"
+pressure_table = [
+  { pressure = "0.1 atm", prefactor = 1e3, activation_energy = 1000 },
+  { pressure = "10 atm", prefactor = 5e4, temperature_exponent = 0.5 },
+]
+"#;
+
+#[test]
+fn a_pressure_table_change_follows_the_log_pressure_interpolation() {
+    let old = parse_mechanism(TABLE, "table.toml")
+        .expect("loads")
+        .mechanism;
+    let mut new = old.clone();
+    let Some(stoik_mechanism::PressureDependence::Table { points }) =
+        &mut new.steps[0].pressure_dependence
+    else {
+        panic!("table");
+    };
+    points[0].rate_sets[0].pre_exponential_si *= 2.0;
+    let diff = diff_mechanisms(&old, &new, &DiffOptions::default()).expect("diff");
+    assert_eq!(diff.edits.len(), 1);
+    let (aspects, ratios) = changed(&diff.edits[0]);
+    assert!(
+        matches!(aspects, [StepAspect::PressureDependence { .. }]),
+        "{aspects:?}"
+    );
+    assert_eq!(ratios.len(), 9);
+    // ln k is linear in ln P between the points (docs/file-format.md) and held outside: the
+    // point at 0.1 atm doubled gives 2 at 0.01 atm (held), 2^(1/2) at 1 atm (half way in
+    // ln P between 0.1 and 10 atm) and 1 at 100 atm (held at the 10 atm point).
+    for r in ratios {
+        let p = r.pressure_pa.expect("a pressure-dependent step");
+        let expected = match p {
+            1013.25 => 2.0,
+            101_325.0 => 2f64.sqrt(),
+            10_132_500.0 => 1.0,
+            other => panic!("pressure {other}"),
+        };
+        assert!(((r.forward - expected) / expected).abs() < 1e-12, "{r:?}");
+    }
+}

@@ -1,15 +1,20 @@
 //! The one error type of the binary: every subcommand returns it, `main` prints it once and
-//! exits with its status (DEVELOPERS.md: 1 warnings only under `--strict`, 2 bad input,
-//! 3 integration failure, 4 an observable of `suite verify` moved beyond tolerance).
+//! exits with its status (DEVELOPERS.md: 1 warnings only under `--strict` or kinetic changes
+//! found by `diff`, 2 bad input, 3 integration failure, 4 an observable of `suite verify` moved
+//! beyond tolerance).
 
 use crate::csv_out::CsvError;
 use std::path::PathBuf;
+use stoik::diff::DiffError;
 use stoik::mechanism::{Diagnostics, LoadError};
 use stoik::reactor::IntegrationFailure;
 use stoik::scenario::ScenarioError;
 
 /// Exit status when only warnings were found and `--strict` was given.
 pub const EXIT_WARNINGS: u8 = 1;
+/// Exit status of `stoik diff` when the mechanisms differ kinetically (as `diff` does for
+/// files that differ).
+pub const EXIT_DIFFERENCES: u8 = 1;
 /// Exit status for bad input (unreadable or invalid files, bad flags).
 pub const EXIT_BAD_INPUT: u8 = 2;
 /// Exit status for a failed integration (the partial profile is still written).
@@ -114,6 +119,13 @@ pub enum CliError {
         /// How many.
         moved: usize,
     },
+    /// `stoik diff` found this many kinetic edits (the report is already printed; `main`
+    /// prints nothing more).
+    #[error("")]
+    KineticChanges(usize),
+    /// `stoik diff` could not read or compare its mechanisms.
+    #[error("{}", diff_message(.0))]
+    Diff(#[from] DiffError),
     /// Several inputs failed (a batch reports every bad scenario).
     #[error("{}", .0.iter().map(|e| e.to_string()).collect::<Vec<_>>().join("\n"))]
     Several(Vec<CliError>),
@@ -128,12 +140,22 @@ fn scenario_message(error: &ScenarioError) -> String {
     }
 }
 
+/// A diff error as the binary prints it: located diagnostics as they are, anything else after
+/// `error: `.
+fn diff_message(error: &DiffError) -> String {
+    match error {
+        DiffError::Load(e) => e.to_string(),
+        other => format!("error: {other}"),
+    }
+}
+
 impl CliError {
     /// The exit status.
     pub fn exit_code(&self) -> u8 {
         match self {
             CliError::StrictWarnings(_) => EXIT_WARNINGS,
             CliError::Moved { .. } => EXIT_MOVED,
+            CliError::KineticChanges(_) => EXIT_DIFFERENCES,
             CliError::RunsFailed { refused, .. } if *refused > 0 => EXIT_BAD_INPUT,
             CliError::NonFinite { .. }
             | CliError::IntegrationFailed { .. }

@@ -17,7 +17,9 @@
 //!   with provenance, verified after every mechanism edit ([`suite::record`],
 //!   [`suite::verify`]);
 //! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables;
-//! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties.
+//! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties;
+//! - [`diff`]: the kinetic edits between two mechanisms (steps matched by canonical
+//!   equation, k_new/k_old ratios), a mechanism with one edit reverted, git revisions.
 //!
 //! A process model compiles a mechanism once and integrates it many times:
 //!
@@ -49,6 +51,7 @@
 
 #![warn(missing_docs)]
 
+pub use stoik_diff as diff;
 pub use stoik_fit as fit;
 pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;

@@ -4,6 +4,7 @@ mod batch;
 mod check;
 mod conservation_out;
 mod csv_out;
+mod diff;
 mod energetics;
 mod error;
 mod fit_rate;
@@ -24,7 +25,7 @@ use stoik::scenario::linear_algebra_from_name;
     name = "stoik",
     version,
     about = "Simulate chemical reaction mechanisms: TOML mechanism + scenario in, concentration-time profiles out.",
-    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --svg ethanal.svg\n  stoik suite record mechanisms/hydrogen-oxygen.suite.toml\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --junit suite.xml\n\nExit status: 0 success, 1 warnings only (check --strict), 2 bad input, 3 integration failure,\n4 an observable moved beyond tolerance (suite verify).\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
+    after_help = "Examples:\n  stoik check mechanisms/ozone-flask.toml\n  stoik check --strict mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/ozone-flask.scenario.toml --output ozone.csv\n  stoik run mechanisms/robertson.scenario.toml --rtol 1e-10 --linear-algebra dense\n  stoik batch mechanisms/ozone-flask.scenario.toml --temperatures-k 550,600,650 --output-dir sweep\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --svg ethanal.svg\n  stoik suite record mechanisms/hydrogen-oxygen.suite.toml\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --junit suite.xml\n  stoik diff HEAD~1:mechanisms/hydrogen-oxygen.toml mechanisms/hydrogen-oxygen.toml\n\nExit status: 0 success, 1 warnings only (check --strict) or kinetic changes (diff), 2 bad input, 3 integration failure,\n4 an observable moved beyond tolerance (suite verify).\n\nSimulation is no substitute for local codes, standards and licensed engineering review."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -71,6 +72,12 @@ enum Command {
         after_help = "Examples:\n  stoik fit-rate mechanisms/data/ethanal-decomposition.csv --equation \"CH3CHO -> CH4 + CO\" --svg ethanal.svg --snippet ethanal-step.toml\n  stoik fit-rate data.csv --model modified --reference-temperature-k 1000 --confidence 0.9\n\nThe CSV starts with a header naming columns with units in brackets, e.g.\n  temperature [K], rate_constant [cm3 molecule-1 s-1], uncertainty [factor]\nColumns: temperature (K, C), rate_constant (its unit sets the reaction order), optional\nuncertainty (factor, %, or an absolute rate-constant unit) and pressure. '#' starts a comment line."
     )]
     FitRate(FitRateArgs),
+    /// Compare two mechanisms kinetically: species, thermochemistry and steps (matched by
+    /// canonical equation, not position) added, removed or changed, with k_new/k_old.
+    #[command(
+        after_help = "Examples:\n  stoik diff old.toml new.toml\n  stoik diff HEAD~1:mechanisms/hydrogen-oxygen.toml mechanisms/hydrogen-oxygen.toml\n  stoik diff a.toml b.toml --temperatures-k 500,1500 --pressures-pa 1e4,1e6 --format toml\n\nEither mechanism may be REV:path, a file of a git revision read with `git show` (an existing\nfile wins over that reading). Exit status: 0 no kinetic change, 1 kinetic changes, 2 bad input."
+    )]
+    Diff(DiffArgs),
     /// Regression suites: record trusted predictions of scenario runs in a baseline, then
     /// verify a mechanism edit against them.
     #[command(subcommand)]
@@ -129,6 +136,38 @@ pub struct SuiteVerifyArgs {
     /// No progress bar and no closing line (the report is still printed).
     #[arg(short, long)]
     pub quiet: bool,
+}
+
+/// Flags of `stoik diff`.
+#[derive(clap::Args)]
+pub struct DiffArgs {
+    /// Old mechanism: a file, or REV:path (a file of a git revision).
+    pub old: String,
+    /// New mechanism: a file, or REV:path.
+    pub new: String,
+    /// Temperatures of the k_new/k_old ratios, K, comma-separated.
+    #[arg(long, value_delimiter = ',', default_values_t = stoik::diff::DEFAULT_TEMPERATURES_K)]
+    pub temperatures_k: Vec<f64>,
+    /// Bath-gas pressures of the ratios of steps with a third body or pressure dependence,
+    /// Pa, comma-separated [default: 0.01, 1 and 100 atm].
+    #[arg(long, value_delimiter = ',', default_values_t = stoik::diff::DEFAULT_PRESSURES_PA, hide_default_value = true)]
+    pub pressures_pa: Vec<f64>,
+    /// Relative tolerance under which two SI values (rate parameters, efficiencies, thermo
+    /// coefficients) count as equal (0 to 1e-3).
+    #[arg(long, default_value_t = stoik::diff::DEFAULT_RELATIVE_TOLERANCE)]
+    pub relative_tolerance: f64,
+    /// Report form: text for people, toml for machines (numbers read back exactly).
+    #[arg(long, value_enum, default_value = "text")]
+    pub format: DiffFormat,
+}
+
+/// The report form of `stoik diff`.
+#[derive(Clone, Copy, ValueEnum)]
+pub enum DiffFormat {
+    /// A terminal report.
+    Text,
+    /// TOML (`stoik_diff = 1`), every number in round-trip form.
+    Toml,
 }
 
 /// Flags of `stoik fit-rate`.
@@ -286,12 +325,17 @@ fn main() -> ExitCode {
         Command::FitRate(args) => fit_rate::fit_rate(&args),
         Command::Suite(SuiteCommand::Record(args)) => suite::record(&args),
         Command::Suite(SuiteCommand::Verify(args)) => suite::verify(&args),
+        Command::Diff(args) => diff::diff(&args),
     };
     // Every error is reported here, once.
     match result {
         Ok(()) => ExitCode::SUCCESS,
         Err(e) => {
-            eprintln!("{e}");
+            // `diff` has printed its report when it finds changes: nothing more to say.
+            let message = e.to_string();
+            if !message.is_empty() {
+                eprintln!("{message}");
+            }
             ExitCode::from(e.exit_code())
         }
     }

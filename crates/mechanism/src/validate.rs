@@ -438,7 +438,10 @@ mod tests {
         for entry in std::fs::read_dir(&dir).expect("mechanisms folder") {
             let path = entry.expect("entry").path();
             let name = path.file_name().and_then(|n| n.to_str()).unwrap_or("");
-            if !name.ends_with(".toml") || name.ends_with(".scenario.toml") {
+            let other_kind = [".scenario.toml", ".suite.toml", ".baseline.toml"]
+                .iter()
+                .any(|k| name.ends_with(k));
+            if !name.ends_with(".toml") || other_kind {
                 continue;
             }
             let file = crate::load_mechanism(&path).unwrap_or_else(|e| panic!("{e}"));

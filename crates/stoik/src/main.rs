@@ -94,7 +94,7 @@ enum SuiteCommand {
     Record(SuiteRecordArgs),
     /// Run every case of a suite again and compare each observable with the baseline.
     #[command(
-        after_help = "Examples:\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --baseline h2.baseline.toml --junit suite.xml --markdown suite.md\n\nExit status: 0 every observable within tolerance, 4 some observable moved beyond tolerance,\n3 some case or observable gave no value (and nothing moved), 2 bad input."
+        after_help = "Examples:\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --baseline h2.baseline.toml --junit suite.xml --markdown suite.md\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --explain\n\nExit status: 0 every observable within tolerance, 4 some observable moved beyond tolerance,\n3 some case or observable gave no value (and nothing moved), 2 bad input."
     )]
     Verify(SuiteVerifyArgs),
 }
@@ -133,6 +133,16 @@ pub struct SuiteVerifyArgs {
     /// Write a Markdown summary (for a pull-request comment) to this file.
     #[arg(long)]
     pub markdown: Option<PathBuf>,
+    /// When an observable moved and its mechanism changed since the baseline, take each edit
+    /// back alone, re-run, and rank the edits by their share of the move (one extra run per
+    /// edit and moved case, plus one on the old mechanism).
+    #[arg(long)]
+    pub explain: bool,
+    /// The mechanism the baseline was recorded on, for --explain: a file or REV:path
+    /// [default: searched in the git history of the mechanism file by the SHA-256 the
+    /// baseline records].
+    #[arg(long, value_name = "MECHANISM", requires = "explain")]
+    pub explain_against: Option<String>,
     /// No progress bar and no closing line (the report is still printed).
     #[arg(short, long)]
     pub quiet: bool,

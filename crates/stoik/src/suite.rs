@@ -7,9 +7,10 @@ use crate::{SuiteRecordArgs, SuiteVerifyArgs};
 use indicatif::{ProgressBar, ProgressStyle};
 use std::path::{Path, PathBuf};
 use std::time::Instant;
+use stoik::diff::MechanismSource;
 use stoik::suite::{
     junit_xml, markdown_summary, now_rfc3339_utc, prepare_cases, record_prepared, terminal_report,
-    verify_prepared, Baseline, PreparedCase, RecordOptions, Status, Suite, SuiteError, Verdict,
+    verify_prepared, Baseline, PreparedCase, explain, explanation_report, OldMechanism, RecordOptions, Status, Suite, SuiteError, Verdict,
     VerifyOptions, NOISE_MARGIN, NOISE_TOLERANCE_DIVISOR,
 };
 
@@ -170,6 +171,23 @@ pub fn verify(args: &SuiteVerifyArgs) -> Result<(), CliError> {
         write_text(p, &markdown_summary(&result)).map_err(|e| CliError::write(p, e))?;
     }
     print!("{}", terminal_report(&result));
+    if args.explain && result.verdict() == Verdict::Moved {
+        let old = match &args.explain_against {
+            Some(a) => OldMechanism::Given(MechanismSource::from_argument(a, Path::new(""))),
+            None => OldMechanism::FromHistory,
+        };
+        // A given file is relative to the working folder; explain reads sources relative to
+        // the suite's folder, so make it absolute first.
+        let old = match old {
+            OldMechanism::Given(MechanismSource::File(p)) => {
+                OldMechanism::Given(MechanismSource::File(std::path::absolute(&p).unwrap_or(p)))
+            }
+            other => other,
+        };
+        let explanation =
+            explain(&suite.folder, &cases, &baseline, &result, &old).map_err(suite_error)?;
+        print!("{}", explanation_report(&explanation));
+    }
     if !args.quiet {
         let ran = result.cases.iter().filter(|c| !c.skipped).count();
         println!(

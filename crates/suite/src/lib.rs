@@ -17,8 +17,12 @@
 //!   observable, baseline and new values and a [`Status`]; [`Verification::moved`] gives
 //!   the observables beyond tolerance with case and values.
 //! - [`terminal_report`], [`junit_xml`] and [`markdown_summary`] print it.
+//! - [`explain`] attributes the observables that moved to the edits of the mechanism since
+//!   the baseline (its recorded version found in git history, or given): each edit taken
+//!   back alone ([`stoik_diff::revert`]), the edits ranked by their share of the move, and
+//!   interaction flagged when the shares do not add up; [`explanation_report`] prints it.
 //! - [`prepare_cases`] and [`PreparedCase::with_mechanism`] run one case on another
-//!   mechanism (the hook for attributing a move to individual edits).
+//!   mechanism.
 //!
 //! Values do not depend on the number of threads: each case runs on its own.
 //!
@@ -38,6 +42,7 @@ mod baseline;
 mod case;
 mod date;
 mod error;
+mod explain;
 mod file;
 mod hash;
 mod read;
@@ -52,6 +57,10 @@ pub use baseline::{
 pub use case::{prepare_cases, CaseValues, PreparedCase};
 pub use date::{now_rfc3339_utc, rfc3339_utc};
 pub use error::SuiteError;
+pub use explain::{
+    explain, explanation_report, EditShare, Explanation, MoveScale, ObservableExplanation,
+    OldMechanism, Unexplained, GIT_SEARCH_LIMIT, INTERACTION_THRESHOLD,
+};
 pub use file::{
     parse_suite, DelayCriterion, Measured, Observable, ObservableKind, Suite, SuiteCase, Tolerance,
     OBSERVABLE_KINDS, SUITE_FORMAT_VERSION,

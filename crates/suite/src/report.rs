@@ -187,7 +187,7 @@ pub fn junit_xml(v: &Verification, timestamp_utc: &str) -> String {
             .count();
         let _ = writeln!(
             out,
-            "  <testsuite package=\"{}\" id=\"{id}\" name=\"{}\" timestamp=\"{stamp}\" hostname=\"localhost\" tests=\"{}\" failures=\"{failures}\" errors=\"{errors}\" skipped=\"{skipped}\" time=\"{:.6}\">",
+            "  <testsuite package=\"{}\" id=\"{id}\" name=\"{}\" timestamp=\"{stamp}\" hostname=\"localhost\" tests=\"{}\" failures=\"{failures}\" errors=\"{errors}\" skipped=\"{skipped}\" time=\"{:.3}\">",
             xml_escape(&package),
             xml_escape(&case.name),
             case.observables.len(),

@@ -136,7 +136,12 @@ fn changed_only_skips_cases_whose_inputs_are_unchanged() {
     let dir = scratch("changed");
     hydrogen_suite(&dir);
     let out = stoik(
-        &["suite", "record", "hydrogen-oxygen.suite.toml", "--no-noise"],
+        &[
+            "suite",
+            "record",
+            "hydrogen-oxygen.suite.toml",
+            "--no-noise",
+        ],
         &dir,
     );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));

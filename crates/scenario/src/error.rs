@@ -22,6 +22,12 @@ pub enum ScenarioError {
         /// The value given (in the unit of the requirement).
         value: f64,
     },
+    /// An initial composition override was refused.
+    #[error("{reason}")]
+    BadComposition {
+        /// Why (an unknown species, a negative value, fractions not summing to 1...).
+        reason: String,
+    },
     /// The temperature follows a prescribed history, which a single temperature cannot
     /// override.
     #[error("the temperature follows a prescribed `temperature_history` and cannot be overridden; edit the history instead")]

@@ -48,7 +48,7 @@ pub use file::{
     MAX_PROFILE_BYTES, MOLE_FRACTION_SUM_TOLERANCE, PRESSURE_RANGE_PA, REACTOR_KINDS,
     SCENARIO_FORMAT_VERSION, TEMPERATURE_RANGE_K,
 };
-pub use plan::RunPlan;
+pub use plan::{Composition, RunPlan};
 pub use run::{
     load_plans, run_batch, run_scenario, thermo_range_warnings, ConservationCheck, RunOutcome,
     RunWarning,

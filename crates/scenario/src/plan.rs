@@ -5,8 +5,8 @@
 
 use crate::error::ScenarioError;
 use crate::file::{
-    IgnitionSpec, InitialState, OutputTimes, Scenario, MAX_END_TIME_S, PRESSURE_RANGE_PA,
-    TEMPERATURE_RANGE_K,
+    IgnitionSpec, InitialState, OutputTimes, Scenario, MAX_END_TIME_S, MOLE_FRACTION_SUM_TOLERANCE,
+    PRESSURE_RANGE_PA, TEMPERATURE_RANGE_K,
 };
 use crate::read::{NamedValue, SpeciesLookup};
 use std::path::Path;
@@ -19,6 +19,17 @@ use stoik_mechanism::{
 use stoik_reactor::{
     BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel, Watch,
 };
+
+/// An initial composition given in place of a scenario's ([`RunPlan::set_initial_composition`]),
+/// species by name.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Composition {
+    /// Mole fractions (dimensionless, summing to 1); converted to concentrations with the
+    /// scenario's pressure and temperature, c_i = x_i P / (R T).
+    MoleFractions(Vec<(String, f64)>),
+    /// Concentrations, mol/m3.
+    ConcentrationsMolPerM3(Vec<(String, f64)>),
+}
 
 /// A scenario resolved against its mechanism into reactor terms, ready to run
 /// ([`RunPlan::run`], [`crate::run_batch`]).
@@ -188,6 +199,67 @@ impl RunPlan {
             PRESSURE_RANGE_PA,
         )?;
         self.edit(|s| s.pressure_pa = Some(pressure_pa))
+    }
+
+    /// Replaces the scenario's initial composition with `composition` (species by name of
+    /// the plan's mechanism; other species start at zero). Mole fractions must be finite,
+    /// non-negative and sum to 1 within [`crate::MOLE_FRACTION_SUM_TOLERANCE`], and need a
+    /// scenario with a pressure; concentrations (mol/m3) finite and non-negative. A refused
+    /// composition leaves the plan as it was.
+    pub fn set_initial_composition(
+        &mut self,
+        composition: &Composition,
+    ) -> Result<(), ScenarioError> {
+        let (values, fractions) = match composition {
+            Composition::MoleFractions(v) => (v, true),
+            Composition::ConcentrationsMolPerM3(v) => (v, false),
+        };
+        let bad = |reason: String| Err(ScenarioError::BadComposition { reason });
+        if values.is_empty() {
+            return bad("no species given".into());
+        }
+        let species = &self.mechanism.mechanism.species;
+        for (name, value) in values {
+            if !species.iter().any(|s| &s.name == name) {
+                let near =
+                    stoik_mechanism::nearest_name(name, species.iter().map(|s| s.name.as_str()))
+                        .map(|n| format!(" (did you mean `{n}`?)"))
+                        .unwrap_or_default();
+                return bad(format!("`{name}` is not a species of the mechanism{near}"));
+            }
+            if !(value.is_finite() && *value >= 0.0) {
+                return bad(format!(
+                    "the value of `{name}` must be finite and at least 0, got {value}"
+                ));
+            }
+        }
+        if fractions {
+            let sum: f64 = values.iter().map(|(_, v)| v).sum();
+            if (sum - 1.0).abs() > MOLE_FRACTION_SUM_TOLERANCE {
+                return bad(format!(
+                    "mole fractions sum to {sum}, not 1 (tolerance {MOLE_FRACTION_SUM_TOLERANCE:e})"
+                ));
+            }
+            if self.scenario.pressure_pa.is_none() {
+                return bad("mole fractions need a pressure, and the scenario gives none".into());
+            }
+        }
+        let location = self.scenario.locations.initial.unwrap_or_default();
+        let named: Vec<NamedValue> = values
+            .iter()
+            .map(|(name, value)| NamedValue {
+                name: name.clone(),
+                value: *value,
+                location,
+            })
+            .collect();
+        self.edit(|s| {
+            s.initial = if fractions {
+                InitialState::MoleFractions(named)
+            } else {
+                InitialState::Concentrations(named)
+            }
+        })
     }
 
     /// Overrides the end time (s, finite and positive); the output times follow.

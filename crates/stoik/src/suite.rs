@@ -9,9 +9,10 @@ use std::path::{Path, PathBuf};
 use std::time::Instant;
 use stoik::diff::MechanismSource;
 use stoik::suite::{
-    junit_xml, markdown_summary, now_rfc3339_utc, prepare_cases, record_prepared, terminal_report,
-    verify_prepared, Baseline, PreparedCase, explain, explanation_report, OldMechanism, RecordOptions, Status, Suite, SuiteError, Verdict,
-    VerifyOptions, NOISE_MARGIN, NOISE_TOLERANCE_DIVISOR,
+    explain, explanation_report, junit_xml, markdown_summary, now_rfc3339_utc, prepare_cases,
+    record_prepared, terminal_report, verify_prepared, Baseline, OldMechanism, PreparedCase,
+    RecordOptions, Status, Suite, SuiteError, Verdict, VerifyOptions, NOISE_MARGIN,
+    NOISE_TOLERANCE_DIVISOR,
 };
 
 /// The default baseline of `suite`: `<name>.baseline.toml` beside it, where `<name>` is the

@@ -253,6 +253,10 @@ fn prepare_from_plan(
         let r = plan.set_pressure_pa(p);
         refused("pressure", r, diagnostics);
     }
+    if let Some(c) = &case.initial {
+        let r = plan.set_initial_composition(c);
+        refused("initial composition", r, diagnostics);
+    }
     if let Some(end) = case.end_time_s {
         let r = plan.set_end_time_s(end);
         refused("end time", r, diagnostics);

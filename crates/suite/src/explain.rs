@@ -140,11 +140,13 @@ fn git_path(relative: &str) -> Option<String> {
     if Path::new(relative).is_absolute() {
         return None;
     }
-    Some(if relative.starts_with("../") || relative.starts_with("./") {
-        relative.to_string()
-    } else {
-        format!("./{relative}")
-    })
+    Some(
+        if relative.starts_with("../") || relative.starts_with("./") {
+            relative.to_string()
+        } else {
+            format!("./{relative}")
+        },
+    )
 }
 
 /// The commit whose version of `relative` (a path from `folder`) has SHA-256 `sha256`.
@@ -413,7 +415,11 @@ pub fn explain(
                     .collect();
                 let mut all = vec![new];
                 all.extend(old_run.iter().copied());
-                all.extend(reverted.iter().filter_map(|(_, r)| r.as_ref().ok().copied()));
+                all.extend(
+                    reverted
+                        .iter()
+                        .filter_map(|(_, r)| r.as_ref().ok().copied()),
+                );
                 let scale = scale_of(&o.tolerance, &all);
                 let total = old_run
                     .as_ref()
@@ -441,8 +447,7 @@ pub fn explain(
                     let key = |s: &EditShare| s.share.map_or(-1.0, f64::abs);
                     key(b).total_cmp(&key(a))
                 });
-                let sum_of_shares = if shares.iter().all(|s| s.share.is_some()) && total.is_some()
-                {
+                let sum_of_shares = if shares.iter().all(|s| s.share.is_some()) && total.is_some() {
                     Some(shares.iter().filter_map(|s| s.share).sum::<f64>())
                 } else {
                     None
@@ -524,11 +529,7 @@ pub fn explanation_report(e: &Explanation) -> String {
                 );
             }
             Some(sum) => {
-                let _ = writeln!(
-                    s,
-                    "  sum {:.1} %: the edits act independently",
-                    100.0 * sum
-                );
+                let _ = writeln!(s, "  sum {:.1} %: the edits act independently", 100.0 * sum);
             }
             None => {
                 let _ = writeln!(s, "  sum: - (some run gave no value)");

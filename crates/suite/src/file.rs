@@ -8,6 +8,7 @@ use stoik_mechanism::{
     parse_document, show_number, value_as_number, Diagnostics, LoadError, Report, SourceLocation,
     SpannedValue as Value,
 };
+use stoik_scenario::Composition;
 use toml::de::{DeTable, DeValue};
 
 /// The suite format version this crate reads (`stoik_suite = 1`).
@@ -224,6 +225,8 @@ pub struct SuiteCase {
     pub pressure_pa: Option<f64>,
     /// End time override, s.
     pub end_time_s: Option<f64>,
+    /// Initial composition override (`mole_fractions` or `concentrations`), species by name.
+    pub initial: Option<Composition>,
     /// The observables.
     pub observables: Vec<Observable>,
     /// Where the case is written in the suite file.
@@ -290,6 +293,8 @@ const CASE_KEYS: &[&str] = &[
     "pressure",
     "pressures",
     "end_time",
+    "mole_fractions",
+    "concentrations",
     "observable",
 ];
 const OBSERVABLE_KEYS: &[&str] = &[
@@ -576,6 +581,21 @@ fn read_case(
         Some(v) => number_or_quantity(r, "end_time", v, Dimension::Time).map(Some),
         None => Some(None),
     };
+    let initial = match (table.get("mole_fractions"), table.get("concentrations")) {
+        (Some(_), Some(v)) => {
+            r.error(
+                v.span().start,
+                "give `mole_fractions` or `concentrations`, not both",
+                None,
+            );
+            None
+        }
+        (Some(v), None) => read_composition(r, "mole_fractions", v, Dimension::Plain)
+            .map(|c| Some(Composition::MoleFractions(c))),
+        (None, Some(v)) => read_composition(r, "concentrations", v, Dimension::Concentration)
+            .map(|c| Some(Composition::ConcentrationsMolPerM3(c))),
+        (None, None) => Some(None),
+    };
     let mut observables = Vec::new();
     match table.get("observable") {
         None => r.error(
@@ -609,8 +629,21 @@ fn read_case(
         }
     }
     let observables: Vec<Observable> = observables.into_iter().map(|(o, _)| o).collect();
-    let (Some(name), Some(scenario_path), Some(temperatures), Some(pressures), Some(end_time_s)) =
-        (name, scenario_path, temperatures, pressures, end_time_s)
+    let (
+        Some(name),
+        Some(scenario_path),
+        Some(temperatures),
+        Some(pressures),
+        Some(end_time_s),
+        Some(initial),
+    ) = (
+        name,
+        scenario_path,
+        temperatures,
+        pressures,
+        end_time_s,
+        initial,
+    )
     else {
         return Vec::new();
     };
@@ -632,12 +665,53 @@ fn read_case(
                 temperature_k: t,
                 pressure_pa: p,
                 end_time_s,
+                initial: initial.clone(),
                 observables: observables.clone(),
                 location,
             });
         }
     }
     cases
+}
+
+/// Reads a species-keyed table of values (`{ H2 = 0.1, O2 = "5 mol/m3" }`) in `dimension`;
+/// problems recorded at their values. Species names are matched against the mechanism when
+/// the case is prepared.
+fn read_composition(
+    r: &mut Report<'_>,
+    key: &str,
+    value: &Value<'_>,
+    dimension: Dimension,
+) -> Option<Vec<(String, f64)>> {
+    let table = r.table(key, value)?;
+    let mut out = Vec::new();
+    let mut ok = true;
+    for (name, v) in table.iter() {
+        match number_or_quantity(r, key, v, dimension) {
+            Some(x) if x.is_finite() && x >= 0.0 => out.push((name.get_ref().to_string(), x)),
+            Some(x) => {
+                r.error(
+                    v.span().start,
+                    format!(
+                        "`{key}`: the value of `{}` must be finite and at least 0, got {x}",
+                        name.get_ref()
+                    ),
+                    None,
+                );
+                ok = false;
+            }
+            None => ok = false,
+        }
+    }
+    if out.is_empty() && ok {
+        r.error(
+            value.span().start,
+            format!("`{key}` names no species"),
+            None,
+        );
+        ok = false;
+    }
+    ok.then_some(out)
 }
 
 fn read_observable(

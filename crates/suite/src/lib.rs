@@ -72,3 +72,5 @@ pub use regress::{
     NOISE_MARGIN, NOISE_TOLERANCE_DIVISOR,
 };
 pub use report::{junit_xml, markdown_summary, sorted_observables, summary_line, terminal_report};
+/// An initial composition override of a case ([`SuiteCase::initial`]).
+pub use stoik_scenario::Composition;

@@ -194,5 +194,9 @@ fn an_unchanged_mechanism_is_not_blamed() {
     .expect("explains");
     assert_eq!(e.extra_runs, 0);
     assert_eq!(e.unexplained.len(), 1);
-    assert!(e.unexplained[0].reason.contains("unchanged"), "{:?}", e.unexplained);
+    assert!(
+        e.unexplained[0].reason.contains("unchanged"),
+        "{:?}",
+        e.unexplained
+    );
 }

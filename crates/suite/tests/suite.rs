@@ -88,7 +88,10 @@ fn first_order_half_life_and_its_tolerance_edge() {
     // First-order decay c_A = c0 exp(-k t) (closed form): half-life ln 2 / k,
     // c_A(0.5 s) = exp(-1), x_B(0.5 s) = 1 - exp(-1).
     let half_life = case.value("half-life").expect("recorded").value;
-    assert!((half_life / (2f64.ln() / k) - 1.0).abs() < 1e-7, "{half_life}");
+    assert!(
+        (half_life / (2f64.ln() / k) - 1.0).abs() < 1e-7,
+        "{half_life}"
+    );
     let a = case.value("A").expect("recorded").value;
     assert!((a - (-1f64).exp()).abs() < 1e-8, "{a}");
     let xb = case.value("x_B").expect("recorded").value;
@@ -97,24 +100,43 @@ fn first_order_half_life_and_its_tolerance_edge() {
     // step of 5 ms overestimates it by about (k h)^2 / 12 relative (8e-6).
     let integral = case.value("A integral").expect("recorded").value;
     let exact = (1.0 - (-20f64).exp()) / k;
-    assert!((integral / exact - 1.0).abs() < 2e-5, "{integral} vs {exact}");
-    assert!(integral > exact, "the trapezoid overestimates a convex decay");
+    assert!(
+        (integral / exact - 1.0).abs() < 2e-5,
+        "{integral} vs {exact}"
+    );
+    assert!(
+        integral > exact,
+        "the trapezoid overestimates a convex decay"
+    );
 
     decay_files(&dir, k * f);
-    let verified = verify(&suite, &recording.baseline, &VerifyOptions::default(), &no_progress)
-        .expect("verifies");
+    let verified = verify(
+        &suite,
+        &recording.baseline,
+        &VerifyOptions::default(),
+        &no_progress,
+    )
+    .expect("verifies");
     let half = verified
         .observables()
         .find(|o| o.name == "half-life")
         .expect("reported");
     let factor = half.factor().expect("a factor");
-    assert!((factor * f - 1.0).abs() < 1e-7, "factor {factor}, expected 1/{f}");
+    assert!(
+        (factor * f - 1.0).abs() < 1e-7,
+        "factor {factor}, expected 1/{f}"
+    );
     assert_eq!(half.status, Status::Pass);
 
     let tight = decay_suite(&dir, f * (1.0 - 1e-5));
     let suite = Suite::load(&tight).expect("suite loads");
-    let verified = verify(&suite, &recording.baseline, &VerifyOptions::default(), &no_progress)
-        .expect("verifies");
+    let verified = verify(
+        &suite,
+        &recording.baseline,
+        &VerifyOptions::default(),
+        &no_progress,
+    )
+    .expect("verifies");
     let half = verified
         .observables()
         .find(|o| o.name == "half-life")
@@ -132,7 +154,10 @@ fn hydrogen_files(dir: &Path, prefactor: &str) {
     assert!(text.contains("prefactor = 3.547e15,"));
     write(
         &dir.join("hydrogen-oxygen.toml"),
-        &text.replace("prefactor = 3.547e15,", &format!("prefactor = {prefactor},")),
+        &text.replace(
+            "prefactor = 3.547e15,",
+            &format!("prefactor = {prefactor},"),
+        ),
     );
     std::fs::create_dir_all(dir.join("thermo")).expect("folder");
     std::fs::copy(
@@ -180,8 +205,13 @@ fn hydrogen_step_scaled_by_two_is_caught_and_by_1_0001_is_not() {
     // shortens the delay by far more than 1 %. Scaling it by 1.0001 moves the delay by
     // about 1e-4 at most, inside the 1 % band.
     hydrogen_files(&dir, "7.094e15");
-    let doubled = verify(&suite, &recording.baseline, &VerifyOptions::default(), &no_progress)
-        .expect("verifies");
+    let doubled = verify(
+        &suite,
+        &recording.baseline,
+        &VerifyOptions::default(),
+        &no_progress,
+    )
+    .expect("verifies");
     assert_eq!(doubled.verdict(), Verdict::Moved);
     for o in doubled.observables().filter(|o| o.name == "delay") {
         assert_eq!(o.status, Status::Moved, "{o:?}");
@@ -193,12 +223,25 @@ fn hydrogen_step_scaled_by_two_is_caught_and_by_1_0001_is_not() {
         assert_eq!(c.changed_inputs[0].role, InputRole::Mechanism);
     }
     hydrogen_files(&dir, "3.5473547e15");
-    let tiny = verify(&suite, &recording.baseline, &VerifyOptions::default(), &no_progress)
-        .expect("verifies");
-    assert_eq!(tiny.verdict(), Verdict::AllWithin, "{}", stoik_suite::terminal_report(&tiny));
+    let tiny = verify(
+        &suite,
+        &recording.baseline,
+        &VerifyOptions::default(),
+        &no_progress,
+    )
+    .expect("verifies");
+    assert_eq!(
+        tiny.verdict(),
+        Verdict::AllWithin,
+        "{}",
+        stoik_suite::terminal_report(&tiny)
+    );
     for o in tiny.observables() {
         let f = o.factor().expect("factor");
-        assert!(f != 1.0 || o.name == "OH peak", "the edit moved the delay: {o:?}");
+        assert!(
+            f != 1.0 || o.name == "OH peak",
+            "the edit moved the delay: {o:?}"
+        );
         assert!((f - 1.0).abs() < 1e-3, "{o:?}");
     }
 }
@@ -252,25 +295,25 @@ fn baseline_round_trips_exactly() {
     let mut case = example_case();
     case.name = "c \"quoted\" \\ name".into();
     case.inputs = vec![InputFile {
-            role: InputRole::Mechanism,
-            path: "m.toml".into(),
-            sha256: stoik_suite::sha256_hex(b"m"),
-        }];
+        role: InputRole::Mechanism,
+        path: "m.toml".into(),
+        sha256: stoik_suite::sha256_hex(b"m"),
+    }];
     case.relative_tolerance = 1e-8;
     case.absolute_tolerance_mol_per_m3 = 1e-14;
     case.observables = values
-            .iter()
-            .enumerate()
-            .map(|(i, &v)| {
-                (
-                    format!("o{i}"),
-                    RecordedValue {
-                        value: v,
-                        noise: (i % 2 == 0).then_some(v.abs() * 1e-9),
-                    },
-                )
-            })
-            .collect();
+        .iter()
+        .enumerate()
+        .map(|(i, &v)| {
+            (
+                format!("o{i}"),
+                RecordedValue {
+                    value: v,
+                    noise: (i % 2 == 0).then_some(v.abs() * 1e-9),
+                },
+            )
+        })
+        .collect();
     let baseline = Baseline::new(
         "s.suite.toml".into(),
         stoik_suite::sha256_hex(b"s"),
@@ -281,7 +324,11 @@ fn baseline_round_trips_exactly() {
     let text = baseline.to_toml().expect("finite");
     let back = parse_baseline(&text, "b.toml").expect("reads back");
     assert_eq!(back, baseline);
-    for ((_, a), (_, b)) in back.cases[0].observables.iter().zip(&baseline.cases[0].observables) {
+    for ((_, a), (_, b)) in back.cases[0]
+        .observables
+        .iter()
+        .zip(&baseline.cases[0].observables)
+    {
         assert_eq!(a.value.to_bits(), b.value.to_bits());
     }
     // A NaN is refused, not written.
@@ -313,7 +360,10 @@ fn provenance_hashes_change_when_and_only_when_content_changes() {
     // Rewriting the same bytes: same hashes, and --changed-only skips the case.
     decay_files(&dir, 2.0);
     let again = record(&suite, &options, &no_progress).expect("records");
-    assert_eq!(first.baseline.cases[0].inputs, again.baseline.cases[0].inputs);
+    assert_eq!(
+        first.baseline.cases[0].inputs,
+        again.baseline.cases[0].inputs
+    );
     let skipped = verify(
         &suite,
         &first.baseline,
@@ -333,8 +383,14 @@ fn provenance_hashes_change_when_and_only_when_content_changes() {
     let now = &edited.baseline.cases[0];
     let then = &first.baseline.cases[0];
     let role = |c: &BaselineCase, r| c.input(r).expect("input").sha256.clone();
-    assert_ne!(role(now, InputRole::Mechanism), role(then, InputRole::Mechanism));
-    assert_eq!(role(now, InputRole::Scenario), role(then, InputRole::Scenario));
+    assert_ne!(
+        role(now, InputRole::Mechanism),
+        role(then, InputRole::Mechanism)
+    );
+    assert_eq!(
+        role(now, InputRole::Scenario),
+        role(then, InputRole::Scenario)
+    );
     assert_eq!(
         role(now, InputRole::Mechanism),
         stoik_suite::sha256_hex(text.as_bytes())
@@ -378,7 +434,10 @@ kind = "peek"
         "bad.suite.toml:6:1: error: unknown key `colour` in [[case]]",
         "bad.suite.toml:9:8: error: unknown observable kind `peek`",
     ] {
-        assert!(message.contains(expected), "missing `{expected}` in:\n{message}");
+        assert!(
+            message.contains(expected),
+            "missing `{expected}` in:\n{message}"
+        );
     }
     assert!(message.contains("did you mean `peak`?"), "{message}");
 }
@@ -395,7 +454,10 @@ fn unknown_species_is_located_in_the_suite() {
     let suite = Suite::load(&path).expect("file is valid");
     let err = record(&suite, &RecordOptions::default(), &no_progress).expect_err("species");
     let message = load_error(err);
-    assert!(message.contains(":5:1: error: observable `p` of case `a`: unknown species `Bb`"), "{message}");
+    assert!(
+        message.contains(":5:1: error: observable `p` of case `a`: unknown species `Bb`"),
+        "{message}"
+    );
     assert!(message.contains("did you mean `B`?"), "{message}");
 }
 
@@ -409,7 +471,10 @@ fn malformed_baseline_reports_every_problem_located() {
         "b.toml:8:22: error: `relative_tolerance` must be a number",
         "b.toml:12:9: error: `value` must be finite",
     ] {
-        assert!(message.contains(expected), "missing `{expected}` in:\n{message}");
+        assert!(
+            message.contains(expected),
+            "missing `{expected}` in:\n{message}"
+        );
     }
 }
 
@@ -445,7 +510,10 @@ fn baseline_of_another_mechanism_is_refused_located() {
     let expected = format!(
         "decay.baseline.toml:{case_line}:1: error: case `decay` was recorded on the mechanism `decay.toml`, but the suite runs it on `other.toml`"
     );
-    assert!(message.contains(&expected), "missing `{expected}` in:\n{message}");
+    assert!(
+        message.contains(&expected),
+        "missing `{expected}` in:\n{message}"
+    );
 }
 
 #[test]
@@ -468,11 +536,108 @@ fn a_failing_case_is_an_error_of_that_case_and_the_others_run() {
     assert!(recording.cases[0].error.is_some());
     assert_eq!(recording.baseline.cases.len(), 1);
     // c_A(1 s) = exp(-2) (closed form of first-order decay).
-    let a = recording.baseline.cases[0].value("A").expect("recorded").value;
+    let a = recording.baseline.cases[0]
+        .value("A")
+        .expect("recorded")
+        .value;
     assert!((a - (-2f64).exp()).abs() < 1e-8);
-    let verified = verify(&suite, &recording.baseline, &VerifyOptions::default(), &no_progress)
-        .expect("verifies");
-    assert!(verified.cases[0].error.as_deref().unwrap_or("").contains("integration failed"));
+    let verified = verify(
+        &suite,
+        &recording.baseline,
+        &VerifyOptions::default(),
+        &no_progress,
+    )
+    .expect("verifies");
+    assert!(verified.cases[0]
+        .error
+        .as_deref()
+        .unwrap_or("")
+        .contains("integration failed"));
     assert_eq!(verified.cases[1].observables[0].status, Status::Pass);
     assert_eq!(verified.verdict(), Verdict::Errors);
+}
+
+#[test]
+fn solver_noise_is_estimated_and_a_tolerance_near_it_is_flagged() {
+    // A -> B at k = 2 1/s, run loosely (rtol 1e-4, atol 1e-10): c_A(0.5 s) = exp(-1) is the
+    // first-order closed form. The noise estimate |v(rtol) - v(rtol/100)| must be close to
+    // the run's true error |v(rtol) - exp(-1)|, since the tighter run is about 100 times
+    // more accurate. A tolerance of 1e-9 relative lies below it (flagged); 0.1 does not.
+    let dir = scratch("noise");
+    decay_files(&dir, 2.0);
+    let scenario = std::fs::read_to_string(dir.join("decay.scenario.toml"))
+        .expect("read")
+        .replace("relative_tolerance = 1e-10", "relative_tolerance = 1e-4")
+        .replace("absolute_tolerance = 1e-16", "absolute_tolerance = 1e-10")
+        .replace(
+            "grid = { spacing = \"linear\", points = 2001 }",
+            "grid = { spacing = \"linear\", points = 3 }",
+        );
+    write(&dir.join("decay.scenario.toml"), &scenario);
+    let suite_path = dir.join("noise.suite.toml");
+    write(
+        &suite_path,
+        "stoik_suite = 1\n[[case]]\nname = \"decay\"\nscenario = \"decay.scenario.toml\"\n[[case.observable]]\nname = \"tight\"\nkind = \"concentration\"\nspecies = \"A\"\ntime = \"500 ms\"\ntolerance = { relative = 1e-9 }\n[[case.observable]]\nname = \"loose\"\nkind = \"concentration\"\nspecies = \"A\"\ntime = \"500 ms\"\ntolerance = { relative = 0.1 }\n",
+    );
+    let suite = Suite::load(&suite_path).expect("suite");
+    let recording = record(&suite, &RecordOptions::default(), &no_progress).expect("records");
+    let observables = &recording.cases[0].observables;
+    let tight = &observables[0];
+    let value = *tight.value.as_ref().expect("a value");
+    let true_error = (value - (-1f64).exp()).abs();
+    let noise = tight.noise.expect("noise estimated");
+    assert!(
+        true_error > 1e-9,
+        "the loose run must carry an error: {true_error}"
+    );
+    assert!(
+        noise > 0.5 * true_error && noise < 1.5 * true_error,
+        "noise {noise} vs true error {true_error}"
+    );
+    assert!(
+        tight.tolerance_near_noise,
+        "1e-9 relative is below the noise"
+    );
+    assert!(
+        !observables[1].tolerance_near_noise,
+        "0.1 relative is far above it"
+    );
+    // The baseline keeps the estimate, bit for bit.
+    let recorded = recording.baseline.cases[0]
+        .value("tight")
+        .expect("recorded");
+    assert_eq!(recorded.noise.map(f64::to_bits), Some(noise.to_bits()));
+}
+
+#[test]
+fn a_composition_override_sets_the_initial_state() {
+    // A -> B at k = 2 1/s from 2.5 mol/m3 instead of the scenario's 1: c_A(0.5 s) =
+    // 2.5 exp(-1) (first-order closed form). An unknown species in the override is an error
+    // located at its case.
+    let dir = scratch("composition");
+    decay_files(&dir, 2.0);
+    let path = dir.join("c.suite.toml");
+    write(
+        &path,
+        "stoik_suite = 1\n[[case]]\nname = \"richer\"\nscenario = \"decay.scenario.toml\"\nconcentrations = { A = \"2.5 mol/m3\" }\n[[case.observable]]\nname = \"A\"\nkind = \"concentration\"\nspecies = \"A\"\ntime = 0.5\n",
+    );
+    let suite = Suite::load(&path).expect("suite");
+    let recording = record(&suite, &RecordOptions::default(), &no_progress).expect("records");
+    let a = recording.baseline.cases[0]
+        .value("A")
+        .expect("recorded")
+        .value;
+    assert!((a - 2.5 * (-1f64).exp()).abs() < 1e-8, "{a}");
+
+    write(
+        &path,
+        "stoik_suite = 1\n[[case]]\nname = \"typo\"\nscenario = \"decay.scenario.toml\"\nconcentrations = { AA = 1.0 }\n[[case.observable]]\nname = \"A\"\nkind = \"concentration\"\nspecies = \"A\"\ntime = 0.5\n",
+    );
+    let suite = Suite::load(&path).expect("the suite itself reads");
+    let e = load_error(prepare_cases(&suite).expect_err("unknown species refused"));
+    assert!(e.contains("c.suite.toml:2:1"), "{e}");
+    assert!(
+        e.contains("`AA` is not a species of the mechanism (did you mean `A`?)"),
+        "{e}"
+    );
 }

@@ -113,15 +113,22 @@ fn walkthrough_record_edit_verify_explain() {
     let report = text(&out.stdout);
     let first_line = report.lines().nth(1).expect("a first row");
     assert!(first_line.starts_with("MOVED"), "{report}");
-    assert!(report.contains("explain: `hydrogen-oxygen.toml` compared with "));
-    let shares: Vec<&str> = report
+    assert!(report.contains("explain: `hydrogen-oxygen.toml` compared with its recorded version, "));
+    // Only one edit: it makes the largest share of every move, and the whole of each.
+    assert!(
+        report.contains("  1. step changed: H + O2 <=> O + OH: the largest share of "),
+        "{report}"
+    );
+    let lines: Vec<&str> = report
         .lines()
-        .filter(|l| l.contains("step changed: H + O2 <=> O + OH"))
+        .filter(|l| l.starts_with("  ignition T="))
         .collect();
-    assert!(!shares.is_empty(), "{report}");
-    // Only one edit: it accounts for the whole of every move.
-    for line in &shares {
-        assert!(line.trim_start().starts_with("100.0 %"), "{line}");
+    assert!(!lines.is_empty(), "{report}");
+    for line in &lines {
+        assert!(
+            line.contains(": step changed: H + O2 <=> O + OH 100.0 %; sum 100.0 %"),
+            "{line}"
+        );
     }
     assert!(report.contains("extra run(s) in"), "{report}");
     let junit = std::fs::read_to_string(dir.join("report.xml")).expect("junit written");

@@ -475,64 +475,116 @@ pub fn explain(
     Ok(out)
 }
 
-/// The explanation for people: per moved observable, the edits ranked by their share of the
-/// move, the sum and whether the edits interact; then the cost.
+/// Shares smaller than this (in magnitude) are left out of a line of the report.
+const REPORT_MIN_SHARE: f64 = 0.005;
+/// At most this many edits are named on a line of the report.
+const REPORT_MAX_EDITS: usize = 3;
+
+fn percent(x: f64) -> String {
+    // `+ 0.0` turns a negative zero into zero.
+    format!("{:.1} %", 100.0 * x + 0.0)
+}
+
+/// The explanation for people: the edits ranked over every moved observable (how often each
+/// makes the largest share, and its largest share), then one line per moved observable with
+/// the old and new values, the main shares and their sum (flagging interaction); then the
+/// cost.
 pub fn explanation_report(e: &Explanation) -> String {
     use std::fmt::Write;
     let mut s = String::new();
     for (path, source) in &e.old_mechanisms {
-        let _ = writeln!(s, "explain: `{path}` compared with {source}");
+        let _ = writeln!(
+            s,
+            "explain: `{path}` compared with its recorded version, {source}"
+        );
     }
     for (edit, reason) in &e.not_revertible {
-        let _ = writeln!(s, "explain: not ranked: {edit}: {reason}");
+        let _ = writeln!(
+            s,
+            "explain: not ranked (cannot be taken back alone): {edit}: {reason}"
+        );
+    }
+    // Edits ranked: (name, moves where it is the largest share, largest |share|).
+    let mut ranking: Vec<(String, usize, f64)> = Vec::new();
+    for o in &e.observables {
+        for (k, share) in o.shares.iter().enumerate() {
+            let entry = match ranking.iter_mut().find(|r| r.0 == share.edit) {
+                Some(r) => r,
+                None => {
+                    ranking.push((share.edit.clone(), 0, 0.0));
+                    ranking.last_mut().expect("just pushed")
+                }
+            };
+            if let Some(x) = share.share {
+                entry.2 = entry.2.max(x.abs());
+                if k == 0 {
+                    entry.1 += 1;
+                }
+            }
+        }
+    }
+    ranking.sort_by(|a, b| b.1.cmp(&a.1).then(b.2.total_cmp(&a.2)));
+    if !ranking.is_empty() {
+        let _ = writeln!(
+            s,
+            "explain: {} edit(s) ranked over {} moved observable(s):",
+            ranking.len(),
+            e.observables.len()
+        );
+        for (i, (edit, first, largest)) in ranking.iter().enumerate() {
+            let _ = writeln!(
+                s,
+                "  {}. {edit}: the largest share of {first} move(s); largest share {}",
+                i + 1,
+                percent(*largest)
+            );
+        }
+        let _ = writeln!(
+            s,
+            "explain: each move by edit, as the part of (new - old) the edit accounts for (log space for factor tolerances):"
+        );
     }
     for o in &e.observables {
-        let scale = match o.scale {
-            MoveScale::Log => "in log space",
-            MoveScale::Linear => "linear",
-        };
         let old = match &o.old_run {
             Ok(v) => format!("{v:.6e}"),
             Err(r) => format!("no value ({r})"),
         };
+        let mut parts: Vec<String> = o
+            .shares
+            .iter()
+            .filter(|x| x.share.is_some_and(|v| v.abs() >= REPORT_MIN_SHARE))
+            .take(REPORT_MAX_EDITS)
+            .map(|x| format!("{} {}", x.edit, percent(x.share.unwrap_or(0.0))))
+            .collect();
+        let shown = parts.len();
+        let rest = o.shares.len() - shown;
+        if rest > 0 {
+            parts.push(format!("{rest} other(s) smaller"));
+        }
+        let sum = match o.sum_of_shares {
+            Some(x) if o.interacting => format!("sum {}: the edits interact", percent(x)),
+            Some(x) => format!("sum {}", percent(x)),
+            None => "sum -: some run gave no value".to_string(),
+        };
         let _ = writeln!(
             s,
-            "explain: case `{}`, `{}`: baseline {:.6e} {u}, old mechanism now {old} {u}, new {:.6e} {u}; shares of the move ({scale}):",
+            "  {} / {}: {old} -> {:.6e} {}: {}; {sum}",
             o.case,
             o.observable,
-            o.baseline,
             o.new,
-            u = o.unit
+            o.unit,
+            parts.join(", ")
         );
         if !o.old_run_reproduces_baseline {
             let _ = writeln!(
                 s,
-                "  note: the old mechanism run now does not reproduce the baseline: something besides the mechanism moved this value"
+                "    note: the old mechanism run now gives {old}, not the baseline {:.6e}: something besides the mechanism moved this value too",
+                o.baseline
             );
         }
-        for share in &o.shares {
-            let part = share
-                .share
-                .map_or_else(|| "      -".to_string(), |x| format!("{:7.1} %", 100.0 * x));
-            let value = match &share.reverted_value {
-                Ok(v) => format!("{v:.6e} {}", o.unit),
-                Err(r) => format!("no value: {r}"),
-            };
-            let _ = writeln!(s, "  {part}  {}  (with it taken back: {value})", share.edit);
-        }
-        match o.sum_of_shares {
-            Some(sum) if o.interacting => {
-                let _ = writeln!(
-                    s,
-                    "  sum {:.1} %: the edits interact (their parts do not add up to the move)",
-                    100.0 * sum
-                );
-            }
-            Some(sum) => {
-                let _ = writeln!(s, "  sum {:.1} %: the edits act independently", 100.0 * sum);
-            }
-            None => {
-                let _ = writeln!(s, "  sum: - (some run gave no value)");
+        for x in o.shares.iter().filter(|x| x.reverted_value.is_err()) {
+            if let Err(r) = &x.reverted_value {
+                let _ = writeln!(s, "    with `{}` taken back: no value: {r}", x.edit);
             }
         }
     }

@@ -147,7 +147,7 @@ fn edits_that_interact_are_flagged_with_shares_from_the_closed_form() {
     assert!(o.interacting);
     let report = stoik_suite::explanation_report(&e);
     assert!(report.contains("the edits interact"), "{report}");
-    assert!(report.contains("300.0 %"), "{report}");
+    assert!(report.contains("step changed: A -> B 300.0 %"), "{report}");
 }
 
 #[test]

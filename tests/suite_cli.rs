@@ -116,7 +116,9 @@ fn walkthrough_record_edit_verify_explain() {
     assert!(report.contains("explain: `hydrogen-oxygen.toml` compared with its recorded version, "));
     // Only one edit: it makes the largest share of every move, and the whole of each.
     assert!(
-        report.contains("  1. step changed: H + O2 <=> O + OH: the largest share of "),
+        report.contains(
+            "  1. step changed: H + O2 <=> O + OH: the largest share in 15 of 15 move(s), up to "
+        ),
         "{report}"
     );
     let lines: Vec<&str> = report

@@ -534,8 +534,9 @@ pub fn explanation_report(e: &Explanation) -> String {
         for (i, (edit, first, largest)) in ranking.iter().enumerate() {
             let _ = writeln!(
                 s,
-                "  {}. {edit}: the largest share of {first} move(s); largest share {}",
+                "  {}. {edit}: the largest share in {first} of {} move(s), up to {}",
                 i + 1,
+                e.observables.len(),
                 percent(*largest)
             );
         }
@@ -559,7 +560,7 @@ pub fn explanation_report(e: &Explanation) -> String {
         let shown = parts.len();
         let rest = o.shares.len() - shown;
         if rest > 0 {
-            parts.push(format!("{rest} other(s) smaller"));
+            parts.push(format!("{rest} smaller"));
         }
         let sum = match o.sum_of_shares {
             Some(x) if o.interacting => format!("sum {}: the edits interact", percent(x)),

@@ -641,3 +641,36 @@ fn a_composition_override_sets_the_initial_state() {
         "{e}"
     );
 }
+
+#[test]
+fn measured_values_are_validated_apart_from_the_verdict() {
+    // A -> B at k = 2 1/s: half-life ln 2 / k = 0.34657 s (first-order closed form). A
+    // measurement of 0.35 +- 0.01 s agrees; one of 0.30 +- 0.01 s does not, yet the
+    // regression verdict (against the baseline) still passes.
+    let dir = scratch("measured");
+    decay_files(&dir, 2.0);
+    let path = dir.join("m.suite.toml");
+    write(
+        &path,
+        "stoik_suite = 1\n[[case]]\nname = \"decay\"\nscenario = \"decay.scenario.toml\"\n[[case.observable]]\nname = \"close\"\nkind = \"crossing-time\"\nspecies = \"A\"\nlevel = 0.5\nmeasured = { value = \"350 ms\", uncertainty = \"10 ms\" }\n[[case.observable]]\nname = \"far\"\nkind = \"crossing-time\"\nspecies = \"A\"\nlevel = 0.5\nmeasured = { value = 0.30, uncertainty = 0.01 }\n",
+    );
+    let suite = Suite::load(&path).expect("suite");
+    let recording = record(&suite, &RecordOptions::default(), &no_progress).expect("records");
+    let v = verify(
+        &suite,
+        &recording.baseline,
+        &VerifyOptions::default(),
+        &no_progress,
+    )
+    .expect("verifies");
+    assert_eq!(v.verdict(), Verdict::AllWithin);
+    let by_name = |n: &str| v.observables().find(|o| o.name == n).expect("reported");
+    let close = by_name("close");
+    assert!((close.new.expect("value") - 2f64.ln() / 2.0).abs() < 1e-7);
+    assert_eq!(close.agrees_with_measurement(), Some(true));
+    assert_eq!(by_name("far").agrees_with_measurement(), Some(false));
+    let report = stoik_suite::terminal_report(&v);
+    assert!(report.contains("validation against measured values (not part of the verdict):"));
+    assert!(report.contains("decay / far: computed"), "{report}");
+    assert!(report.contains("DISAGREES"), "{report}");
+}

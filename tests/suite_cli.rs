@@ -78,19 +78,31 @@ fn walkthrough_record_edit_verify_explain() {
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stdout));
     assert!(text(&out.stdout).contains("20 within tolerance, 0 moved"));
 
-    // A comment edit and a reordering change nothing kinetically: still exit 0.
+    // A reordering, a comment and a unit rewrite change nothing kinetically: `diff` says so
+    // and verify still exits 0. The rewrite gives H + O2 <=> O + OH in m3 and kJ/mol:
+    // 3.547e15 cm3/(mol s) = 3.547e9 m3/(mol s); 16599 cal/mol x 4.184 J/cal (the
+    // thermochemical calorie, common practice) = 69.450216 kJ/mol.
     let path = dir.join("hydrogen-oxygen.toml");
     let t = std::fs::read_to_string(&path).expect("read");
+    let old_step = "equation = \"H + O2 <=> O + OH\"\nforward = { prefactor = 3.547e15, temperature_exponent = -0.406, activation_energy = 16599.0 }";
+    assert!(t.contains(old_step));
     std::fs::write(
         &path,
         t.replace(
-            "equation = \"H + O2 <=> O + OH\"",
-            "equation = \"O2 + H <=> OH + O\" # reordered",
+            old_step,
+            "equation = \"O2 + H <=> OH + O\" # reordered, SI length and kJ\nunits = { length = \"m\", activation_energy = \"kJ/mol\" }\nforward = { prefactor = 3.547e9, temperature_exponent = -0.406, activation_energy = 69.450216 }",
         ),
     )
     .expect("write");
+    let out = stoik(
+        &["diff", "HEAD:hydrogen-oxygen.toml", "hydrogen-oxygen.toml"],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stdout));
+    assert!(text(&out.stdout).contains("no kinetic change"));
     let out = stoik(&["suite", "verify", "hydrogen-oxygen.suite.toml"], &dir);
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stdout));
+    assert!(text(&out.stdout).contains("20 within tolerance, 0 moved"));
     std::fs::write(&path, t).expect("write back");
 
     // The first step's prefactor doubled: the delays move beyond 1 %, exit 4, and explain

@@ -178,15 +178,10 @@ fn read_probe(profiles: &Profiles, probe: Probe) -> Result<f64, String> {
             Ok(None) => Err("no ignition found by the criterion before the end time".into()),
             Err(e) => Err(e.to_string()),
         },
-        Probe::Integral(i) => {
-            // Trapezoid rule on the output times.
-            let rows = &profiles.concentrations_mol_per_m3;
-            Ok(times
-                .windows(2)
-                .zip(rows.windows(2))
-                .map(|(t, c)| 0.5 * (t[1] - t[0]) * (c[0][i] + c[1][i]))
-                .sum())
-        }
+        Probe::Integral(i) => profiles
+            .located(Watch::Integral(Quantity::Concentration(i)))
+            .map(|l| l.value)
+            .ok_or_else(|| "the integral was not computed".to_string()),
     }
 }
 
@@ -355,6 +350,7 @@ fn prepare_from_plan(
                 value: level,
             }),
             Probe::Delay(c) => watches.extend(c.watches(initial_k)),
+            Probe::Integral(i) => watches.push(Watch::Integral(Quantity::Concentration(i))),
             _ => {}
         }
         probes.push(probe);

@@ -141,7 +141,7 @@ pub enum ObservableKind {
         criterion: DelayCriterion,
     },
     /// The time integral of a species' concentration from 0 to the end time (mol s/m3),
-    /// by the trapezoid rule on the run's output times.
+    /// on the solver's steps (independent of the output grid).
     Integral {
         /// The species.
         species: String,

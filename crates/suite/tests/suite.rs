@@ -96,17 +96,13 @@ fn first_order_half_life_and_its_tolerance_edge() {
     assert!((a - (-1f64).exp()).abs() < 1e-8, "{a}");
     let xb = case.value("x_B").expect("recorded").value;
     assert!((xb - (1.0 - (-1f64).exp())).abs() < 1e-8, "{xb}");
-    // Integral of c0 exp(-k t) from 0 to 10 s: (1 - exp(-20)) / k; the trapezoid rule on a
-    // step of 5 ms overestimates it by about (k h)^2 / 12 relative (8e-6).
+    // Integral of c0 exp(-k t) from 0 to 10 s: (1 - exp(-20)) / k, taken on the solver's
+    // steps: accurate to the run's tolerance (rtol 1e-10).
     let integral = case.value("A integral").expect("recorded").value;
     let exact = (1.0 - (-20f64).exp()) / k;
     assert!(
-        (integral / exact - 1.0).abs() < 2e-5,
+        (integral / exact - 1.0).abs() < 1e-8,
         "{integral} vs {exact}"
-    );
-    assert!(
-        integral > exact,
-        "the trapezoid overestimates a convex decay"
     );
 
     decay_files(&dir, k * f);
@@ -673,4 +669,46 @@ fn measured_values_are_validated_apart_from_the_verdict() {
     assert!(report.contains("validation against measured values (not part of the verdict):"));
     assert!(report.contains("decay / far: computed"), "{report}");
     assert!(report.contains("DISAGREES"), "{report}");
+}
+
+#[test]
+fn an_integral_does_not_depend_on_the_output_grid() {
+    // The same decay with 3 and with 2001 output points: the integral of c_A from 0 to 10 s
+    // is (1 - exp(-20)) / k (closed form) within the tolerance either way, and the two agree
+    // to 1e-9 relative (a trapezoid rule on those 3 points, at 0, 5 and 10 s, would give 2.5: 5 times too much).
+    let k = 2.0;
+    let exact = (1.0 - (-20f64).exp()) / k;
+    let mut values = Vec::new();
+    for points in ["3", "2001"] {
+        let dir = scratch(&format!("integral-{points}"));
+        decay_files(&dir, k);
+        let scenario = std::fs::read_to_string(dir.join("decay.scenario.toml"))
+            .expect("read")
+            .replace("points = 2001", &format!("points = {points}"));
+        write(&dir.join("decay.scenario.toml"), &scenario);
+        let path = dir.join("i.suite.toml");
+        write(
+            &path,
+            "stoik_suite = 1\n[[case]]\nname = \"decay\"\nscenario = \"decay.scenario.toml\"\n[[case.observable]]\nname = \"A integral\"\nkind = \"integral\"\nspecies = \"A\"\n",
+        );
+        let suite = Suite::load(&path).expect("suite");
+        let recording = record(
+            &suite,
+            &RecordOptions {
+                estimate_noise: false,
+            },
+            &no_progress,
+        )
+        .expect("records");
+        let v = recording.baseline.cases[0]
+            .value("A integral")
+            .expect("recorded")
+            .value;
+        assert!(
+            (v / exact - 1.0).abs() < 1e-8,
+            "{points} points: {v} vs {exact}"
+        );
+        values.push(v);
+    }
+    assert!((values[0] / values[1] - 1.0).abs() < 1e-9, "{values:?}");
 }

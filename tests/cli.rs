@@ -557,3 +557,19 @@ fn urban_box_shows_the_diurnal_cycle() {
     let n2 = col("N2 [molecule/cm3]");
     assert!(rows.iter().all(|r| r[n2] == 1.92e19));
 }
+
+#[test]
+fn fit_thermo_locates_a_table_too_short_to_fit_where_it_ends() {
+    // The NIST-JANAF H2O table cut after its first rows (below 1000 K only): too few points
+    // above the common temperature. The error names the file's last line.
+    let dir = scratch("fit-short");
+    let full = std::fs::read_to_string(repo().join("crates/thermo/tests/data/janaf/H2O.tsv"))
+        .expect("table");
+    let rows: Vec<&str> = full.lines().take(12).collect();
+    std::fs::write(dir.join("short.tsv"), rows.join("\n") + "\n").expect("write");
+    let out = stoik(&["fit-thermo", "short.tsv", "-o", "w.toml"], &dir);
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(err.contains("short.tsv:12:1: error: cannot fit"), "{err}");
+    assert!(!dir.join("w.toml").exists());
+}

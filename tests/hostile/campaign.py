@@ -21,9 +21,13 @@ Case families (`--list-families`)
 ---------------------------------
 truncate   Every bundled file cut at seeded offsets (0 bytes, mid-line, mid-token, last byte
            dropped), then given to each subcommand that reads that kind of file: a mechanism to
-           `check`, `energetics` and `run` of a scenario naming it; a scenario to `check`, `run`
-           and `batch`; the thermo file through the hydrogen-oxygen mechanism; the rate-data
-           CSV to `fit-rate`; a JANAF table to `fit-thermo`.
+           `check`, `diff` (the file against itself), `energetics` and `run` of a scenario
+           naming it; a scenario to `check`, `run` and `batch`; a suite to `suite record`; the
+           thermo file through the hydrogen-oxygen mechanism; the rate-data CSV to `fit-rate`;
+           a JANAF table to `fit-thermo`. `diff` may exit 1 (kinetic changes) and `suite` 4
+           (an observable moved); a CSV's `nan` cells are not findings when they lie in its
+           mole-fraction columns and stoik warned that those are undefined (the documented
+           marker for a total concentration that is not positive).
 byteflip   Every bundled file with one to three seeded bytes replaced (random byte, 0xFF,
            NUL, a quote, a bracket, a newline), same commands.
 utf8       Invalid UTF-8 (lone continuation byte, truncated sequence, overlong form, 0xFF)
@@ -201,6 +205,8 @@ SEEDS = load_seeds()
 def kind_of(rel: str) -> str:
     if rel.endswith(".scenario.toml"):
         return "scenario"
+    if rel.endswith(".suite.toml"):
+        return "suite"
     if rel.startswith("thermo/"):
         return "thermo"
     if rel.startswith("data/"):
@@ -223,10 +229,18 @@ def thermo_of(mech_rel: str) -> list[str]:
     return [(Path(mech_rel).parent / x.decode()).as_posix() for x in re.findall(rb'"([^"]+)"', m.group(1))]
 
 
+def scenarios_of(suite_rel: str) -> list[str]:
+    names = re.findall(rb'^scenario\s*=\s*"([^"]+)"', SEEDS[suite_rel], re.M)
+    return [(Path(suite_rel).parent / n.decode()).as_posix() for n in names]
+
+
 def deps(rel: str) -> list[str]:
     """The file and every bundled file it names."""
     out = [rel]
-    if kind_of(rel) == "scenario":
+    if kind_of(rel) == "suite":
+        for s in scenarios_of(rel):
+            out += deps(s)
+    elif kind_of(rel) == "scenario":
         out += deps(mechanism_of(rel))
     elif kind_of(rel) == "mechanism":
         out += thermo_of(rel)
@@ -314,10 +328,19 @@ class Gen:
         kind = kind_of(rel)
         made = []
         sentinel = self.rng.random() < 0.5
+        if kind == "suite":
+            files = bundle(rel)
+            files[rel] = content
+            made.append(self.add(family, "suite", kind,
+                                 ["suite", "record", rel, "-o", "out.baseline.toml", "--no-noise", "--quiet"],
+                                 files, locus=locus,
+                                 outputs={"out.baseline.toml": SENTINEL if sentinel else None}))
         if kind == "mechanism":
             files = bundle(rel)
             files[rel] = content
             made.append(self.add(family, "check", kind, ["check", rel], files, locus=locus))
+            # `diff` reads both sides like `check`; the same file twice has no kinetic change.
+            made.append(self.add(family, "diff", kind, ["diff", rel, rel], files, locus=locus))
             if thermo_of(rel):
                 made.append(self.add(family, "energetics", kind, ["energetics", rel], files, locus=locus))
             scen = SCENARIO_OF_MECH.get(rel)
@@ -677,6 +700,18 @@ class Gen:
                          {d: SEEDS[d]}, specials=specials3, must_refuse=True,
                          outputs={a: None for a, b in specials3 if b.startswith("symlink:")}, locus=("output",), flags=(flag, spell(d), d),
                          note=f"fit-rate d.csv {flag} d.csv ({label})")
+        # a suite's baseline onto one of its inputs
+        st = "hydrogen-oxygen.suite.toml"
+        for target, kind in ((st, "suite"), ("hydrogen-oxygen.scenario.toml", "scenario"),
+                             ("hydrogen-oxygen.toml", "mechanism"), ("thermo/janaf-nasa7.toml", "thermo")):
+            for label, spell, specials in spellings:
+                out = spell(target)
+                specials2 = [(a, b.replace("@TARGET@", target)) for a, b in specials]
+                self.add("alias", "suite", kind, ["suite", "record", st, "-o", out, "--no-noise", "-q"], bundle(st),
+                         specials=specials2, must_refuse=True,
+                         outputs={a: None for a, b in specials2 if b.startswith("symlink:")},
+                         locus=("output",), flags=("-o", "--output", out, target),
+                         note=f"suite record -o the {kind} ({label})")
         # a mechanism named like the CSV that run (default output) and batch write
         files = bundle(oz)
         files["ozone-flask.csv"] = files.pop("ozone-flask.toml")
@@ -1072,7 +1107,28 @@ def written_files(tmp: str, before: dict, after: dict) -> list[str]:
     return [r for r, h in after.items() if before.get(r) != h and not h.startswith(("link:", "fifo"))]
 
 
-def check_loadback(binary: str, case: Case, tmp: str, rel: str, findings: list) -> None:
+UNDEFINED_MOLE_FRACTIONS = re.compile(r"warning: (\S+): the total concentration is not positive in \d+ row\(s\).*written as `nan`")
+
+
+def undefined_cells_only(text: str, warned: bool) -> bool:
+    """Whether every NaN of a CSV lies in its mole-fraction columns and stoik warned about
+    them: the documented marker of an undefined mole fraction (total concentration not
+    positive), not a silent NaN (docs/file-format.md, CSV output)."""
+    if not warned:
+        return False
+    lines = text.splitlines()
+    if not lines:
+        return False
+    header = lines[0].split(",")
+    allowed = {i for i, h in enumerate(header) if "[mole fraction]" in h}
+    for line in lines[1:]:
+        for i, cell in enumerate(line.split(",")):
+            if NONFINITE.fullmatch(cell.strip()) and i not in allowed:
+                return False
+    return True
+
+
+def check_loadback(binary: str, case: Case, tmp: str, rel: str, findings: list, stderr: str = "") -> None:
     path = os.path.join(tmp, rel)
     try:
         with open(path, "rb") as f:
@@ -1081,7 +1137,9 @@ def check_loadback(binary: str, case: Case, tmp: str, rel: str, findings: list) 
         return
     text = data.decode("utf-8", "replace")
     bad = nonfinite_in(text)
-    if bad:
+    warned = any(os.path.basename(m.group(1)) == os.path.basename(rel)
+                 for m in UNDEFINED_MOLE_FRACTIONS.finditer(stderr))
+    if bad and not undefined_cells_only(text, warned):
         findings.append(("nonfinite-output", f"{rel}: {bad}"))
     if b"\xef\xbf\xbd" not in data and "\ufffd" in text:
         findings.append(("unloadable-output", f"{rel}: not UTF-8"))
@@ -1180,7 +1238,9 @@ def run_case(binary: str, case: Case, tmp_root: str | None = None) -> dict:
         if code == 101 or "panicked at" in err:
             m = re.search(r"panicked at [^\n]*\n?[^\n]*", err)
             findings.append(("panic", m.group(0).strip()[:240] if m else f"exit 101: {err.strip()[:200]}"))
-        if code >= 0 and code not in (0, 2, 3, 101) and not (code == 1 and strict):
+        # `diff` exits 1 for kinetic changes, `suite verify` 4 for a moved observable.
+        allowed = {"diff": (1,), "suite": (4,)}.get(case.command, ())
+        if code >= 0 and code not in (0, 2, 3, 101) and not (code == 1 and strict) and code not in allowed:
             findings.append(("bad-exit", f"exit {code}: {err.strip()[:200]}"))
         if case.must_refuse and code != 2 and not r["timed_out"]:
             findings.append(("alias-accepted", f"exit {code}: {(err.strip() or r['stdout'].strip())[:160]!r}"))
@@ -1213,7 +1273,7 @@ def run_case(binary: str, case: Case, tmp_root: str | None = None) -> dict:
         for rel in new:
             if rel in case.files:
                 continue
-            check_loadback(binary, case, tmp, rel, findings)
+            check_loadback(binary, case, tmp, rel, findings, err)
         if case.expect_outputs and code == 0:
             pattern, n = case.expect_outputs
             got = [p for p in Path(tmp).glob(pattern) if p.is_file() and Path(p).read_bytes() != SENTINEL]

@@ -110,9 +110,18 @@ pub fn fit_thermo(args: &FitThermoArgs) -> Result<(), CliError> {
             _ => CliError::fit(&at, e),
         })?;
         let table = read_janaf_tsv(&text).map_err(|e| CliError::fit(&at, e))?;
+        // Conclusions about the whole table (too few rows, a range not covered) are located
+        // where the table ends: its last non-empty line.
+        let last_line = text
+            .lines()
+            .enumerate()
+            .filter(|(_, l)| !l.trim().is_empty())
+            .last()
+            .map_or(1, |(i, _)| i + 1);
+        let at_end = format!("{}:{last_line}:1: error: ", path.display());
         let (lo, hi) = table
             .temperature_span_k()
-            .ok_or_else(|| CliError::fit(&at, "no rows above 0 K"))?;
+            .ok_or_else(|| CliError::fit(&at_end, "no rows above 0 K"))?;
         let points = table.points(args.low_k.max(lo), args.high_k.min(hi));
         let fit = fit_nasa7(
             &points,
@@ -123,7 +132,7 @@ pub fn fit_thermo(args: &FitThermoArgs) -> Result<(), CliError> {
         .map_err(|e| {
             CliError::fit(
                 format!(
-                    "{at}cannot fit with --low-k {} K, --common-temperature-k {} K, --high-k {} K: ",
+                    "{at_end}cannot fit with --low-k {} K, --common-temperature-k {} K, --high-k {} K (the table ends here): ",
                     args.low_k, args.common_temperature_k, args.high_k
                 ),
                 e,

@@ -274,13 +274,21 @@ pub fn parse_suite(text: &str, file_label: &str, folder: &Path) -> Result<Suite,
         return Err(r.into_error());
     };
     let suite = read_suite(&mut r, doc.get_ref(), file_label, folder);
-    let diagnostics: Diagnostics = r.finish();
+    let mut diagnostics: Diagnostics = r.finish();
     match suite {
         Some(mut s) if !diagnostics.has_errors() => {
             s.sha256 = crate::hash::sha256_hex(text.as_bytes());
             Ok(s)
         }
-        _ => Err(LoadError::Invalid { diagnostics }),
+        Some(s) => {
+            // Every problem at once: the cases that did read are matched against their
+            // scenarios and mechanisms too (unknown species, refused overrides).
+            if let Err(LoadError::Invalid { diagnostics: more }) = crate::case::prepare_cases(&s) {
+                diagnostics.0.extend(more.0);
+            }
+            Err(LoadError::Invalid { diagnostics })
+        }
+        None => Err(LoadError::Invalid { diagnostics }),
     }
 }
 

@@ -147,7 +147,7 @@ fn bad_analysis_input_is_located_at_its_flag_with_exit_2() {
             &["--element", "unknown element `C`", "H, O"],
         ),
         (
-            &["flux", &demo, "--element", "H", "--time", "-1e-4"],
+            &["flux", &demo, "--element", "H", "--time=-1e-4"],
             &["--time", "outside the run"],
         ),
         (
@@ -210,6 +210,38 @@ fn analysis_outputs_never_overwrite_an_input() {
     );
     // No element declared in this mechanism: refused before anything is written.
     assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr)
+            .contains("--element: unknown element `H`; the mechanism's elements are none"),
+        "{}",
+        text(&out.stderr)
+    );
+    // The demo's mechanism as the DOT output: refused, located at --dot.
+    let mechanism = repo().join("mechanisms/hydrogen-oxygen.toml");
+    let mechanism_before = std::fs::read_to_string(&mechanism).unwrap();
+    let out = stoik(
+        &[
+            "flux",
+            &demo(),
+            "--element",
+            "H",
+            "--time",
+            "1e-4",
+            "--dot",
+            mechanism.to_str().unwrap(),
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    let err = text(&out.stderr);
+    assert!(
+        err.contains("--dot") && err.contains("refusing to overwrite an input"),
+        "{err}"
+    );
+    assert_eq!(
+        std::fs::read_to_string(&mechanism).unwrap(),
+        mechanism_before
+    );
     assert_eq!(std::fs::read_to_string(&scenario).unwrap(), before);
     assert!(std::fs::read_to_string(dir.join("a-to-b.toml"))
         .unwrap()

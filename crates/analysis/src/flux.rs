@@ -85,13 +85,21 @@ pub fn element_index(mechanism: &Mechanism, symbol: &str) -> Result<usize, Analy
         .position(|e| e.symbol == symbol)
         .ok_or_else(|| AnalysisError::UnknownElement {
             symbol: symbol.to_string(),
-            known: mechanism
-                .elements
-                .iter()
-                .map(|e| e.symbol.as_str())
-                .collect::<Vec<_>>()
-                .join(", "),
+            known: known_elements(mechanism),
         })
+}
+
+/// The mechanism's element symbols, comma-separated, or `none (no species declares atoms)`.
+fn known_elements(mechanism: &Mechanism) -> String {
+    if mechanism.elements.is_empty() {
+        return "none (no species declares atoms)".to_string();
+    }
+    mechanism
+        .elements
+        .iter()
+        .map(|e| e.symbol.as_str())
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 /// Atoms of `element` in every species (dimensionless counts).
@@ -175,12 +183,7 @@ pub fn flux_graph(
         .map(|e| e.symbol.clone())
         .ok_or_else(|| AnalysisError::UnknownElement {
             symbol: format!("#{element}"),
-            known: mechanism
-                .elements
-                .iter()
-                .map(|e| e.symbol.as_str())
-                .collect::<Vec<_>>()
-                .join(", "),
+            known: known_elements(mechanism),
         })?;
     let transfers = element_transfers(mechanism, element, &rates.rates)?;
     // Per unordered pair (low, high): signed per-step parts, positive from low to high.

@@ -22,6 +22,9 @@
 use crate::{AnalysisError, Span, StepRates};
 use stoik_mechanism::{Mechanism, StoichTerm};
 
+/// An unordered pair of species, the lower index first.
+type Pair = (usize, usize);
+
 /// The default relative threshold of a flux graph: edges below 1 % of the largest are
 /// left out.
 pub const DEFAULT_THRESHOLD: f64 = 0.01;
@@ -187,7 +190,7 @@ pub fn flux_graph(
         })?;
     let transfers = element_transfers(mechanism, element, &rates.rates)?;
     // Per unordered pair (low, high): signed per-step parts, positive from low to high.
-    let mut pairs: Vec<((usize, usize), Vec<(usize, f64)>)> = Vec::new();
+    let mut pairs: Vec<(Pair, Vec<(usize, f64)>)> = Vec::new();
     for t in transfers.iter().filter(|t| t.from != t.to) {
         let (key, sign) = if t.from < t.to {
             ((t.from, t.to), 1.0)

@@ -422,3 +422,29 @@ fn bad_requests_are_refused_with_the_value_named() {
         Err(AnalysisError::NothingAsked)
     ));
 }
+
+#[test]
+fn a_watched_step_rate_of_a_missing_step_or_a_reversed_window_is_refused() {
+    // The reactor's own argument checks, reached through a plan: nothing is integrated.
+    use stoik_reactor::{Quantity, ReactorError, Watch};
+    use stoik_scenario::ScenarioError;
+    let mut plan = first_order_plan();
+    plan.add_watches(&[Watch::Integral(Quantity::StepRate(1))]);
+    assert!(matches!(
+        plan.run(),
+        Err(ScenarioError::Reactor(ReactorError::StepOutOfRange {
+            step: 1,
+            n_steps: 1
+        }))
+    ));
+    let mut plan = first_order_plan();
+    plan.add_watches(&[Watch::WindowIntegral {
+        quantity: Quantity::StepRate(0),
+        from_s: 0.5,
+        to_s: 0.1,
+    }]);
+    assert!(matches!(
+        plan.run(),
+        Err(ScenarioError::Reactor(ReactorError::BadWindow { .. }))
+    ));
+}

@@ -609,6 +609,20 @@ impl Kinetics {
         }
     }
 
+    /// The net rate of progress (forward minus reverse, third body and pressure factor
+    /// included) of step `step` alone, mol/(m3 s), at rate constants `k` and concentrations
+    /// `c` (mol/m3): the entry `step` of [`rates_of_progress`](Self::rates_of_progress),
+    /// without allocating. NaN when `step` is out of range or `c` is shorter than
+    /// `n_species`.
+    pub fn rate_of_progress(&self, k: &RateConstants, c: &[f64], step: usize) -> f64 {
+        if step >= self.n_steps || c.len() < self.n_species {
+            return f64::NAN;
+        }
+        let total = self.total_concentration(c);
+        let (fwd, rev) = self.directional_rates(k, step, c);
+        self.third_body_concentration(k, step, c, total) * (fwd - rev)
+    }
+
     /// The terms of species `species`' net production rate at rate constants `k` and
     /// concentrations `c` (mol/m3): `(step, nu q)` for every step whose net coefficient `nu`
     /// for the species is not zero, in step order, with `q` the step's rate of progress;

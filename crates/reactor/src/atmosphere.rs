@@ -225,8 +225,11 @@ impl BoxConditions {
         Ok(())
     }
 
-    /// Overwrites the forward rate constants of the photolysis steps with J(`t_s`).
-    pub(crate) fn apply_photolysis(&self, t_s: f64, forward: &mut [f64]) {
+    /// Overwrites the forward rate constants (1/s for a photolysis step) of the photolysis
+    /// steps with J(`t_s`) at time `t_s` (s); `forward` holds one entry per step, as
+    /// `RateConstants::forward`. What the reactor does before every evaluation, for callers
+    /// that evaluate rates of progress from a profile.
+    pub fn apply_photolysis(&self, t_s: f64, forward: &mut [f64]) {
         for (j, rate) in &self.photolysis {
             forward[*j] = rate.evaluate(t_s);
         }

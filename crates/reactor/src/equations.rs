@@ -252,6 +252,12 @@ impl<M: Backend> BatchEquations<M> {
                     f[self.kinetics.n_species()]
                 }
             },
+            Quantity::StepRate(step) => {
+                self.rates_for(t_s, y);
+                let n = self.kinetics.n_species().min(y.len());
+                self.kinetics
+                    .rate_of_progress(&self.rate_constants.borrow(), &y[..n], step)
+            }
         }
     }
 

@@ -203,6 +203,26 @@ pub enum ReactorError {
         /// Number of species of the mechanism.
         n_species: usize,
     },
+    /// A watched step rate names a step the mechanism does not have.
+    #[error(
+        "watched step rate: step index {step} is out of range (the mechanism has {n_steps} steps)"
+    )]
+    StepOutOfRange {
+        /// The offending step index.
+        step: usize,
+        /// Number of steps of the mechanism.
+        n_steps: usize,
+    },
+    /// A watched window is empty, reversed or not finite.
+    #[error(
+        "watched window [{from_s}, {to_s}] s must be finite with its start at or before its end"
+    )]
+    BadWindow {
+        /// Start of the window, s.
+        from_s: f64,
+        /// End of the window, s.
+        to_s: f64,
+    },
     /// A prescribed temperature history is malformed.
     #[error("bad temperature history: {0}")]
     BadTemperatureHistory(String),

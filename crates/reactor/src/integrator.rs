@@ -75,19 +75,29 @@ fn validate_options(
             return Err(ReactorError::BadNewtonTolerance(tol));
         }
     }
-    check_watches(kinetics.n_species(), &options.watch)
+    check_watches(kinetics.n_species(), kinetics.n_steps(), &options.watch)
 }
 
-/// Checks that every watched concentration names a species of the mechanism.
-fn check_watches(n_species: usize, watches: &[Watch]) -> Result<(), ReactorError> {
+/// Checks that every watched concentration names a species of the mechanism, every watched
+/// step rate a step, and every window is ordered and finite.
+fn check_watches(n_species: usize, n_steps: usize, watches: &[Watch]) -> Result<(), ReactorError> {
     for watch in watches {
-        if let Quantity::Concentration(species) = watch.quantity() {
-            if species >= n_species {
+        match watch.quantity() {
+            Quantity::Concentration(species) if species >= n_species => {
                 return Err(ReactorError::SpeciesOutOfRange {
                     what: "watched concentration",
                     species,
                     n_species,
                 });
+            }
+            Quantity::StepRate(step) if step >= n_steps => {
+                return Err(ReactorError::StepOutOfRange { step, n_steps });
+            }
+            _ => {}
+        }
+        if let Watch::WindowIntegral { from_s, to_s, .. } = *watch {
+            if !(from_s.is_finite() && to_s.is_finite() && from_s <= to_s) {
+                return Err(ReactorError::BadWindow { from_s, to_s });
             }
         }
     }

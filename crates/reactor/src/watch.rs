@@ -19,6 +19,10 @@ pub enum Quantity {
     Temperature,
     /// dT/dt from the model's equations, K/s.
     TemperatureRate,
+    /// Net rate of progress (forward minus reverse) of step `.0` (mechanism index) at the
+    /// state, mol/(m3 s), with the rate constants the equations use there (temperature,
+    /// pressure factors, photolysis J(t)).
+    StepRate(usize),
 }
 
 /// What to locate on the solver's steps.
@@ -39,6 +43,18 @@ pub enum Watch {
     /// every step: exact for the interpolating polynomials of BDF orders up to 5, hence
     /// accurate to the integration tolerance whatever the output grid.
     Integral(Quantity),
+    /// The time integral of the quantity over the window `[from_s, to_s]` (s) only (its
+    /// unit times s): the quadrature of [`Watch::Integral`] on the part of each solver step
+    /// that lies inside the window. A window reaching past the end of the run integrates up
+    /// to the end reached; `Located::time_s` then tells how far.
+    WindowIntegral {
+        /// The quantity.
+        quantity: Quantity,
+        /// Start of the window, s.
+        from_s: f64,
+        /// End of the window, s (at least `from_s`).
+        to_s: f64,
+    },
 }
 
 impl Watch {
@@ -48,6 +64,7 @@ impl Watch {
             Watch::Maximum(q) => q,
             Watch::Crossing { quantity, .. } => quantity,
             Watch::Integral(q) => q,
+            Watch::WindowIntegral { quantity, .. } => quantity,
         }
     }
 }
@@ -131,6 +148,13 @@ impl Watcher {
                         interior: true,
                     })
                 }
+                Watch::WindowIntegral { from_s, .. } => {
+                    s.found = Some(Located {
+                        time_s: from_s.max(t_s),
+                        value: 0.0,
+                        interior: true,
+                    })
+                }
             }
         }
     }
@@ -175,6 +199,19 @@ impl Watcher {
                             + gauss_legendre_3(tp, t_s, &mut |t| at(t, q));
                         s.found = Some(Located {
                             time_s: t_s,
+                            value: sum,
+                            interior: true,
+                        });
+                    }
+                }
+                Watch::WindowIntegral { from_s, to_s, .. } => {
+                    // The part of the step [tp, t_s] inside the window.
+                    let (a, b) = (tp.max(from_s), t_s.min(to_s));
+                    if a < b {
+                        let sum = s.found.map_or(0.0, |f| f.value)
+                            + gauss_legendre_3(a, b, &mut |t| at(t, q));
+                        s.found = Some(Located {
+                            time_s: b,
                             value: sum,
                             interior: true,
                         });
@@ -327,6 +364,25 @@ mod tests {
         let crossing = results[1].1.unwrap();
         let expected = 1.234 - std::f64::consts::LN_2.sqrt();
         assert!((crossing.time_s - expected).abs() < 1e-9, "{crossing:?}");
+    }
+
+    #[test]
+    fn a_window_integral_takes_only_the_part_of_each_step_inside_the_window() {
+        // The integral of t^2 over [0.3, 2.7] is (2.7^3 - 0.3^3) / 3 = 6.552 (closed form);
+        // the window cuts the first and last steps of width 1.
+        let window = Watch::WindowIntegral {
+            quantity: Quantity::Temperature,
+            from_s: 0.3,
+            to_s: 2.7,
+        };
+        let mut w = Watcher::new(&[window]);
+        w.start(0.0, &mut |_| 0.0);
+        for i in 1..=4 {
+            w.after_step(i as f64, &mut |t, _| t * t);
+        }
+        let found = w.results()[0].1.unwrap();
+        assert!((found.value - 6.552).abs() < 1e-12, "{found:?}");
+        assert_eq!(found.time_s, 2.7);
     }
 
     #[test]

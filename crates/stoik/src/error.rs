@@ -5,6 +5,7 @@
 
 use crate::csv_out::CsvError;
 use std::path::PathBuf;
+use stoik::analysis::AnalysisError;
 use stoik::diff::DiffError;
 use stoik::mechanism::{Diagnostics, LoadError};
 use stoik::reactor::IntegrationFailure;
@@ -46,6 +47,20 @@ pub enum CliError {
     /// A command-line value is out of range.
     #[error("error: {0}")]
     BadFlag(String),
+    /// A value of an analysis flag was refused (an unknown species or element, a time or
+    /// window outside the run).
+    #[error("error: {flag}: {source}")]
+    Analysis {
+        /// The flag, e.g. `--species`.
+        flag: &'static str,
+        /// Why it was refused.
+        #[source]
+        source: AnalysisError,
+    },
+    /// The run of an analysis failed before the times asked for (exit 3), or the analysis
+    /// could not be made from it.
+    #[error("error: {0}")]
+    AnalysisRun(AnalysisError),
     /// A profile holds values that are not finite; nothing was written.
     #[error("error: {}: {source}{}", path.display(), failure.as_deref().map(|f| format!("\nerror: {f}")).unwrap_or_default())]
     NonFinite {
@@ -157,6 +172,7 @@ impl CliError {
             CliError::Moved { .. } => EXIT_MOVED,
             CliError::KineticChanges(_) => EXIT_DIFFERENCES,
             CliError::RunsFailed { refused, .. } if *refused > 0 => EXIT_BAD_INPUT,
+            CliError::AnalysisRun(AnalysisError::RunFailed { .. }) => EXIT_INTEGRATION_FAILED,
             CliError::NonFinite { .. }
             | CliError::IntegrationFailed { .. }
             | CliError::RunsFailed { .. } => EXIT_INTEGRATION_FAILED,

@@ -51,6 +51,7 @@
 
 #![warn(missing_docs)]
 
+pub use stoik_analysis as analysis;
 pub use stoik_diff as diff;
 pub use stoik_fit as fit;
 pub use stoik_kinetics as kinetics;

@@ -1,5 +1,6 @@
 //! The `stoik` binary: thin glue over the library (arguments, files, printing).
 
+mod analysis;
 mod batch;
 mod check;
 mod conservation_out;
@@ -78,6 +79,18 @@ enum Command {
         after_help = "Examples:\n  stoik diff old.toml new.toml\n  stoik diff HEAD~1:mechanisms/hydrogen-oxygen.toml mechanisms/hydrogen-oxygen.toml\n  stoik diff a.toml b.toml --temperatures-k 500,1500 --pressures-pa 1e4,1e6 --format toml\n\nEither mechanism may be REV:path, a file of a git revision read with `git show` (an existing\nfile wins over that reading). Exit status: 0 no kinetic change, 1 kinetic changes, 2 bad input."
     )]
     Diff(DiffArgs),
+    /// Which steps make and destroy species: each step's contribution to their net
+    /// production rate at instants, or integrated over time windows, ranked.
+    #[command(
+        after_help = "Examples:\n  stoik rates mechanisms/hydrogen-oxygen.scenario.toml --species OH,H --times 1e-4,2e-4\n  stoik rates mechanisms/hydrogen-oxygen.scenario.toml --species H2O --window 0,2e-3 --top 3 --csv h2o.csv\n\nAt an instant a contribution is nu q in mol/(m3 s); over a window it is its time integral in mol/m3,\nintegrated on the solver's own steps. Exit status: 0 success, 2 bad input, 3 integration failure."
+    )]
+    Rates(RatesArgs),
+    /// Where an element's atoms go: the flux of its atoms between species through each step,
+    /// as a table, DOT and SVG.
+    #[command(
+        after_help = "Examples:\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element H --time 2.2e-4 --dot h.dot --svg h.svg\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element O --window 0,2e-3 --threshold 0.05\n\nReactant a passes atoms to product b of a step at q nu_a n(a) nu_b n(b) / (atoms on the product side);\nthe two directions between a pair are netted. Exit status: 0 success, 2 bad input, 3 integration failure."
+    )]
+    Flux(FluxArgs),
     /// Regression suites: record trusted predictions of scenario runs in a baseline, then
     /// verify a mechanism edit against them.
     #[command(subcommand)]
@@ -97,6 +110,78 @@ enum SuiteCommand {
         after_help = "Examples:\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --baseline h2.baseline.toml --junit suite.xml --markdown suite.md\n  stoik suite verify mechanisms/hydrogen-oxygen.suite.toml --explain\n\nExit status: 0 every observable within tolerance, 4 some observable moved beyond tolerance,\n3 some case or observable gave no value (and nothing moved), 2 bad input."
     )]
     Verify(SuiteVerifyArgs),
+}
+
+/// A time window `T1,T2` (s) on the command line.
+#[derive(Clone, Copy, Debug)]
+pub struct Window {
+    /// Start, s.
+    pub from_s: f64,
+    /// End, s.
+    pub to_s: f64,
+}
+
+/// Reads `T1,T2` (s).
+fn parse_window(text: &str) -> Result<Window, String> {
+    let (a, b) = text
+        .split_once(',')
+        .ok_or_else(|| format!("`{text}` is not a window T1,T2 (two times in s)"))?;
+    let time = |x: &str| {
+        x.trim()
+            .parse::<f64>()
+            .map_err(|e| format!("`{}` is not a time in s: {e}", x.trim()))
+    };
+    Ok(Window {
+        from_s: time(a)?,
+        to_s: time(b)?,
+    })
+}
+
+/// Flags of `stoik rates`.
+#[derive(clap::Args)]
+pub struct RatesArgs {
+    /// Scenario file (run as it is, with output times at the instants and window ends).
+    pub scenario: PathBuf,
+    /// Species whose production is analysed, comma-separated.
+    #[arg(long, value_delimiter = ',', required = true)]
+    pub species: Vec<String>,
+    /// Instants, s, comma-separated.
+    #[arg(long, value_delimiter = ',')]
+    pub times: Vec<f64>,
+    /// A time window T1,T2 in s (repeatable): contributions integrated over it.
+    #[arg(long, value_parser = parse_window)]
+    pub window: Vec<Window>,
+    /// Steps listed per side (production, consumption) in the table.
+    #[arg(long, default_value_t = 5)]
+    pub top: usize,
+    /// Write every contribution (all steps) to this CSV file.
+    #[arg(long)]
+    pub csv: Option<PathBuf>,
+}
+
+/// Flags of `stoik flux`.
+#[derive(clap::Args)]
+pub struct FluxArgs {
+    /// Scenario file.
+    pub scenario: PathBuf,
+    /// Element symbol, as the mechanism declares it (e.g. H).
+    #[arg(long)]
+    pub element: String,
+    /// The instant, s.
+    #[arg(long, conflicts_with = "window", required_unless_present = "window")]
+    pub time: Option<f64>,
+    /// A window T1,T2 in s: fluxes integrated over it.
+    #[arg(long, value_parser = parse_window)]
+    pub window: Option<Window>,
+    /// Edges below this fraction of the largest are left out (0 to 1).
+    #[arg(long, default_value_t = stoik::analysis::DEFAULT_THRESHOLD)]
+    pub threshold: f64,
+    /// Write the graph as Graphviz DOT text to this file.
+    #[arg(long)]
+    pub dot: Option<PathBuf>,
+    /// Write the graph drawn as SVG to this file.
+    #[arg(long)]
+    pub svg: Option<PathBuf>,
 }
 
 /// Flags of `stoik suite record`.
@@ -336,6 +421,8 @@ fn main() -> ExitCode {
         Command::Suite(SuiteCommand::Record(args)) => suite::record(&args),
         Command::Suite(SuiteCommand::Verify(args)) => suite::verify(&args),
         Command::Diff(args) => diff::diff(&args),
+        Command::Rates(args) => analysis::rates(&args),
+        Command::Flux(args) => analysis::flux(&args),
     };
     // Every error is reported here, once.
     match result {

@@ -1,0 +1,68 @@
+//! Why an analysis could not be made.
+
+use stoik_scenario::ScenarioError;
+
+/// Why an analysis could not be made. Each variant names the value at fault, so that a
+/// caller can say which of its inputs (a flag, a field) it came from.
+#[derive(Debug, thiserror::Error)]
+pub enum AnalysisError {
+    /// A species name the mechanism does not have.
+    #[error("unknown species `{name}`{}", suggestion.as_deref().map(|s| format!(" (did you mean `{s}`?)")).unwrap_or_default())]
+    UnknownSpecies {
+        /// The name given.
+        name: String,
+        /// A species of the mechanism whose name differs only in letter case, if any.
+        suggestion: Option<String>,
+    },
+    /// An element symbol the mechanism does not declare.
+    #[error("unknown element `{symbol}`; the mechanism's elements are {known}")]
+    UnknownElement {
+        /// The symbol given.
+        symbol: String,
+        /// The mechanism's element symbols, comma-separated.
+        known: String,
+    },
+    /// A species has no elemental composition, so element fluxes are undefined.
+    #[error("species `{species}` has no elemental composition (`atoms`); element fluxes need every species' atoms")]
+    NoComposition {
+        /// The species' name.
+        species: String,
+    },
+    /// An instant lies outside the run.
+    #[error("time {time_s:e} s is outside the run [0, {end_s:e}] s")]
+    TimeOutsideRun {
+        /// The time given, s.
+        time_s: f64,
+        /// The end time of the run, s.
+        end_s: f64,
+    },
+    /// A window is reversed, empty, not finite or reaches outside the run.
+    #[error(
+        "window [{from_s:e}, {to_s:e}] s must have 0 <= start < end <= {end_s:e} s (the run's end)"
+    )]
+    BadWindow {
+        /// Start given, s.
+        from_s: f64,
+        /// End given, s.
+        to_s: f64,
+        /// The end time of the run, s.
+        end_s: f64,
+    },
+    /// No instant and no window was asked for.
+    #[error("no time and no window given")]
+    NothingAsked,
+    /// The relative threshold of a flux graph is not in [0, 1].
+    #[error("threshold must be between 0 and 1 (a fraction of the largest flux), got {0}")]
+    BadThreshold(f64),
+    /// The scenario could not be planned or run.
+    #[error(transparent)]
+    Scenario(#[from] ScenarioError),
+    /// The integration stopped before the last time asked for.
+    #[error("the run failed at t = {reached_s:e} s, before the times asked for: {reason}")]
+    RunFailed {
+        /// How far it got, s.
+        reached_s: f64,
+        /// The failure, in words.
+        reason: String,
+    },
+}

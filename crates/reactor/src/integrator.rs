@@ -198,29 +198,6 @@ where
             continue;
         }
         consecutive_rejections = 0;
-        // Linear invariants back on their values when round-off has moved them (see the
-        // `invariants` module); the solver restarts from the corrected state.
-        if let Some(inv) = invariants.as_deref_mut() {
-            let problem = solver.problem();
-            let atol = M::slice(&problem.atol);
-            let mut corrected = false;
-            {
-                let y = M::slice(solver.state().y);
-                scratch[..y.len()].copy_from_slice(y);
-                if inv.project(&mut scratch[..y.len()], atol, problem.rtol) {
-                    corrected = true;
-                }
-            }
-            if corrected {
-                let state = solver.state_mut();
-                let y = M::slice_mut(state.y);
-                let m = y.len();
-                y.copy_from_slice(&scratch[..m]);
-                problem.eqn.state_derivative(t, y, M::slice_mut(state.dy));
-                solver.set_stop_time(t_end)?;
-                *projections += 1;
-            }
-        }
         most_negative(M::slice(solver.state().y), negative);
         if let Some(watcher) = watcher.as_deref_mut() {
             let solver = &*solver;
@@ -253,6 +230,31 @@ where
                 record(outputs[next], row);
             }
             next += 1;
+        }
+        // Linear invariants back on their values when round-off has moved them (see the
+        // `invariants` module); the solver restarts from the corrected state. This comes after
+        // the outputs and watches of the step: diffsol cannot interpolate inside a step once
+        // its state has been modified ("Step size is zero after calling state_mut()").
+        if let Some(inv) = invariants.as_deref_mut() {
+            let problem = solver.problem();
+            let atol = M::slice(&problem.atol);
+            let mut corrected = false;
+            {
+                let y = M::slice(solver.state().y);
+                scratch[..y.len()].copy_from_slice(y);
+                if inv.project(&mut scratch[..y.len()], atol, problem.rtol) {
+                    corrected = true;
+                }
+            }
+            if corrected {
+                let state = solver.state_mut();
+                let y = M::slice_mut(state.y);
+                let m = y.len();
+                y.copy_from_slice(&scratch[..m]);
+                problem.eqn.state_derivative(t, y, M::slice_mut(state.dy));
+                solver.set_stop_time(t_end)?;
+                *projections += 1;
+            }
         }
         if stopped {
             break;

@@ -347,29 +347,13 @@ impl Loader<'_> {
     }
 
     fn check_version(&mut self, root: &DeTable<'_>) {
-        let help =
-            Some("the first line of a version-1 mechanism is `stoik_mechanism = 1`".to_string());
-        match root.get("stoik_mechanism") {
-            None => self
-                .r
-                .file_error("missing format version `stoik_mechanism`", help),
-            Some(v) => match v.get_ref() {
-                DeValue::Integer(_) => {
-                    let version = crate::toml_walk::value_as_number(v.get_ref());
-                    if version != Some(MECHANISM_FORMAT_VERSION as f64) {
-                        self.r.error(
-                            v.span().start,
-                            format!(
-                                "unsupported mechanism format version {}; this stoik reads version {MECHANISM_FORMAT_VERSION}",
-                                version.map(show_number).unwrap_or_default()
-                            ),
-                            None,
-                        );
-                    }
-                }
-                _ => self.r.wrong_type("stoik_mechanism", v, "the integer 1"),
-            },
-        }
+        self.r.format_version(
+            root,
+            "stoik_mechanism",
+            "mechanism",
+            MECHANISM_FORMAT_VERSION,
+            "the first line of a version-1 mechanism is `stoik_mechanism = 1`".to_string(),
+        );
     }
 
     /// Reads a units table over `base` (the file defaults or the file's `[units]`).

@@ -114,6 +114,38 @@ impl<'t> Report<'t> {
         }
     }
 
+    /// Checks the format-version key `key` of a file's top table `root`: present, an integer,
+    /// equal to `expected`. `what` names the file kind in messages ("mechanism", "suite"...);
+    /// `help` goes with a missing key.
+    pub fn format_version(
+        &mut self,
+        root: &DeTable<'_>,
+        key: &str,
+        what: &str,
+        expected: i64,
+        help: String,
+    ) {
+        match root.get(key) {
+            None => self.file_error(format!("missing format version `{key}`"), Some(help)),
+            Some(v) => match v.get_ref() {
+                DeValue::Integer(_) => {
+                    let version = value_as_number(v.get_ref());
+                    if version != Some(expected as f64) {
+                        self.error(
+                            v.span().start,
+                            format!(
+                                "unsupported {what} format version {}; this stoik reads version {expected}",
+                                version.map(show_number).unwrap_or_default()
+                            ),
+                            None,
+                        );
+                    }
+                }
+                _ => self.wrong_type(key, v, &format!("the integer {expected}")),
+            },
+        }
+    }
+
     /// Records a "wrong type" error for `key` whose value `value` is not `expected`.
     pub fn wrong_type(&mut self, key: &str, value: &Value<'_>, expected: &str) {
         self.error(

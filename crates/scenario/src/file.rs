@@ -11,9 +11,7 @@ use crate::read::NamedValue;
 use crate::sections::{read_ignition, read_initial, read_output, read_reactor, read_solver};
 use std::path::{Path, PathBuf};
 use stoik_mechanism::ConcentrationUnit;
-use stoik_mechanism::{
-    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report, SourceLocation,
-};
+use stoik_mechanism::{parse_document, Diagnostics, LoadError, Report, SourceLocation};
 use stoik_reactor::{Constraint, Energy, LinearAlgebra};
 use toml::de::{DeTable, DeValue};
 
@@ -318,26 +316,13 @@ fn locations(r: &Report<'_>, root: &DeTable<'_>) -> Locations {
 }
 
 fn read_version(r: &mut Report<'_>, root: &DeTable<'_>) {
-    let help = Some("the first line of a version-1 scenario is `stoik_scenario = 1`".to_string());
-    match root.get("stoik_scenario") {
-        None => r.file_error("missing format version `stoik_scenario`", help),
-        Some(v) => match v.get_ref() {
-            DeValue::Integer(_) => {
-                let version = value_as_number(v.get_ref());
-                if version != Some(SCENARIO_FORMAT_VERSION as f64) {
-                    r.error(
-                        v.span().start,
-                        format!(
-                            "unsupported scenario format version {}; this stoik reads version {SCENARIO_FORMAT_VERSION}",
-                            version.map(show_number).unwrap_or_default()
-                        ),
-                        None,
-                    );
-                }
-            }
-            _ => r.wrong_type("stoik_scenario", v, "the integer 1"),
-        },
-    }
+    r.format_version(
+        root,
+        "stoik_scenario",
+        "scenario",
+        SCENARIO_FORMAT_VERSION,
+        "the first line of a version-1 scenario is `stoik_scenario = 1`".to_string(),
+    );
 }
 
 /// Reads `mechanism = "path"` (relative to `base_dir`); the file must exist.

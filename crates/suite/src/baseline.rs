@@ -7,8 +7,7 @@ use crate::error::SuiteError;
 use std::fmt::Write as _;
 use std::path::Path;
 use stoik_mechanism::{
-    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report, SourceLocation,
-    SpannedValue as Value,
+    parse_document, Diagnostics, LoadError, Report, SourceLocation, SpannedValue as Value,
 };
 use stoik_thermo::{toml_float, toml_string};
 use toml::de::{DeTable, DeValue};
@@ -336,28 +335,14 @@ fn tables<'v, 'i>(
 
 fn read_baseline(r: &mut Report<'_>, root: &DeTable<'_>, file: &str) -> Option<Baseline> {
     r.check_keys(root, TOP_KEYS, "the baseline file");
-    match root.get("stoik_baseline") {
-        None => r.file_error(
-            "missing format version `stoik_baseline`",
-            Some("a baseline is written by `stoik suite record`; its first key is `stoik_baseline = 1`".into()),
-        ),
-        Some(v) => match v.get_ref() {
-            DeValue::Integer(_) => {
-                let version = value_as_number(v.get_ref());
-                if version != Some(BASELINE_FORMAT_VERSION as f64) {
-                    r.error(
-                        v.span().start,
-                        format!(
-                            "unsupported baseline format version {}; this stoik reads version {BASELINE_FORMAT_VERSION}",
-                            version.map(show_number).unwrap_or_default()
-                        ),
-                        None,
-                    );
-                }
-            }
-            _ => r.wrong_type("stoik_baseline", v, "the integer 1"),
-        },
-    }
+    r.format_version(
+        root,
+        "stoik_baseline",
+        "baseline",
+        BASELINE_FORMAT_VERSION,
+        "a baseline is written by `stoik suite record`; its first key is `stoik_baseline = 1`"
+            .to_string(),
+    );
     let suite = required_string(r, root, "suite", 0);
     let suite_sha256 = match root.get("suite_sha256") {
         Some(v) => hex_hash(r, "suite_sha256", v),

@@ -5,7 +5,7 @@
 use crate::read::{number_or_quantity, Dimension};
 use std::path::{Path, PathBuf};
 use stoik_mechanism::{
-    parse_document, show_number, value_as_number, Diagnostics, LoadError, Report, SourceLocation,
+    parse_document, show_number, Diagnostics, LoadError, Report, SourceLocation,
     SpannedValue as Value,
 };
 use stoik_scenario::Composition;
@@ -389,26 +389,13 @@ fn read_suite(r: &mut Report<'_>, root: &DeTable<'_>, file: &str, folder: &Path)
 }
 
 fn read_version(r: &mut Report<'_>, root: &DeTable<'_>) {
-    let help = Some("the first line of a version-1 suite is `stoik_suite = 1`".to_string());
-    match root.get("stoik_suite") {
-        None => r.file_error("missing format version `stoik_suite`", help),
-        Some(v) => match v.get_ref() {
-            DeValue::Integer(_) => {
-                let version = value_as_number(v.get_ref());
-                if version != Some(SUITE_FORMAT_VERSION as f64) {
-                    r.error(
-                        v.span().start,
-                        format!(
-                            "unsupported suite format version {}; this stoik reads version {SUITE_FORMAT_VERSION}",
-                            version.map(show_number).unwrap_or_default()
-                        ),
-                        None,
-                    );
-                }
-            }
-            _ => r.wrong_type("stoik_suite", v, "the integer 1"),
-        },
-    }
+    r.format_version(
+        root,
+        "stoik_suite",
+        "suite",
+        SUITE_FORMAT_VERSION,
+        "the first line of a version-1 suite is `stoik_suite = 1`".to_string(),
+    );
 }
 
 /// Reads `{ relative = r }`, `{ absolute = a }` or `{ factor = f }` (exactly one key).

@@ -24,7 +24,8 @@ truncate   Every bundled file cut at seeded offsets (0 bytes, mid-line, mid-toke
            `check`, `diff` (the file against itself), `energetics` and `run` of a scenario
            naming it; a scenario to `check`, `run` and `batch`; a suite to `suite record`; the
            thermo file through the hydrogen-oxygen mechanism; the rate-data CSV to `fit-rate`;
-           a JANAF table to `fit-thermo`. `diff` may exit 1 (kinetic changes) and `suite` 4
+           a JANAF table to `fit-thermo`; the hydrogen-oxygen scenario, mechanism and thermo
+           file also to `rates` and `flux`. `diff` may exit 1 (kinetic changes) and `suite` 4
            (an observable moved); a CSV's `nan` cells are not findings when they lie in its
            mole-fraction columns and stoik warned that those are undefined (the documented
            marker for a total concentration that is not positive).
@@ -324,10 +325,27 @@ class Gen:
             made = [keep]
         return made
 
+    def _analysis(self, family: str, kind: str, files: dict, locus) -> list:
+        """`rates` and `flux` on the hydrogen-oxygen scenario (whose species, elements and
+        times are known) with `files` in place; their flags count as a location."""
+        ho = "hydrogen-oxygen.scenario.toml"
+        locus = tuple(locus) + ("flag",)
+        flags = ("--species", "--times", "--window", "--element", "--time")
+        return [
+            self.add(family, "rates", kind, ["rates", ho, "--species", "OH,H", "--times", "1e-4", "--csv", "r.csv"],
+                     files, locus=locus, flags=flags, outputs={"r.csv": None}),
+            self.add(family, "flux", kind, ["flux", ho, "--element", "H", "--window", "0,1e-4", "--dot", "f.dot"],
+                     files, locus=locus, flags=flags, outputs={"f.dot": None}),
+        ]
+
     def _consumers(self, rel: str, content: bytes, family: str, locus=("content",)):
         kind = kind_of(rel)
         made = []
         sentinel = self.rng.random() < 0.5
+        if rel in ("hydrogen-oxygen.scenario.toml", "hydrogen-oxygen.toml", "thermo/janaf-nasa7.toml"):
+            files = bundle("hydrogen-oxygen.scenario.toml")
+            files[rel] = content
+            made += self._analysis(family, kind, files, locus)
         if kind == "suite":
             files = bundle(rel)
             files[rel] = content
@@ -712,6 +730,20 @@ class Gen:
                          outputs={a: None for a, b in specials2 if b.startswith("symlink:")},
                          locus=("output",), flags=("-o", "--output", out, target),
                          note=f"suite record -o the {kind} ({label})")
+        # rates and flux outputs onto their inputs
+        for flag_args in (["rates", ho, "--species", "OH", "--times", "1e-4", "--csv"],
+                          ["flux", ho, "--element", "H", "--time", "1e-4", "--dot"],
+                          ["flux", ho, "--element", "H", "--time", "1e-4", "--svg"]):
+            for target, kind in ((ho, "scenario"), ("hydrogen-oxygen.toml", "mechanism"),
+                                 ("thermo/janaf-nasa7.toml", "thermo")):
+                for label, spell, specials in spellings:
+                    out = spell(target)
+                    specials2 = [(a, b.replace("@TARGET@", target)) for a, b in specials]
+                    self.add("alias", flag_args[0], kind, flag_args + [out], bundle(ho),
+                             specials=specials2, must_refuse=True,
+                             outputs={a: None for a, b in specials2 if b.startswith("symlink:")},
+                             locus=("output",), flags=(flag_args[-1], out, target),
+                             note=f"{flag_args[0]} {flag_args[-1]} the {kind} ({label})")
         # a mechanism named like the CSV that run (default output) and batch write
         files = bundle(oz)
         files["ozone-flask.csv"] = files.pop("ozone-flask.toml")
@@ -1097,7 +1129,7 @@ def located(case: Case, stderr: str, tmp: str) -> bool:
                 if t and (t in stderr or os.path.basename(t) and os.path.basename(t) in stderr):
                     return True
             if kind == "output":
-                for flag in ("-o", "--output", "--output-dir", "--svg", "--snippet"):
+                for flag in ("-o", "--output", "--output-dir", "--svg", "--snippet", "--csv", "--dot"):
                     if re.search(r"(?<![\w-])" + re.escape(flag) + r"(?![\w-])", stderr):
                         return True
     return False
@@ -1199,12 +1231,16 @@ def check_loadback(binary: str, case: Case, tmp: str, rel: str, findings: list, 
             findings.append(("unloadable-output", f"{rel}: empty CSV"))
             return
         width = len(rows[0])
+        # The CSV of `stoik rates` has text columns (species, equation, unit); every other
+        # column of every CSV is a number.
+        text_columns = {i for i, h in enumerate(rows[0]) if h in ("species", "equation", "unit")} \
+            if rows[0][:1] == ["species"] else set()
         for i, row in enumerate(rows[1:], start=2):
             if len(row) != width:
                 findings.append(("unloadable-output", f"{rel}: line {i} has {len(row)} fields, header {width}"))
                 break
             try:
-                [float(x) for x in row]
+                [float(x) for j, x in enumerate(row) if j not in text_columns]
             except ValueError:
                 findings.append(("unloadable-output", f"{rel}: line {i} has a cell that is not a number: {row[:4]!r}"))
                 break

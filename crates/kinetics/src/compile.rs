@@ -24,6 +24,7 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Result<Kinetics, CompileError> {
     let mut k = Kinetics {
         n_species,
         n_steps,
+        species_names: mechanism.species.iter().map(|s| s.name.clone()).collect(),
         forward: Vec::with_capacity(n_steps),
         reverse: Vec::with_capacity(n_steps),
         forward_orders: RowLists::new(),

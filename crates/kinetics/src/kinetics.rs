@@ -173,6 +173,8 @@ pub struct Kinetics {
     pub(crate) conserved: std::sync::OnceLock<Vec<Vec<f64>>>,
     pub(crate) n_species: usize,
     pub(crate) n_steps: usize,
+    /// Species names, in state order.
+    pub(crate) species_names: Vec<String>,
     /// Per step: forward rate-constant parameters (pressure-dependent steps: see
     /// [`RateConstants`]).
     pub(crate) forward: Vec<CompiledArrhenius>,

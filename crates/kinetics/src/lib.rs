@@ -41,6 +41,7 @@ mod compile;
 mod conservation;
 mod energetics;
 mod falloff;
+mod introspect;
 mod kinetics;
 mod pattern;
 mod rows;
@@ -50,6 +51,9 @@ mod validate;
 pub use kinetics::{Kinetics, RateConstants};
 pub use pattern::{JacobianPattern, PatternError};
 pub use validate::CompileError;
+
+// Introspection for embedding code.
+pub use introspect::{element_matrix, ElementMatrix, RateUnits};
 
 // Step energetics and the collision-limit check.
 pub use energetics::{

@@ -79,8 +79,9 @@ impl Kinetics {
     /// not count). One row per species, one column per step.
     pub fn stoichiometric_matrix(&self) -> Vec<Vec<f64>> {
         let mut nu = vec![vec![0.0; self.n_steps]; self.n_species];
-        for j in 0..self.n_steps {
-            for &(i, v) in self.net.row(j) {
+        let columns = (0..self.n_steps).map(|j| self.net.row(j));
+        for (j, column) in columns.enumerate() {
+            for &(i, v) in column {
                 nu[i][j] += v;
             }
         }

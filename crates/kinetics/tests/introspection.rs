@@ -57,13 +57,9 @@ fn names_and_matrices_describe_the_mechanism() {
     assert!(e.species_without_composition.is_empty());
     assert_eq!(e.elements.len(), m.elements.len());
     for (row, symbol) in e.atoms.iter().zip(&e.elements) {
-        for step in 0..m.steps.len() {
-            let change: f64 = (0..names.len()).map(|i| row[i] * nu[i][step]).sum();
-            assert_eq!(
-                change, 0.0,
-                "element {symbol} in step {}",
-                m.steps[step].equation
-            );
+        for (step, s) in m.steps.iter().enumerate() {
+            let change: f64 = row.iter().zip(&nu).map(|(a, n)| a * n[step]).sum();
+            assert_eq!(change, 0.0, "element {symbol} in step {}", s.equation);
         }
     }
     assert_eq!(

@@ -104,7 +104,7 @@ fn check_watches(n_species: usize, n_steps: usize, watches: &[Watch]) -> Result<
     Ok(())
 }
 
-fn check_state(n: usize, c: &[f64], what: &'static str) -> Result<(), ReactorError> {
+pub(crate) fn check_state(n: usize, c: &[f64], what: &'static str) -> Result<(), ReactorError> {
     if c.len() != n {
         return Err(ReactorError::WrongLength {
             what,
@@ -377,17 +377,14 @@ where
     M: Backend + 'a,
     S: OdeSolverMethod<'a, BatchEquations<M>>,
 {
-    /// Builds a solver on `problem` from `initial` (mol/m3) at `t0` (s): the allocating step.
+    /// Builds a solver on `problem`, whose initial state and time are set (see
+    /// [`prepare_problem`]): the allocating step.
     fn open(
-        problem: &'a mut OdeSolverProblem<BatchEquations<M>>,
-        t0: f64,
-        initial: &[f64],
+        problem: &'a OdeSolverProblem<BatchEquations<M>>,
         max_steps: usize,
         make: impl FnOnce(&'a OdeSolverProblem<BatchEquations<M>>) -> Result<S, DiffsolError>,
     ) -> Result<Self, ReactorError> {
-        problem.eqn.initial.copy_from_slice(initial);
-        problem.t0 = t0;
-        let problem: &'a OdeSolverProblem<BatchEquations<M>> = problem;
+        let initial = problem.eqn.initial.as_slice();
         let rhs_base = problem.eqn.rhs_evaluations.get();
         let jacobian_base = problem.eqn.jacobian_evaluations.get();
         let solver = make(problem).map_err(|e| ReactorError::Setup(SolverError::new(e)))?;
@@ -846,31 +843,49 @@ impl BatchSystem {
     }
 
     fn open(&mut self, t0: f64, initial: &[f64]) -> Result<BatchIntegrator<'_>, ReactorError> {
-        let mut full = initial.to_vec();
-        if self.model.solves_energy() {
-            full.push(self.temperature());
+        self.prepare(t0, initial);
+        self.open_prepared()
+    }
+
+    /// Sets the problem's initial state (concentrations, then the temperature when it is
+    /// solved) and time (s) for the next session.
+    pub(crate) fn prepare(&mut self, t0: f64, initial: &[f64]) {
+        let temperature = self.model.solves_energy().then(|| self.temperature());
+        let set = |initial_state: &mut Vec<f64>, problem_t0: &mut f64| {
+            let n = initial.len();
+            initial_state[..n].copy_from_slice(initial);
+            if let Some(t) = temperature {
+                initial_state[n] = t;
+            }
+            *problem_t0 = t0;
+        };
+        match &mut self.problem {
+            Problem::Dense(p) => set(&mut p.eqn.initial, &mut p.t0),
+            Problem::Sparse(p) => set(&mut p.eqn.initial, &mut p.t0),
         }
-        let initial = full.as_slice();
+    }
+
+    /// Opens a session from the state [`prepare`](Self::prepare) set.
+    pub(crate) fn open_prepared(&self) -> Result<BatchIntegrator<'_>, ReactorError> {
         let max_steps = self.max_steps;
         let linear_algebra_used = self.linear_algebra_used;
-        let session = match &mut self.problem {
-            Problem::Dense(p) => {
-                Session::Dense(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
-                    p.bdf::<NalgebraLU<f64>>()
-                })?))
-            }
+        let session = match &self.problem {
+            Problem::Dense(p) => Session::Dense(Box::new(Stepper::open(p, max_steps, |p| {
+                p.bdf::<NalgebraLU<f64>>()
+            })?)),
             Problem::Sparse(p) => match linear_algebra_used {
                 #[cfg(feature = "bench-internals")]
                 LinearAlgebra::SparseFaer => {
-                    Session::SparseFaer(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
+                    Session::SparseFaer(Box::new(Stepper::open(p, max_steps, |p| {
                         p.bdf::<FaerSparseLU<f64>>()
                     })?))
                 }
-                _ => Session::Sparse(Box::new(Stepper::open(p, t0, initial, max_steps, |p| {
+                _ => Session::Sparse(Box::new(Stepper::open(p, max_steps, |p| {
                     p.bdf::<FixedPatternSolver>()
                 })?)),
             },
         };
+        let initial = with_stepper!(&session, s => s.state());
         let mut stats = SolverStats::default();
         most_negative(initial, &mut stats.most_negative_concentration_mol_per_m3);
         let mut integrator = BatchIntegrator {

@@ -52,6 +52,7 @@ mod integrator;
 mod invariants;
 mod model;
 mod options;
+mod owned;
 mod profiles;
 mod watch;
 
@@ -73,6 +74,7 @@ pub use model::{Constraint, Energy, ReactorModel, TemperatureHistory};
 pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
 };
+pub use owned::OwnedIntegrator;
 pub use profiles::{element_balance, ElementBalance, Profiles};
 pub use watch::{Located, Quantity, Watch};
 

@@ -88,12 +88,6 @@ impl Kinetics {
         nu
     }
 
-    /// The nonzero net changes (species index, nu) of step `step`; `None` when out of
-    /// range.
-    pub fn net_changes(&self, step: usize) -> Option<&[(usize, f64)]> {
-        (step < self.n_steps).then(|| self.net.row(step))
-    }
-
     /// The concentration orders (forward, reverse) of the rate constants
     /// [`RateConstants`] holds for step `step`: the sum of the reaction orders, plus one
     /// when the constant multiplies a third-body concentration (plain third body, and the

@@ -247,7 +247,7 @@ impl<M: Backend> BatchEquations<M> {
             Quantity::TemperatureRate => match &self.model.energy {
                 Energy::Isothermal => 0.0,
                 Energy::Prescribed(history) => history.slope_at(t_s),
-                Energy::Adiabatic => {
+                Energy::Adiabatic | Energy::HeatExchange(_) => {
                     self.state_derivative(t_s, y, f);
                     f[self.kinetics.n_species()]
                 }
@@ -382,7 +382,7 @@ impl<M: Backend> BatchEquations<M> {
         match &self.model.energy {
             Energy::Isothermal => 0.0,
             Energy::Prescribed(history) => history.slope_at(t_s),
-            Energy::Adiabatic => {
+            Energy::Adiabatic | Energy::HeatExchange(_) => {
                 let mut y = c.to_vec();
                 y.push(temperature_k);
                 let mut f = vec![0.0; y.len()];

@@ -235,6 +235,9 @@ pub enum ReactorError {
     /// Box conditions are malformed or combined with a model that cannot take them.
     #[error("bad box conditions: {0}")]
     BadBoxConditions(String),
+    /// Heat exchange is malformed or combined with a model that cannot take it.
+    #[error("bad heat exchange: {0}")]
+    BadHeatExchange(String),
     /// The temperature follows a prescribed history and cannot be set.
     #[error("the temperature follows a prescribed history and cannot be set")]
     TemperaturePrescribed,

@@ -51,6 +51,56 @@ pub enum Energy {
     Adiabatic,
     /// Follows a prescribed history.
     Prescribed(TemperatureHistory),
+    /// Exchanges heat with a coolant (a jacketed vessel): the temperature is solved from the
+    /// energy balance with the heat flow `U A (T_coolant - T)` into the reactor (species
+    /// thermochemistry needed for every species; constant volume only).
+    HeatExchange(HeatExchange),
+}
+
+/// The heat exchange of a jacketed vessel: heat flows into the reactor at
+/// `ua_per_volume (T_coolant(t) - T)` per unit volume (W/m3), with `ua_per_volume` the
+/// product of the overall heat-transfer coefficient U (W/(m2 K)) and the exchange area A
+/// (m2) over the reactor volume V (m3).
+#[derive(Debug, Clone, PartialEq)]
+pub struct HeatExchange {
+    ua_per_volume_w_per_m3_k: f64,
+    coolant: TemperatureHistory,
+}
+
+impl HeatExchange {
+    /// Heat exchange with `ua_per_volume_w_per_m3_k` = U A / V in W/(m3 K) (finite, not
+    /// negative; 0 is adiabatic) and a coolant following `coolant` (a fixed coolant
+    /// temperature is a history of one point).
+    pub fn new(
+        ua_per_volume_w_per_m3_k: f64,
+        coolant: TemperatureHistory,
+    ) -> Result<HeatExchange, ReactorError> {
+        if !(ua_per_volume_w_per_m3_k.is_finite() && ua_per_volume_w_per_m3_k >= 0.0) {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "U A / V must be finite and not negative, got {ua_per_volume_w_per_m3_k:e} W/(m3 K)"
+            )));
+        }
+        Ok(HeatExchange {
+            ua_per_volume_w_per_m3_k,
+            coolant,
+        })
+    }
+
+    /// U A / V in W/(m3 K).
+    pub fn ua_per_volume_w_per_m3_k(&self) -> f64 {
+        self.ua_per_volume_w_per_m3_k
+    }
+
+    /// The coolant temperature history.
+    pub fn coolant(&self) -> &TemperatureHistory {
+        &self.coolant
+    }
+
+    /// Heat flow into the reactor per unit volume (W/m3) at time `t_s` (s) and reactor
+    /// temperature `temperature_k` (K).
+    pub fn heat_flow_w_per_m3(&self, t_s: f64, temperature_k: f64) -> f64 {
+        self.ua_per_volume_w_per_m3_k * (self.coolant.temperature_at(t_s) - temperature_k)
+    }
 }
 
 /// A piecewise-linear temperature history `T(t)`: linear between the given points, held at
@@ -173,7 +223,7 @@ impl ReactorModel {
 
     /// Whether the temperature is a state of the integration (adiabatic models).
     pub fn solves_energy(&self) -> bool {
-        matches!(self.energy, Energy::Adiabatic)
+        matches!(self.energy, Energy::Adiabatic | Energy::HeatExchange(_))
     }
 
     /// Number of integrated states for `n_species` species: `n_species`, plus one for the
@@ -187,7 +237,9 @@ impl ReactorModel {
     pub(crate) fn temperature(&self, t_s: f64, y: &[f64], n_species: usize, held_k: f64) -> f64 {
         match &self.energy {
             Energy::Isothermal => held_k,
-            Energy::Adiabatic => y.get(n_species).copied().unwrap_or(held_k),
+            Energy::Adiabatic | Energy::HeatExchange(_) => {
+                y.get(n_species).copied().unwrap_or(held_k)
+            }
             Energy::Prescribed(history) => history.temperature_at(t_s),
         }
     }
@@ -200,6 +252,14 @@ pub(crate) fn energy_thermo(
 ) -> Result<Vec<Nasa7>, ReactorError> {
     if !model.solves_energy() {
         return Ok(Vec::new());
+    }
+    if matches!(model.energy, Energy::HeatExchange(_))
+        && model.constraint != Constraint::ConstantVolume
+    {
+        return Err(ReactorError::BadHeatExchange(
+            "heat exchange is for constant-volume reactors (U A / V is per fixed volume)"
+                .to_string(),
+        ));
     }
     kinetics
         .species_thermo()
@@ -316,8 +376,11 @@ pub(crate) struct ModelEquations<'a> {
 }
 
 impl ModelEquations<'_> {
-    /// `dT/dt` (K/s) of an adiabatic model at `(c, t)` with production rates `w`.
-    fn adiabatic_rate(&self, c: &[f64], w: &[f64], temperature_k: f64) -> (f64, f64) {
+    /// `dT/dt` (K/s) of an energy-solving model at time `t_s` (s), concentrations `c` and
+    /// temperature `temperature_k` with production rates `w`, and the mixture heat capacity
+    /// (J/(m3 K)): the heat released by the steps plus the heat exchanged, over the heat
+    /// capacity.
+    fn energy_rate(&self, t_s: f64, c: &[f64], w: &[f64], temperature_k: f64) -> (f64, f64) {
         let mut release = 0.0;
         let mut capacity = 0.0;
         for ((thermo, &ci), &wi) in self.thermo.iter().zip(c).zip(w) {
@@ -325,7 +388,19 @@ impl ModelEquations<'_> {
             release += e * wi;
             capacity += ci * k;
         }
-        (-release / capacity, capacity)
+        let exchanged = match &self.model.energy {
+            Energy::HeatExchange(x) => x.heat_flow_w_per_m3(t_s, temperature_k),
+            _ => 0.0,
+        };
+        ((exchanged - release) / capacity, capacity)
+    }
+
+    /// d(heat flow per volume)/dT in W/(m3 K): `-U A / V` with heat exchange, else 0.
+    fn exchange_slope(&self) -> f64 {
+        match &self.model.energy {
+            Energy::HeatExchange(x) => -x.ua_per_volume_w_per_m3_k(),
+            _ => 0.0,
+        }
     }
 
     /// The state derivative `f = dy/dt` at time `t_s` for state `y`, given the rate
@@ -346,7 +421,9 @@ impl ModelEquations<'_> {
         let temperature_rate = match &self.model.energy {
             Energy::Isothermal => 0.0,
             Energy::Prescribed(history) => history.slope_at(t_s),
-            Energy::Adiabatic => self.adiabatic_rate(c, w, temperature_k).0,
+            Energy::Adiabatic | Energy::HeatExchange(_) => {
+                self.energy_rate(t_s, c, w, temperature_k).0
+            }
         };
         if self.model.constraint == Constraint::ConstantPressure {
             let total: f64 = c.iter().sum();
@@ -422,7 +499,7 @@ impl ModelEquations<'_> {
         let (temperature_rate, capacity_total) = match &self.model.energy {
             Energy::Isothermal => (0.0, 0.0),
             Energy::Prescribed(history) => (history.slope_at(t_s), 0.0),
-            Energy::Adiabatic => self.adiabatic_rate(c, w, t),
+            Energy::Adiabatic | Energy::HeatExchange(_) => self.energy_rate(t_s, c, w, t),
         };
         // Temperature derivatives: the energy row a_k = d(dT/dt)/dc_k and corner a_T.
         let (mut a_t, mut release_slope, mut dw_total_dt) = (0.0, 0.0, 0.0);
@@ -442,7 +519,8 @@ impl ModelEquations<'_> {
                 release_slope += scratch.energy[i] * d;
                 dw_total_dt += d;
             }
-            a_t = -(capacity_release + release_slope + temperature_rate * capacity_slope)
+            a_t = -(capacity_release + release_slope - self.exchange_slope()
+                + temperature_rate * capacity_slope)
                 / capacity_total;
         }
         let energy_row = |col: usize| -> f64 {
@@ -529,6 +607,14 @@ mod tests {
                 });
             }
         }
+        let coolant = TemperatureHistory::new(vec![0.0, 1e-3], vec![800.0, 900.0])
+            .unwrap_or_else(|e| panic!("{e}"));
+        out.push(ReactorModel {
+            energy: Energy::HeatExchange(
+                HeatExchange::new(5e4, coolant).unwrap_or_else(|e| panic!("{e}")),
+            ),
+            ..Default::default()
+        });
         out
     }
 
@@ -587,6 +673,7 @@ mod tests {
             let energy = match &model.energy {
                 Energy::Prescribed(_) => "prescribed",
                 Energy::Adiabatic => "adiabatic",
+                Energy::HeatExchange(_) => "heat exchange",
                 Energy::Isothermal => "isothermal",
             };
             eprintln!(

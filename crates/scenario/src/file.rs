@@ -360,10 +360,11 @@ pub(crate) enum Thermal {
     Isothermal,
     Adiabatic,
     Prescribed,
+    Jacketed,
 }
 
 /// The reactor kinds as written in files, with their meaning.
-const KINDS: [(&str, Constraint, Thermal); 6] = [
+const KINDS: [(&str, Constraint, Thermal); 7] = [
     (
         "isothermal-constant-volume",
         Constraint::ConstantVolume,
@@ -394,11 +395,16 @@ const KINDS: [(&str, Constraint, Thermal); 6] = [
         Constraint::ConstantPressure,
         Thermal::Prescribed,
     ),
+    (
+        "jacketed-constant-volume",
+        Constraint::ConstantVolume,
+        Thermal::Jacketed,
+    ),
 ];
 
 /// Reactor kind names accepted in files (`[reactor] kind`).
-pub const REACTOR_KINDS: [&str; 6] = [
-    KINDS[0].0, KINDS[1].0, KINDS[2].0, KINDS[3].0, KINDS[4].0, KINDS[5].0,
+pub const REACTOR_KINDS: [&str; 7] = [
+    KINDS[0].0, KINDS[1].0, KINDS[2].0, KINDS[3].0, KINDS[4].0, KINDS[5].0, KINDS[6].0,
 ];
 
 /// The constraint and temperature law of a kind name.
@@ -415,6 +421,7 @@ pub fn kind_label(constraint: Constraint, energy: &Energy) -> &'static str {
         Energy::Isothermal => Thermal::Isothermal,
         Energy::Adiabatic => Thermal::Adiabatic,
         Energy::Prescribed(_) => Thermal::Prescribed,
+        Energy::HeatExchange(_) => Thermal::Jacketed,
     };
     KINDS
         .iter()

@@ -586,7 +586,9 @@ fn resolve(
             find(named, "[ignition] species").map(IgnitionCriterion::SpeciesMaximum)
         }
         Some(IgnitionSpec::TemperatureRise(k)) => Some(IgnitionCriterion::TemperatureRise(*k)),
-        None if scenario.energy == Energy::Adiabatic => Some(IgnitionCriterion::MaxTemperatureRate),
+        None if matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_)) => {
+            Some(IgnitionCriterion::MaxTemperatureRate)
+        }
         None => None,
     };
     diagnostics.append(&mut find_diagnostics);

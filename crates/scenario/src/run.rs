@@ -11,8 +11,8 @@ use stoik_kinetics::{compiled_rate_constant_range_errors, Kinetics};
 use stoik_mechanism::{Diagnostic, Diagnostics, LoadError, Mechanism};
 use stoik_reactor::{
     ignition_delay, integrate_batch, simulate, BatchError, ConservationCheckError,
-    ConservationDrift, Energy, IgnitionCriterion, IgnitionDelay, IntegrationError,
-    IntegrationFailure, Profiles, ReactorConservation,
+    ConservationDrift, IgnitionCriterion, IgnitionDelay, IntegrationError, IntegrationFailure,
+    Profiles, ReactorConservation,
 };
 
 /// Something a run's user should know that did not stop it.
@@ -212,7 +212,7 @@ impl RunPlan {
             Ok(p) => p,
             Err(f) => &f.partial,
         };
-        if self.model().energy == Energy::Adiabatic {
+        if self.model().solves_energy() {
             let (low, high) = profiles
                 .temperatures_k
                 .iter()

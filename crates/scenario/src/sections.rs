@@ -17,10 +17,50 @@ use stoik_mechanism::{
     SCENARIO_TIME_UNITS, TEMPERATURE_UNITS,
 };
 use stoik_mechanism::{show_number, Report, SpannedValue as Value};
-use stoik_reactor::{Constraint, Energy, LinearAlgebra, TemperatureHistory};
+use stoik_reactor::{Constraint, Energy, HeatExchange, LinearAlgebra, TemperatureHistory};
 use toml::de::{DeTable, DeValue};
 
-const REACTOR_KEYS: &[&str] = &["kind", "temperature", "pressure", "temperature_history"];
+const REACTOR_KEYS: &[&str] = &[
+    "kind",
+    "temperature",
+    "pressure",
+    "temperature_history",
+    "ua",
+    "volume",
+    "coolant_temperature",
+    "coolant_temperature_history",
+];
+/// The keys of a jacketed reactor's heat exchange.
+const JACKET_KEYS: &[&str] = &[
+    "ua",
+    "volume",
+    "coolant_temperature",
+    "coolant_temperature_history",
+];
+/// Units of U A (heat-transfer coefficient times area).
+const UA_UNITS: &[&str] = &["W/K", "kW/K"];
+/// Units of a reactor volume.
+const VOLUME_UNITS: &[&str] = &["m3", "L", "mL", "cm3"];
+
+/// Converts U A in `unit` (W/K, kW/K) to W/K.
+fn ua_to_w_per_k(value: f64, unit: &str) -> Option<f64> {
+    match unit {
+        "W/K" => Some(value),
+        "kW/K" => Some(value * 1e3),
+        _ => None,
+    }
+}
+
+/// Converts a volume in `unit` (m3, L, mL, cm3) to m3.
+fn volume_to_m3(value: f64, unit: &str) -> Option<f64> {
+    let factor = match unit {
+        "m3" => 1.0,
+        "L" => 1e-3,
+        "mL" | "cm3" => 1e-6,
+        _ => return None,
+    };
+    Some(value * factor)
+}
 const HISTORY_KEYS: &[&str] = &["times", "temperatures"];
 const IGNITION_KEYS: &[&str] = &["criterion", "species", "rise"];
 const IGNITION_CRITERIA: &[&str] = &["max-temperature-rate", "species-peak", "temperature-rise"];
@@ -74,7 +114,7 @@ pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSec
     let prescribed = thermal == Some(Thermal::Prescribed);
     let mut history = None;
     match t.get("temperature_history") {
-        Some(v) if prescribed => history = read_history(r, v),
+        Some(v) if prescribed => history = read_history(r, "temperature_history", v),
         Some(v) => r.error(
             v.span().start,
             "`temperature_history` is only for the prescribed-temperature reactor kinds",
@@ -90,10 +130,26 @@ pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSec
         ),
         None => {}
     }
+    let jacket = if thermal == Some(Thermal::Jacketed) {
+        let at = t.get("kind").map_or(0, |v| v.span().start);
+        read_jacket(r, t, at)
+    } else {
+        for key in JACKET_KEYS {
+            if let Some(v) = t.get(*key) {
+                r.error(
+                    v.span().start,
+                    format!("`{key}` is only for the jacketed reactor kind"),
+                    Some("e.g. kind = \"jacketed-constant-volume\"".to_string()),
+                );
+            }
+        }
+        None
+    };
     out.energy = match thermal {
         Some(Thermal::Isothermal) => Some(Energy::Isothermal),
         Some(Thermal::Adiabatic) => Some(Energy::Adiabatic),
         Some(Thermal::Prescribed) => history.clone().map(Energy::Prescribed),
+        Some(Thermal::Jacketed) => jacket.map(Energy::HeatExchange),
         None => None,
     };
     match t.get("temperature") {
@@ -136,23 +192,101 @@ pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSec
     out
 }
 
+/// The heat exchange of a jacketed reactor: `ua` and `volume` (U A / V), and the coolant's
+/// temperature, fixed (`coolant_temperature`) or as a history
+/// (`coolant_temperature_history`, as `temperature_history`).
+fn read_jacket(r: &mut Report<'_>, t: &DeTable<'_>, at: usize) -> Option<HeatExchange> {
+    let hint = "e.g. ua = \"250 W/K\", volume = \"50 L\", coolant_temperature = \"300 K\"";
+    let positive = |r: &mut Report<'_>, key: &str, unit: &str, convert: Converter, units| {
+        let Some(v) = t.get(key) else {
+            r.error(
+                at,
+                format!("missing `{key}` in [reactor] for the jacketed kind"),
+                Some(hint.to_string()),
+            );
+            return None;
+        };
+        let x = quantity(r, key, v, unit, convert, units)?;
+        if !(x.is_finite() && x >= 0.0) || (key == "volume" && x <= 0.0) {
+            let what = if key == "volume" {
+                "positive"
+            } else {
+                "not negative"
+            };
+            r.error(
+                v.span().start,
+                format!("`{key}` must be finite and {what}, got {}", show_number(x)),
+                None,
+            );
+            return None;
+        }
+        Some(x)
+    };
+    let ua = positive(r, "ua", "W/K", ua_to_w_per_k, UA_UNITS);
+    let volume = positive(r, "volume", "m3", volume_to_m3, VOLUME_UNITS);
+    let coolant = match (
+        t.get("coolant_temperature"),
+        t.get("coolant_temperature_history"),
+    ) {
+        (Some(v), None) => quantity(
+            r,
+            "coolant_temperature",
+            v,
+            "K",
+            temperature_to_k,
+            TEMPERATURE_UNITS,
+        )
+        .and_then(|x| {
+            require_in_range(
+                r,
+                "coolant_temperature",
+                v.span().start,
+                x,
+                TEMPERATURE_RANGE_K,
+                "K",
+            )
+        })
+        .and_then(|x| TemperatureHistory::new(vec![0.0], vec![x]).ok()),
+        (None, Some(v)) => read_history(r, "coolant_temperature_history", v),
+        (Some(v), Some(_)) => {
+            r.error(
+                v.span().start,
+                "give `coolant_temperature` or `coolant_temperature_history`, not both",
+                None,
+            );
+            None
+        }
+        (None, None) => {
+            r.error(
+                at,
+                "missing `coolant_temperature` (or `coolant_temperature_history`) in [reactor] for the jacketed kind",
+                Some(hint.to_string()),
+            );
+            None
+        }
+    };
+    HeatExchange::new(ua? / volume?, coolant?).ok()
+}
+
 /// A temperature difference in K (`"400 K"`; only kelvin: a Celsius offset would be wrong).
 fn kelvin_difference(value: f64, unit: &str) -> Option<f64> {
     (unit == "K").then_some(value)
 }
 
 /// Reads an array of quantities `key` of `table` (at `at`), each with its byte offset.
+#[allow(clippy::too_many_arguments)]
 fn located_list(
     r: &mut Report<'_>,
     table: &DeTable<'_>,
     at: usize,
+    history: &str,
     key: &str,
     unit: &str,
     convert: Converter,
     accepted: &[&str],
 ) -> Option<Vec<(f64, usize)>> {
     let Some(v) = table.get(key) else {
-        r.error(at, format!("`temperature_history` needs `{key}`"), None);
+        r.error(at, format!("`{history}` needs `{key}`"), None);
         return None;
     };
     let DeValue::Array(items) = v.get_ref() else {
@@ -169,18 +303,28 @@ fn located_list(
     Some(out)
 }
 
-/// Reads `temperature_history = { times = [...], temperatures = [...] }`: equal lengths, at
+/// Reads a history `key = { times = [...], temperatures = [...] }`: equal lengths, at
 /// least one point, times finite, >= 0 and strictly increasing, starting at 0; temperatures
 /// positive.
-fn read_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<TemperatureHistory> {
-    let table = r.table("temperature_history", value)?;
-    r.check_keys(table, HISTORY_KEYS, "temperature_history");
+fn read_history(r: &mut Report<'_>, key: &str, value: &Value<'_>) -> Option<TemperatureHistory> {
+    let table = r.table(key, value)?;
+    r.check_keys(table, HISTORY_KEYS, key);
     let at = value.span().start;
-    let times = located_list(r, table, at, "times", "s", time_to_s, SCENARIO_TIME_UNITS);
+    let times = located_list(
+        r,
+        table,
+        at,
+        key,
+        "times",
+        "s",
+        time_to_s,
+        SCENARIO_TIME_UNITS,
+    );
     let temperatures = located_list(
         r,
         table,
         at,
+        key,
         "temperatures",
         "K",
         temperature_to_k,
@@ -191,7 +335,7 @@ fn read_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<TemperatureHist
         r.error(
             at,
             format!(
-                "`temperature_history` needs as many temperatures as times (at least one), got {} and {}",
+                "`{key}` needs as many temperatures as times (at least one), got {} and {}",
                 times.len(),
                 temperatures.len()
             ),
@@ -203,7 +347,7 @@ fn read_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<TemperatureHist
     if times[0].0 != 0.0 {
         r.error(
             times[0].1,
-            "the first time of `temperature_history` must be 0 s",
+            format!("the first time of `{key}` must be 0 s"),
             None,
         );
         ok = false;
@@ -213,7 +357,7 @@ fn read_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<TemperatureHist
             r.error(
                 pos,
                 format!(
-                    "`temperature_history` times must be finite and strictly increasing: {} s",
+                    "`{key}` times must be finite and strictly increasing: {} s",
                     show_number(t)
                 ),
                 None,

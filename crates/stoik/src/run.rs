@@ -183,7 +183,7 @@ fn print_ignition(plan: &RunPlan, outcome: &RunOutcome) {
         .iter()
         .fold(f64::NEG_INFINITY, |m, &t| m.max(t))
         - temperatures.first().copied().unwrap_or(0.0);
-    if plan.model().energy == Energy::Adiabatic && rise > RUNAWAY_RISE_K {
+    if plan.model().solves_energy() && rise > RUNAWAY_RISE_K {
         let has = |name: &str| mechanism.species.iter().any(|s| s.name == name);
         let hydrogen = if has("H2") && has("O2") {
             " Hydrogen-oxygen mixtures are explosive."
@@ -324,6 +324,17 @@ fn describe_reactor(plan: &RunPlan) -> String {
     match &model.energy {
         Energy::Isothermal => format!("isothermal {held} at {t} K"),
         Energy::Adiabatic => format!("adiabatic {held}, starting at {t} K"),
+        Energy::HeatExchange(x) => {
+            let coolant = x.coolant();
+            let coolant = match coolant.temperatures_k() {
+                [one] => format!("coolant at {one} K"),
+                many => format!("coolant temperature through {} points", many.len()),
+            };
+            format!(
+                "jacketed {held}, starting at {t} K, U A / V = {} W/(m3 K), {coolant}",
+                x.ua_per_volume_w_per_m3_k()
+            )
+        }
         Energy::Prescribed(history) => format!(
             "{held}, temperature prescribed through {} points",
             history.times_s().len()

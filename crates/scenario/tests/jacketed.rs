@@ -1,0 +1,127 @@
+//! The jacketed reactor kind in scenario files: heat exchange U A (T_coolant - T) read from
+//! `ua`, `volume` and the coolant temperature, run end to end, and bad input located.
+
+use std::path::{Path, PathBuf};
+use stoik_scenario::{parse_scenario, run_scenario};
+
+/// R = 8.314462618 J/(mol K) (CODATA).
+const R: f64 = 8.314462618;
+
+fn mechanisms() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../../mechanisms")
+}
+
+/// Writes `text` as a scenario next to nothing else (the mechanism path is absolute) and
+/// runs it.
+fn run(text: &str, name: &str) -> stoik_scenario::RunOutcome {
+    let dir = std::env::temp_dir().join(format!("stoik-jacketed-{}-{name}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("s.scenario.toml");
+    std::fs::write(&path, text).unwrap();
+    let outcome = run_scenario(&path).unwrap_or_else(|e| panic!("{e}"));
+    let _ = std::fs::remove_dir_all(&dir);
+    outcome
+}
+
+fn scenario(reactor: &str, initial: &str, end: &str, points: usize) -> String {
+    let mechanism = mechanisms().join("hydrogen-oxygen.toml");
+    format!(
+        "stoik_scenario = 1\nmechanism = {:?}\n[reactor]\n{reactor}\n[initial]\n{initial}\n\
+         [output]\nend_time = \"{end}\"\ngrid = {{ spacing = \"linear\", points = {points} }}\n\
+         [solver]\nrelative_tolerance = 1e-10\nabsolute_tolerance = \"1e-16 mol/m3\"\n",
+        mechanism.display().to_string()
+    )
+}
+
+#[test]
+fn argon_in_a_jacketed_vessel_cools_by_newtons_law() {
+    // Argon at 1 atm, 1100 K in a 1 L vessel with U A = 2 W/K and coolant at 300 K. Argon is
+    // a monatomic ideal gas, cv = 3/2 R (NIST-JANAF: cp = 20.786 J/(mol K) = 5/2 R), so
+    // T = Tc + (T0 - Tc) e^{-t/tau} with tau = c cv / (U A / V), c = P/(R T0) (Newton's law
+    // of cooling). The bundled AR polynomial fits cp to 4.4e-6, hence the 1e-4 tolerance
+    // on T - Tc.
+    let text = scenario(
+        "kind = \"jacketed-constant-volume\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"\n\
+         ua = \"2 W/K\"\nvolume = \"1 L\"\ncoolant_temperature = \"300 K\"",
+        "mole_fractions = { AR = 1.0 }",
+        "300 ms",
+        31,
+    );
+    let outcome = run(&text, "argon");
+    let p = outcome.profiles();
+    let c = 101_325.0 / (R * 1100.0);
+    let tau = c * 1.5 * R / (2.0 / 1e-3);
+    for (t, temp) in p.times_s.iter().zip(&p.temperatures_k) {
+        let expected = 300.0 + 800.0 * (-t / tau).exp();
+        assert!(
+            (temp - expected).abs() <= 1e-4 * 800.0,
+            "T({t}) = {temp}, expected {expected}"
+        );
+    }
+    // At t = 0.3 s (4.3 time constants) the gas has lost 99 % of its excess heat.
+    let last = *p.temperatures_k.last().unwrap();
+    assert!(last < 300.0 + 0.02 * 800.0, "{last}");
+}
+
+#[test]
+fn a_jacket_without_exchange_ignites_as_the_adiabatic_vessel() {
+    // ua = 0: the jacketed energy balance is the adiabatic one, term for term, so the
+    // ignition delay of the bundled hydrogen demo must come out identical.
+    let initial = "mole_fractions = { H2 = 0.10, O2 = 0.05, AR = 0.85 }";
+    let adiabatic = scenario(
+        "kind = \"adiabatic-constant-volume\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"",
+        initial,
+        "1 ms",
+        101,
+    );
+    let jacketed = scenario(
+        "kind = \"jacketed-constant-volume\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"\n\
+         ua = \"0 W/K\"\nvolume = \"1 L\"\ncoolant_temperature = \"300 K\"",
+        initial,
+        "1 ms",
+        101,
+    );
+    let a = run(&adiabatic, "adiabatic")
+        .ignition_delay
+        .expect("ignites");
+    let j = run(&jacketed, "jacket0").ignition_delay.expect("ignites");
+    assert_eq!(a.delay_s, j.delay_s);
+    // And a strong jacket (U A / V = 1e6 W/(m3 K): a time constant of about 0.25 ms against
+    // an ignition delay of about 0.2 ms) must delay it.
+    let strong = scenario(
+        "kind = \"jacketed-constant-volume\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"\n\
+         ua = \"1 kW/K\"\nvolume = \"1 L\"\ncoolant_temperature = \"1100 K\"",
+        initial,
+        "1 ms",
+        101,
+    );
+    let s = run(&strong, "strong").ignition_delay.expect("ignites");
+    assert!(s.delay_s > a.delay_s, "{} vs {}", s.delay_s, a.delay_s);
+}
+
+#[test]
+fn jacket_mistakes_are_all_reported_at_their_keys() {
+    let base = mechanisms();
+    let text = "stoik_scenario = 1\nmechanism = \"hydrogen-oxygen.toml\"\n[reactor]\n\
+        kind = \"jacketed-constant-volume\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"\n\
+        ua = \"2 W/C\"\nvolume = \"-1 L\"\n\
+        [initial]\nmole_fractions = { AR = 1.0 }\n[output]\nend_time = \"1 s\"\n";
+    let err = parse_scenario(text, "j.toml", &base)
+        .unwrap_err()
+        .to_string();
+    assert!(err.contains("j.toml:7:"), "{err}"); // ua's unit
+    assert!(err.contains("W/K"), "{err}");
+    assert!(err.contains("j.toml:8:"), "{err}"); // negative volume
+    assert!(err.contains("coolant_temperature"), "{err}"); // missing
+                                                           // Jacket keys on another kind are refused where they stand.
+    let text = "stoik_scenario = 1\nmechanism = \"hydrogen-oxygen.toml\"\n[reactor]\n\
+        kind = \"adiabatic-constant-volume\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"\n\
+        ua = \"2 W/K\"\n[initial]\nmole_fractions = { AR = 1.0 }\n[output]\nend_time = \"1 s\"\n";
+    let err = parse_scenario(text, "k.toml", &base)
+        .unwrap_err()
+        .to_string();
+    assert!(
+        err.contains("k.toml:7:") && err.contains("jacketed"),
+        "{err}"
+    );
+}

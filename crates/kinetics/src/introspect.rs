@@ -131,3 +131,25 @@ impl Kinetics {
         (forward, reverse)
     }
 }
+
+impl Kinetics {
+    /// Writes each step's standard reaction enthalpy dH_j(T) = sum_i nu_ij H_i(T) (J/mol)
+    /// at `temperature_k` (K) into `out` (length `n_steps`), from the species' NASA
+    /// 7-coefficient polynomials; NaN for a step with a species without thermochemistry.
+    /// The heat a step releases per unit volume and time is `-dH_j q_j` (W/m3). No
+    /// allocation.
+    pub fn reaction_enthalpies(&self, temperature_k: f64, out: &mut [f64]) {
+        for (j, o) in out.iter_mut().enumerate().take(self.n_steps) {
+            *o = self
+                .net
+                .row(j)
+                .iter()
+                .map(|&(i, nu)| {
+                    self.species_thermo[i]
+                        .as_ref()
+                        .map_or(f64::NAN, |t| nu * t.enthalpy_j_per_mol(temperature_k))
+                })
+                .sum();
+        }
+    }
+}

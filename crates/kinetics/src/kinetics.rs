@@ -393,22 +393,56 @@ impl Kinetics {
         dw_dt.iter_mut().for_each(|x| *x = 0.0);
         let total = self.total_concentration(c);
         for j in 0..self.n_steps {
-            let (fwd, rev) = self.directional_rates(k, j, c);
-            let mut dq = 0.0;
-            if k.forward[j] != 0.0 {
-                dq += fwd / k.forward[j] * slopes.forward[j];
-            }
-            if k.reverse[j] != 0.0 {
-                dq -= rev / k.reverse[j] * slopes.reverse[j];
-            }
-            let (g, _, dg_dt) = self.factor_derivatives(k, Some(slopes), j, c, total);
-            dq = dq * g + dg_dt * (fwd - rev);
+            let dq = self.rate_slope(k, slopes, j, c, total);
             if dq == 0.0 {
                 continue;
             }
             for &(s, nu) in self.net.row(j) {
                 dw_dt[s] += nu * dq;
             }
+        }
+    }
+
+    /// `dq_j/dT` of step `j` at fixed concentrations (see [`Self::production_rate_slopes`]).
+    #[inline]
+    fn rate_slope(
+        &self,
+        k: &RateConstants,
+        slopes: &RateConstants,
+        j: usize,
+        c: &[f64],
+        total: f64,
+    ) -> f64 {
+        let (fwd, rev) = self.directional_rates(k, j, c);
+        let mut dq = 0.0;
+        if k.forward[j] != 0.0 {
+            dq += fwd / k.forward[j] * slopes.forward[j];
+        }
+        if k.reverse[j] != 0.0 {
+            dq -= rev / k.reverse[j] * slopes.reverse[j];
+        }
+        let (g, _, dg_dt) = self.factor_derivatives(k, Some(slopes), j, c, total);
+        dq * g + dg_dt * (fwd - rev)
+    }
+
+    /// Writes `dq_j/dT` (mol/(m3 s K)) of every step into `out` (length `n_steps`): the
+    /// temperature derivative of each step's net rate of progress at fixed concentrations
+    /// `c` (mol/m3), given the rate constants `k` and their slopes from
+    /// [`Kinetics::evaluate_rate_constant_slopes`] (the per-step terms of
+    /// [`Kinetics::production_rate_slopes`]). No allocation.
+    pub fn rates_of_progress_slopes(
+        &self,
+        k: &RateConstants,
+        slopes: &RateConstants,
+        c: &[f64],
+        out: &mut [f64],
+    ) {
+        if c.len() < self.n_species {
+            return;
+        }
+        let total = self.total_concentration(c);
+        for (j, o) in out.iter_mut().enumerate().take(self.n_steps) {
+            *o = self.rate_slope(k, slopes, j, c, total);
         }
     }
 
@@ -739,9 +773,11 @@ impl Kinetics {
         }
     }
 
-    /// Calls `sink(position, row, col, value)` for every contribution to `dw/dc`.
+    /// Calls `sink(step, slot, col, dq)` for every nonzero partial derivative
+    /// `dq_step/dc_col` of a step's net rate of progress (`slot`: the column's position in
+    /// the step's column list), third-body and pressure factors included.
     #[inline]
-    fn for_each_jacobian_term(
+    fn for_each_rate_term(
         &self,
         k: &RateConstants,
         c: &[f64],
@@ -749,10 +785,6 @@ impl Kinetics {
     ) {
         let total = self.total_concentration(c);
         for j in 0..self.n_steps {
-            let rows = self.net.row(j);
-            if rows.is_empty() {
-                continue;
-            }
             let (m, dm) = match self.third_body[j] {
                 ThirdBodyKind::None => (1.0, 0.0),
                 ThirdBodyKind::Species(s) => (c[s], 1.0),
@@ -774,7 +806,6 @@ impl Kinetics {
             };
             let fwd_terms = self.forward_orders.row(j);
             let rev_terms = self.reverse_orders.row(j);
-            let entries = self.entries.row(j);
             for (slot, &(col, efficiency)) in self.columns.row(j).iter().enumerate() {
                 // d(kf prod c^a)/dc_col by the product rule (species appear once per side).
                 let mut dq = 0.0;
@@ -801,14 +832,45 @@ impl Kinetics {
                 dq *= m;
                 // d g/d c_col = dg/d[M] * d[M]/dc_col (efficiency).
                 dq += efficiency * dg_term;
-                if dq == 0.0 {
-                    continue;
-                }
-                for (r, &(row, nu)) in rows.iter().enumerate() {
-                    sink(entries[slot * rows.len() + r], row, col, nu * dq);
+                if dq != 0.0 {
+                    sink(j, slot, col, dq);
                 }
             }
         }
+    }
+
+    /// Calls `sink(position, row, col, value)` for every contribution to `dw/dc`.
+    #[inline]
+    fn for_each_jacobian_term(
+        &self,
+        k: &RateConstants,
+        c: &[f64],
+        mut sink: impl FnMut(usize, usize, usize, f64),
+    ) {
+        self.for_each_rate_term(k, c, |j, slot, col, dq| {
+            let rows = self.net.row(j);
+            let entries = self.entries.row(j);
+            for (r, &(row, nu)) in rows.iter().enumerate() {
+                sink(entries[slot * rows.len() + r], row, col, nu * dq);
+            }
+        });
+    }
+
+    /// Calls `sink(step, species, dq_dc)` for every nonzero partial derivative of a step's
+    /// net rate of progress `q_step` (mol/(m3 s)) with respect to a concentration `c_species`
+    /// (mol/m3), at rate constants `k` and concentrations `c`: kinetic orders, third-body
+    /// efficiencies and falloff factors included (units (mol/(m3 s))/(mol/m3)). Steps in
+    /// order; a species at most once per step. No allocation.
+    pub fn for_each_rate_derivative(
+        &self,
+        k: &RateConstants,
+        c: &[f64],
+        mut sink: impl FnMut(usize, usize, f64),
+    ) {
+        if c.len() < self.n_species {
+            return;
+        }
+        self.for_each_rate_term(k, c, |j, _, col, dq| sink(j, col, dq));
     }
 
     /// Overwrites `jac` (column-major, `n_species * n_species`) with the analytic Jacobian:

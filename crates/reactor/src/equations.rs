@@ -123,7 +123,7 @@ pub(crate) struct BatchEquations<M: Backend> {
     pub(crate) model: ReactorModel,
     thermo: Vec<Nasa7>,
     /// Rate constants at `rates_at_k` (SI).
-    rate_constants: RefCell<RateConstants>,
+    pub(crate) rate_constants: RefCell<RateConstants>,
     /// The temperature the rate constants were evaluated at (K).
     rates_at_k: Cell<f64>,
     /// The isothermal temperature, or the initial one of the other models (K).
@@ -140,7 +140,7 @@ pub(crate) struct BatchEquations<M: Backend> {
     diagonal_positions: Vec<usize>,
     /// Scratch for Jacobian values in state-pattern order, allocated once.
     jac_values: RefCell<Vec<f64>>,
-    scratch: RefCell<ModelScratch>,
+    pub(crate) scratch: RefCell<ModelScratch>,
     /// Compensation terms of the production-rate sums (one per species).
     carry: RefCell<Vec<f64>>,
     pub(crate) rhs_evaluations: Cell<usize>,
@@ -330,7 +330,7 @@ impl<M: Backend> BatchEquations<M> {
 
     /// Makes the rate constants those at time `t_s` and state `y` (temperature, then the
     /// photolysis rates of the box conditions); returns the temperature (K).
-    fn rates_for(&self, t_s: f64, y: &[f64]) -> f64 {
+    pub(crate) fn rates_for(&self, t_s: f64, y: &[f64]) -> f64 {
         let temperature_k = self.temperature_at(t_s, y);
         self.rates_at(temperature_k);
         if !self.model.conditions.photolysis.is_empty() {

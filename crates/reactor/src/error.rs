@@ -130,6 +130,19 @@ pub enum ReactorError {
         /// Length given.
         found: usize,
     },
+    /// A per-step buffer has the wrong length.
+    #[error("{what} has {found} values but the mechanism has {expected} steps")]
+    WrongStepCount {
+        /// Which argument.
+        what: &'static str,
+        /// Number of steps.
+        expected: usize,
+        /// Length given.
+        found: usize,
+    },
+    /// Extents were asked for without [`crate::BatchIntegrator::track_extents`].
+    #[error("extents are not tracked: call track_extents first")]
+    ExtentsNotTracked,
     /// A concentration is NaN or infinite.
     #[error("{what}: concentration of species {species} is not finite ({value} mol/m3)")]
     NonFiniteConcentration {

@@ -34,7 +34,7 @@ use crate::failure::Diagnosis;
 use crate::fixed_lu::FixedPatternSolver;
 use crate::invariants::Invariants;
 use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
-use crate::watch::{Quantity, Watch, Watcher};
+use crate::watch::{gauss_legendre_3_nodes, Quantity, Watch, Watcher};
 use crate::{
     FastestComponent, IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra,
     Profiles, ReactorError, SolverError, SolverStats,
@@ -138,6 +138,52 @@ fn most_negative(c: &[f64], so_far: &mut f64) {
     }
 }
 
+/// Running integrals of every step's net rate of progress (mol/m3), accumulated on the
+/// solver's accepted steps.
+pub(crate) struct Extents {
+    /// Integral of q_j since the last take, per step (mol/m3).
+    sums: Vec<f64>,
+    /// Scratch: rates of progress at one node.
+    q: Vec<f64>,
+}
+
+impl Extents {
+    fn new(n_steps: usize) -> Extents {
+        Extents {
+            sums: vec![0.0; n_steps],
+            q: vec![0.0; n_steps],
+        }
+    }
+}
+
+/// Adds the integral of every step's rate of progress over the accepted step `[a, b]`
+/// (three-point Gauss-Legendre on the solver's interpolant, as the window integrals of the
+/// watches) to `x`. No allocation.
+fn accumulate_extents<'a, M, S>(solver: &S, a: f64, b: f64, buffer: &mut M::V, x: &mut Extents)
+where
+    M: Backend + 'a,
+    S: OdeSolverMethod<'a, BatchEquations<M>>,
+{
+    if b <= a {
+        return;
+    }
+    let eqn = &solver.problem().eqn;
+    let n = eqn.kinetics.n_species();
+    for (tq, w) in gauss_legendre_3_nodes(a, b) {
+        if solver.interpolate_inplace(tq, buffer).is_err() {
+            x.q.iter_mut().for_each(|q| *q = f64::NAN);
+        } else {
+            let y = M::slice(buffer);
+            eqn.rates_for(tq, y);
+            eqn.kinetics
+                .rates_of_progress(&eqn.rate_constants.borrow(), &y[..n], &mut x.q);
+        }
+        for (s, q) in x.sums.iter_mut().zip(&x.q) {
+            *s += w * q;
+        }
+    }
+}
+
 /// Steps `solver` to `outputs.last()` (a stop time, hit exactly) and hands every output time
 /// with its state to `record`: by interpolation inside the steps, by the state itself at the
 /// stop. Outputs must lie strictly after the solver's time and increase strictly.
@@ -148,6 +194,7 @@ fn drive<'a, M, S>(
     buffer: &mut M::V,
     scratch: &mut [f64],
     mut watcher: Option<&mut Watcher>,
+    mut extents: Option<&mut Extents>,
     mut invariants: Option<&mut Invariants>,
     projections: &mut usize,
     record: &mut dyn FnMut(f64, &[f64]),
@@ -218,6 +265,9 @@ where
                 }
             };
             watcher.after_step(t, &mut at);
+        }
+        if let Some(x) = extents.as_deref_mut() {
+            accumulate_extents::<M, S>(solver, t_before, t, buffer, x);
         }
         let stopped = matches!(reason, OdeSolverStopReason::TstopReached);
         while next < outputs.len() && (outputs[next] < t || (stopped && outputs[next] <= t)) {
@@ -426,10 +476,12 @@ where
 
     /// Steps to `outputs` (see [`drive`]) with a budget of `max_steps` accepted steps. After a
     /// failure the solver is restarted at its last accepted state.
+    #[allow(clippy::too_many_arguments)]
     fn advance(
         &mut self,
         outputs: &[f64],
         watcher: Option<&mut Watcher>,
+        extents: Option<&mut Extents>,
         projections: &mut usize,
         record: &mut dyn FnMut(f64, &[f64]),
         negative: &mut f64,
@@ -451,6 +503,7 @@ where
             &mut self.buffer,
             &mut self.probe_w,
             watcher,
+            extents,
             self.invariants.as_mut(),
             projections,
             record,
@@ -544,6 +597,43 @@ where
     }
 
     /// `quantity` at the current state (no allocation).
+    /// Rates of progress of every step at the current state (mol/(m3 s)) into `out`.
+    fn step_rates(&self, out: &mut [f64]) {
+        let (t, y) = (self.time(), self.state());
+        let eqn = &self.solver.problem().eqn;
+        let n = eqn.kinetics.n_species();
+        eqn.rates_for(t, y);
+        eqn.kinetics
+            .rates_of_progress(&eqn.rate_constants.borrow(), &y[..n], out);
+    }
+
+    /// dq_j/dT at fixed concentrations (mol/(m3 s K)) at the current state into `out`.
+    fn step_rate_slopes(&self, out: &mut [f64]) {
+        let (t, y) = (self.time(), self.state());
+        let eqn = &self.solver.problem().eqn;
+        let n = eqn.kinetics.n_species();
+        let temperature_k = eqn.rates_for(t, y);
+        let k = eqn.rate_constants.borrow();
+        let mut scratch = eqn.scratch.borrow_mut();
+        let slopes = scratch.slopes_mut();
+        eqn.kinetics
+            .evaluate_rate_constant_slopes(temperature_k, &k, slopes);
+        eqn.kinetics
+            .rates_of_progress_slopes(&k, slopes, &y[..n], out);
+    }
+
+    /// Calls `sink(step, species, dq_dc)` at the current state.
+    fn for_each_rate_derivative(&self, sink: &mut dyn FnMut(usize, usize, f64)) {
+        let (t, y) = (self.time(), self.state());
+        let eqn = &self.solver.problem().eqn;
+        let n = eqn.kinetics.n_species();
+        eqn.rates_for(t, y);
+        eqn.kinetics
+            .for_each_rate_derivative(&eqn.rate_constants.borrow(), &y[..n], |j, i, d| {
+                sink(j, i, d)
+            });
+    }
+
     fn quantity_now(&mut self, quantity: Quantity) -> f64 {
         let t = self.time();
         let eqn = &self.solver.problem().eqn;
@@ -888,11 +978,14 @@ impl BatchSystem {
         let initial = with_stepper!(&session, s => s.state());
         let mut stats = SolverStats::default();
         most_negative(initial, &mut stats.most_negative_concentration_mol_per_m3);
+        let n_steps = with_stepper!(&session, s => s.solver.problem().eqn.kinetics.n_steps());
         let mut integrator = BatchIntegrator {
             session,
             linear_algebra_used,
             stats,
             watcher: Watcher::default(),
+            extents: None,
+            step_scratch: vec![0.0; 2 * n_steps],
         };
         integrator.refresh_stats();
         Ok(integrator)
@@ -1032,6 +1125,10 @@ pub struct BatchIntegrator<'a> {
     stats: SolverStats,
     /// Quantities located on the solver's steps (empty for a stepping session).
     watcher: Watcher,
+    /// Extents of the steps, when tracked ([`BatchIntegrator::track_extents`]).
+    extents: Option<Extents>,
+    /// Two per-step buffers (rates, enthalpies) for the heat release.
+    step_scratch: Vec<f64>,
 }
 
 impl BatchIntegrator<'_> {
@@ -1150,7 +1247,8 @@ impl BatchIntegrator<'_> {
         let rejections = &mut self.stats.negative_step_rejections;
         let projections = &mut self.stats.invariant_projections;
         let watcher = (!self.watcher.is_empty()).then_some(&mut self.watcher);
-        let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, projections, record, negative, rejections));
+        let extents = self.extents.as_mut();
+        let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, extents, projections, record, negative, rejections));
         let reason = result.map_err(|e| {
             let fastest = with_stepper!(&mut self.session, s => s.fastest_component());
             let nonfinite = with_stepper!(&mut self.session, s => s.nonfinite_steps());
@@ -1274,6 +1372,106 @@ impl BatchIntegrator<'_> {
     fn after_change(&mut self, c: &[f64]) {
         most_negative(c, &mut self.stats.most_negative_concentration_mol_per_m3);
         self.refresh_stats();
+    }
+
+    /// The number of steps of the mechanism.
+    fn n_steps(&self) -> usize {
+        with_stepper!(&self.session, s => s.solver.problem().eqn.kinetics.n_steps())
+    }
+
+    /// Writes every step's net rate of progress q_j (mol/(m3 s)) at the current time and
+    /// state into `out` (length: the number of steps), with the rate constants the solver
+    /// uses there (temperature, pressure factors, photolysis). No allocation.
+    pub fn step_rates(&self, out: &mut [f64]) -> Result<(), ReactorError> {
+        self.check_step_buffer(out)?;
+        with_stepper!(&self.session, s => s.step_rates(out));
+        Ok(())
+    }
+
+    /// Writes dq_j/dT (mol/(m3 s K)), each step's rate temperature derivative at fixed
+    /// concentrations, at the current state into `out` (length: the number of steps). With
+    /// [`for_each_rate_derivative`](Self::for_each_rate_derivative) these are the pieces of
+    /// the Jacobian of a heat balance written as `sum_j (-dH_j) q_j`. No allocation.
+    pub fn step_rate_temperature_slopes(&self, out: &mut [f64]) -> Result<(), ReactorError> {
+        self.check_step_buffer(out)?;
+        with_stepper!(&self.session, s => s.step_rate_slopes(out));
+        Ok(())
+    }
+
+    /// Calls `sink(step, species, dq_dc)` for every nonzero partial derivative of a step's
+    /// rate of progress with respect to a concentration at the current state (units
+    /// (mol/(m3 s))/(mol/m3); third bodies and falloff factors included). No allocation.
+    pub fn for_each_rate_derivative(&self, mut sink: impl FnMut(usize, usize, f64)) {
+        with_stepper!(&self.session, s => s.for_each_rate_derivative(&mut sink));
+    }
+
+    /// Writes each step's standard reaction enthalpy dH_j (J/mol) at the current temperature
+    /// into `out` (length: the number of steps); an error when a species of the mechanism has
+    /// no thermochemistry. No allocation.
+    pub fn step_enthalpies(&self, out: &mut [f64]) -> Result<(), ReactorError> {
+        self.check_step_buffer(out)?;
+        let kinetics = with_stepper!(&self.session, s => &s.solver.problem().eqn.kinetics);
+        if let Some(species) = kinetics.species_thermo().iter().position(Option::is_none) {
+            return Err(ReactorError::MissingThermo { species });
+        }
+        kinetics.reaction_enthalpies(self.temperature(), out);
+        Ok(())
+    }
+
+    /// The heat released by the steps per unit volume, `sum_j (-dH_j) q_j` (W/m3), at the
+    /// current time and state (positive when exothermic steps dominate); an error when a
+    /// species has no thermochemistry. No allocation.
+    pub fn heat_release_rate_w_per_m3(&mut self) -> Result<f64, ReactorError> {
+        let mut buffer = std::mem::take(&mut self.step_scratch);
+        let n = buffer.len() / 2;
+        let (q, dh) = buffer.split_at_mut(n);
+        let result = self
+            .step_rates(q)
+            .and_then(|()| self.step_enthalpies(dh))
+            .map(|()| -q.iter().zip(dh.iter()).map(|(q, h)| q * h).sum::<f64>());
+        self.step_scratch = buffer;
+        result
+    }
+
+    /// Starts (or restarts at zero) integrating every step's rate of progress on the
+    /// solver's accepted steps: the extents xi_j = integral of q_j dt (mol/m3) over the
+    /// advances that follow, read with [`take_extents`](Self::take_extents). Three-point
+    /// Gauss-Legendre on the solver's interpolant per step, so the extents are accurate to
+    /// the integration tolerance whatever the advance length; costs three rate evaluations
+    /// per step. Allocates the running sums once.
+    pub fn track_extents(&mut self) {
+        let n = self.n_steps();
+        match &mut self.extents {
+            Some(x) => x.sums.iter_mut().for_each(|s| *s = 0.0),
+            None => self.extents = Some(Extents::new(n)),
+        }
+    }
+
+    /// Writes the extents (mol/m3) accumulated since [`track_extents`](Self::track_extents)
+    /// or the previous take into `out` (length: the number of steps) and starts the next
+    /// period at zero; an error when extents are not tracked. Over an advance,
+    /// `c_i(end) - c_i(start) = sum_j nu_ij xi_j` for a closed constant-volume reactor. No
+    /// allocation.
+    pub fn take_extents(&mut self, out: &mut [f64]) -> Result<(), ReactorError> {
+        self.check_step_buffer(out)?;
+        let Some(x) = &mut self.extents else {
+            return Err(ReactorError::ExtentsNotTracked);
+        };
+        out.copy_from_slice(&x.sums);
+        x.sums.iter_mut().for_each(|s| *s = 0.0);
+        Ok(())
+    }
+
+    fn check_step_buffer(&self, out: &[f64]) -> Result<(), ReactorError> {
+        if out.len() == self.n_steps() {
+            Ok(())
+        } else {
+            Err(ReactorError::WrongStepCount {
+                what: "per-step buffer",
+                expected: self.n_steps(),
+                found: out.len(),
+            })
+        }
     }
 
     /// Solver statistics accumulated since the session was opened.

@@ -341,6 +341,11 @@ pub(crate) struct ModelScratch {
 }
 
 impl ModelScratch {
+    /// The rate-constant slopes buffer, for callers outside the Jacobian.
+    pub(crate) fn slopes_mut(&mut self) -> &mut RateConstants {
+        &mut self.slopes
+    }
+
     pub(crate) fn new(kinetics: &Kinetics) -> Self {
         let n = kinetics.n_species();
         ModelScratch {

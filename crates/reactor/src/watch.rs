@@ -252,11 +252,23 @@ impl Watcher {
 /// The integral of `f` over `[a, b]` by three-point Gauss-Legendre quadrature (exact for
 /// polynomials of degree up to 5; nodes 0 and +-sqrt(3/5), weights 8/9 and 5/9 on [-1, 1],
 /// Abramowitz and Stegun, Handbook of Mathematical Functions, table 25.4).
-fn gauss_legendre_3(a: f64, b: f64, f: &mut dyn FnMut(f64) -> f64) -> f64 {
+pub(crate) fn gauss_legendre_3(a: f64, b: f64, f: &mut dyn FnMut(f64) -> f64) -> f64 {
     let half = 0.5 * (b - a);
     let mid = 0.5 * (a + b);
     let x = (0.6f64).sqrt() * half;
     half * (8.0 / 9.0 * f(mid) + 5.0 / 9.0 * (f(mid - x) + f(mid + x)))
+}
+
+/// The nodes and weights of [`gauss_legendre_3`] on `[a, b]` (for vector integrands).
+pub(crate) fn gauss_legendre_3_nodes(a: f64, b: f64) -> [(f64, f64); 3] {
+    let half = 0.5 * (b - a);
+    let mid = 0.5 * (a + b);
+    let x = (0.6f64).sqrt() * half;
+    [
+        (mid - x, half * 5.0 / 9.0),
+        (mid, half * 8.0 / 9.0),
+        (mid + x, half * 5.0 / 9.0),
+    ]
 }
 
 /// The maximum of `f` on `[a, b]` by golden-section search, starting from the known point

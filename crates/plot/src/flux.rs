@@ -184,15 +184,16 @@ fn draw(
             ],
             EDGE_COLOR.filled(),
         ))?;
+        // The label's box (about 6.5 px a character, 14 px high) beside the line, on its
+        // left, far enough along the normal (-uy, ux) that the box does not cross the line.
+        let label = format!("{:.2} {}", e.relative, step_label(&e.steps, 3));
+        let half_text = (3.3 * label.chars().count() as f64, 7.0);
+        let away = width / 2.0 + 4.0 + half_text.0 * uy.abs() + half_text.1 * ux.abs();
         let middle = (
-            0.5 * (start.0 + tip.0) - uy * (10.0 + width / 2.0),
-            0.5 * (start.1 + tip.1) + ux * (10.0 + width / 2.0),
+            0.5 * (start.0 + tip.0) - uy * away,
+            0.5 * (start.1 + tip.1) + ux * away,
         );
-        root.draw(&Text::new(
-            format!("{:.2} {}", e.relative, step_label(&e.steps, 3)),
-            px(middle),
-            edge_label.clone(),
-        ))?;
+        root.draw(&Text::new(label, px(middle), edge_label.clone()))?;
     }
     for &s in &graph.nodes {
         let (x, y) = position(s);

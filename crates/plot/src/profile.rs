@@ -245,7 +245,7 @@ fn draw(root: &DrawingArea<SVGBackend, Shift>, plot: &ProfilePlot, p: &Prepared)
     }
     if p.left_out > 0 {
         // Said on the plot itself, so the gaps are not read as missing data.
-        let small = TextStyle::from(("sans-serif", 11).into_font())
+        let small = TextStyle::from(("sans-serif", 13).into_font())
             .pos(Pos::new(HPos::Left, VPos::Center))
             .color(&NOTE_COLOR);
         let lines = [
@@ -254,7 +254,7 @@ fn draw(root: &DrawingArea<SVGBackend, Shift>, plot: &ProfilePlot, p: &Prepared)
             format!("or below {LOG_FLOOR:e} of the largest"),
         ];
         for (k, line) in lines.into_iter().enumerate() {
-            let y = PROFILE_SIZE.1 as i32 - 60 + 15 * k as i32;
+            let y = PROFILE_SIZE.1 as i32 - 66 + 17 * k as i32;
             legend.draw(&Text::new(line, (6, y), small.clone()))?;
         }
     }

@@ -53,9 +53,9 @@ fn plot_error(path: &Path) -> impl Fn(PlotError) -> CliError + '_ {
     }
 }
 
-/// The report of `stoik run`: the summary as printed (warnings and the failure too), the
-/// concentrations of `species` (default: the [`DEFAULT_PLOTTED_SPECIES`] largest by peak)
-/// in the scenario's output unit and the temperature against time.
+/// The report of `stoik run`: the concentrations of `species` (default: the
+/// [`DEFAULT_PLOTTED_SPECIES`] largest by peak) in the scenario's output unit and the
+/// temperature against time, then the summary as printed (warnings and the failure too).
 pub fn run_report(
     path: &Path,
     scenario: &Path,
@@ -73,11 +73,10 @@ pub fn run_report(
     }
     lines.extend(text.summary.iter().cloned());
     lines.extend(text.warnings.iter().cloned());
-    report.text_section("Run summary", &lines);
     let rows = &profiles.concentrations_mol_per_m3;
     if rows.is_empty() {
-        write(path, &report)?;
-        return Ok(());
+        report.text_section("Run summary", &lines);
+        return write(path, &report);
     }
     let unit = plan.output_concentration_unit();
     let factor = unit.to_si_factor();
@@ -138,10 +137,12 @@ pub fn run_report(
             chosen.len()
         )
     };
+    // The figures first: on a laptop screen they are what the page opens on.
     report.figure_section(
         "Profiles",
         &[(caption, concentrations), (String::new(), temperature)],
     );
+    report.text_section("Run summary", &lines);
     write(path, &report)
 }
 

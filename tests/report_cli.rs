@@ -75,7 +75,10 @@ fn run_report_holds_the_printed_summary_and_the_profile_plots() {
     peaks.sort_by(|a, b| b.0.total_cmp(&a.0));
     for (_, name) in &peaks[..8] {
         // plotters writes a text element's content on a line of its own.
-        assert!(html.contains(&format!(">\n{name}\n</text>")), "{name} not plotted");
+        assert!(
+            html.contains(&format!(">\n{name}\n</text>")),
+            "{name} not plotted"
+        );
     }
 }
 
@@ -112,7 +115,10 @@ fn rates_report_has_a_table_and_a_bar_chart_per_species_and_instant() {
     // Four (species, instant) pairs: four tables and four charts.
     assert_eq!(html.matches("<table>").count(), 4);
     assert_eq!(html.matches("<svg").count(), 4);
-    for line in text(&out.stdout).lines().filter(|l| !l.starts_with("wrote")) {
+    for line in text(&out.stdout)
+        .lines()
+        .filter(|l| !l.starts_with("wrote"))
+    {
         assert!(html.contains(&stoik::plot::escape(line)), "missing: {line}");
     }
 }
@@ -229,10 +235,22 @@ fn a_report_onto_an_input_is_refused_before_the_run() {
     // The demo's scenario as the flux report: refused, located at --report.
     let copy = scratch("onto-input-demo");
     let out = stoik(
-        &["flux", &demo(), "--element", "H", "--time", "1e-4", "--report", &demo()],
+        &[
+            "flux",
+            &demo(),
+            "--element",
+            "H",
+            "--time",
+            "1e-4",
+            "--report",
+            &demo(),
+        ],
         &copy,
     );
     assert_eq!(out.status.code(), Some(2));
     let err = text(&out.stderr);
-    assert!(err.contains("--report") && err.contains("hydrogen-oxygen.scenario.toml"), "{err}");
+    assert!(
+        err.contains("--report") && err.contains("hydrogen-oxygen.scenario.toml"),
+        "{err}"
+    );
 }

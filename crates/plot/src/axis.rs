@@ -95,10 +95,7 @@ impl Axis {
         let decades = (last - first + 1).max(0) as usize;
         let ticks: Vec<f64> = if decades >= 3 {
             let every = decades.div_ceil(10).max(1);
-            (first..=last)
-                .filter(|k| (k - first) as usize % every == 0)
-                .map(|k| k as f64)
-                .collect()
+            (first..=last).step_by(every).map(|k| k as f64).collect()
         } else {
             (lo.floor() as i64..=hi.ceil() as i64)
                 .flat_map(|k| [1.0f64, 2.0, 5.0].map(|m| k as f64 + m.log10()))
@@ -138,7 +135,11 @@ impl Axis {
 
 /// The 1, 2 or 5 times a power of ten nearest above `raw` (> 0).
 fn nice_step(raw: f64) -> f64 {
-    let raw = if raw > 0.0 && raw.is_finite() { raw } else { 1.0 };
+    let raw = if raw > 0.0 && raw.is_finite() {
+        raw
+    } else {
+        1.0
+    };
     let power = 10f64.powf(raw.log10().floor());
     let m = raw / power;
     let nice = if m <= 1.0 {
@@ -157,7 +158,7 @@ fn nice_step(raw: f64) -> f64 {
 /// decimals with the step's digits, or scientific notation for very large or small values.
 fn linear_label(t: f64, step: f64, magnitude: f64) -> String {
     let t = if (t / step).abs() < 1e-9 { 0.0 } else { t };
-    if magnitude >= 1e5 || magnitude < 1e-2 {
+    if !(1e-2..1e5).contains(&magnitude) {
         let digits = ((magnitude.log10().floor() - step.log10().floor()).max(0.0) as usize).min(6);
         format!("{t:.digits$e}")
     } else {

@@ -37,8 +37,7 @@ pub fn bar_chart_svg(
     if bars.is_empty() {
         return Err(PlotError::Empty("no bar".into()));
     }
-    if let Some((index, (label, value))) = bars.iter().enumerate().find(|(_, b)| !b.1.is_finite())
-    {
+    if let Some((index, (label, value))) = bars.iter().enumerate().find(|(_, b)| !b.1.is_finite()) {
         return Err(PlotError::NonFinite {
             what: "bar value",
             series: label.clone(),
@@ -68,10 +67,17 @@ pub fn bar_chart_svg(
     let height = 110 + ROW_HEIGHT * bars.len() as u32;
     let mut svg = String::new();
     {
-        let root =
-            SVGBackend::with_string(&mut svg, (BAR_CHART_WIDTH, height)).into_drawing_area();
-        draw(&root, title, value_axis_label, bars, &labels, x, label_width)
-            .map_err(PlotError::draw)?;
+        let root = SVGBackend::with_string(&mut svg, (BAR_CHART_WIDTH, height)).into_drawing_area();
+        draw(
+            &root,
+            title,
+            value_axis_label,
+            bars,
+            &labels,
+            x,
+            label_width,
+        )
+        .map_err(PlotError::draw)?;
         root.present().map_err(PlotError::draw)?;
     }
     Ok(svg)
@@ -126,7 +132,10 @@ fn draw(
         } else {
             POSITIVE_COLOR
         };
-        Rectangle::new([(0.0, centre(i) - 0.35), (v, centre(i) + 0.35)], color.filled())
+        Rectangle::new(
+            [(0.0, centre(i) - 0.35), (v, centre(i) + 0.35)],
+            color.filled(),
+        )
     }))?;
     // The zero line.
     chart.draw_series(std::iter::once(PathElement::new(

@@ -5,7 +5,9 @@
 #[derive(Debug, thiserror::Error)]
 pub enum PlotError {
     /// A value to plot is NaN or infinite.
-    #[error("{what}: value {index} of `{series}` is {value}, not a finite number; nothing was drawn")]
+    #[error(
+        "{what}: value {index} of `{series}` is {value}, not a finite number; nothing was drawn"
+    )]
     NonFinite {
         /// Which input (e.g. `time`, `values`, `bar value`).
         what: &'static str,

@@ -125,11 +125,7 @@ fn draw(
     };
     root.draw(&Text::new(
         clean_label(
-            &format!(
-                "Flux of {} atoms, {}",
-                graph.symbol,
-                graph.span.describe()
-            ),
+            &format!("Flux of {} atoms, {}", graph.symbol, graph.span.describe()),
             90,
         ),
         (FLUX_SIZE.0 as i32 / 2, 20),
@@ -162,10 +158,12 @@ fn draw(
         let length = (dx * dx + dy * dy).sqrt().max(1e-9);
         let (ux, uy) = (dx / length, dy / length);
         // Leave each box: distance from its centre to its edge along the direction.
-        let clear = |half: f64| {
-            (half / ux.abs().max(1e-9)).min(BOX_HALF_HEIGHT / uy.abs().max(1e-9)) + 3.0
-        };
-        let (c1, c2) = (clear(half_width(&name(e.from))), clear(half_width(&name(e.to))));
+        let clear =
+            |half: f64| (half / ux.abs().max(1e-9)).min(BOX_HALF_HEIGHT / uy.abs().max(1e-9)) + 3.0;
+        let (c1, c2) = (
+            clear(half_width(&name(e.from))),
+            clear(half_width(&name(e.to))),
+        );
         let start = (x1 + ux * c1, y1 + uy * c1);
         let tip = (x2 - ux * c2, y2 - uy * c2);
         let width = 1.0 + WIDTH_RANGE * e.relative.clamp(0.0, 1.0);
@@ -200,11 +198,17 @@ fn draw(
         let label = name(s);
         let half = half_width(&label);
         root.draw(&Rectangle::new(
-            [px((x - half, y - BOX_HALF_HEIGHT)), px((x + half, y + BOX_HALF_HEIGHT))],
+            [
+                px((x - half, y - BOX_HALF_HEIGHT)),
+                px((x + half, y + BOX_HALF_HEIGHT)),
+            ],
             RGBColor(0xee, 0xee, 0xff).filled(),
         ))?;
         root.draw(&Rectangle::new(
-            [px((x - half, y - BOX_HALF_HEIGHT)), px((x + half, y + BOX_HALF_HEIGHT))],
+            [
+                px((x - half, y - BOX_HALF_HEIGHT)),
+                px((x + half, y + BOX_HALF_HEIGHT)),
+            ],
             EDGE_COLOR.stroke_width(1),
         ))?;
         root.draw(&Text::new(label, px((x, y)), centred(13)))?;

@@ -68,11 +68,8 @@ impl Table {
             out.push_str("<tr>");
             for k in 0..self.headers.len().max(row.len()) {
                 let cell = row.get(k).map_or("", String::as_str);
-                let numeric = !cell.is_empty()
-                    && cell
-                        .trim_end_matches([' ', '%'])
-                        .parse::<f64>()
-                        .is_ok();
+                let numeric =
+                    !cell.is_empty() && cell.trim_end_matches([' ', '%']).parse::<f64>().is_ok();
                 if numeric {
                     let _ = write!(out, "<td class=\"num\">{}</td>", escape(cell));
                 } else {
@@ -174,13 +171,7 @@ impl HtmlReport {
     /// a chart of it (an SVG document, e.g. from [`crate::bar_chart_svg`]), the table first.
     /// This is the form of the rates-of-production sections and the one meant for local
     /// sensitivities (ranked table + bar chart).
-    pub fn table_and_chart_section(
-        &mut self,
-        title: &str,
-        intro: &str,
-        table: &Table,
-        svg: &str,
-    ) {
+    pub fn table_and_chart_section(&mut self, title: &str, intro: &str, table: &Table, svg: &str) {
         self.table_and_charts_section(title, intro, table, &[svg]);
     }
 

@@ -145,7 +145,11 @@ impl Prepared {
             let v_min = all().fold(f64::INFINITY, f64::min);
             Axis::linear(v_min, v_max, 0.05)
         };
-        let floor = if y_log { v_max * LOG_FLOOR } else { f64::NEG_INFINITY };
+        let floor = if y_log {
+            v_max * LOG_FLOOR
+        } else {
+            f64::NEG_INFINITY
+        };
         let mut left_out = 0;
         let mut runs = Vec::with_capacity(plot.series.len());
         for s in &plot.series {

@@ -22,7 +22,9 @@ const K2: f64 = 4.0;
 
 /// Times from 1e-6 s to 1e1 s, 15 per decade, and the closed-form A, B, C.
 fn consecutive() -> (Vec<f64>, [Vec<f64>; 3]) {
-    let times: Vec<f64> = (0..=105).map(|k| 10f64.powf(-6.0 + k as f64 / 15.0)).collect();
+    let times: Vec<f64> = (0..=105)
+        .map(|k| 10f64.powf(-6.0 + k as f64 / 15.0))
+        .collect();
     let a: Vec<f64> = times.iter().map(|t| C0 * (-K1 * t).exp()).collect();
     let b: Vec<f64> = times
         .iter()
@@ -33,7 +35,9 @@ fn consecutive() -> (Vec<f64>, [Vec<f64>; 3]) {
 }
 
 fn texts<'a>(doc: &'a Document) -> Vec<Node<'a, 'a>> {
-    doc.descendants().filter(|n| n.has_tag_name("text")).collect()
+    doc.descendants()
+        .filter(|n| n.has_tag_name("text"))
+        .collect()
 }
 
 /// Tick labels of one axis: `<text>` with the given anchor whose content parses as a number.
@@ -82,9 +86,18 @@ fn a_profile_plot_has_one_line_per_species_and_the_data_decades_as_ticks() {
         title: "A -> B -> C",
         times_s: &times,
         series: vec![
-            Series { label: "A", values: &a },
-            Series { label: "B", values: &b },
-            Series { label: "C", values: &c },
+            Series {
+                label: "A",
+                values: &a,
+            },
+            Series {
+                label: "B",
+                values: &b,
+            },
+            Series {
+                label: "C",
+                values: &c,
+            },
         ],
         value_axis_label: "concentration [mol/m3]",
         time_scale: AxisScale::Auto,
@@ -95,12 +108,19 @@ fn a_profile_plot_has_one_line_per_species_and_the_data_decades_as_ticks() {
     assert_eq!(doc.root_element().tag_name().name(), "svg");
     let palette: Vec<String> = PALETTE.iter().map(|&c| color_hex(c)).collect();
     assert_eq!(line_colors(&doc, &palette).len(), 3);
-    let all_text: Vec<&str> = texts(&doc).iter().filter_map(|n| n.text()).map(str::trim).collect();
+    let all_text: Vec<&str> = texts(&doc)
+        .iter()
+        .filter_map(|n| n.text())
+        .map(str::trim)
+        .collect();
     for label in ["A", "B", "C", "time [s] (log scale)"] {
         assert!(all_text.contains(&label), "{label} missing in {all_text:?}");
     }
     // Time: 1e-6 s to 1e1 s, 7 decades: a log axis labelled at every decade of the data.
-    let x: Vec<String> = tick_labels(&doc, "middle").into_iter().map(|l| l.0).collect();
+    let x: Vec<String> = tick_labels(&doc, "middle")
+        .into_iter()
+        .map(|l| l.0)
+        .collect();
     let expected: Vec<String> = decades(times[0], times[times.len() - 1])
         .into_iter()
         .map(|k| format!("1e{k}"))
@@ -112,7 +132,11 @@ fn a_profile_plot_has_one_line_per_species_and_the_data_decades_as_ticks() {
     // below the largest, at most eleven of them.
     let all: Vec<f64> = a.iter().chain(&b).chain(&c).copied().collect();
     let max = all.iter().copied().fold(f64::MIN, f64::max);
-    let min_pos = all.iter().copied().filter(|&v| v > 0.0).fold(f64::MAX, f64::min);
+    let min_pos = all
+        .iter()
+        .copied()
+        .filter(|&v| v > 0.0)
+        .fold(f64::MAX, f64::min);
     let lo = min_pos.max(max * LOG_FLOOR);
     let y: Vec<(String, f64)> = tick_labels(&doc, "end");
     let exponents: Vec<i32> = y
@@ -125,10 +149,16 @@ fn a_profile_plot_has_one_line_per_species_and_the_data_decades_as_ticks() {
         .collect();
     assert!(exponents.len() >= 3 && exponents.len() <= 11, "{y:?}");
     let n = exponents[1] - exponents[0];
-    assert!(n >= 1 && exponents.windows(2).all(|w| w[1] - w[0] == n), "{y:?}");
+    assert!(
+        n >= 1 && exponents.windows(2).all(|w| w[1] - w[0] == n),
+        "{y:?}"
+    );
     let (first, last) = (exponents[0], exponents[exponents.len() - 1]);
     let data_decades = decades(lo, max);
-    assert!(first >= data_decades[0] - 1 && first < data_decades[0] + n, "{y:?}");
+    assert!(
+        first >= data_decades[0] - 1 && first < data_decades[0] + n,
+        "{y:?}"
+    );
     let top = data_decades[data_decades.len() - 1];
     assert!(last <= top + 1 && last > top - n, "{y:?}");
     // A drops below the floor: those points are left out and the plot says so.
@@ -150,21 +180,35 @@ fn a_linear_profile_ticks_bracket_the_data_and_zero_time_is_kept() {
     let svg = profile_svg(&ProfilePlot {
         title: "ramp",
         times_s: &times,
-        series: vec![Series { label: "T", values: &temperature }],
+        series: vec![Series {
+            label: "T",
+            values: &temperature,
+        }],
         value_axis_label: "temperature [K]",
         time_scale: AxisScale::Auto,
         value_scale: AxisScale::Linear,
     })
     .expect("drawn");
     let doc = Document::parse(&svg).expect("well-formed XML");
-    let x: Vec<f64> = tick_labels(&doc, "middle").into_iter().map(|l| l.1).collect();
+    let x: Vec<f64> = tick_labels(&doc, "middle")
+        .into_iter()
+        .map(|l| l.1)
+        .collect();
     let y: Vec<f64> = tick_labels(&doc, "end").into_iter().map(|l| l.1).collect();
     for (ticks, lo, hi) in [(&x, 0.0, 4.0), (&y, 300.0, 500.0)] {
         assert!(ticks.len() >= 3, "{ticks:?}");
         let step = ticks[1] - ticks[0];
-        assert!(ticks.windows(2).all(|w| ((w[1] - w[0]) - step).abs() < 1e-9 * step.abs().max(1.0)));
-        assert!(ticks[0] <= lo + step && ticks[ticks.len() - 1] >= hi - step, "{ticks:?}");
-        assert!(ticks[0] >= lo - step && ticks[ticks.len() - 1] <= hi + step, "{ticks:?}");
+        assert!(ticks
+            .windows(2)
+            .all(|w| ((w[1] - w[0]) - step).abs() < 1e-9 * step.abs().max(1.0)));
+        assert!(
+            ticks[0] <= lo + step && ticks[ticks.len() - 1] >= hi - step,
+            "{ticks:?}"
+        );
+        assert!(
+            ticks[0] >= lo - step && ticks[ticks.len() - 1] <= hi + step,
+            "{ticks:?}"
+        );
     }
     // Nothing is left out on linear axes.
     assert!(!texts(&doc)
@@ -180,7 +224,10 @@ fn non_finite_values_are_refused_with_their_place_named() {
     let plot = ProfilePlot {
         title: "t",
         times_s: &times,
-        series: vec![Series { label: "X", values: &values }],
+        series: vec![Series {
+            label: "X",
+            values: &values,
+        }],
         value_axis_label: "c",
         time_scale: AxisScale::Linear,
         value_scale: AxisScale::Linear,
@@ -196,13 +243,22 @@ fn non_finite_values_are_refused_with_their_place_named() {
         bar_chart_svg("b", "v", &bars),
         Err(PlotError::NonFinite { index: 1, .. })
     ));
-    assert!(matches!(bar_chart_svg("b", "v", &[]), Err(PlotError::Empty(_))));
+    assert!(matches!(
+        bar_chart_svg("b", "v", &[]),
+        Err(PlotError::Empty(_))
+    ));
     let short = [1.0];
     let plot = ProfilePlot {
-        series: vec![Series { label: "X", values: &short }],
+        series: vec![Series {
+            label: "X",
+            values: &short,
+        }],
         ..plot
     };
-    assert!(matches!(profile_svg(&plot), Err(PlotError::LengthMismatch { .. })));
+    assert!(matches!(
+        profile_svg(&plot),
+        Err(PlotError::LengthMismatch { .. })
+    ));
 }
 
 #[test]
@@ -217,8 +273,7 @@ fn a_bar_chart_has_one_bar_per_value_coloured_by_sign() {
         ("R2 B -> C".to_string(), -K2 * cb),
         ("R3 <A&B> \"q\"".to_string(), 0.25 * K1 * ca),
     ];
-    let svg = bar_chart_svg("B at t = 1e-3 s", "contribution [mol/(m3 s)]", &bars)
-        .expect("drawn");
+    let svg = bar_chart_svg("B at t = 1e-3 s", "contribution [mol/(m3 s)]", &bars).expect("drawn");
     let doc = Document::parse(&svg).expect("well-formed XML");
     let fills = |color: String| {
         doc.descendants()
@@ -229,22 +284,35 @@ fn a_bar_chart_has_one_bar_per_value_coloured_by_sign() {
     let negative = bars.iter().filter(|b| b.1 < 0.0).count();
     assert_eq!(fills(color_hex(POSITIVE_COLOR)), positive);
     assert_eq!(fills(color_hex(NEGATIVE_COLOR)), negative);
-    let all_text: Vec<&str> = texts(&doc).iter().filter_map(|n| n.text()).map(str::trim).collect();
+    let all_text: Vec<&str> = texts(&doc)
+        .iter()
+        .filter_map(|n| n.text())
+        .map(str::trim)
+        .collect();
     for (label, _) in &bars {
-        assert!(all_text.contains(&label.as_str()), "{label} not in {all_text:?}");
+        assert!(
+            all_text.contains(&label.as_str()),
+            "{label} not in {all_text:?}"
+        );
     }
     // The value axis: evenly spaced ticks that include zero and reach both ends of the data.
-    let x: Vec<f64> = tick_labels(&doc, "middle").into_iter().map(|l| l.1).collect();
+    let x: Vec<f64> = tick_labels(&doc, "middle")
+        .into_iter()
+        .map(|l| l.1)
+        .collect();
     let step = x[1] - x[0];
     assert!(x.contains(&0.0), "{x:?}");
     let (lo, hi) = (-K2 * cb, K1 * ca);
-    assert!(x[0] <= lo + step && x[x.len() - 1] >= hi - step, "{x:?} for {lo}..{hi}");
+    assert!(
+        x[0] <= lo + step && x[x.len() - 1] >= hi - step,
+        "{x:?} for {lo}..{hi}"
+    );
 }
 
 #[test]
 fn the_flux_graph_has_one_arrow_per_edge_and_escapes_names() {
-    let plan = RunPlan::load(&mechanisms_dir().join("hydrogen-oxygen.scenario.toml"))
-        .expect("demo loads");
+    let plan =
+        RunPlan::load(&mechanisms_dir().join("hydrogen-oxygen.scenario.toml")).expect("demo loads");
     let mut mechanism = plan.mechanism().clone();
     let rates = step_rates(
         &plan,
@@ -274,7 +342,11 @@ fn the_flux_graph_has_one_arrow_per_edge_and_escapes_names() {
         .count();
     assert_eq!(arrows, graph.edges.len());
     assert!(arrows > 3);
-    let all_text: Vec<&str> = texts(&doc).iter().filter_map(|n| n.text()).map(str::trim).collect();
+    let all_text: Vec<&str> = texts(&doc)
+        .iter()
+        .filter_map(|n| n.text())
+        .map(str::trim)
+        .collect();
     for &s in &graph.nodes {
         assert!(all_text.contains(&mechanism.species[s].name.as_str()));
     }
@@ -314,5 +386,8 @@ fn the_report_page_escapes_every_text_and_holds_its_sections() {
     assert_eq!(html.matches("<svg").count(), 1);
     assert!(!html.contains("<?xml"));
     assert_eq!(html.matches("careful").count(), 2);
-    assert_eq!(report.section_titles(), vec!["Summary", "Sensitivities of <X>"]);
+    assert_eq!(
+        report.section_titles(),
+        vec!["Summary", "Sensitivities of <X>"]
+    );
 }

@@ -8,8 +8,8 @@ use crate::run::record_inputs;
 use crate::{FluxArgs, RatesArgs, Window};
 use std::io::Write;
 use stoik::analysis::{
-    element_index, flux_graph, species_budget, species_index, step_rates, to_dot,
-    AnalysisError, Contribution, Span, StepRates,
+    element_index, flux_graph, species_budget, species_index, step_rates, to_dot, AnalysisError,
+    Contribution, Span, StepRates,
 };
 use stoik::mechanism::Mechanism;
 use stoik::plot::flux_graph_svg;
@@ -119,7 +119,12 @@ pub fn rates(args: &RatesArgs) -> Result<(), CliError> {
 }
 
 /// One species' budget as printed: totals, then the top steps of each side.
-fn budget_lines(mechanism: &Mechanism, rates: &StepRates, species: usize, top: usize) -> Vec<String> {
+fn budget_lines(
+    mechanism: &Mechanism,
+    rates: &StepRates,
+    species: usize,
+    top: usize,
+) -> Vec<String> {
     let b = species_budget(mechanism, rates, species);
     let unit = rates.span.rate_unit();
     let mut lines = vec![format!(

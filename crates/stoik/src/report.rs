@@ -12,8 +12,8 @@ use std::path::Path;
 use stoik::analysis::{species_budget, Contribution, FluxGraph, StepRates};
 use stoik::mechanism::Mechanism;
 use stoik::plot::{
-    bar_chart_svg, flux_graph_svg, largest_series, profile_svg, AxisScale, HtmlReport,
-    PlotError, ProfilePlot, Series, Table,
+    bar_chart_svg, flux_graph_svg, largest_series, profile_svg, AxisScale, HtmlReport, PlotError,
+    ProfilePlot, Series, Table,
 };
 use stoik::reactor::Profiles;
 use stoik::scenario::RunPlan;
@@ -69,7 +69,9 @@ pub fn run_report(
     let mut report = page(&format!("{title}: run report"), scenario, plan);
     let mut lines = Vec::new();
     if let Some(f) = text.failure {
-        lines.push(format!("the run FAILED; the profiles below stop at the failure: {f}"));
+        lines.push(format!(
+            "the run FAILED; the profiles below stop at the failure: {f}"
+        ));
     }
     lines.extend(text.summary.iter().cloned());
     lines.extend(text.warnings.iter().cloned());
@@ -252,15 +254,14 @@ pub fn flux_report(
     printed: &[String],
 ) -> Result<(), CliError> {
     let mechanism = plan.mechanism();
-    let mut report = page(
-        &format!("Flux of {} atoms", graph.symbol),
-        scenario,
-        plan,
-    );
+    let mut report = page(&format!("Flux of {} atoms", graph.symbol), scenario, plan);
     report.text_section("Summary", printed);
     let svg = flux_graph_svg(graph, mechanism).map_err(plot_error(path))?;
     report.figure_section("Flux graph", &[(String::new(), svg)]);
-    let unit = format!("mol of atoms{}", graph.span.rate_unit().trim_start_matches("mol"));
+    let unit = format!(
+        "mol of atoms{}",
+        graph.span.rate_unit().trim_start_matches("mol")
+    );
     let mut table = Table::new(&[
         "from".to_string(),
         "to".to_string(),

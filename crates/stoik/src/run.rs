@@ -120,7 +120,8 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         }
         Err(e) => return Err(CliError::write(&output, e)),
     }
-    let conservation = report_from_check(mechanism, &outcome.conservation, profiles, plan.options());
+    let conservation =
+        report_from_check(mechanism, &outcome.conservation, profiles, plan.options());
     let mut lines = summary_lines(
         &plan,
         profiles,
@@ -337,7 +338,10 @@ fn summary_lines(
         ));
     }
     if order.len() > 12 {
-        lines.push(format!("  ... {} more species in the CSV", order.len() - 12));
+        lines.push(format!(
+            "  ... {} more species in the CSV",
+            order.len() - 12
+        ));
     }
     lines.extend(conservation.iter().cloned());
     let s = &profiles.stats;

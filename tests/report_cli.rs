@@ -254,3 +254,45 @@ fn a_report_onto_an_input_is_refused_before_the_run() {
         "{err}"
     );
 }
+
+#[test]
+fn report_species_are_checked_before_the_run() {
+    let dir = scratch("species");
+    let out = stoik(
+        &[
+            "run",
+            &demo(),
+            "-o",
+            "a.csv",
+            "--report",
+            "a.html",
+            "--report-species",
+            "OH,XY",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("--report-species: unknown species `XY`"));
+    assert!(!dir.join("a.csv").exists() && !dir.join("a.html").exists());
+    let out = stoik(
+        &[
+            "run",
+            &demo(),
+            "-o",
+            "b.csv",
+            "--report",
+            "b.html",
+            "--report-species",
+            "OH,H2O",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let html = std::fs::read_to_string(dir.join("b.html")).unwrap();
+    assert!(html.contains("Species chosen with --report-species."));
+    // The legend holds exactly the two species (and the temperature's T).
+    for name in ["OH", "H2O"] {
+        assert!(html.contains(&format!(">\n{name}\n</text>")), "{name}");
+    }
+    assert!(!html.contains(">\nAR\n</text>"));
+}

@@ -3,6 +3,7 @@
 
 use crate::axis::{clean_label, Axis, AxisScale};
 use crate::{PlotError, PALETTE};
+use plotters::coord::ranged1d::Ranged;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
@@ -48,6 +49,10 @@ pub struct ProfilePlot<'a> {
 /// A profile plot as a standalone SVG document ([`PROFILE_SIZE`]), drawn with plotters: one
 /// line per series against time, a legend at the right, axis titles with units (time in s),
 /// ticks at round numbers (decades on a logarithmic axis, see [`AxisScale::Auto`]).
+///
+/// Long series are thinned to at most four points per 1/1500 of the time axis (first,
+/// lowest, highest, last), which looks the same at the plot's size; the legend lists the
+/// first 20 series.
 ///
 /// On a logarithmic axis, points that cannot be drawn (time or value not positive; a value
 /// below [`LOG_FLOOR`] times the largest value) are left out and the line is broken there;
@@ -170,7 +175,7 @@ impl Prepared {
                 }
             }
             series_runs.retain(|r| !r.is_empty());
-            runs.push(series_runs);
+            runs.push(series_runs.into_iter().map(|r| thin(r, &x)).collect());
         }
         Ok(Prepared {
             x,
@@ -179,6 +184,42 @@ impl Prepared {
             left_out,
         })
     }
+}
+
+/// Runs longer than this are thinned before drawing ([`thin`]).
+const THIN_ABOVE: usize = 4 * THIN_BUCKETS;
+/// Buckets across the time axis when thinning: about two per pixel column.
+const THIN_BUCKETS: usize = 1500;
+
+/// `run` (chart coordinates, x increasing) with at most four points per bucket of
+/// 1/[`THIN_BUCKETS`] of the x axis: the first, lowest, highest and last point of the bucket,
+/// in their order. Lines drawn through them look the same at the plot's resolution, and a
+/// run of 100,000 output rows does not write 100,000 points into the page. Shorter runs are
+/// returned as they are.
+fn thin(run: Vec<(f64, f64)>, x: &Axis) -> Vec<(f64, f64)> {
+    if run.len() <= THIN_ABOVE {
+        return run;
+    }
+    let (lo, hi) = (x.range().start, x.range().end);
+    let bucket = |cx: f64| (((cx - lo) / (hi - lo)) * THIN_BUCKETS as f64).floor() as i64;
+    let mut out = Vec::with_capacity(4 * THIN_BUCKETS + 4);
+    let mut start = 0;
+    while start < run.len() {
+        let b = bucket(run[start].0);
+        let mut end = start + 1;
+        while end < run.len() && bucket(run[end].0) == b {
+            end += 1;
+        }
+        let part = &run[start..end];
+        let low = (0..part.len()).fold(0, |m, k| if part[k].1 < part[m].1 { k } else { m });
+        let high = (0..part.len()).fold(0, |m, k| if part[k].1 > part[m].1 { k } else { m });
+        let mut keep = vec![0, low, high, part.len() - 1];
+        keep.sort_unstable();
+        keep.dedup();
+        out.extend(keep.into_iter().map(|k| part[k]));
+        start = end;
+    }
+    out
 }
 
 /// The colour of series `i`.

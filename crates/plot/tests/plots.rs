@@ -391,3 +391,36 @@ fn the_report_page_escapes_every_text_and_holds_its_sections() {
         vec!["Summary", "Sensitivities of <X>"]
     );
 }
+
+#[test]
+fn a_long_profile_is_thinned_to_the_plot_resolution() {
+    // 200,001 rows of first-order decay c = c0 exp(-k t) with k = 3 1/s over 2 s: the line
+    // keeps its ends and at most four points per 1/1500 of the time axis.
+    let times: Vec<f64> = (0..=200_000).map(|k| k as f64 * 1e-5).collect();
+    let c: Vec<f64> = times.iter().map(|t| C0 * (-3.0 * t).exp()).collect();
+    let svg = profile_svg(&ProfilePlot {
+        title: "decay",
+        times_s: &times,
+        series: vec![Series {
+            label: "A",
+            values: &c,
+        }],
+        value_axis_label: "concentration [mol/m3]",
+        time_scale: AxisScale::Linear,
+        value_scale: AxisScale::Linear,
+    })
+    .expect("drawn");
+    let doc = Document::parse(&svg).expect("well-formed XML");
+    let line = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("polyline"))
+        .find(|n| n.attribute("stroke") == Some(color_hex(PALETTE[0]).as_str()))
+        .expect("the line");
+    let points = line
+        .attribute("points")
+        .expect("points")
+        .split_whitespace()
+        .count();
+    assert!(points > 1500 && points <= 4 * 1500 + 4, "{points} points");
+    assert!(svg.len() < 400_000, "{} bytes", svg.len());
+}

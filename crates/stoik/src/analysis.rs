@@ -104,7 +104,7 @@ pub fn rates(args: &RatesArgs) -> Result<(), CliError> {
         println!("wrote {}", csv.display());
     }
     if let Some(report) = &args.report {
-        crate::report::rates_report(
+        let page = crate::report::rates_page(
             report,
             &args.scenario,
             &plan,
@@ -113,6 +113,7 @@ pub fn rates(args: &RatesArgs) -> Result<(), CliError> {
             args.top,
             &lines,
         )?;
+        crate::report::write(report, &page)?;
         println!("wrote {}", report.display());
     }
     Ok(())
@@ -295,7 +296,8 @@ pub fn flux(args: &FluxArgs) -> Result<(), CliError> {
         println!("wrote {}", p.display());
     }
     if let Some(p) = &args.report {
-        crate::report::flux_report(p, &args.scenario, &plan, &graph, &lines)?;
+        let page = crate::report::flux_page(p, &args.scenario, &plan, &graph, &lines)?;
+        crate::report::write(p, &page)?;
         println!("wrote {}", p.display());
     }
     Ok(())

@@ -398,8 +398,8 @@ pub struct RunArgs {
     /// plots against time) to this file.
     #[arg(long, value_name = "FILE.html")]
     pub report: Option<PathBuf>,
-    /// Species plotted in the report, comma-separated [default: the 8 largest by peak
-    /// concentration].
+    /// Species plotted in the report, comma-separated, at most 10 [default: the 8 largest by
+    /// peak concentration].
     #[arg(long, value_delimiter = ',', requires = "report")]
     pub report_species: Vec<String>,
 }

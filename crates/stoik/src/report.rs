@@ -40,8 +40,10 @@ fn page(title: &str, scenario: &Path, plan: &RunPlan) -> HtmlReport {
     report
 }
 
-/// Writes `report` to `path` atomically.
-fn write(path: &Path, report: &HtmlReport) -> Result<(), CliError> {
+/// Writes `report` to `path` atomically. Each command builds its page with a `*_page`
+/// function and writes it here, so further sections (local sensitivities: a ranked table and
+/// its bar chart through `HtmlReport::table_and_chart_section`) can be added in between.
+pub fn write(path: &Path, report: &HtmlReport) -> Result<(), CliError> {
     write_text(path, &report.render()).map_err(|e| CliError::write(path, e))
 }
 
@@ -53,17 +55,17 @@ fn plot_error(path: &Path) -> impl Fn(PlotError) -> CliError + '_ {
     }
 }
 
-/// The report of `stoik run`: the concentrations of `species` (default: the
+/// The page of `stoik run` (`path`: the report file, named in errors): the concentrations of `species` (default: the
 /// [`DEFAULT_PLOTTED_SPECIES`] largest by peak) in the scenario's output unit and the
 /// temperature against time, then the summary as printed (warnings and the failure too).
-pub fn run_report(
+pub fn run_page(
     path: &Path,
     scenario: &Path,
     plan: &RunPlan,
     profiles: &Profiles,
     text: &RunText,
     species: &Option<Vec<usize>>,
-) -> Result<(), CliError> {
+) -> Result<HtmlReport, CliError> {
     let mechanism = plan.mechanism();
     let title = plan.scenario().title.as_deref().unwrap_or("stoik run");
     let mut report = page(&format!("{title}: run report"), scenario, plan);
@@ -78,7 +80,7 @@ pub fn run_report(
     let rows = &profiles.concentrations_mol_per_m3;
     if rows.is_empty() {
         report.text_section("Run summary", &lines);
-        return write(path, &report);
+        return Ok(report);
     }
     let unit = plan.output_concentration_unit();
     let factor = unit.to_si_factor();
@@ -145,7 +147,7 @@ pub fn run_report(
         &[(caption, concentrations), (String::new(), temperature)],
     );
     report.text_section("Run summary", &lines);
-    write(path, &report)
+    Ok(report)
 }
 
 /// `R<n>` and the equation of step `j`.
@@ -159,10 +161,10 @@ fn step_text(mechanism: &Mechanism, j: usize) -> (String, String) {
     )
 }
 
-/// The report of `stoik rates`: the printed budgets, then per span and species a table of
+/// The page of `stoik rates`: the printed budgets, then per span and species a table of
 /// every contributing step ranked by magnitude and a bar chart of the `top` largest of each
 /// side.
-pub fn rates_report(
+pub fn rates_page(
     path: &Path,
     scenario: &Path,
     plan: &RunPlan,
@@ -170,7 +172,7 @@ pub fn rates_report(
     species: &[usize],
     top: usize,
     printed: &[String],
-) -> Result<(), CliError> {
+) -> Result<HtmlReport, CliError> {
     let mechanism = plan.mechanism();
     let mut report = page("Rates of production", scenario, plan);
     report.text_section("Summary", printed);
@@ -241,18 +243,18 @@ pub fn rates_report(
             }
         }
     }
-    write(path, &report)
+    Ok(report)
 }
 
-/// The report of `stoik flux`: the printed table, the graph drawn, and every edge with its
+/// The page of `stoik flux`: the printed table, the graph drawn, and every edge with its
 /// carrying steps' equations.
-pub fn flux_report(
+pub fn flux_page(
     path: &Path,
     scenario: &Path,
     plan: &RunPlan,
     graph: &FluxGraph,
     printed: &[String],
-) -> Result<(), CliError> {
+) -> Result<HtmlReport, CliError> {
     let mechanism = plan.mechanism();
     let mut report = page(&format!("Flux of {} atoms", graph.symbol), scenario, plan);
     report.text_section("Summary", printed);
@@ -293,5 +295,5 @@ pub fn flux_report(
         &table,
         &[],
     );
-    write(path, &report)
+    Ok(report)
 }

@@ -147,7 +147,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
             .chain(conservation.warnings.iter().cloned())
             .collect();
         let failure = outcome.failure().map(|f| failure_message(f, mechanism));
-        crate::report::run_report(
+        let page = crate::report::run_page(
             path,
             &args.scenario,
             &plan,
@@ -159,6 +159,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
             },
             &report_species,
         )?;
+        crate::report::write(path, &page)?;
         if !args.quiet {
             println!("wrote {}", path.display());
         }
@@ -193,6 +194,13 @@ pub struct RunText<'a> {
 fn report_species(args: &RunArgs, mechanism: &Mechanism) -> Result<Option<Vec<usize>>, CliError> {
     if args.report_species.is_empty() {
         return Ok(None);
+    }
+    if args.report_species.len() > stoik::plot::PALETTE.len() {
+        return Err(CliError::BadFlag(format!(
+            "--report-species: {} species given; at most {} are plotted (one colour each)",
+            args.report_species.len(),
+            stoik::plot::PALETTE.len()
+        )));
     }
     args.report_species
         .iter()

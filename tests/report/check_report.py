@@ -38,6 +38,7 @@ import struct
 import subprocess
 import sys
 import tempfile
+import threading
 import time
 import urllib.request
 import zlib
@@ -170,7 +171,7 @@ class Page:
 class Browser:
     def __init__(self, chromium: str, profile: str):
         self.process = subprocess.Popen(
-            [chromium, "--headless=new", "--no-sandbox", "--disable-gpu", "--no-first-run",
+            [chromium, "--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage", "--no-first-run",
              "--no-default-browser-check", "--remote-debugging-port=0", "--remote-debugging-address=127.0.0.1",
              f"--user-data-dir={profile}", f"--window-size={WIDTH},{HEIGHT}", "--hide-scrollbars",
              "about:blank"],
@@ -188,6 +189,8 @@ class Browser:
         if self.port is None:
             self.close()
             raise RuntimeError("chromium did not start its DevTools endpoint")
+        # Keep reading chromium's log so that a full pipe never blocks the browser.
+        threading.Thread(target=self.process.stderr.read, daemon=True).start()
 
     def new_page(self) -> Page:
         request = urllib.request.Request(f"http://127.0.0.1:{self.port}/json/new?about:blank", method="PUT")

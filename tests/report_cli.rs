@@ -296,3 +296,39 @@ fn report_species_are_checked_before_the_run() {
     }
     assert!(!html.contains(">\nAR\n</text>"));
 }
+
+#[test]
+fn a_failed_run_still_writes_its_report_with_the_partial_profile() {
+    // The demo with a step budget far too small: exit 3, the partial CSV and a report that
+    // says the run failed.
+    let dir = scratch("failed");
+    let demo_text = std::fs::read_to_string(demo()).unwrap();
+    let mechanism = repo().join("mechanisms/hydrogen-oxygen.toml");
+    let scenario = demo_text
+        .replace(
+            "mechanism = \"hydrogen-oxygen.toml\"",
+            &format!("mechanism = '{}'", mechanism.display()),
+        )
+        .replace("[solver]\n", "[solver]\nmax_steps = 30\n");
+    assert_ne!(scenario, demo_text);
+    std::fs::write(dir.join("short.scenario.toml"), scenario).unwrap();
+    let out = stoik(
+        &[
+            "run",
+            "short.scenario.toml",
+            "-o",
+            "s.csv",
+            "--report",
+            "s.html",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(3), "{}", text(&out.stderr));
+    assert!(dir.join("s.partial.csv").exists());
+    let html = std::fs::read_to_string(dir.join("s.html")).unwrap();
+    self_contained(&html);
+    assert!(html.contains("The run failed: its profiles stop at the failure"));
+    assert!(html
+        .contains("the run FAILED; its profiles stop at the failure: integration failed at t = "));
+    assert_eq!(html.matches("<svg").count(), 2);
+}

@@ -71,8 +71,9 @@ pub fn run_page(
     let mut report = page(&format!("{title}: run report"), scenario, plan);
     let mut lines = Vec::new();
     if let Some(f) = text.failure {
+        report.meta("The run failed: its profiles stop at the failure (see the run summary).");
         lines.push(format!(
-            "the run FAILED; the profiles below stop at the failure: {f}"
+            "the run FAILED; its profiles stop at the failure: {f}"
         ));
     }
     lines.extend(text.summary.iter().cloned());

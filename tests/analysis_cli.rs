@@ -113,9 +113,13 @@ fn flux_writes_dot_and_svg_of_the_hydrogen_demo() {
     // XML 1.0 well-formedness by an independent parser.
     let doc = roxmltree::Document::parse(&svg).expect("well-formed SVG");
     assert_eq!(doc.root_element().tag_name().name(), "svg");
+    // One arrow head (a polygon in the edge colour) per DOT edge.
     let edges = dot.lines().filter(|l| l.contains(" -> ")).count();
+    let edge_color = stoik::plot::color_hex(stoik::plot::EDGE_COLOR);
     assert_eq!(
-        doc.descendants().filter(|n| n.has_tag_name("line")).count(),
+        doc.descendants()
+            .filter(|n| n.has_tag_name("polygon") && n.attribute("fill") == Some(&edge_color))
+            .count(),
         edges
     );
 }

@@ -53,7 +53,9 @@ special    Special files in every input position (the command-line file of each 
            a missing folder, --output-dir naming a file).
 alias      Output paths equal to an input, spelled as given, with ./, through sub/.., as an
            absolute path and through a symlink: run -o the scenario, the mechanism, the thermo
-           file (with a run that succeeds and one that fails with exit 3); fit-thermo TABLE -o
+           file (with a run that succeeds and one that fails with exit 3), run --report onto
+           the scenario, the mechanism and the thermo file; rates --csv/--report and flux
+           --dot/--svg/--report onto them; fit-thermo TABLE -o
            TABLE; fit-rate d.csv --svg d.csv / --snippet d.csv; a mechanism file named like
            the CSV that run or batch will write; fit-rate --snippet s.toml --svg no/dir/p.svg.
 collide    Outputs whose names collide: batch a/x.scenario.toml b/x.scenario.toml, the same
@@ -332,10 +334,12 @@ class Gen:
         locus = tuple(locus) + ("flag",)
         flags = ("--species", "--times", "--window", "--element", "--time")
         return [
-            self.add(family, "rates", kind, ["rates", ho, "--species", "OH,H", "--times", "1e-4", "--csv", "r.csv"],
-                     files, locus=locus, flags=flags, outputs={"r.csv": None}),
-            self.add(family, "flux", kind, ["flux", ho, "--element", "H", "--window", "0,1e-4", "--dot", "f.dot"],
-                     files, locus=locus, flags=flags, outputs={"f.dot": None}),
+            self.add(family, "rates", kind, ["rates", ho, "--species", "OH,H", "--times", "1e-4", "--csv", "r.csv",
+                                             "--report", "r.html"],
+                     files, locus=locus, flags=flags, outputs={"r.csv": None, "r.html": None}),
+            self.add(family, "flux", kind, ["flux", ho, "--element", "H", "--window", "0,1e-4", "--dot", "f.dot",
+                                            "--report", "f.html"],
+                     files, locus=locus, flags=flags, outputs={"f.dot": None, "f.html": None}),
         ]
 
     def _consumers(self, rel: str, content: bytes, family: str, locus=("content",)):
@@ -733,7 +737,10 @@ class Gen:
         # rates and flux outputs onto their inputs
         for flag_args in (["rates", ho, "--species", "OH", "--times", "1e-4", "--csv"],
                           ["flux", ho, "--element", "H", "--time", "1e-4", "--dot"],
-                          ["flux", ho, "--element", "H", "--time", "1e-4", "--svg"]):
+                          ["flux", ho, "--element", "H", "--time", "1e-4", "--svg"],
+                          ["rates", ho, "--species", "OH", "--times", "1e-4", "--report"],
+                          ["flux", ho, "--element", "H", "--time", "1e-4", "--report"],
+                          ["run", ho, "-o", "ok.csv", "--report"]):
             for target, kind in ((ho, "scenario"), ("hydrogen-oxygen.toml", "mechanism"),
                                  ("thermo/janaf-nasa7.toml", "thermo")):
                 for label, spell, specials in spellings:
@@ -1129,7 +1136,7 @@ def located(case: Case, stderr: str, tmp: str) -> bool:
                 if t and (t in stderr or os.path.basename(t) and os.path.basename(t) in stderr):
                     return True
             if kind == "output":
-                for flag in ("-o", "--output", "--output-dir", "--svg", "--snippet", "--csv", "--dot"):
+                for flag in ("-o", "--output", "--output-dir", "--svg", "--snippet", "--csv", "--dot", "--report"):
                     if re.search(r"(?<![\w-])" + re.escape(flag) + r"(?![\w-])", stderr):
                         return True
     return False
@@ -1249,6 +1256,17 @@ def check_loadback(binary: str, case: Case, tmp: str, rel: str, findings: list, 
             ET.fromstring(data)
         except ET.ParseError as e:
             findings.append(("unloadable-output", f"{rel}: SVG is not well-formed XML: {e}"))
+    elif rel.endswith(".html"):
+        # A report: one complete page whose inline SVG figures are well-formed XML.
+        page = data.decode("utf-8", errors="replace")
+        if not page.startswith("<!DOCTYPE html>") or not page.rstrip().endswith("</html>"):
+            findings.append(("unloadable-output", f"{rel}: not one complete HTML page"))
+        for k, m in enumerate(re.finditer(r"<svg\b.*?</svg>", page, re.S)):
+            try:
+                ET.fromstring(m.group(0))
+            except ET.ParseError as e:
+                findings.append(("unloadable-output", f"{rel}: figure {k + 1} is not well-formed XML: {e}"))
+                break
 
 
 def run_case(binary: str, case: Case, tmp_root: str | None = None) -> dict:

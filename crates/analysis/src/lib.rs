@@ -18,8 +18,8 @@
 //!   consumption ranked apart, with shares of their totals.
 //! - [`element_transfers`] and [`flux_graph`]: the flow of one element's atoms from species
 //!   to species through each step, normalized to the largest edge and cut at a relative
-//!   threshold; [`to_dot`] writes it as Graphviz DOT text, [`to_svg`] draws it as SVG
-//!   (species on a circle, edge width by flux, labels with the carrying steps).
+//!   threshold; [`to_dot`] writes it as Graphviz DOT text (the crate `stoik-plot` draws it
+//!   as SVG).
 //!
 //! Box-model terms that are not steps (emissions, deposition, fixed species) and the
 //! dilution of a constant-pressure reactor are not part of the budgets: they list chemical
@@ -32,7 +32,6 @@ mod dot;
 mod error;
 mod flux;
 mod rates;
-mod svg;
 
 pub use budget::{species_budget, Contribution, SpeciesBudget};
 pub use dot::to_dot;
@@ -42,4 +41,3 @@ pub use flux::{
     DEFAULT_THRESHOLD,
 };
 pub use rates::{species_index, step_rates, step_rates_at_state, Span, StepRates};
-pub use svg::to_svg;

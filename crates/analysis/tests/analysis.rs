@@ -1,11 +1,12 @@
 //! The analysis against sources outside the project: the closed form of first-order
 //! kinetics, the sum of a species' production terms (the definition of the net production
-//! rate), conservation of atoms, the DOT grammar and XML well-formedness.
+//! rate), conservation of atoms, the DOT grammar (the SVG drawing of a flux graph is tested
+//! in stoik-plot).
 
 use std::path::PathBuf;
 use stoik_analysis::{
     element_index, element_transfers, flux_graph, species_budget, species_index, step_rates,
-    step_rates_at_state, to_dot, to_svg, AnalysisError, Span, StepRates, DEFAULT_THRESHOLD,
+    step_rates_at_state, to_dot, AnalysisError, Span, StepRates, DEFAULT_THRESHOLD,
 };
 use stoik_kinetics::Kinetics;
 use stoik_scenario::RunPlan;
@@ -357,37 +358,6 @@ fn the_dot_output_follows_the_dot_grammar() {
     assert!(edges > 3);
     for n in &nodes {
         assert!(mechanism.species_index(n).is_some(), "{n}");
-    }
-}
-
-#[test]
-fn the_svg_is_well_formed_xml_with_one_arrow_per_edge() {
-    // XML 1.0 well-formedness, checked by an independent parser (roxmltree).
-    let plan = hydrogen_plan();
-    let mechanism = plan.mechanism().clone();
-    let rates = step_rates(
-        &plan,
-        &[Span::Window {
-            from_s: 1.0e-4,
-            to_s: 3.0e-4,
-        }],
-    )
-    .unwrap();
-    let graph = flux_graph(
-        &mechanism,
-        element_index(&mechanism, "O").unwrap(),
-        &rates[0],
-        DEFAULT_THRESHOLD,
-    )
-    .unwrap();
-    let svg = to_svg(&graph, &mechanism);
-    let doc = roxmltree::Document::parse(&svg).expect("well-formed XML");
-    assert_eq!(doc.root_element().tag_name().name(), "svg");
-    let lines = doc.descendants().filter(|n| n.has_tag_name("line")).count();
-    assert_eq!(lines, graph.edges.len());
-    let texts: Vec<&str> = doc.descendants().filter_map(|n| n.text()).collect();
-    for &s in &graph.nodes {
-        assert!(texts.contains(&mechanism.species[s].name.as_str()));
     }
 }
 

@@ -8,10 +8,11 @@ use crate::run::record_inputs;
 use crate::{FluxArgs, RatesArgs, Window};
 use std::io::Write;
 use stoik::analysis::{
-    element_index, flux_graph, species_budget, species_index, step_rates, to_dot, to_svg,
-    AnalysisError, Contribution, Span, StepRates,
+    element_index, flux_graph, species_budget, species_index, step_rates, to_dot, AnalysisError,
+    Contribution, Span, StepRates,
 };
 use stoik::mechanism::Mechanism;
+use stoik::plot::flux_graph_svg;
 use stoik::scenario::RunPlan;
 
 /// An analysis error of the value of `flag`.
@@ -82,27 +83,52 @@ pub fn rates(args: &RatesArgs) -> Result<(), CliError> {
     if let Some(csv) = &args.csv {
         outputs.output("--csv", csv)?;
     }
+    if let Some(report) = &args.report {
+        outputs.output("--report", report)?;
+    }
     let rates = step_rates(&plan, &spans).map_err(of_run)?;
     if let Some(csv) = &args.csv {
         write_atomically(csv, |w| write_rates_csv(w, &mechanism, &rates, &species))
             .map_err(|e| CliError::write(csv, e))?;
     }
+    let mut lines = Vec::new();
     for r in &rates {
         for &i in &species {
-            print_budget(&mechanism, r, i, args.top);
+            lines.extend(budget_lines(&mechanism, r, i, args.top));
         }
+    }
+    for line in &lines {
+        println!("{line}");
     }
     if let Some(csv) = &args.csv {
         println!("wrote {}", csv.display());
     }
+    if let Some(report) = &args.report {
+        let page = crate::report::rates_page(
+            report,
+            &args.scenario,
+            &plan,
+            &rates,
+            &species,
+            args.top,
+            &lines,
+        )?;
+        crate::report::write(report, &page)?;
+        println!("wrote {}", report.display());
+    }
     Ok(())
 }
 
-/// Prints one species' budget: totals, then the top steps of each side.
-fn print_budget(mechanism: &Mechanism, rates: &StepRates, species: usize, top: usize) {
+/// One species' budget as printed: totals, then the top steps of each side.
+fn budget_lines(
+    mechanism: &Mechanism,
+    rates: &StepRates,
+    species: usize,
+    top: usize,
+) -> Vec<String> {
     let b = species_budget(mechanism, rates, species);
     let unit = rates.span.rate_unit();
-    println!(
+    let mut lines = vec![format!(
         "{} at {} (T = {:.1} K), {unit}: net {:.6e}, production {:.6e}, consumption {:.6e}",
         mechanism.species[species].name,
         rates.span.describe(),
@@ -110,29 +136,34 @@ fn print_budget(mechanism: &Mechanism, rates: &StepRates, species: usize, top: u
         b.net,
         b.production_total,
         b.consumption_total
-    );
+    )];
     for (side, list) in [
         ("production", &b.production),
         ("consumption", &b.consumption),
     ] {
         if list.is_empty() {
-            println!("  {side}: none");
+            lines.push(format!("  {side}: none"));
             continue;
         }
-        println!("  {side} (top {} of {}):", top.min(list.len()), list.len());
+        lines.push(format!(
+            "  {side} (top {} of {}):",
+            top.min(list.len()),
+            list.len()
+        ));
         for c in list.iter().take(top) {
-            print_contribution(mechanism, c);
+            lines.push(contribution_line(mechanism, c));
         }
     }
+    lines
 }
 
-fn print_contribution(mechanism: &Mechanism, c: &Contribution) {
+fn contribution_line(mechanism: &Mechanism, c: &Contribution) -> String {
     let (label, equation) = step_name(mechanism, c.step);
-    println!(
+    format!(
         "    {:>6.2} %  {:>14.6e}  {label:<5} {equation}",
         100.0 * c.share,
         c.value
-    );
+    )
 }
 
 /// A CSV field: quoted when it holds a comma, a quote or a line break.
@@ -212,6 +243,9 @@ pub fn flux(args: &FluxArgs) -> Result<(), CliError> {
     if let Some(p) = &args.svg {
         outputs.output("--svg", p)?;
     }
+    if let Some(p) = &args.report {
+        outputs.output("--report", p)?;
+    }
     let rates = step_rates(&plan, &spans).map_err(of_run)?;
     let Some(r) = rates.first() else {
         return Err(CliError::AnalysisRun(AnalysisError::NothingAsked));
@@ -221,7 +255,7 @@ pub fn flux(args: &FluxArgs) -> Result<(), CliError> {
         Span::Instant(_) => "mol/(m3 s)",
         Span::Window { .. } => "mol/m3",
     };
-    println!(
+    let mut lines = vec![format!(
         "flux of {} atoms at {} (T = {:.1} K): largest {:.6e} {unit} of atoms; {} edge(s) at or above {} of it",
         graph.symbol,
         r.span.describe(),
@@ -229,7 +263,7 @@ pub fn flux(args: &FluxArgs) -> Result<(), CliError> {
         graph.largest,
         graph.edges.len(),
         graph.threshold
-    );
+    )];
     for e in &graph.edges {
         let steps: Vec<String> = e
             .steps
@@ -237,21 +271,33 @@ pub fn flux(args: &FluxArgs) -> Result<(), CliError> {
             .take(4)
             .map(|&(s, v)| format!("R{} {:.0} %", s + 1, 100.0 * v / e.flux))
             .collect();
-        println!(
+        lines.push(format!(
             "  {:>8} -> {:<8} {:>6.3}  {:>13.6e}  {}",
             mechanism.species[e.from].name,
             mechanism.species[e.to].name,
             e.relative,
             e.flux,
             steps.join(", ")
-        );
+        ));
+    }
+    for line in &lines {
+        println!("{line}");
     }
     if let Some(p) = &args.dot {
         write_text(p, &to_dot(&graph, &mechanism)).map_err(|e| CliError::write(p, e))?;
         println!("wrote {}", p.display());
     }
     if let Some(p) = &args.svg {
-        write_text(p, &to_svg(&graph, &mechanism)).map_err(|e| CliError::write(p, e))?;
+        let svg = flux_graph_svg(&graph, &mechanism).map_err(|source| CliError::Plot {
+            path: p.clone(),
+            source,
+        })?;
+        write_text(p, &svg).map_err(|e| CliError::write(p, e))?;
+        println!("wrote {}", p.display());
+    }
+    if let Some(p) = &args.report {
+        let page = crate::report::flux_page(p, &args.scenario, &plan, &graph, &lines)?;
+        crate::report::write(p, &page)?;
         println!("wrote {}", p.display());
     }
     Ok(())

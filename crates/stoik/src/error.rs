@@ -8,6 +8,7 @@ use std::path::PathBuf;
 use stoik::analysis::AnalysisError;
 use stoik::diff::DiffError;
 use stoik::mechanism::{Diagnostics, LoadError};
+use stoik::plot::PlotError;
 use stoik::reactor::IntegrationFailure;
 use stoik::scenario::ScenarioError;
 
@@ -82,6 +83,16 @@ pub enum CliError {
         path: PathBuf,
         /// Why it is refused.
         reason: String,
+    },
+    /// A plot (of an HTML report, or `flux --svg`) could not be drawn: a value that is not
+    /// finite is refused, never drawn; the file was not written.
+    #[error("error: {}: {source}; it was not written", path.display())]
+    Plot {
+        /// The file the plot was for (`--report`, `--svg`).
+        path: PathBuf,
+        /// Why the plot was refused.
+        #[source]
+        source: PlotError,
     },
     /// A file could not be written or a folder created.
     #[error("error: cannot {what} {}: {source}", path.display())]
@@ -173,7 +184,11 @@ impl CliError {
             CliError::KineticChanges(_) => EXIT_DIFFERENCES,
             CliError::RunsFailed { refused, .. } if *refused > 0 => EXIT_BAD_INPUT,
             CliError::AnalysisRun(AnalysisError::RunFailed { .. }) => EXIT_INTEGRATION_FAILED,
-            CliError::NonFinite { .. }
+            CliError::Plot {
+                source: PlotError::NonFinite { .. },
+                ..
+            }
+            | CliError::NonFinite { .. }
             | CliError::IntegrationFailed { .. }
             | CliError::RunsFailed { .. } => EXIT_INTEGRATION_FAILED,
             CliError::Several(errors) => errors

@@ -19,7 +19,10 @@
 //! - [`thermo`]: NASA 7-coefficient polynomials, their evaluation and fitting to tables;
 //! - [`fit`]: Arrhenius parameters fitted to measured rate constants, with uncertainties;
 //! - [`diff`]: the kinetic edits between two mechanisms (steps matched by canonical
-//!   equation, k_new/k_old ratios), a mechanism with one edit reverted, git revisions.
+//!   equation, k_new/k_old ratios), a mechanism with one edit reverted, git revisions;
+//! - [`analysis`]: rates of production and element-flux graphs of a run;
+//! - [`plot`]: profiles, signed bar charts and flux graphs as SVG (plotters, in-process), and
+//!   the self-contained HTML report page.
 //!
 //! A process model compiles a mechanism once and integrates it many times:
 //!
@@ -56,6 +59,7 @@ pub use stoik_diff as diff;
 pub use stoik_fit as fit;
 pub use stoik_kinetics as kinetics;
 pub use stoik_mechanism as mechanism;
+pub use stoik_plot as plot;
 pub use stoik_reactor as reactor;
 pub use stoik_scenario as scenario;
 pub use stoik_suite as suite;

@@ -11,6 +11,7 @@ mod error;
 mod fit_rate;
 mod fit_thermo;
 mod out_file;
+mod report;
 mod run;
 mod suite;
 
@@ -48,7 +49,7 @@ enum Command {
     },
     /// Run a scenario: integrate its mechanism and write concentration profiles as CSV.
     #[command(
-        after_help = "Examples:\n  stoik run mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/hires.scenario.toml --output hires.csv --rtol 1e-10\n  stoik run mechanisms/ozone-flask.scenario.toml --temperature-k 650 --end-time-s 0.5"
+        after_help = "Examples:\n  stoik run mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/hires.scenario.toml --output hires.csv --rtol 1e-10\n  stoik run mechanisms/ozone-flask.scenario.toml --temperature-k 650 --end-time-s 0.5\n  stoik run mechanisms/hydrogen-oxygen.scenario.toml --report h2.html"
     )]
     Run(RunArgs),
     /// Run many scenarios in parallel, each mechanism compiled once; one CSV per run.
@@ -82,13 +83,13 @@ enum Command {
     /// Which steps make and destroy species: each step's contribution to their net
     /// production rate at instants, or integrated over time windows, ranked.
     #[command(
-        after_help = "Examples:\n  stoik rates mechanisms/hydrogen-oxygen.scenario.toml --species OH,H --times 1e-4,2e-4\n  stoik rates mechanisms/hydrogen-oxygen.scenario.toml --species H2O --window 0,2e-3 --top 3 --csv h2o.csv\n\nAt an instant a contribution is nu q in mol/(m3 s); over a window it is its time integral in mol/m3,\nintegrated on the solver's own steps. Exit status: 0 success, 2 bad input, 3 integration failure."
+        after_help = "Examples:\n  stoik rates mechanisms/hydrogen-oxygen.scenario.toml --species OH,H --times 1e-4,2e-4\n  stoik rates mechanisms/hydrogen-oxygen.scenario.toml --species H2O --window 0,2e-3 --top 3 --csv h2o.csv\n  stoik rates mechanisms/hydrogen-oxygen.scenario.toml --species OH --times 2.2e-4 --report oh.html\n\nAt an instant a contribution is nu q in mol/(m3 s); over a window it is its time integral in mol/m3,\nintegrated on the solver's own steps. Exit status: 0 success, 2 bad input, 3 integration failure."
     )]
     Rates(RatesArgs),
     /// Where an element's atoms go: the flux of its atoms between species through each step,
     /// as a table, DOT and SVG.
     #[command(
-        after_help = "Examples:\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element H --time 2.2e-4 --dot h.dot --svg h.svg\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element O --window 0,2e-3 --threshold 0.05\n\nReactant a passes atoms to product b of a step at q nu_a n(a) nu_b n(b) / (atoms on the product side);\nthe two directions between a pair are netted. Exit status: 0 success, 2 bad input, 3 integration failure."
+        after_help = "Examples:\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element H --time 2.2e-4 --dot h.dot --svg h.svg\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element O --window 0,2e-3 --threshold 0.05\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element H --time 2.2e-4 --report h-flux.html\n\nReactant a passes atoms to product b of a step at q nu_a n(a) nu_b n(b) / (atoms on the product side);\nthe two directions between a pair are netted. Exit status: 0 success, 2 bad input, 3 integration failure."
     )]
     Flux(FluxArgs),
     /// Regression suites: record trusted predictions of scenario runs in a baseline, then
@@ -157,6 +158,10 @@ pub struct RatesArgs {
     /// Write every contribution (all steps) to this CSV file.
     #[arg(long)]
     pub csv: Option<PathBuf>,
+    /// Write a self-contained HTML report (the printed tables, a bar chart per species and
+    /// span) to this file.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
 }
 
 /// Flags of `stoik flux`.
@@ -182,6 +187,9 @@ pub struct FluxArgs {
     /// Write the graph drawn as SVG to this file.
     #[arg(long)]
     pub svg: Option<PathBuf>,
+    /// Write a self-contained HTML report (the printed table, the graph drawn) to this file.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
 }
 
 /// Flags of `stoik suite record`.
@@ -386,6 +394,14 @@ pub struct RunArgs {
     /// Print only errors.
     #[arg(short, long)]
     pub quiet: bool,
+    /// Write a self-contained HTML report (the run summary, concentration and temperature
+    /// plots against time) to this file.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
+    /// Species plotted in the report, comma-separated, at most 10 [default: the 8 largest by
+    /// peak concentration].
+    #[arg(long, value_delimiter = ',', requires = "report")]
+    pub report_species: Vec<String>,
 }
 
 /// The reactor's linear algebra on the command line, spelled as in scenario files.

@@ -84,6 +84,10 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         format!("{flag}, partial profile of a failed run"),
         &partial_path(&output),
     )?;
+    if let Some(report) = &args.report {
+        outputs.output("--report", report)?;
+    }
+    let report_species = report_species(args, plan.mechanism())?;
     let outcome = plan.run()?;
     let elapsed = started.elapsed();
     let mechanism = plan.mechanism();
@@ -116,21 +120,49 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         }
         Err(e) => return Err(CliError::write(&output, e)),
     }
+    let conservation =
+        report_from_check(mechanism, &outcome.conservation, profiles, plan.options());
+    let mut lines = summary_lines(
+        &plan,
+        profiles,
+        elapsed.as_secs_f64(),
+        &output,
+        &conservation.lines,
+    );
+    lines.extend(ignition_lines(&plan, &outcome));
+    lines.push(CAUTION.to_string());
     if !args.quiet {
-        let conservation =
-            report_from_check(mechanism, &outcome.conservation, profiles, plan.options());
-        print_summary(
-            &plan,
-            profiles,
-            elapsed.as_secs_f64(),
-            &output,
-            &conservation.lines,
-        );
+        for line in &lines {
+            println!("{line}");
+        }
         for warning in &conservation.warnings {
             eprintln!("{warning}");
         }
-        print_ignition(&plan, &outcome);
-        println!("{CAUTION}");
+    }
+    if let Some(path) = &args.report {
+        let warnings: Vec<String> = outcome
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .chain(conservation.warnings.iter().cloned())
+            .collect();
+        let failure = outcome.failure().map(|f| failure_message(f, mechanism));
+        let page = crate::report::run_page(
+            path,
+            &args.scenario,
+            &plan,
+            profiles,
+            &RunText {
+                summary: &lines,
+                warnings: &warnings,
+                failure: failure.as_deref(),
+            },
+            &report_species,
+        )?;
+        crate::report::write(path, &page)?;
+        if !args.quiet {
+            println!("wrote {}", path.display());
+        }
     }
     match outcome.result {
         Ok(_) => Ok(()),
@@ -147,6 +179,43 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
     }
 }
 
+/// What a run printed, for its report.
+pub struct RunText<'a> {
+    /// The summary lines as printed (the caution last).
+    pub summary: &'a [String],
+    /// Warnings of the files, the thermochemistry and the conservation check.
+    pub warnings: &'a [String],
+    /// The integration failure in words, when the run failed.
+    pub failure: Option<&'a str>,
+}
+
+/// The species plotted in the report: those of `--report-species`, or the largest few by
+/// peak concentration (`None`: chosen after the run).
+fn report_species(args: &RunArgs, mechanism: &Mechanism) -> Result<Option<Vec<usize>>, CliError> {
+    if args.report_species.is_empty() {
+        return Ok(None);
+    }
+    if args.report_species.len() > stoik::plot::PALETTE.len() {
+        return Err(CliError::BadFlag(format!(
+            "--report-species: {} species given; at most {} are plotted (one colour each)",
+            args.report_species.len(),
+            stoik::plot::PALETTE.len()
+        )));
+    }
+    args.report_species
+        .iter()
+        .map(|name| {
+            mechanism.species_index(name.trim()).ok_or_else(|| {
+                CliError::BadFlag(format!(
+                    "--report-species: unknown species `{}`",
+                    name.trim()
+                ))
+            })
+        })
+        .collect::<Result<Vec<_>, _>>()
+        .map(Some)
+}
+
 /// Words for a criterion in the run summary.
 fn criterion_words(c: IgnitionCriterion, mechanism: &Mechanism) -> String {
     match c {
@@ -159,23 +228,24 @@ fn criterion_words(c: IgnitionCriterion, mechanism: &Mechanism) -> String {
     }
 }
 
-/// Prints the ignition delay and, for an adiabatic run whose temperature rose by more than
+/// The lines on the ignition delay and, for an adiabatic run whose temperature rose by more than
 /// [`RUNAWAY_RISE_K`], the hazard caution.
-fn print_ignition(plan: &RunPlan, outcome: &RunOutcome) {
+fn ignition_lines(plan: &RunPlan, outcome: &RunOutcome) -> Vec<String> {
+    let mut lines = Vec::new();
     let mechanism = plan.mechanism();
     if let Some(criterion) = outcome.ignition {
         match outcome.ignition_delay {
             // Read by scripts (tests/scipy/ignition_check.py): full precision, the shortest
             // digits that read back as the same f64.
-            Some(delay) => println!(
+            Some(delay) => lines.push(format!(
                 "ignition delay: {:e} s ({})",
                 delay.delay_s,
                 criterion_words(criterion, mechanism)
-            ),
-            None => println!(
+            )),
+            None => lines.push(format!(
                 "ignition delay: none found by the {} within the simulated time",
                 criterion_words(criterion, mechanism)
-            ),
+            )),
         }
     }
     let temperatures = &outcome.profiles().temperatures_k;
@@ -190,10 +260,11 @@ fn print_ignition(plan: &RunPlan, outcome: &RunOutcome) {
         } else {
             ""
         };
-        println!(
+        lines.push(format!(
             "CAUTION: ignition or thermal runaway detected (temperature rise {rise:.0} K). This mixture is flammable or explosive under these conditions.{hydrogen}"
-        );
+        ));
     }
+    lines
 }
 
 /// Records the files a plan was read from (the scenario, its mechanism, the mechanism's thermo
@@ -232,77 +303,80 @@ pub fn write_csv(output: &Path, plan: &RunPlan, profiles: &Profiles) -> Result<C
     })
 }
 
-fn print_summary(
+/// The run summary, line by line: reactor, final state, conservation, solver, files.
+fn summary_lines(
     plan: &RunPlan,
     profiles: &Profiles,
     wall_s: f64,
     output: &std::path::Path,
     conservation: &[String],
-) {
+) -> Vec<String> {
+    let mut lines = Vec::new();
     let mechanism = plan.mechanism();
     let unit = plan.output_concentration_unit();
-    println!(
+    lines.push(format!(
         "{}: {} species, {} steps; {}",
         plan.scenario().title.as_deref().unwrap_or("scenario"),
         mechanism.species.len(),
         mechanism.steps.len(),
         describe_reactor(plan)
-    );
+    ));
     let (Some(_), Some(last), Some(t_end)) = (
         profiles.concentrations_mol_per_m3.first(),
         profiles.concentrations_mol_per_m3.last(),
         profiles.times_s.last(),
     ) else {
-        println!("no output rows");
-        return;
+        lines.push("no output rows".to_string());
+        return lines;
     };
     let rows = profiles.times_s.len();
-    println!(
+    lines.push(format!(
         "final state at t = {t_end:.6e} s: T = {:.2} K, P = {:.6e} Pa; concentrations [{}]:",
         profiles.temperatures_k.last().copied().unwrap_or(f64::NAN),
         profiles.pressure_pa(rows - 1).unwrap_or(f64::NAN),
         unit.label()
-    );
+    ));
     let mut order: Vec<usize> = (0..last.len()).collect();
     order.sort_by(|&a, &b| last[b].total_cmp(&last[a]));
     for &i in order.iter().take(12) {
-        println!(
+        lines.push(format!(
             "  {:<16} {:>14.6e}",
             mechanism.species[i].name,
             last[i] / unit.to_si_factor()
-        );
+        ));
     }
     if order.len() > 12 {
-        println!("  ... {} more species in the CSV", order.len() - 12);
+        lines.push(format!(
+            "  ... {} more species in the CSV",
+            order.len() - 12
+        ));
     }
-    for line in conservation {
-        println!("{line}");
-    }
+    lines.extend(conservation.iter().cloned());
     let s = &profiles.stats;
-    println!(
+    lines.push(format!(
         "solver: BDF, {:?} linear algebra; {s}",
         profiles.linear_algebra_used
-    );
+    ));
     if s.negative_step_rejections > 0 {
-        println!(
+        lines.push(format!(
             "steps retried because a concentration went below minus its absolute tolerance: {}",
             s.negative_step_rejections
-        );
+        ));
     }
     if s.invariant_projections > 0 {
-        println!(
+        lines.push(format!(
             "state projected back onto its conserved quantities (round-off drift above 1 % of the error weights): {} times",
             s.invariant_projections
-        );
+        ));
     }
     if s.most_negative_concentration_mol_per_m3 < 0.0 {
-        println!(
+        lines.push(format!(
             "most negative concentration seen: {:.3e} mol/m3",
             s.most_negative_concentration_mol_per_m3
-        );
+        ));
     }
-    println!("wall time: {:.3} ms", wall_s * 1e3);
-    println!(
+    lines.push(format!("wall time: {:.3} ms", wall_s * 1e3));
+    lines.push(format!(
         "wrote {} ({} rows, {} columns)",
         output.display(),
         profiles.times_s.len(),
@@ -310,7 +384,8 @@ fn print_summary(
         2 * mechanism.species.len()
             + 3
             + usize::from(mechanism.species.iter().all(|s| s.composition.is_some()))
-    );
+    ));
+    lines
 }
 
 /// One line on the reactor of a plan.

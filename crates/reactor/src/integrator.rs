@@ -41,7 +41,7 @@ use crate::{
 };
 
 /// Checks the options and the temperature of a [`BatchSystem`].
-fn validate_options(
+pub(crate) fn validate_options(
     kinetics: &Kinetics,
     temperature_k: f64,
     options: &IntegrationOptions,
@@ -104,7 +104,7 @@ fn check_watches(n_species: usize, n_steps: usize, watches: &[Watch]) -> Result<
     Ok(())
 }
 
-fn check_state(n: usize, c: &[f64], what: &'static str) -> Result<(), ReactorError> {
+pub(crate) fn check_state(n: usize, c: &[f64], what: &'static str) -> Result<(), ReactorError> {
     if c.len() != n {
         return Err(ReactorError::WrongLength {
             what,
@@ -670,7 +670,7 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
 
 /// Absolute tolerance of the temperature state (K); the relative tolerance times the
 /// temperature is far larger in practice.
-const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
+pub(crate) const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
 
 /// The batch-reactor equations of one compiled mechanism, set up once for repeated use.
 ///

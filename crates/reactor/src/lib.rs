@@ -53,6 +53,7 @@ mod invariants;
 mod model;
 mod options;
 mod profiles;
+mod sensitivity;
 mod watch;
 
 pub use atmosphere::{
@@ -74,6 +75,10 @@ pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
 };
 pub use profiles::{element_balance, ElementBalance, Profiles};
+pub use sensitivity::{
+    adjoint_sensitivity, forward_sensitivities, AdjointSensitivity, ForwardSensitivities,
+    SensitivityError, SensitivityStats, Target, TargetSensitivity,
+};
 pub use watch::{Located, Quantity, Watch};
 
 use stoik_kinetics::Kinetics;

@@ -328,6 +328,96 @@ impl ModelEquations<'_> {
         (-release / capacity, capacity)
     }
 
+    /// Energy weights e_i (J/mol) over the total heat capacity (J/(m3 K)) at `(c, t)`:
+    /// `dT/dt = -sum_i (e_i / C) w_i` of an adiabatic model. Empty otherwise. Allocates.
+    fn energy_weights(&self, c: &[f64], temperature_k: f64) -> Vec<f64> {
+        if !self.model.solves_energy() {
+            return Vec::new();
+        }
+        let mut capacity = 0.0;
+        let mut e = Vec::with_capacity(c.len());
+        for (thermo, &ci) in self.thermo.iter().zip(c) {
+            let (ei, ki) = energy_terms(thermo, temperature_k, self.model.constraint);
+            capacity += ci * ki;
+            e.push(ei);
+        }
+        e.iter_mut().for_each(|x| *x /= capacity);
+        e
+    }
+
+    /// The linear part of the state derivative in the chemical production rates: `out = A w`
+    /// at state `y` and model temperature `temperature_k` (K), where the state derivative is
+    /// `f = A(y) w(y) + b(t, y)` with `w` the production rates (mol/(m3 s), one per species)
+    /// and `b` the terms that do not come from steps (emissions, deposition, a prescribed
+    /// temperature's slope). `out` has the state's length: mol/(m3 s) per species, then K/s.
+    /// Rows of fixed species are zero. Allocates (sensitivity analysis, not the solver's hot
+    /// path).
+    pub fn chemistry_map(&self, temperature_k: f64, y: &[f64], w: &[f64], out: &mut [f64]) {
+        let n = self.kinetics.n_species();
+        let c = &y[..n];
+        let e = self.energy_weights(c, temperature_k);
+        out[..n].copy_from_slice(&w[..n]);
+        let temperature_rate = if e.is_empty() {
+            0.0
+        } else {
+            -e.iter().zip(w).map(|(e, w)| e * w).sum::<f64>()
+        };
+        if self.model.constraint == Constraint::ConstantPressure {
+            let total: f64 = c.iter().sum();
+            let w_total: f64 = w[..n].iter().sum();
+            let g = w_total / total + temperature_rate / temperature_k;
+            for (o, ci) in out[..n].iter_mut().zip(c) {
+                *o -= ci * g;
+            }
+        }
+        if self.model.solves_energy() {
+            out[n] = temperature_rate;
+        }
+        for &i in &self.model.conditions.fixed_species {
+            if let Some(o) = out.get_mut(i) {
+                *o = 0.0;
+            }
+        }
+    }
+
+    /// The transpose of [`chemistry_map`](Self::chemistry_map): `v = A^T lambda` (one entry
+    /// per species) for `lambda` of the state's length.
+    pub fn chemistry_map_transpose(
+        &self,
+        temperature_k: f64,
+        y: &[f64],
+        lambda: &[f64],
+        v: &mut [f64],
+    ) {
+        let n = self.kinetics.n_species();
+        let c = &y[..n];
+        let e = self.energy_weights(c, temperature_k);
+        v[..n].copy_from_slice(&lambda[..n]);
+        for &i in &self.model.conditions.fixed_species {
+            if let Some(x) = v.get_mut(i) {
+                *x = 0.0;
+            }
+        }
+        let lambda_t = if e.is_empty() { 0.0 } else { lambda[n] };
+        let mut shift = vec![0.0; n];
+        if self.model.constraint == Constraint::ConstantPressure {
+            let total: f64 = c.iter().sum();
+            let s: f64 = v[..n].iter().zip(c).map(|(l, c)| l * c).sum();
+            for (k, sh) in shift.iter_mut().enumerate() {
+                *sh -= s / total;
+                if !e.is_empty() {
+                    *sh += s * e[k] / temperature_k;
+                }
+            }
+        }
+        for (k, x) in v[..n].iter_mut().enumerate() {
+            *x += shift[k];
+            if !e.is_empty() {
+                *x -= lambda_t * e[k];
+            }
+        }
+    }
+
     /// The state derivative `f = dy/dt` at time `t_s` for state `y`, given the rate
     /// constants `k` at the model temperature `temperature_k`. `carry` is scratch of length
     /// `n_species` for the compensated sums of the production rates. No allocation.

@@ -31,6 +31,7 @@
 //! `dt/dp = -(grad_y phi . s + dphi/dp) / (dphi/dt)`.
 
 use std::cell::{Cell, RefCell};
+use std::rc::Rc;
 
 use diffsol::{
     Bdf, ConstantOp, DiffsolError, FaerContext, FaerSparseMat, FaerVec, LaError, LaLinearOp,
@@ -456,11 +457,32 @@ fn second_derivative_slope(eqn: &Core, t: f64, y: &[f64], i: usize, atol: &[f64]
 // ---------------------------------------------------------------------------------------
 // Forward: the augmented system.
 
-/// The state and its sensitivities as one system `(y, s_1, ..., s_P)`.
+/// The state and its sensitivities as one system `(y, s_1, ..., s_P)` (shared by the
+/// problem and its linear solver, [`BlockSolver`]).
 struct SensEquations {
+    core: Rc<SensCore>,
+}
+
+impl std::ops::Deref for SensEquations {
+    type Target = SensCore;
+    fn deref(&self) -> &SensCore {
+        &self.core
+    }
+}
+
+/// What the augmented system evaluates with.
+struct SensCore {
     eqn: Core,
     steps: Vec<usize>,
     m: usize,
+    /// Absolute tolerances of the state (the scale of difference quotients).
+    atol: Vec<f64>,
+    /// Time and augmented state of the last Jacobian evaluation (the Newton matrix's point).
+    lin: RefCell<(f64, Vec<f64>)>,
+    /// The augmented derivative there, and scratch for a perturbed evaluation.
+    base: RefCell<Vec<f64>>,
+    probe: RefCell<Vec<f64>>,
+    probe_out: RefCell<Vec<f64>>,
     /// Augmented sparsity: the state's Jacobian pattern in the first block, the diagonal
     /// elsewhere (the other blocks' values are never used: see [`BlockSolver`]).
     sparsity: SymbolicSparseColMat<usize>,
@@ -474,7 +496,7 @@ struct SensEquations {
 }
 
 impl SensEquations {
-    fn new(eqn: Core, steps: Vec<usize>, initial_state: &[f64]) -> Self {
+    fn new(eqn: Core, steps: Vec<usize>, initial_state: &[f64], atol: Vec<f64>) -> Self {
         let m = eqn.n_states();
         let p = steps.len();
         let n_total = m * (1 + p);
@@ -492,22 +514,60 @@ impl SensEquations {
         let n_species = eqn.kinetics.n_species();
         let n_steps = eqn.kinetics.n_steps();
         SensEquations {
-            steps,
-            m,
-            sparsity,
-            initial,
-            jac: RefCell::new(vec![0.0; nnz]),
-            q: RefCell::new(vec![0.0; n_steps]),
-            w: RefCell::new(vec![0.0; n_species]),
-            column: RefCell::new(vec![0.0; m]),
-            evaluations: Cell::new(0),
-            ctx: FaerContext::default(),
-            eqn,
+            core: Rc::new(SensCore {
+                lin: RefCell::new((0.0, vec![0.0; n_total])),
+                base: RefCell::new(vec![0.0; n_total]),
+                probe: RefCell::new(vec![0.0; n_total]),
+                probe_out: RefCell::new(vec![0.0; n_total]),
+                atol,
+                steps,
+                m,
+                sparsity,
+                initial,
+                jac: RefCell::new(vec![0.0; nnz]),
+                q: RefCell::new(vec![0.0; n_steps]),
+                w: RefCell::new(vec![0.0; n_species]),
+                column: RefCell::new(vec![0.0; m]),
+                evaluations: Cell::new(0),
+                ctx: FaerContext::default(),
+                eqn,
+            }),
         }
     }
+}
 
+impl SensCore {
     fn n_total(&self) -> usize {
         self.m * (1 + self.steps.len())
+    }
+
+    /// Adds `c H_j x0` to each block `j` of `rest`, with `H_j x0` the difference quotient of
+    /// the augmented derivative along `x0` (state part only) at the Newton matrix's point.
+    fn coupling(&self, x0: &[f64], c: f64, rest: &mut [f64]) {
+        let m = self.m;
+        let lin = self.lin.borrow();
+        let (t, point) = (&lin.0, &lin.1);
+        let scale = x0
+            .iter()
+            .zip(&point[..m])
+            .zip(&self.atol)
+            .map(|((x, y), a)| x.abs() / (y.abs() + a))
+            .fold(0.0, f64::max);
+        if scale == 0.0 || !scale.is_finite() {
+            return;
+        }
+        let sigma = f64::EPSILON.sqrt() / scale;
+        let mut probe = self.probe.borrow_mut();
+        probe.copy_from_slice(point);
+        for (p, x) in probe[..m].iter_mut().zip(x0) {
+            *p += sigma * x;
+        }
+        let mut out = self.probe_out.borrow_mut();
+        self.derivative(*t, &probe, &mut out);
+        let base = self.base.borrow();
+        for ((r, o), b) in rest.iter_mut().zip(&out[m..]).zip(&base[m..]) {
+            *r += c * (o - b) / sigma;
+        }
     }
 
     /// The augmented derivative at `(t, x)`.
@@ -616,7 +676,12 @@ impl NonLinearOpJacobian for SensRhs<'_> {
             return;
         }
         self.eqn.eqn.jacobian_values(t, &x[..m], &mut values[..nnz]);
-        values[nnz..].iter_mut().for_each(|v| *v = 0.0);
+        // The other blocks' diagonals carry -1, so that the Newton matrix holds 1 + c there:
+        // the linear solver reads the step coefficient c from it (see `BlockSolver`).
+        values[nnz..].iter_mut().for_each(|v| *v = -1.0);
+        let mut lin = self.eqn.lin.borrow_mut();
+        lin.0 = t;
+        lin.1.copy_from_slice(x);
     }
 
     fn jacobian_sparsity(&self) -> Option<SymbolicSparseColMat<usize>> {
@@ -673,11 +738,19 @@ impl OdeEquations for SensEquations {
     fn get_params(&self, _p: &mut Self::V) {}
 }
 
-/// Linear solver of the augmented Newton matrix taken block diagonal: the first `m x m`
-/// block (`I - c J` of the state) is factorized once by [`FixedPatternLu`] and applied to
-/// every block of the right-hand side.
+/// Linear solver of the augmented Newton matrix `I - c J_aug`, which is block lower
+/// triangular: diagonal blocks `I - c J` (the state's, factorized once by
+/// [`FixedPatternLu`] and applied to every block), and below them `-c H_j` with
+/// `H_j = d(J s_j + df/d ln k_j)/dy`. The solve is by block forward substitution:
+/// `x_0 = (I - c J)^-1 b_0`, `x_j = (I - c J)^-1 (b_j + c H_j x_0)`, every `H_j x_0` from
+/// one difference quotient of the augmented derivative along `x_0` at the matrix's point.
+/// Without the `H_j` terms (block diagonal) Newton's iterations failed to converge wherever
+/// the sensitivities are large (thousands of failures through an ignition).
 struct BlockSolver {
     m: usize,
+    core: Option<Rc<SensCore>>,
+    /// The step coefficient of the Newton matrix.
+    c: f64,
     matrix: Option<FaerSparseMat<f64>>,
     /// Positions in the matrix values of the first block's entries, in block order.
     positions: Vec<usize>,
@@ -687,9 +760,11 @@ struct BlockSolver {
 }
 
 impl BlockSolver {
-    fn new(m: usize) -> Self {
+    fn new(m: usize, core: Option<Rc<SensCore>>) -> Self {
         BlockSolver {
             m,
+            core,
+            c: 0.0,
             matrix: None,
             positions: Vec::new(),
             block_values: Vec::new(),
@@ -701,7 +776,7 @@ impl BlockSolver {
 
 impl Default for BlockSolver {
     fn default() -> Self {
-        BlockSolver::new(0)
+        BlockSolver::new(0, None)
     }
 }
 
@@ -760,6 +835,12 @@ impl LaLinearSolver<FaerSparseMat<f64>> for BlockSolver {
         if let Some(lu) = self.lu.as_mut() {
             self.factorized = lu.factorize(&self.block_values).is_ok();
         }
+        if let Some(core) = &self.core {
+            let nnz = core.eqn.state_pattern().nnz();
+            self.c = values.get(nnz).map_or(0.0, |v| v - 1.0);
+            let lin = core.lin.borrow();
+            core.derivative(lin.0, &lin.1, &mut core.base.borrow_mut());
+        }
     }
 
     fn solve_in_place(&self, x: &mut FaerVec<f64>) -> Result<(), LaError> {
@@ -767,11 +848,20 @@ impl LaLinearSolver<FaerSparseMat<f64>> for BlockSolver {
             (Some(lu), true) if self.m > 0 => lu,
             _ => return Err(LaError::from(LinearSolverError::LuNotInitialized)),
         };
+        let fail = |_| LaError::from(LinearSolverError::LuSolveFailed);
+        let m = self.m;
         let data = x.inner_mut();
         for column in 0..data.ncols() {
-            for block in data.col_as_slice_mut(column).chunks_mut(self.m) {
-                lu.solve_in_place(block)
-                    .map_err(|_| LaError::from(LinearSolverError::LuSolveFailed))?;
+            let rhs = data.col_as_slice_mut(column);
+            let (first, rest) = rhs.split_at_mut(m);
+            lu.solve_in_place(first).map_err(fail)?;
+            if let (Some(core), false) = (&self.core, rest.is_empty()) {
+                if self.c != 0.0 {
+                    core.coupling(first, self.c, rest);
+                }
+            }
+            for block in rest.chunks_mut(m) {
+                lu.solve_in_place(block).map_err(fail)?;
             }
         }
         Ok(())
@@ -910,7 +1000,7 @@ pub fn forward_sensitivities(
     for _ in 0..=p {
         atol.extend_from_slice(&atol_state);
     }
-    let sens = SensEquations::new(eqn, steps.to_vec(), &initial);
+    let sens = SensEquations::new(eqn, steps.to_vec(), &initial, atol_state.clone());
     let mut problem = OdeBuilder::<FaerSparseMat<f64>>::new()
         .rtol(options.relative_tolerance)
         .atol(atol)
@@ -922,8 +1012,12 @@ pub fn forward_sensitivities(
     let state = problem
         .bdf_state::<BlockSolver>()
         .map_err(|e| failed(t0, e))?;
-    let mut solver: Bdf<'_, SensEquations, BlockSolver> =
-        Bdf::new(&problem, state, BlockSolver::new(m)).map_err(|e| failed(t0, e))?;
+    let mut solver: Bdf<'_, SensEquations, BlockSolver> = Bdf::new(
+        &problem,
+        state,
+        BlockSolver::new(m, Some(Rc::clone(&problem.eqn.core))),
+    )
+    .map_err(|e| failed(t0, e))?;
 
     let mut wanted: Vec<f64> = output_times_s.to_vec();
     wanted.extend(targets.iter().map(Target::time_s));

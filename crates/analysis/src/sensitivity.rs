@@ -302,7 +302,7 @@ pub fn observable_sensitivity(
                 plan.model(),
                 plan.temperature_k(),
                 plan.initial_mol_per_m3(),
-                &[0.0, end_s],
+                &[0.0, target.time_s()],
                 plan.options(),
                 &steps,
                 &[target],

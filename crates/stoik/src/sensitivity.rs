@@ -140,10 +140,16 @@ fn print_ranked(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
         r.stats.forward_steps,
         r.stats.backward_steps,
     );
-    println!("  rank  step    d ln G/d ln k   dG/d ln k ({unit})  equation");
+    println!(
+        "  {:>4}  {:<6} {:>14}  {:>16}  equation",
+        "rank",
+        "step",
+        "d ln G/d ln k",
+        format!("dG/d ln k ({unit})")
+    );
     for (rank, s) in r.ranked.iter().take(top).enumerate() {
         println!(
-            "  {:>4}  {:<6} {:>14.6e}  {:>14.6e}      {}",
+            "  {:>4}  {:<6} {:>14.6e}  {:>16.6e}  {}",
             rank + 1,
             format!("R{}", s.step + 1),
             s.normalized,

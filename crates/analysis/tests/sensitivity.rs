@@ -41,9 +41,11 @@ fn hydrogen_plan() -> RunPlan {
     plan
 }
 
-/// One rerun with step `j`'s forward rate constant times `factor`: (ignition delay,
-/// concentrations at `TIMES`).
-fn rerun(plan: &RunPlan, j: usize, factor: f64) -> (f64, Vec<Vec<f64>>) {
+/// A rerun's ignition delay (s) and concentrations at `TIMES` (mol/m3).
+type Rerun = (f64, Vec<Vec<f64>>);
+
+/// One rerun with step `j`'s forward rate constant times `factor`.
+fn rerun(plan: &RunPlan, j: usize, factor: f64) -> Rerun {
     let mut kinetics = Kinetics::compile(plan.mechanism()).expect("compiles");
     assert!(kinetics.scale_forward(j, factor));
     let outcome = plan.run_compiled(&kinetics).expect("runs");
@@ -69,7 +71,7 @@ fn hydrogen_sensitivities_match_central_differences_of_reruns() {
         .expect("sensitivities");
     let profile = profile_sensitivities(&plan, None).expect("profile");
     assert_eq!(profile.times_s, TIMES.to_vec());
-    let runs: Vec<((f64, Vec<Vec<f64>>), (f64, Vec<Vec<f64>>))> = (0..n_steps)
+    let runs: Vec<(Rerun, Rerun)> = (0..n_steps)
         .map(|j| (rerun(&plan, j, H.exp()), rerun(&plan, j, (-H).exp())))
         .collect();
     // Ignition delay: d ln tau/d ln k.

@@ -802,9 +802,10 @@ impl LaLinearSolver<FaerSparseMat<f64>> for BlockSolver {
         let mut rows = Vec::new();
         self.positions.clear();
         for col in 0..m {
-            for p in col_ptr[col]..col_ptr[col + 1] {
-                if row_idx[p] < m {
-                    rows.push(row_idx[p]);
+            let entries = col_ptr[col]..col_ptr[col + 1];
+            for (p, &row) in entries.clone().zip(&row_idx[entries]) {
+                if row < m {
+                    rows.push(row);
                     self.positions.push(p);
                 }
             }

@@ -690,6 +690,84 @@ mod tests {
         }
     }
 
+    /// The parameter derivative `A nu_j r_j` of every step, for every model, against central
+    /// differences of the right-hand side with the step's forward rate constant scaled by
+    /// 1 +- d (`Kinetics::scale_forward`; the definition of the derivative, `d f/d ln k =
+    /// d f/d lambda` at lambda = 1; the right-hand side is linear in the scale lambda, so the
+    /// quotient with d = 0.1 is exact up to rounding), and the transpose against the identity
+    /// `lambda . (A w) = (A^T lambda) . w`.
+    #[test]
+    fn chemistry_map_gives_the_rate_constant_derivative_for_every_model() {
+        let kinetics = hydrogen();
+        let n = kinetics.n_species();
+        for model in models() {
+            let thermo = energy_thermo(&kinetics, &model).unwrap_or_else(|e| panic!("{e}"));
+            let m = model.n_states(n);
+            let t_s = 0.6e-3;
+            let y = state(n, model.solves_energy());
+            let temp = model.temperature(t_s, &y, n, 1500.0);
+            let eq = ModelEquations {
+                kinetics: &kinetics,
+                model: &model,
+                thermo: &thermo,
+            };
+            let k = kinetics.rate_constants(temp);
+            let mut r = vec![0.0; kinetics.n_steps()];
+            kinetics.scaling_rates(&k, &y[..n], &mut r);
+            let rhs = |kin: &Kinetics| {
+                let eq = ModelEquations {
+                    kinetics: kin,
+                    model: &model,
+                    thermo: &thermo,
+                };
+                let k = kin.rate_constants(temp);
+                let mut out = vec![0.0; m];
+                let mut carry = vec![0.0; n];
+                eq.rhs(&k, t_s, temp, &y, &mut out, &mut carry);
+                out
+            };
+            let d = 0.1;
+            for j in 0..kinetics.n_steps() {
+                let mut w = vec![0.0; n];
+                for &(i, nu) in kinetics.net_changes(j) {
+                    w[i] = nu * r[j];
+                }
+                let mut analytic = vec![0.0; m];
+                eq.chemistry_map(temp, &y, &w, &mut analytic);
+                let (mut up, mut down) = (kinetics.clone(), kinetics.clone());
+                assert!(up.scale_forward(j, 1.0 + d) && down.scale_forward(j, 1.0 - d));
+                let (fu, fdn) = (rhs(&up), rhs(&down));
+                // Rounding of the right-hand side's sums (a few eps of its largest term, taken
+                // as 1e-13 of its largest entry) divided by 2d.
+                let floor = 1e-13 * fu.iter().fold(0.0f64, |a, v| a.max(v.abs())) / (2.0 * d);
+                for row in 0..m {
+                    let fd = (fu[row] - fdn[row]) / (2.0 * d);
+                    let err = (fd - analytic[row]).abs();
+                    assert!(
+                        err <= 1e-9 * fd.abs() + floor,
+                        "{model:?} step {j} row {row}: analytic {:e}, differences {fd:e}",
+                        analytic[row]
+                    );
+                }
+                let lambda: Vec<f64> = (0..m).map(|i| 0.3 + ((i * 5) % 7) as f64).collect();
+                let mut v = vec![0.0; n];
+                eq.chemistry_map_transpose(temp, &y, &lambda, &mut v);
+                let left: f64 = lambda.iter().zip(&analytic).map(|(l, a)| l * a).sum();
+                let right: f64 = v.iter().zip(&w).map(|(v, w)| v * w).sum();
+                let magnitude: f64 = v.iter().zip(&w).map(|(v, w)| (v * w).abs()).sum::<f64>()
+                    + lambda
+                        .iter()
+                        .zip(&analytic)
+                        .map(|(l, a)| (l * a).abs())
+                        .sum::<f64>();
+                assert!(
+                    (left - right).abs() <= 1e-12 * magnitude,
+                    "{model:?} step {j}: transpose {right:e} against {left:e}"
+                );
+            }
+        }
+    }
+
     /// The piecewise-linear history: linear between points, held outside, slope of the
     /// segment ending at a breakpoint.
     #[test]

@@ -140,16 +140,15 @@ fn print_ranked(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
         r.stats.forward_steps,
         r.stats.backward_steps,
     );
+    let header = format!("dG/d ln k ({unit})");
+    let width = header.len().max(14);
     println!(
-        "  {:>4}  {:<6} {:>14}  {:>16}  equation",
-        "rank",
-        "step",
-        "d ln G/d ln k",
-        format!("dG/d ln k ({unit})")
+        "  {:>4}  {:<6} {:>14}  {header:>width$}  equation",
+        "rank", "step", "d ln G/d ln k",
     );
     for (rank, s) in r.ranked.iter().take(top).enumerate() {
         println!(
-            "  {:>4}  {:<6} {:>14.6e}  {:>16.6e}  {}",
+            "  {:>4}  {:<6} {:>14.6e}  {:>width$.6e}  {}",
             rank + 1,
             format!("R{}", s.step + 1),
             s.normalized,

@@ -727,10 +727,10 @@ mod tests {
                 out
             };
             let d = 0.1;
-            for j in 0..kinetics.n_steps() {
+            for (j, &rj) in r.iter().enumerate() {
                 let mut w = vec![0.0; n];
                 for &(i, nu) in kinetics.net_changes(j) {
-                    w[i] = nu * r[j];
+                    w[i] = nu * rj;
                 }
                 let mut analytic = vec![0.0; m];
                 eq.chemistry_map(temp, &y, &w, &mut analytic);

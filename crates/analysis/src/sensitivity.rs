@@ -129,6 +129,25 @@ pub struct ObservableSensitivity {
     pub stats: SensitivityStats,
 }
 
+impl ObservableSensitivity {
+    /// The `top` largest entries as labelled values for a bar chart or a table: label
+    /// `R<n> <equation>` (n the 1-based step number), value the normalized coefficient
+    /// `d ln G/d ln k` (dimensionless), largest magnitude first.
+    pub fn labelled(&self, mechanism: &Mechanism, top: usize) -> Vec<(String, f64)> {
+        self.ranked
+            .iter()
+            .take(top)
+            .map(|s| {
+                let equation = mechanism
+                    .steps
+                    .get(s.step)
+                    .map_or("?", |step| step.equation.as_str());
+                (format!("R{} {equation}", s.step + 1), s.normalized)
+            })
+            .collect()
+    }
+}
+
 /// Sensitivities of every state quantity along the profile (forward method).
 #[derive(Debug, Clone, PartialEq)]
 pub struct ProfileSensitivities {

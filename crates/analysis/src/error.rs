@@ -82,6 +82,16 @@ pub enum AnalysisError {
     /// A peak was asked for but the largest value is at the start or the end of the run.
     #[error("no peak inside the run: the largest value is at its start or end")]
     NoPeak,
+    /// The forward sensitivities asked for would hold too many numbers in memory.
+    #[error("{what} would hold {values} numbers (more than {limit}): choose fewer steps (--steps) or the adjoint method")]
+    TooLarge {
+        /// What: the augmented state or the profile.
+        what: &'static str,
+        /// How many numbers.
+        values: usize,
+        /// The limit.
+        limit: usize,
+    },
     /// The sensitivity integration failed.
     #[error("sensitivity computation failed: {0}")]
     SensitivityFailed(String),

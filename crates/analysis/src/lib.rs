@@ -53,6 +53,6 @@ pub use flux::{
 pub use rates::{species_index, step_rates, step_rates_at_state, Span, StepRates};
 pub use sensitivity::{
     observable_sensitivity, profile_sensitivities, Method, Observable, ObservableSensitivity,
-    ProfileSensitivities, StateQuantity, StepSensitivity,
+    ProfileSensitivities, StateQuantity, StepSensitivity, MAX_FORWARD_STATE, MAX_PROFILE_VALUES,
 };
 pub use svg::to_svg;

@@ -199,6 +199,28 @@ fn chosen_steps(
     }
 }
 
+/// Largest augmented state (state times one plus the parameters) of a forward run: diffsol
+/// keeps about fifteen vectors of it (5e6 numbers: about 600 MB in all).
+pub const MAX_FORWARD_STATE: usize = 5_000_000;
+
+/// Largest profile of forward sensitivities (output times x state x parameters; 5e7
+/// numbers: 400 MB).
+pub const MAX_PROFILE_VALUES: usize = 50_000_000;
+
+/// Refuses a forward run whose augmented state exceeds [`MAX_FORWARD_STATE`].
+fn check_forward_size(plan: &RunPlan, n_parameters: usize) -> Result<usize, AnalysisError> {
+    let m = plan.mechanism().species.len() + usize::from(plan.model().solves_energy());
+    let values = m.saturating_mul(n_parameters.saturating_add(1));
+    if values > MAX_FORWARD_STATE {
+        return Err(AnalysisError::TooLarge {
+            what: "the forward sensitivity state",
+            values,
+            limit: MAX_FORWARD_STATE,
+        });
+    }
+    Ok(m)
+}
+
 /// The state index of `q` in `plan`'s reactor.
 fn state_index(plan: &RunPlan, q: StateQuantity) -> Result<usize, AnalysisError> {
     match q {
@@ -237,7 +259,8 @@ fn rank(mut entries: Vec<StepSensitivity>) -> Vec<StepSensitivity> {
 /// as it is to find the observable's time (end of the run, peak or ignition, located on the
 /// solver's steps), then the sensitivities are integrated at the plan's tolerances.
 ///
-/// Errors: [`AnalysisError::StepOutOfRange`], [`AnalysisError::TemperatureNotSolved`],
+/// Errors: [`AnalysisError::StepOutOfRange`], [`AnalysisError::TooLarge`] (a forward run
+/// beyond [`MAX_FORWARD_STATE`]), [`AnalysisError::TemperatureNotSolved`],
 /// [`AnalysisError::NoIgnition`] (no criterion, or no ignition found),
 /// [`AnalysisError::NoPeak`], [`AnalysisError::RunFailed`], [`AnalysisError::Scenario`],
 /// [`AnalysisError::SensitivityFailed`].
@@ -316,6 +339,7 @@ pub fn observable_sensitivity(
     };
     let (value, gradient, stats) = match method {
         Method::Forward => {
+            check_forward_size(&plan, steps.len())?;
             let r = forward_sensitivities(
                 &kinetics,
                 plan.model(),
@@ -371,7 +395,8 @@ pub fn observable_sensitivity(
 /// Forward sensitivities of every species' concentration (and the temperature, when solved)
 /// at the plan's output times to the rate constants of `steps` (every step when `None`).
 ///
-/// Errors: [`AnalysisError::StepOutOfRange`], [`AnalysisError::Scenario`],
+/// Errors: [`AnalysisError::StepOutOfRange`], [`AnalysisError::TooLarge`] (beyond
+/// [`MAX_FORWARD_STATE`] or [`MAX_PROFILE_VALUES`]), [`AnalysisError::Scenario`],
 /// [`AnalysisError::SensitivityFailed`].
 pub fn profile_sensitivities(
     plan: &RunPlan,

@@ -90,12 +90,12 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
     if let Some(csv) = &args.profile_csv {
         outputs.output("--profile-csv", csv)?;
     }
-    let result =
-        observable_sensitivity(&plan, observable, method, steps.as_deref()).map_err(of_run)?;
     let profile = match &args.profile_csv {
         Some(_) => Some(profile_sensitivities(&plan, steps.as_deref()).map_err(of_run)?),
         None => None,
     };
+    let result =
+        observable_sensitivity(&plan, observable, method, steps.as_deref()).map_err(of_run)?;
     print_ranked(&mechanism, &result, args.top);
     if result.value == 0.0 {
         eprintln!(

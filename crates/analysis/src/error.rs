@@ -54,6 +54,47 @@ pub enum AnalysisError {
     /// The relative threshold of a flux graph is not in [0, 1].
     #[error("threshold must be between 0 and 1 (a fraction of the largest flux), got {0}")]
     BadThreshold(f64),
+    /// An observable that is not `ignition-delay`, `final:NAME`, `peak:NAME` or
+    /// `peak-time:NAME`.
+    #[error("unknown observable `{text}`; use ignition-delay, final:NAME, peak:NAME or peak-time:NAME (NAME a species or T)")]
+    UnknownObservable {
+        /// The text given.
+        text: String,
+    },
+    /// A step index (0-based) beyond the mechanism's steps.
+    #[error("step R{} is out of range: the mechanism has {n_steps} steps (R1 to R{n_steps})", step + 1)]
+    StepOutOfRange {
+        /// The index given (0-based).
+        step: usize,
+        /// Number of steps.
+        n_steps: usize,
+    },
+    /// The temperature was asked for but the reactor does not solve the energy balance (it
+    /// is held or prescribed, so it does not depend on any rate constant).
+    #[error("the temperature is not solved in this reactor (isothermal or prescribed): it depends on no rate constant")]
+    TemperatureNotSolved,
+    /// The ignition delay was asked for but the scenario has no `[ignition]` criterion or
+    /// the run did not ignite by it.
+    #[error(
+        "no ignition delay: the scenario has no [ignition] criterion or the run did not ignite"
+    )]
+    NoIgnition,
+    /// A peak was asked for but the largest value is at the start or the end of the run.
+    #[error("no peak inside the run: the largest value is at its start or end")]
+    NoPeak,
+    /// The forward sensitivities asked for would hold too many numbers in memory.
+    #[error("{what} would hold {values} numbers (more than {limit}): choose fewer steps (--steps) or the adjoint method")]
+    TooLarge {
+        /// What: the augmented state or the profile.
+        what: &'static str,
+        /// How many numbers.
+        values: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// The sensitivity integration failed.
+    #[error("sensitivity computation failed: {0}")]
+    SensitivityFailed(String),
     /// The scenario could not be planned or run.
     #[error(transparent)]
     Scenario(#[from] ScenarioError),

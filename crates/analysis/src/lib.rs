@@ -21,6 +21,14 @@
 //!   threshold; [`to_dot`] writes it as Graphviz DOT text (the crate `stoik-plot` draws it
 //!   as SVG).
 //!
+//! Which rate constants matter (local sensitivities, see `stoik_reactor`'s sensitivity
+//! functions for the equations):
+//! - [`observable_sensitivity`]: `dG/d ln k` and `d ln G/d ln k` of one [`Observable`] (a
+//!   final or peak value, a peak time, the ignition delay) for every step, by the forward or
+//!   the adjoint [`Method`], ranked by magnitude;
+//! - [`profile_sensitivities`]: `dy/d ln k` of every species and the temperature at the
+//!   plan's output times (forward).
+//!
 //! Box-model terms that are not steps (emissions, deposition, fixed species) and the
 //! dilution of a constant-pressure reactor are not part of the budgets: they list chemical
 //! production only, which sums to [`stoik_kinetics::Kinetics::production_rates`].
@@ -32,6 +40,7 @@ mod dot;
 mod error;
 mod flux;
 mod rates;
+mod sensitivity;
 
 pub use budget::{species_budget, Contribution, SpeciesBudget};
 pub use dot::to_dot;
@@ -41,3 +50,7 @@ pub use flux::{
     DEFAULT_THRESHOLD,
 };
 pub use rates::{species_index, step_rates, step_rates_at_state, Span, StepRates};
+pub use sensitivity::{
+    observable_sensitivity, profile_sensitivities, Method, Observable, ObservableSensitivity,
+    ProfileSensitivities, StateQuantity, StepSensitivity, MAX_FORWARD_STATE, MAX_PROFILE_VALUES,
+};

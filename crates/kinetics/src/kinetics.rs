@@ -260,6 +260,54 @@ impl Kinetics {
         true
     }
 
+    /// The nonzero net stoichiometric changes of step `step`: `(species, nu)` with `nu` the
+    /// product coefficient minus the reactant coefficient (dimensionless; a third body does
+    /// not count). Empty for an index out of range.
+    pub fn net_changes(&self, step: usize) -> &[(usize, f64)] {
+        if step >= self.n_steps {
+            return &[];
+        }
+        self.net.row(step)
+    }
+
+    /// Multiplies the forward rate constant of step `step` by `factor` (dimensionless): its
+    /// pre-exponential factor, and both limits of a falloff or chemically activated step
+    /// (so that Pr and the broadening stay the same). A reverse rate constant taken from
+    /// `kf/Kc` follows; explicit reverse parameters do not, so the step's equilibrium
+    /// constant `kf/kr` changes with them. This is the parameter of local sensitivities
+    /// (`d/d ln kf`, see [`scaling_rates`](Self::scaling_rates)). Returns `false` (and
+    /// changes nothing) when `step` is out of range or `factor` is not finite and positive.
+    pub fn scale_forward(&mut self, step: usize, factor: f64) -> bool {
+        if !(factor.is_finite() && factor > 0.0) || step >= self.n_steps {
+            return false;
+        }
+        self.forward[step].pre_exponential_si *= factor;
+        if let ThirdBodyKind::Falloff(i) = self.third_body[step] {
+            self.falloff[i].other_limit.pre_exponential_si *= factor;
+        }
+        true
+    }
+
+    /// Writes `dq_j / d ln kf_j` of every step into `out` (length `n_steps`, mol/(m3 s)) at
+    /// rate constants `k` and concentrations `c` (mol/m3): the derivative of the step's net
+    /// rate of progress with respect to the log of its forward rate constant as
+    /// [`scale_forward`](Self::scale_forward) scales it. That is the net rate of progress
+    /// when the reverse rate constant follows (`kf/Kc`, or irreversible), and the forward
+    /// rate alone (third body and pressure factor included) when the reverse parameters are
+    /// explicit. No allocation.
+    pub fn scaling_rates(&self, k: &RateConstants, c: &[f64], out: &mut [f64]) {
+        let total = self.total_concentration(c);
+        for (j, o) in out.iter_mut().enumerate().take(self.n_steps) {
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            let g = self.third_body_concentration(k, j, c, total);
+            *o = if self.reverse[j].is_some() {
+                g * fwd
+            } else {
+                g * (fwd - rev)
+            };
+        }
+    }
+
     /// Number of species (length of concentration vectors).
     pub fn n_species(&self) -> usize {
         self.n_species

@@ -261,7 +261,7 @@ impl<M: Backend> BatchEquations<M> {
         }
     }
 
-    fn model_equations(&self) -> ModelEquations<'_> {
+    pub(crate) fn model_equations(&self) -> ModelEquations<'_> {
         ModelEquations {
             kinetics: &self.kinetics,
             model: &self.model,
@@ -402,7 +402,7 @@ impl<M: Backend> BatchEquations<M> {
     }
 
     /// Writes the Jacobian at `(t_s, y)` into `values` (state-pattern order).
-    fn jacobian_values(&self, t_s: f64, y: &[f64], values: &mut [f64]) {
+    pub(crate) fn jacobian_values(&self, t_s: f64, y: &[f64], values: &mut [f64]) {
         let temperature_k = self.rates_for(t_s, y);
         let k = self.rate_constants.borrow();
         if self.is_plain() {
@@ -451,6 +451,22 @@ impl<M: Backend> BatchEquations<M> {
             }
         }
         true
+    }
+
+    /// The Jacobian pattern of the state (compressed sparse column).
+    pub(crate) fn state_pattern(&self) -> &JacobianPattern {
+        &self.state_pattern
+    }
+
+    /// `dq_j/d ln kf_j` of every step (mol/(m3 s), see [`Kinetics::scaling_rates`]) at time
+    /// `t_s` (s) and state `y` with the rate constants the equations use there; returns the
+    /// temperature (K).
+    pub(crate) fn scaling_rates(&self, t_s: f64, y: &[f64], q: &mut [f64]) -> f64 {
+        let temperature_k = self.rates_for(t_s, y);
+        let n = self.kinetics.n_species();
+        self.kinetics
+            .scaling_rates(&self.rate_constants.borrow(), &y[..n], q);
+        temperature_k
     }
 
     /// Whether the sparse backend received a usable pattern (always true for dense).

@@ -41,7 +41,7 @@ use crate::{
 };
 
 /// Checks the options and the temperature of a [`BatchSystem`].
-fn validate_options(
+pub(crate) fn validate_options(
     kinetics: &Kinetics,
     temperature_k: f64,
     options: &IntegrationOptions,
@@ -774,7 +774,7 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
 
 /// Absolute tolerance of the temperature state (K); the relative tolerance times the
 /// temperature is far larger in practice.
-const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
+pub(crate) const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
 
 /// The batch-reactor equations of one compiled mechanism, set up once for repeated use.
 ///

@@ -54,6 +54,7 @@ mod model;
 mod options;
 mod owned;
 mod profiles;
+mod sensitivity;
 mod watch;
 
 pub use atmosphere::{
@@ -76,6 +77,10 @@ pub use options::{
 };
 pub use owned::OwnedIntegrator;
 pub use profiles::{element_balance, ElementBalance, Profiles};
+pub use sensitivity::{
+    adjoint_sensitivity, forward_sensitivities, AdjointSensitivity, ForwardSensitivities,
+    SensitivityError, SensitivityStats, Target, TargetSensitivity,
+};
 pub use watch::{Located, Quantity, Watch};
 
 use stoik_kinetics::Kinetics;

@@ -408,6 +408,96 @@ impl ModelEquations<'_> {
         }
     }
 
+    /// Energy weights e_i (J/mol) over the total heat capacity (J/(m3 K)) at `(c, t)`:
+    /// `dT/dt = -sum_i (e_i / C) w_i` of an adiabatic model. Empty otherwise. Allocates.
+    fn energy_weights(&self, c: &[f64], temperature_k: f64) -> Vec<f64> {
+        if !self.model.solves_energy() {
+            return Vec::new();
+        }
+        let mut capacity = 0.0;
+        let mut e = Vec::with_capacity(c.len());
+        for (thermo, &ci) in self.thermo.iter().zip(c) {
+            let (ei, ki) = energy_terms(thermo, temperature_k, self.model.constraint);
+            capacity += ci * ki;
+            e.push(ei);
+        }
+        e.iter_mut().for_each(|x| *x /= capacity);
+        e
+    }
+
+    /// The linear part of the state derivative in the chemical production rates: `out = A w`
+    /// at state `y` and model temperature `temperature_k` (K), where the state derivative is
+    /// `f = A(y) w(y) + b(t, y)` with `w` the production rates (mol/(m3 s), one per species)
+    /// and `b` the terms that do not come from steps (emissions, deposition, a prescribed
+    /// temperature's slope). `out` has the state's length: mol/(m3 s) per species, then K/s.
+    /// Rows of fixed species are zero. Allocates (sensitivity analysis, not the solver's hot
+    /// path).
+    pub fn chemistry_map(&self, temperature_k: f64, y: &[f64], w: &[f64], out: &mut [f64]) {
+        let n = self.kinetics.n_species();
+        let c = &y[..n];
+        let e = self.energy_weights(c, temperature_k);
+        out[..n].copy_from_slice(&w[..n]);
+        let temperature_rate = if e.is_empty() {
+            0.0
+        } else {
+            -e.iter().zip(w).map(|(e, w)| e * w).sum::<f64>()
+        };
+        if self.model.constraint == Constraint::ConstantPressure {
+            let total: f64 = c.iter().sum();
+            let w_total: f64 = w[..n].iter().sum();
+            let g = w_total / total + temperature_rate / temperature_k;
+            for (o, ci) in out[..n].iter_mut().zip(c) {
+                *o -= ci * g;
+            }
+        }
+        if self.model.solves_energy() {
+            out[n] = temperature_rate;
+        }
+        for &i in &self.model.conditions.fixed_species {
+            if let Some(o) = out.get_mut(i) {
+                *o = 0.0;
+            }
+        }
+    }
+
+    /// The transpose of [`chemistry_map`](Self::chemistry_map): `v = A^T lambda` (one entry
+    /// per species) for `lambda` of the state's length.
+    pub fn chemistry_map_transpose(
+        &self,
+        temperature_k: f64,
+        y: &[f64],
+        lambda: &[f64],
+        v: &mut [f64],
+    ) {
+        let n = self.kinetics.n_species();
+        let c = &y[..n];
+        let e = self.energy_weights(c, temperature_k);
+        v[..n].copy_from_slice(&lambda[..n]);
+        for &i in &self.model.conditions.fixed_species {
+            if let Some(x) = v.get_mut(i) {
+                *x = 0.0;
+            }
+        }
+        let lambda_t = if e.is_empty() { 0.0 } else { lambda[n] };
+        let mut shift = vec![0.0; n];
+        if self.model.constraint == Constraint::ConstantPressure {
+            let total: f64 = c.iter().sum();
+            let s: f64 = v[..n].iter().zip(c).map(|(l, c)| l * c).sum();
+            for (k, sh) in shift.iter_mut().enumerate() {
+                *sh -= s / total;
+                if !e.is_empty() {
+                    *sh += s * e[k] / temperature_k;
+                }
+            }
+        }
+        for (k, x) in v[..n].iter_mut().enumerate() {
+            *x += shift[k];
+            if !e.is_empty() {
+                *x -= lambda_t * e[k];
+            }
+        }
+    }
+
     /// The state derivative `f = dy/dt` at time `t_s` for state `y`, given the rate
     /// constants `k` at the model temperature `temperature_k`. `carry` is scratch of length
     /// `n_species` for the compensated sums of the production rates. No allocation.
@@ -689,6 +779,84 @@ mod tests {
                 worst < 1e-6,
                 "{model:?}: worst relative Jacobian error {worst:e}"
             );
+        }
+    }
+
+    /// The parameter derivative `A nu_j r_j` of every step, for every model, against central
+    /// differences of the right-hand side with the step's forward rate constant scaled by
+    /// 1 +- d (`Kinetics::scale_forward`; the definition of the derivative, `d f/d ln k =
+    /// d f/d lambda` at lambda = 1; the right-hand side is linear in the scale lambda, so the
+    /// quotient with d = 0.1 is exact up to rounding), and the transpose against the identity
+    /// `lambda . (A w) = (A^T lambda) . w`.
+    #[test]
+    fn chemistry_map_gives_the_rate_constant_derivative_for_every_model() {
+        let kinetics = hydrogen();
+        let n = kinetics.n_species();
+        for model in models() {
+            let thermo = energy_thermo(&kinetics, &model).unwrap_or_else(|e| panic!("{e}"));
+            let m = model.n_states(n);
+            let t_s = 0.6e-3;
+            let y = state(n, model.solves_energy());
+            let temp = model.temperature(t_s, &y, n, 1500.0);
+            let eq = ModelEquations {
+                kinetics: &kinetics,
+                model: &model,
+                thermo: &thermo,
+            };
+            let k = kinetics.rate_constants(temp);
+            let mut r = vec![0.0; kinetics.n_steps()];
+            kinetics.scaling_rates(&k, &y[..n], &mut r);
+            let rhs = |kin: &Kinetics| {
+                let eq = ModelEquations {
+                    kinetics: kin,
+                    model: &model,
+                    thermo: &thermo,
+                };
+                let k = kin.rate_constants(temp);
+                let mut out = vec![0.0; m];
+                let mut carry = vec![0.0; n];
+                eq.rhs(&k, t_s, temp, &y, &mut out, &mut carry);
+                out
+            };
+            let d = 0.1;
+            for (j, &rj) in r.iter().enumerate() {
+                let mut w = vec![0.0; n];
+                for &(i, nu) in kinetics.net_changes(j) {
+                    w[i] = nu * rj;
+                }
+                let mut analytic = vec![0.0; m];
+                eq.chemistry_map(temp, &y, &w, &mut analytic);
+                let (mut up, mut down) = (kinetics.clone(), kinetics.clone());
+                assert!(up.scale_forward(j, 1.0 + d) && down.scale_forward(j, 1.0 - d));
+                let (fu, fdn) = (rhs(&up), rhs(&down));
+                // Rounding of the right-hand side's sums (a few eps of its largest term, taken
+                // as 1e-13 of its largest entry) divided by 2d.
+                let floor = 1e-13 * fu.iter().fold(0.0f64, |a, v| a.max(v.abs())) / (2.0 * d);
+                for row in 0..m {
+                    let fd = (fu[row] - fdn[row]) / (2.0 * d);
+                    let err = (fd - analytic[row]).abs();
+                    assert!(
+                        err <= 1e-9 * fd.abs() + floor,
+                        "{model:?} step {j} row {row}: analytic {:e}, differences {fd:e}",
+                        analytic[row]
+                    );
+                }
+                let lambda: Vec<f64> = (0..m).map(|i| 0.3 + ((i * 5) % 7) as f64).collect();
+                let mut v = vec![0.0; n];
+                eq.chemistry_map_transpose(temp, &y, &lambda, &mut v);
+                let left: f64 = lambda.iter().zip(&analytic).map(|(l, a)| l * a).sum();
+                let right: f64 = v.iter().zip(&w).map(|(v, w)| v * w).sum();
+                let magnitude: f64 = v.iter().zip(&w).map(|(v, w)| (v * w).abs()).sum::<f64>()
+                    + lambda
+                        .iter()
+                        .zip(&analytic)
+                        .map(|(l, a)| (l * a).abs())
+                        .sum::<f64>();
+                assert!(
+                    (left - right).abs() <= 1e-12 * magnitude,
+                    "{model:?} step {j}: transpose {right:e} against {left:e}"
+                );
+            }
         }
     }
 

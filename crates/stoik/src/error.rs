@@ -183,7 +183,8 @@ impl CliError {
             CliError::Moved { .. } => EXIT_MOVED,
             CliError::KineticChanges(_) => EXIT_DIFFERENCES,
             CliError::RunsFailed { refused, .. } if *refused > 0 => EXIT_BAD_INPUT,
-            CliError::AnalysisRun(AnalysisError::RunFailed { .. }) => EXIT_INTEGRATION_FAILED,
+            CliError::AnalysisRun(AnalysisError::RunFailed { .. })
+            | CliError::AnalysisRun(AnalysisError::SensitivityFailed(_)) => EXIT_INTEGRATION_FAILED,
             CliError::Plot {
                 source: PlotError::NonFinite { .. },
                 ..

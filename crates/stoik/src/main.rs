@@ -13,6 +13,7 @@ mod fit_thermo;
 mod out_file;
 mod report;
 mod run;
+mod sensitivity;
 mod suite;
 
 use clap::builder::{PossibleValue, PossibleValuesParser, TypedValueParser};
@@ -92,6 +93,12 @@ enum Command {
         after_help = "Examples:\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element H --time 2.2e-4 --dot h.dot --svg h.svg\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element O --window 0,2e-3 --threshold 0.05\n  stoik flux mechanisms/hydrogen-oxygen.scenario.toml --element H --time 2.2e-4 --report h-flux.html\n\nReactant a passes atoms to product b of a step at q nu_a n(a) nu_b n(b) / (atoms on the product side);\nthe two directions between a pair are netted. Exit status: 0 success, 2 bad input, 3 integration failure."
     )]
     Flux(FluxArgs),
+    /// Which rate constants matter: the local sensitivity of an observable (ignition delay,
+    /// a final or peak value, a peak time) to the rate constant of every step, ranked.
+    #[command(
+        after_help = "Examples:\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of ignition-delay\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of peak:OH --method adjoint --top 5 --csv oh.csv\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of final:H2O --steps R1,R3 --profile-csv profile.csv\n\nThe parameter of a step is ln k of its forward rate constant (both falloff limits together; a reverse\nrate constant from thermochemistry follows it, explicit reverse parameters stay). The table ranks\nd ln G/d ln k, the relative change of the observable per relative change of k.\nExit status: 0 success, 2 bad input, 3 integration failure."
+    )]
+    Sensitivity(SensitivityArgs),
     /// Regression suites: record trusted predictions of scenario runs in a baseline, then
     /// verify a mechanism edit against them.
     #[command(subcommand)]
@@ -162,6 +169,42 @@ pub struct RatesArgs {
     /// span) to this file.
     #[arg(long, value_name = "FILE.html")]
     pub report: Option<PathBuf>,
+}
+
+/// How `stoik sensitivity` computes.
+#[derive(Clone, Copy, Debug, ValueEnum)]
+pub enum MethodArg {
+    /// Sensitivity equations integrated with the state (cost grows with the steps).
+    Forward,
+    /// One backward pass for the one observable (for large mechanisms).
+    Adjoint,
+}
+
+/// Flags of `stoik sensitivity`.
+#[derive(clap::Args)]
+pub struct SensitivityArgs {
+    /// Scenario file (run as it is).
+    pub scenario: PathBuf,
+    /// The observable: ignition-delay, final:NAME, peak:NAME or peak-time:NAME (NAME a
+    /// species, or T for the temperature of an adiabatic reactor).
+    #[arg(long)]
+    pub of: String,
+    /// forward or adjoint.
+    #[arg(long, value_enum, default_value = "forward")]
+    pub method: MethodArg,
+    /// Only these steps (R1, R2, ... or 1, 2, ...), comma-separated; every step by default.
+    #[arg(long, value_delimiter = ',')]
+    pub steps: Vec<String>,
+    /// Steps listed in the table.
+    #[arg(long, default_value_t = 10)]
+    pub top: usize,
+    /// Write every step's sensitivity, ranked, to this CSV file.
+    #[arg(long)]
+    pub csv: Option<PathBuf>,
+    /// Write d ln y/d ln k of every species (and T) at every output time and step to this
+    /// CSV file (forward method).
+    #[arg(long)]
+    pub profile_csv: Option<PathBuf>,
 }
 
 /// Flags of `stoik flux`.
@@ -439,6 +482,7 @@ fn main() -> ExitCode {
         Command::Diff(args) => diff::diff(&args),
         Command::Rates(args) => analysis::rates(&args),
         Command::Flux(args) => analysis::flux(&args),
+        Command::Sensitivity(args) => sensitivity::sensitivity(&args),
     };
     // Every error is reported here, once.
     match result {

@@ -1,0 +1,254 @@
+//! `stoik sensitivity`: which rate constants matter for an observable, over the library's
+//! `stoik::analysis::observable_sensitivity` and `profile_sensitivities`. Flags, files and
+//! printing only.
+
+use crate::csv_out::{number, UNDEFINED};
+use crate::error::CliError;
+use crate::out_file::{write_atomically, OutputPaths};
+use crate::run::record_inputs;
+use crate::{MethodArg, SensitivityArgs};
+use std::io::Write;
+use stoik::analysis::{
+    observable_sensitivity, profile_sensitivities, AnalysisError, Method, Observable,
+    ObservableSensitivity, ProfileSensitivities, StateQuantity,
+};
+use stoik::mechanism::Mechanism;
+use stoik::scenario::RunPlan;
+
+fn at_flag(flag: &'static str) -> impl Fn(AnalysisError) -> CliError {
+    move |source| CliError::Analysis { flag, source }
+}
+
+fn of_run(error: AnalysisError) -> CliError {
+    match error {
+        AnalysisError::Scenario(e) => CliError::Scenario(e),
+        AnalysisError::StepOutOfRange { .. } => CliError::Analysis {
+            flag: "--steps",
+            source: error,
+        },
+        other => CliError::AnalysisRun(other),
+    }
+}
+
+/// Step numbers `R3`, `r3` or `3` (1-based) into mechanism indices.
+fn parse_steps(texts: &[String], mechanism: &Mechanism) -> Result<Vec<usize>, CliError> {
+    let n_steps = mechanism.steps.len();
+    texts
+        .iter()
+        .map(|t| {
+            let t = t.trim();
+            let digits = t.strip_prefix(['R', 'r']).unwrap_or(t);
+            match digits.parse::<usize>() {
+                Ok(0) | Err(_) => Err(CliError::BadFlag(format!(
+                    "--steps: `{t}` is not a step number (R1 to R{n_steps})"
+                ))),
+                Ok(k) if k > n_steps => Err(CliError::Analysis {
+                    flag: "--steps",
+                    source: AnalysisError::StepOutOfRange {
+                        step: k - 1,
+                        n_steps,
+                    },
+                }),
+                Ok(k) => Ok(k - 1),
+            }
+        })
+        .collect()
+}
+
+fn equation(mechanism: &Mechanism, j: usize) -> &str {
+    mechanism.steps.get(j).map_or("?", |s| s.equation.as_str())
+}
+
+/// A CSV field: quoted when it holds a comma, a quote or a line break.
+fn field(text: &str) -> String {
+    if text.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
+/// `stoik sensitivity`.
+pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
+    let plan = RunPlan::load(&args.scenario)?;
+    let mechanism = plan.mechanism().clone();
+    let observable = Observable::parse(&mechanism, &args.of).map_err(at_flag("--of"))?;
+    let steps = if args.steps.is_empty() {
+        None
+    } else {
+        Some(parse_steps(&args.steps, &mechanism)?)
+    };
+    let method = match args.method {
+        MethodArg::Forward => Method::Forward,
+        MethodArg::Adjoint => Method::Adjoint,
+    };
+    let mut outputs = OutputPaths::new();
+    record_inputs(&mut outputs, &args.scenario, &plan);
+    if let Some(csv) = &args.csv {
+        outputs.output("--csv", csv)?;
+    }
+    if let Some(csv) = &args.profile_csv {
+        outputs.output("--profile-csv", csv)?;
+    }
+    let profile = match &args.profile_csv {
+        Some(_) => Some(profile_sensitivities(&plan, steps.as_deref()).map_err(of_run)?),
+        None => None,
+    };
+    let result =
+        observable_sensitivity(&plan, observable, method, steps.as_deref()).map_err(of_run)?;
+    print_ranked(&mechanism, &result, args.top);
+    if result.value == 0.0 {
+        eprintln!(
+            "warning: {} is zero: the normalized coefficients are undefined ({UNDEFINED})",
+            observable.describe(&mechanism)
+        );
+    }
+    if let Some(csv) = &args.csv {
+        write_atomically(csv, |w| write_ranked_csv(w, &mechanism, &result))
+            .map_err(|e| CliError::write(csv, e))?;
+        println!("wrote {}", csv.display());
+    }
+    if let (Some(csv), Some(profile)) = (&args.profile_csv, &profile) {
+        let mut undefined = 0usize;
+        write_atomically(csv, |w| {
+            write_profile_csv(w, &mechanism, profile, &mut undefined)
+        })
+        .map_err(|e| CliError::write(csv, e))?;
+        if undefined > 0 {
+            eprintln!(
+                "warning: {}: {undefined} normalized coefficient(s) of zero values written as {UNDEFINED}",
+                csv.display()
+            );
+        }
+        println!("wrote {}", csv.display());
+    }
+    Ok(())
+}
+
+/// The ranked table: one line per step, largest |d ln G/d ln k| first.
+fn print_ranked(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
+    let unit = r.observable.unit();
+    let method = match r.method {
+        Method::Forward => "forward",
+        Method::Adjoint => "adjoint",
+    };
+    println!(
+        "{} = {:.6e} {unit}; sensitivities to ln k of {} step(s) ({method}; {} forward, {} backward solver steps)",
+        r.observable.describe(mechanism),
+        r.value,
+        r.ranked.len(),
+        r.stats.forward_steps,
+        r.stats.backward_steps,
+    );
+    let header = format!("dG/d ln k ({unit})");
+    let width = header.len().max(14);
+    println!(
+        "  {:>4}  {:<6} {:>14}  {header:>width$}  equation",
+        "rank", "step", "d ln G/d ln k",
+    );
+    for (rank, s) in r.ranked.iter().take(top).enumerate() {
+        println!(
+            "  {:>4}  {:<6} {:>14.6e}  {:>width$.6e}  {}",
+            rank + 1,
+            format!("R{}", s.step + 1),
+            s.normalized,
+            s.derivative,
+            equation(mechanism, s.step)
+        );
+    }
+    if r.ranked.len() > top {
+        println!(
+            "  ({} more; --top N or --csv for all)",
+            r.ranked.len() - top
+        );
+    }
+}
+
+fn non_finite(what: String) -> std::io::Error {
+    std::io::Error::new(
+        std::io::ErrorKind::InvalidData,
+        format!("{what} is not finite; no CSV was written"),
+    )
+}
+
+/// The ranked CSV: `rank,step,equation,normalized,derivative,unit,value`; numbers in
+/// shortest round-trip form, an undefined normalized coefficient (zero value) as `nan`.
+fn write_ranked_csv(
+    w: &mut impl Write,
+    mechanism: &Mechanism,
+    r: &ObservableSensitivity,
+) -> Result<(), std::io::Error> {
+    writeln!(w, "rank,step,equation,normalized,derivative,unit,value")?;
+    let value = number(r.value).ok_or_else(|| non_finite("the observable's value".into()))?;
+    for (rank, s) in r.ranked.iter().enumerate() {
+        let derivative = number(s.derivative)
+            .ok_or_else(|| non_finite(format!("the derivative for step R{}", s.step + 1)))?;
+        let normalized = match number(s.normalized) {
+            Some(x) => x,
+            None if r.value == 0.0 => UNDEFINED.to_string(),
+            None => {
+                return Err(non_finite(format!(
+                    "the normalized coefficient of step R{}",
+                    s.step + 1
+                )))
+            }
+        };
+        writeln!(
+            w,
+            "{},R{},{},{normalized},{derivative},{},{value}",
+            rank + 1,
+            s.step + 1,
+            field(equation(mechanism, s.step)),
+            r.observable.unit(),
+        )?;
+    }
+    Ok(())
+}
+
+/// The profile CSV: `time_s,quantity,step,equation,value,derivative,normalized`, one row per
+/// output time, quantity and step.
+fn write_profile_csv(
+    w: &mut impl Write,
+    mechanism: &Mechanism,
+    p: &ProfileSensitivities,
+    undefined: &mut usize,
+) -> Result<(), std::io::Error> {
+    writeln!(
+        w,
+        "time_s,quantity,step,equation,value,derivative,normalized"
+    )?;
+    let names: Vec<String> = p
+        .quantities
+        .iter()
+        .map(|q| match q {
+            StateQuantity::Species(i) => field(&mechanism.species[*i].name),
+            StateQuantity::Temperature => "T".to_string(),
+        })
+        .collect();
+    for (row, &t) in p.times_s.iter().enumerate() {
+        let time = number(t).ok_or_else(|| non_finite(format!("output time {t}")))?;
+        for (q, name) in names.iter().enumerate() {
+            let value =
+                number(p.values[row][q]).ok_or_else(|| non_finite(format!("{name} at {t:e} s")))?;
+            for (k, &step) in p.steps.iter().enumerate() {
+                let derivative = number(p.derivatives[row][k][q]).ok_or_else(|| {
+                    non_finite(format!("d{name}/d ln k of R{} at {t:e} s", step + 1))
+                })?;
+                let normalized = match p.normalized(row, k, q).and_then(number) {
+                    Some(x) => x,
+                    None => {
+                        *undefined += 1;
+                        UNDEFINED.to_string()
+                    }
+                };
+                writeln!(
+                    w,
+                    "{time},{name},R{},{},{value},{derivative},{normalized}",
+                    step + 1,
+                    field(equation(mechanism, step))
+                )?;
+            }
+        }
+    }
+    Ok(())
+}

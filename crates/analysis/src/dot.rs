@@ -22,7 +22,7 @@ pub(crate) fn quoted(text: &str) -> String {
 
 /// Step labels of an edge: `R<n>` (1-based step numbers as in the mechanism file order)
 /// of its carrying steps, at most `most`, `+k more` after them.
-pub(crate) fn step_label(steps: &[(usize, f64)], most: usize) -> String {
+pub fn step_label(steps: &[(usize, f64)], most: usize) -> String {
     let mut names: Vec<String> = steps
         .iter()
         .take(most)

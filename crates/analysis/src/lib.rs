@@ -43,7 +43,7 @@ mod rates;
 mod sensitivity;
 
 pub use budget::{species_budget, Contribution, SpeciesBudget};
-pub use dot::to_dot;
+pub use dot::{step_label, to_dot};
 pub use error::AnalysisError;
 pub use flux::{
     element_index, element_transfers, flux_graph, ElementTransfer, FluxEdge, FluxGraph,

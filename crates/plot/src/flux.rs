@@ -12,7 +12,7 @@ use crate::PlotError;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
-use stoik_analysis::FluxGraph;
+use stoik_analysis::{step_label, FluxGraph};
 use stoik_mechanism::Mechanism;
 
 /// Size of a flux-graph drawing in pixels (width, height).
@@ -75,19 +75,6 @@ pub fn flux_graph_svg(graph: &FluxGraph, mechanism: &Mechanism) -> Result<String
         root.present().map_err(PlotError::draw)?;
     }
     Ok(svg)
-}
-
-/// Step labels of an edge: `R<n>` of its carrying steps, at most `most`, `+k more` after.
-pub(crate) fn step_label(steps: &[(usize, f64)], most: usize) -> String {
-    let mut names: Vec<String> = steps
-        .iter()
-        .take(most)
-        .map(|(s, _)| format!("R{}", s + 1))
-        .collect();
-    if steps.len() > most {
-        names.push(format!("+{} more", steps.len() - most));
-    }
-    names.join(", ")
 }
 
 type DrawResult = Result<(), DrawingAreaErrorKind<std::io::Error>>;

@@ -152,6 +152,10 @@ impl ReactorConservation {
             .chain(b.emissions.iter().map(|e| e.0))
             .chain(b.deposition.iter().map(|d| d.0))
             .collect();
+        if model.flow.is_some() {
+            // A stirred tank exchanges every species with its feed and outflow.
+            open_species = (0..mechanism.species.len()).collect();
+        }
         open_species.sort_unstable();
         open_species.dedup();
         let basis = match model.constraint {

@@ -398,7 +398,9 @@ impl<M: Backend> BatchEquations<M> {
 
     /// Constant volume without an energy state: the Jacobian is the kinetics' own.
     fn is_plain(&self) -> bool {
-        self.model.constraint == Constraint::ConstantVolume && !self.model.solves_energy()
+        self.model.constraint == Constraint::ConstantVolume
+            && !self.model.solves_energy()
+            && self.model.flow.is_none()
     }
 
     /// Writes the Jacobian at `(t_s, y)` into `values` (state-pattern order).

@@ -251,6 +251,10 @@ pub enum ReactorError {
     /// Heat exchange is malformed or combined with a model that cannot take it.
     #[error("bad heat exchange: {0}")]
     BadHeatExchange(String),
+    /// The flow of a stirred tank is malformed (residence time, inlet temperature or inlet
+    /// concentrations), or its inlet does not have one concentration per species.
+    #[error("bad stirred-tank flow: {0}")]
+    BadFlow(String),
     /// The temperature follows a prescribed history and cannot be set.
     #[error("the temperature follows a prescribed history and cannot be set")]
     TemperaturePrescribed,

@@ -761,11 +761,14 @@ fn build_problem<M: Backend>(
 
 /// The conserved combinations of a model's state: the kinetics' own for a closed reactor at
 /// constant volume (the temperature state, if any, takes no part); none at constant pressure
-/// (the volume changes, so concentrations are not conserved) or with box conditions that add
-/// or remove species or hold them fixed.
+/// (the volume changes, so concentrations are not conserved), in a stirred tank, or with box
+/// conditions that add or remove species or hold them fixed.
 fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
     let c = &model.conditions;
-    let open = !c.fixed_species.is_empty() || !c.emissions.is_empty() || !c.deposition.is_empty();
+    let open = !c.fixed_species.is_empty()
+        || !c.emissions.is_empty()
+        || !c.deposition.is_empty()
+        || model.flow.is_some();
     if open || model.constraint != Constraint::ConstantVolume {
         return Vec::new();
     }
@@ -834,6 +837,15 @@ impl BatchSystem {
         validate_options(kinetics, temperature_k, options)?;
         let conditions = &model.conditions;
         conditions.validate(kinetics.n_species(), kinetics.n_steps())?;
+        if let Some(flow) = &model.flow {
+            if flow.inlet_mol_per_m3().len() != kinetics.n_species() {
+                return Err(ReactorError::BadFlow(format!(
+                    "the inlet has {} concentrations for {} species",
+                    flow.inlet_mol_per_m3().len(),
+                    kinetics.n_species()
+                )));
+            }
+        }
         let needs_closed_volume = !conditions.fixed_species.is_empty()
             || !conditions.emissions.is_empty()
             || !conditions.deposition.is_empty();

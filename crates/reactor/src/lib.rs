@@ -71,7 +71,7 @@ pub use error::{
 };
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
-pub use model::{Constraint, Energy, HeatExchange, ReactorModel, TemperatureHistory};
+pub use model::{Constraint, Energy, HeatExchange, ReactorModel, StirredFlow, TemperatureHistory};
 pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
 };

@@ -16,6 +16,21 @@
 //! - prescribed: `T(t)` piecewise linear through given points, `dT/dt` its slope;
 //! - isothermal: `dT/dt = 0`.
 //!
+//! A [`StirredFlow`] opens the reactor into a continuous stirred tank of fixed volume `V`: a
+//! feed of concentrations `c_in` (mol/m3) and temperature `T_in` (K) enters at the volumetric
+//! rate `q = V / tau` (`tau` the residence time), and the well-mixed contents leave.
+//!
+//! - constant volume (constant density, the usual liquid-phase tank: outflow = inflow):
+//!   `dc_i/dt = w_i + (c_in,i - c_i) / tau`;
+//! - constant pressure (ideal gas, the outflow adjusts to hold `P`):
+//!   `dc_i/dt = w_i + c_in,i / tau - c_i g`, `g = (sum_k w_k + C_in / tau) / C + (dT/dt) / T`;
+//! - the energy balance of the open tank is written on enthalpy for both (steady-flow first
+//!   law; pressure work neglected at constant volume, as for liquids):
+//!   `sum_i c_i cp_i dT/dt = sum_i c_in,i (h_i(T_in) - h_i(T)) / tau - sum_i h_i w_i + Q/V`,
+//!   `Q/V = U A / V (T_coolant - T)` with heat exchange (O. Levenspiel, *Chemical Reaction
+//!   Engineering*, 3rd ed., ch. 5 and 9; H. S. Fogler, *Elements of Chemical Reaction
+//!   Engineering*, 4th ed., ch. 8).
+//!
 //! The Jacobian with respect to `(c, T)` is written analytically (see [`ModelJacobian`]):
 //! the kinetics' `dw/dc`, its temperature column `dw/dT` from the Arrhenius and van 't Hoff
 //! slopes of the rate constants, the energy row from differentiating the quotient above, and
@@ -53,8 +68,92 @@ pub enum Energy {
     Prescribed(TemperatureHistory),
     /// Exchanges heat with a coolant (a jacketed vessel): the temperature is solved from the
     /// energy balance with the heat flow `U A (T_coolant - T)` into the reactor (species
-    /// thermochemistry needed for every species; constant volume only).
+    /// thermochemistry needed for every species; constant volume only for a closed reactor,
+    /// either constraint for a stirred tank).
     HeatExchange(HeatExchange),
+}
+
+/// The flow through a continuous stirred tank of fixed volume: the feed's concentrations
+/// (mol/m3) and temperature (K), and the residence time `tau = V / q` (s) of the volumetric
+/// feed rate `q` (m3/s) in the tank volume `V` (m3). See the module documentation for the
+/// equations.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StirredFlow {
+    residence_time_s: f64,
+    inlet_mol_per_m3: Vec<f64>,
+    inlet_temperature_k: f64,
+}
+
+impl StirredFlow {
+    /// A feed of `inlet_mol_per_m3` (one finite, non-negative concentration per species, in
+    /// mol/m3) at `inlet_temperature_k` (K, finite and positive; used when the energy balance
+    /// is solved) with residence time `residence_time_s` (s, finite and positive).
+    pub fn new(
+        residence_time_s: f64,
+        inlet_mol_per_m3: Vec<f64>,
+        inlet_temperature_k: f64,
+    ) -> Result<StirredFlow, ReactorError> {
+        let mut flow = StirredFlow {
+            residence_time_s: 1.0,
+            inlet_mol_per_m3,
+            inlet_temperature_k: 300.0,
+        };
+        flow.set_residence_time_s(residence_time_s)?;
+        flow.set_inlet_temperature_k(inlet_temperature_k)?;
+        if let Some((i, c)) = flow
+            .inlet_mol_per_m3
+            .iter()
+            .enumerate()
+            .find(|(_, c)| !(c.is_finite() && **c >= 0.0))
+        {
+            return Err(ReactorError::BadFlow(format!(
+                "inlet concentration {c:e} mol/m3 of species {i} must be finite and not negative"
+            )));
+        }
+        Ok(flow)
+    }
+
+    /// Residence time `V / q` (s).
+    pub fn residence_time_s(&self) -> f64 {
+        self.residence_time_s
+    }
+
+    /// Changes the residence time (s, finite and positive).
+    pub fn set_residence_time_s(&mut self, residence_time_s: f64) -> Result<(), ReactorError> {
+        if !(residence_time_s.is_finite() && residence_time_s > 0.0) {
+            return Err(ReactorError::BadFlow(format!(
+                "the residence time must be finite and positive, got {residence_time_s:e} s"
+            )));
+        }
+        self.residence_time_s = residence_time_s;
+        Ok(())
+    }
+
+    /// Inlet concentrations (mol/m3), one per species.
+    pub fn inlet_mol_per_m3(&self) -> &[f64] {
+        &self.inlet_mol_per_m3
+    }
+
+    /// Inlet temperature (K).
+    pub fn inlet_temperature_k(&self) -> f64 {
+        self.inlet_temperature_k
+    }
+
+    /// Changes the inlet temperature (K, finite and positive).
+    pub fn set_inlet_temperature_k(&mut self, inlet_temperature_k: f64) -> Result<(), ReactorError> {
+        if !(inlet_temperature_k.is_finite() && inlet_temperature_k > 0.0) {
+            return Err(ReactorError::BadFlow(format!(
+                "the inlet temperature must be finite and positive, got {inlet_temperature_k:e} K"
+            )));
+        }
+        self.inlet_temperature_k = inlet_temperature_k;
+        Ok(())
+    }
+
+    /// Total inlet concentration (mol/m3).
+    fn inlet_total(&self) -> f64 {
+        self.inlet_mol_per_m3.iter().sum()
+    }
 }
 
 /// The heat exchange of a jacketed vessel: heat flows into the reactor at
@@ -213,12 +312,26 @@ pub struct ReactorModel {
     /// Fixed species, emissions and deposition need constant volume without the energy
     /// balance; photolysis goes with any model.
     pub conditions: BoxConditions,
+    /// The feed and outflow of a continuous stirred tank; `None` for a closed (batch)
+    /// reactor.
+    pub flow: Option<StirredFlow>,
 }
 
 impl ReactorModel {
     /// The isothermal constant-volume reactor (the default).
     pub fn isothermal_constant_volume() -> Self {
         ReactorModel::default()
+    }
+
+    /// The thermochemistry the energy balance is written on: internal energy and cv for a
+    /// closed constant-volume reactor, enthalpy and cp otherwise (constant pressure, and every
+    /// stirred tank).
+    fn energy_basis(&self) -> Constraint {
+        if self.flow.is_some() {
+            Constraint::ConstantPressure
+        } else {
+            self.constraint
+        }
     }
 
     /// Whether the temperature is a state of the integration (adiabatic models).
@@ -255,9 +368,10 @@ pub(crate) fn energy_thermo(
     }
     if matches!(model.energy, Energy::HeatExchange(_))
         && model.constraint != Constraint::ConstantVolume
+        && model.flow.is_none()
     {
         return Err(ReactorError::BadHeatExchange(
-            "heat exchange is for constant-volume reactors (U A / V is per fixed volume)"
+            "heat exchange is for constant-volume reactors and stirred tanks (U A / V is per fixed volume)"
                 .to_string(),
         ));
     }
@@ -389,7 +503,7 @@ impl ModelEquations<'_> {
         let mut release = 0.0;
         let mut capacity = 0.0;
         for ((thermo, &ci), &wi) in self.thermo.iter().zip(c).zip(w) {
-            let (e, k) = energy_terms(thermo, temperature_k, self.model.constraint);
+            let (e, k) = energy_terms(thermo, temperature_k, self.model.energy_basis());
             release += e * wi;
             capacity += ci * k;
         }
@@ -397,7 +511,63 @@ impl ModelEquations<'_> {
             Energy::HeatExchange(x) => x.heat_flow_w_per_m3(t_s, temperature_k),
             _ => 0.0,
         };
-        ((exchanged - release) / capacity, capacity)
+        let fed = self.feed_enthalpy(temperature_k);
+        ((exchanged + fed - release) / capacity, capacity)
+    }
+
+    /// The enthalpy the feed brings per unit volume and time, relative to the tank's
+    /// temperature: `sum_i c_in,i (h_i(T_in) - h_i(T)) / tau` (W/m3); 0 without flow.
+    fn feed_enthalpy(&self, temperature_k: f64) -> f64 {
+        let Some(flow) = &self.model.flow else {
+            return 0.0;
+        };
+        let (t_in, t) = (flow.inlet_temperature_k, temperature_k);
+        let sum: f64 = self
+            .thermo
+            .iter()
+            .zip(&flow.inlet_mol_per_m3)
+            .filter(|(_, &c)| c != 0.0)
+            .map(|(thermo, &c)| c * R * (t_in * thermo.h_over_rt(t_in) - t * thermo.h_over_rt(t)))
+            .sum();
+        sum / flow.residence_time_s
+    }
+
+    /// d(feed enthalpy)/dT (W/(m3 K)): `-sum_i c_in,i cp_i(T) / tau`; 0 without flow.
+    fn feed_enthalpy_slope(&self, temperature_k: f64) -> f64 {
+        let Some(flow) = &self.model.flow else {
+            return 0.0;
+        };
+        let sum: f64 = self
+            .thermo
+            .iter()
+            .zip(&flow.inlet_mol_per_m3)
+            .map(|(thermo, &c)| c * R * thermo.cp_over_r(temperature_k))
+            .sum();
+        -sum / flow.residence_time_s
+    }
+
+    /// The feed's share of the relative expansion rate at constant pressure, `C_in / (tau C)`
+    /// (1/s), for total concentration `total` (mol/m3); 0 without flow.
+    fn feed_expansion(&self, total: f64) -> f64 {
+        self.model
+            .flow
+            .as_ref()
+            .map_or(0.0, |f| f.inlet_total() / (f.residence_time_s * total))
+    }
+
+    /// Adds the feed and, at constant volume, the outflow to the species rows `f`.
+    fn add_flow(&self, c: &[f64], f: &mut [f64]) {
+        let Some(flow) = &self.model.flow else {
+            return;
+        };
+        let rate = 1.0 / flow.residence_time_s;
+        let outflow = self.model.constraint == Constraint::ConstantVolume;
+        for ((fi, &ci), &cin) in f.iter_mut().zip(c).zip(&flow.inlet_mol_per_m3) {
+            *fi += cin * rate;
+            if outflow {
+                *fi -= ci * rate;
+            }
+        }
     }
 
     /// d(heat flow per volume)/dT in W/(m3 K): `-U A / V` with heat exchange, else 0.
@@ -417,7 +587,7 @@ impl ModelEquations<'_> {
         let mut capacity = 0.0;
         let mut e = Vec::with_capacity(c.len());
         for (thermo, &ci) in self.thermo.iter().zip(c) {
-            let (ei, ki) = energy_terms(thermo, temperature_k, self.model.constraint);
+            let (ei, ki) = energy_terms(thermo, temperature_k, self.model.energy_basis());
             capacity += ci * ki;
             e.push(ei);
         }
@@ -523,11 +693,12 @@ impl ModelEquations<'_> {
         if self.model.constraint == Constraint::ConstantPressure {
             let total: f64 = c.iter().sum();
             let w_total: f64 = w.iter().sum();
-            let g = w_total / total + temperature_rate / temperature_k;
+            let g = w_total / total + self.feed_expansion(total) + temperature_rate / temperature_k;
             for (wi, ci) in w.iter_mut().zip(c) {
                 *wi -= ci * g;
             }
         }
+        self.add_flow(c, w);
         if self.model.solves_energy() {
             f[n] = temperature_rate;
         }
@@ -553,11 +724,22 @@ impl ModelEquations<'_> {
         let c = &y[..n];
         let t = temperature_k;
         let constraint = self.model.constraint;
+        let basis = self.model.energy_basis();
         let energy_solved = self.model.solves_energy();
         kinetics.jacobian_sparse(k, c, &mut scratch.kin_values);
         values.iter_mut().for_each(|v| *v = 0.0);
         for (&pos, &v) in map.iter().zip(&scratch.kin_values) {
             values[pos] = v;
+        }
+        // The outflow of a constant-volume stirred tank, -1/tau on the species diagonal; the
+        // kinetics pattern always holds the diagonal.
+        if let (Some(flow), Constraint::ConstantVolume) = (&self.model.flow, constraint) {
+            let kin = kinetics.jacobian_pattern();
+            for i in 0..n {
+                if let Some(p) = kin.position(i, i) {
+                    values[map[p]] -= 1.0 / flow.residence_time_s;
+                }
+            }
         }
         if constraint == Constraint::ConstantVolume && !energy_solved {
             return;
@@ -566,7 +748,7 @@ impl ModelEquations<'_> {
         let kin = kinetics.jacobian_pattern();
         if energy_solved {
             for (i, thermo) in self.thermo.iter().enumerate() {
-                let (e, cap) = energy_terms(thermo, t, constraint);
+                let (e, cap) = energy_terms(thermo, t, basis);
                 scratch.energy[i] = e;
                 scratch.capacity[i] = cap;
             }
@@ -614,7 +796,9 @@ impl ModelEquations<'_> {
                 release_slope += scratch.energy[i] * d;
                 dw_total_dt += d;
             }
-            a_t = -(capacity_release + release_slope - self.exchange_slope()
+            a_t = -(capacity_release + release_slope
+                - self.exchange_slope()
+                - self.feed_enthalpy_slope(t)
                 + temperature_rate * capacity_slope)
                 / capacity_total;
         }
@@ -637,9 +821,12 @@ impl ModelEquations<'_> {
             }
             Constraint::ConstantPressure => {
                 let total: f64 = c.iter().sum();
-                let g = w_total / total + temperature_rate / t;
+                let feed = self.feed_expansion(total);
+                let g = w_total / total + feed + temperature_rate / t;
                 for col in 0..n {
-                    let mut dg = scratch.column_sum[col] / total - w_total / (total * total);
+                    let mut dg = scratch.column_sum[col] / total
+                        - w_total / (total * total)
+                        - feed / total;
                     if energy_solved {
                         let a_k = energy_row(col);
                         dg += a_k / t;
@@ -706,10 +893,30 @@ mod tests {
             .unwrap_or_else(|e| panic!("{e}"));
         out.push(ReactorModel {
             energy: Energy::HeatExchange(
-                HeatExchange::new(5e4, coolant).unwrap_or_else(|e| panic!("{e}")),
+                HeatExchange::new(5e4, coolant.clone()).unwrap_or_else(|e| panic!("{e}")),
             ),
             ..Default::default()
         });
+        // Stirred tanks: both constraints, isothermal, adiabatic and with heat exchange.
+        let n = hydrogen().n_species();
+        let inlet: Vec<f64> = (0..n).map(|i| 0.02 + 0.3 * ((i * 3) % 5) as f64).collect();
+        let flow = StirredFlow::new(2e-4, inlet, 700.0).unwrap_or_else(|e| panic!("{e}"));
+        for constraint in [Constraint::ConstantVolume, Constraint::ConstantPressure] {
+            for energy in [
+                Energy::Isothermal,
+                Energy::Adiabatic,
+                Energy::HeatExchange(
+                    HeatExchange::new(5e4, coolant.clone()).unwrap_or_else(|e| panic!("{e}")),
+                ),
+            ] {
+                out.push(ReactorModel {
+                    constraint,
+                    energy,
+                    flow: Some(flow.clone()),
+                    ..Default::default()
+                });
+            }
+        }
         out
     }
 

@@ -8,7 +8,9 @@
 
 use crate::box_sections::{read_box, BoxSpec};
 use crate::read::NamedValue;
-use crate::sections::{read_ignition, read_initial, read_output, read_reactor, read_solver};
+use crate::sections::{
+    read_flow, read_ignition, read_initial, read_output, read_reactor, read_solver, FlowSpec,
+};
 use std::path::{Path, PathBuf};
 use stoik_mechanism::ConcentrationUnit;
 use stoik_mechanism::{parse_document, Diagnostics, LoadError, Report, SourceLocation};
@@ -153,6 +155,8 @@ pub struct Scenario {
     pub(crate) tolerance_overrides: Vec<NamedValue>,
     pub(crate) ignition: Option<IgnitionSpec>,
     pub(crate) box_spec: BoxSpec,
+    /// `[flow]`: the feed of a continuous stirred tank (`None`: a closed reactor).
+    pub(crate) flow: Option<FlowSpec>,
     pub(crate) file: String,
     /// Where the output times are asked for (diagnostics about them point there).
     pub(crate) output_at: Option<SourceLocation>,
@@ -222,6 +226,7 @@ const TOP_KEYS: &[&str] = &[
     "mechanism",
     "reactor",
     "initial",
+    "flow",
     "output",
     "solver",
     "ignition",
@@ -250,6 +255,7 @@ fn read_scenario(
     let solver = read_solver(r, root, output.unit);
     let ignition = read_ignition(r, root);
     let box_spec = read_box(r, root);
+    let flow = read_flow(r, root, reactor.pressure_given);
     let energy = reactor.energy?;
     Some(Scenario {
         title,
@@ -259,6 +265,7 @@ fn read_scenario(
         temperature_k: reactor.temperature_k?,
         ignition: ignition?,
         box_spec: box_spec?,
+        flow: flow?,
         pressure_pa: if reactor.pressure_given {
             Some(reactor.pressure_pa?)
         } else {
@@ -400,11 +407,17 @@ const KINDS: [(&str, Constraint, Thermal); 7] = [
         Constraint::ConstantVolume,
         Thermal::Jacketed,
     ),
+    (
+        "jacketed-constant-pressure",
+        Constraint::ConstantPressure,
+        Thermal::Jacketed,
+    ),
 ];
 
 /// Reactor kind names accepted in files (`[reactor] kind`).
-pub const REACTOR_KINDS: [&str; 7] = [
+pub const REACTOR_KINDS: [&str; 8] = [
     KINDS[0].0, KINDS[1].0, KINDS[2].0, KINDS[3].0, KINDS[4].0, KINDS[5].0, KINDS[6].0,
+    KINDS[7].0,
 ];
 
 /// The constraint and temperature law of a kind name.

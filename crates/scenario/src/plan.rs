@@ -9,6 +9,7 @@ use crate::file::{
     PRESSURE_RANGE_PA, TEMPERATURE_RANGE_K,
 };
 use crate::read::{NamedValue, SpeciesLookup};
+use crate::sections::{FeedRate, FlowSpec};
 use std::path::Path;
 use std::sync::Arc;
 use stoik_mechanism::ConcentrationUnit;
@@ -17,7 +18,7 @@ use stoik_mechanism::{
     Mechanism, MechanismFile, GAS_CONSTANT,
 };
 use stoik_reactor::{
-    BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel, Watch,
+    BatchCase, Energy, StirredFlow, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel, Watch,
 };
 
 /// An initial composition given in place of a scenario's ([`RunPlan::set_initial_composition`]),
@@ -591,6 +592,10 @@ fn resolve(
         }
         None => None,
     };
+    let flow = scenario
+        .flow
+        .as_ref()
+        .and_then(|spec| stirred_flow(scenario, mechanism, spec, &mut find, &mut diagnostics));
     diagnostics.append(&mut find_diagnostics);
     let conditions = scenario
         .box_spec
@@ -629,6 +634,7 @@ fn resolve(
         constraint: scenario.constraint,
         energy: scenario.energy.clone(),
         conditions,
+        flow,
     };
     model_problems(scenario, mechanism, &model, &mut diagnostics);
     if !diagnostics.is_empty() {
@@ -697,6 +703,18 @@ fn model_problems(
             );
         }
     }
+    if matches!(model.energy, Energy::HeatExchange(_))
+        && model.constraint != stoik_reactor::Constraint::ConstantVolume
+        && model.flow.is_none()
+    {
+        diagnostics.push(
+            Diagnostic::error(
+                file,
+                scenario.locations.reactor,
+                "the `jacketed-constant-pressure` kind is for stirred tanks (U A / V is per fixed volume): add a [flow] section or use `jacketed-constant-volume`",
+            ),
+        );
+    }
     let c = &model.conditions;
     let needs_closed_volume =
         !c.fixed_species.is_empty() || !c.emissions.is_empty() || !c.deposition.is_empty();
@@ -711,5 +729,88 @@ fn model_problems(
                 scenario.kind_label()
             ),
         ));
+    }
+}
+
+/// The stirred-tank flow of `[flow]`: inlet concentrations (mole fractions at the pressure
+/// and the inlet temperature), the inlet temperature (the reactor's when not given) and the
+/// residence time from the feed rate (a mass feed through the inlet density
+/// `sum_i c_in,i M_i`). `None` after recording the problems.
+fn stirred_flow(
+    scenario: &Scenario,
+    mechanism: &Mechanism,
+    spec: &FlowSpec,
+    find: &mut dyn FnMut(&NamedValue, &str) -> Option<usize>,
+    diagnostics: &mut Vec<Diagnostic>,
+) -> Option<StirredFlow> {
+    let file = scenario.file.as_str();
+    let n = mechanism.species.len();
+    let inlet_k = spec.inlet_temperature_k.unwrap_or(scenario.temperature_k);
+    let mut inlet = vec![0.0; n];
+    match &spec.inlet {
+        InitialState::Concentrations(values) => {
+            for named in values {
+                if let Some(i) = find(named, "[flow] inlet_concentrations") {
+                    inlet[i] += named.value;
+                }
+            }
+        }
+        InitialState::MoleFractions(values) => {
+            let total = scenario.pressure_pa.map(|p| p / (GAS_CONSTANT * inlet_k));
+            for named in values {
+                if let (Some(i), Some(total)) = (find(named, "[flow] inlet_mole_fractions"), total)
+                {
+                    inlet[i] += named.value * total;
+                }
+            }
+        }
+    }
+    let residence_time_s = match spec.rate {
+        FeedRate::ResidenceTime(tau) => tau,
+        FeedRate::Volumetric {
+            m3_per_s,
+            volume_m3,
+        } => volume_m3 / m3_per_s,
+        FeedRate::Mass {
+            kg_per_s,
+            volume_m3,
+        } => {
+            let mut density = 0.0;
+            for (i, c) in inlet.iter().enumerate().filter(|(_, c)| **c > 0.0) {
+                match mechanism.molar_mass_kg_per_mol(i) {
+                    Some(m) => density += c * m,
+                    None => {
+                        diagnostics.push(
+                            Diagnostic::error(
+                                file,
+                                Some(spec.at),
+                                format!(
+                                    "`mass_flow` needs the feed's density, but species `{}` has no molar mass (no elements)",
+                                    mechanism.species[i].name
+                                ),
+                            )
+                            .with_help("give `residence_time` or `volumetric_flow` instead"),
+                        );
+                        return None;
+                    }
+                }
+            }
+            if density <= 0.0 {
+                diagnostics.push(Diagnostic::error(
+                    file,
+                    Some(spec.at),
+                    "`mass_flow` needs a feed with a positive density (the inlet is empty)",
+                ));
+                return None;
+            }
+            volume_m3 * density / kg_per_s
+        }
+    };
+    match StirredFlow::new(residence_time_s, inlet, inlet_k) {
+        Ok(flow) => Some(flow),
+        Err(e) => {
+            diagnostics.push(Diagnostic::error(file, Some(spec.at), e.to_string()));
+            None
+        }
     }
 }

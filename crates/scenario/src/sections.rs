@@ -402,40 +402,58 @@ pub(crate) fn read_initial(
         }
         return None;
     };
+    let at = root.get("initial").map(|v| v.span().start).unwrap_or(0);
+    read_composition(
+        r,
+        t,
+        at,
+        ["initial", "concentrations", "mole_fractions", "initial concentration"],
+        pressure_given,
+    )
+}
+
+/// Reads a composition from table `t` (located at `at`): concentrations under `keys[1]`
+/// (with `concentration_unit`) or mole fractions under `keys[2]`, which need the pressure
+/// (`pressure_given`). `keys[0]` names the section, `keys[3]` the quantity in messages.
+fn read_composition(
+    r: &mut Report<'_>,
+    t: &DeTable<'_>,
+    at: usize,
+    keys: [&str; 4],
+    pressure_given: bool,
+) -> Option<InitialState> {
+    let [section_name, conc_key, frac_key, what] = keys;
     let unit = match t.get("concentration_unit") {
         None => Some(ConcentrationUnit::MolPerM3),
         Some(v) => concentration_unit(r, "concentration_unit", v),
     };
-    match (
-        t.get_key_value("concentrations"),
-        t.get_key_value("mole_fractions"),
-    ) {
+    match (t.get_key_value(conc_key), t.get_key_value(frac_key)) {
         (Some(_), Some((key, _))) => {
             r.error(
                 key.span().start,
-                "give either `concentrations` or `mole_fractions` in [initial], not both",
+                format!("give either `{conc_key}` or `{frac_key}` in [{section_name}], not both"),
                 None,
             );
             None
         }
         (None, None) => {
             r.error(
-                root.get("initial").map(|v| v.span().start).unwrap_or(0),
-                "[initial] needs `concentrations` or `mole_fractions`",
+                at,
+                format!("[{section_name}] needs `{conc_key}` or `{frac_key}`"),
                 None,
             );
             None
         }
         (Some((_, v)), None) => {
             let factor = unit.map(|u| u.to_si_factor());
-            let table = r.table("concentrations", v)?;
+            let table = r.table(conc_key, v)?;
             let values = named_values(r, table, |r, name, value| {
                 let x = concentration(r, name, value, factor)?;
                 if x.is_nan() || x.is_infinite() || x < 0.0 {
                     r.error(
                         value.span().start,
                         format!(
-                            "initial concentration of `{name}` is {}; it must be finite and not negative",
+                            "{what} of `{name}` is {}; it must be finite and not negative",
                             show_number(x)
                         ),
                         None,
@@ -451,18 +469,18 @@ pub(crate) fn read_initial(
             if let Some(unit_value) = t.get("concentration_unit") {
                 r.warning(
                     unit_value.span().start,
-                    "`concentration_unit` in [initial] is ignored with `mole_fractions`",
+                    format!("`concentration_unit` in [{section_name}] is ignored with `{frac_key}`"),
                     None,
                 );
             }
             if !pressure_given {
                 r.error(
                     key.span().start,
-                    "`mole_fractions` need `pressure` in [reactor] (c_i = x_i P / (R T))",
+                    format!("`{frac_key}` need `pressure` in [reactor] (c_i = x_i P / (R T))"),
                     Some("e.g. pressure = \"1 atm\"".to_string()),
                 );
             }
-            let table = r.table("mole_fractions", v)?;
+            let table = r.table(frac_key, v)?;
             let values = named_values(r, table, |r, name, value| {
                 let x = r.number(name, value)?;
                 if !(0.0..=1.0).contains(&x) {
@@ -491,6 +509,202 @@ pub(crate) fn read_initial(
             values.map(InitialState::MoleFractions)
         }
     }
+}
+
+/// How the feed rate of a stirred tank is given.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum FeedRate {
+    /// Residence time V / q (s).
+    ResidenceTime(f64),
+    /// Volumetric feed (m3/s) into a tank of the given volume (m3).
+    Volumetric { m3_per_s: f64, volume_m3: f64 },
+    /// Mass feed (kg/s) into a tank of the given volume (m3); the volumetric rate follows from
+    /// the feed's density.
+    Mass { kg_per_s: f64, volume_m3: f64 },
+}
+
+/// What `[flow]` says: the feed of a continuous stirred tank.
+#[derive(Debug, Clone)]
+pub(crate) struct FlowSpec {
+    pub(crate) rate: FeedRate,
+    /// Inlet temperature (K); `None` for the reactor's temperature.
+    pub(crate) inlet_temperature_k: Option<f64>,
+    pub(crate) inlet: InitialState,
+    /// Where `[flow]` is (diagnostics of the resolution point there).
+    pub(crate) at: SourceLocation,
+}
+
+const FLOW_KEYS: &[&str] = &[
+    "residence_time",
+    "volumetric_flow",
+    "mass_flow",
+    "volume",
+    "inlet_temperature",
+    "inlet_concentrations",
+    "inlet_mole_fractions",
+    "concentration_unit",
+];
+/// Units of a volumetric flow.
+const VOLUMETRIC_FLOW_UNITS: &[&str] = &["m3/s", "L/s", "L/min", "mL/min", "m3/h"];
+/// Units of a mass flow.
+const MASS_FLOW_UNITS: &[&str] = &["kg/s", "g/s", "kg/h"];
+
+fn volumetric_flow_to_m3_per_s(value: f64, unit: &str) -> Option<f64> {
+    let factor = match unit {
+        "m3/s" => 1.0,
+        "L/s" => 1e-3,
+        "L/min" => 1e-3 / 60.0,
+        "mL/min" => 1e-6 / 60.0,
+        "m3/h" => 1.0 / 3600.0,
+        _ => return None,
+    };
+    Some(value * factor)
+}
+
+fn mass_flow_to_kg_per_s(value: f64, unit: &str) -> Option<f64> {
+    let factor = match unit {
+        "kg/s" => 1.0,
+        "g/s" => 1e-3,
+        "kg/h" => 1.0 / 3600.0,
+        _ => return None,
+    };
+    Some(value * factor)
+}
+
+/// Reads `[flow]` (absent: a closed reactor, `Some(None)`); `None` when it could not be read.
+pub(crate) fn read_flow(
+    r: &mut Report<'_>,
+    root: &DeTable<'_>,
+    pressure_given: bool,
+) -> Option<Option<FlowSpec>> {
+    if !root.contains_key("flow") {
+        return Some(None);
+    }
+    let at = root.get("flow").map(|v| v.span().start).unwrap_or(0);
+    let t = section(r, root, "flow", FLOW_KEYS)?;
+    let positive = |r: &mut Report<'_>, key: &str, unit: &str, convert: Converter, units| {
+        let v = t.get(key)?;
+        let x = quantity(r, key, v, unit, convert, units)?;
+        require_positive(r, key, v, x)
+    };
+    let hint = "e.g. residence_time = \"2 s\", or volumetric_flow = \"0.5 L/min\" with volume = \"2 L\"";
+    let given: Vec<&str> = ["residence_time", "volumetric_flow", "mass_flow"]
+        .into_iter()
+        .filter(|k| t.contains_key(*k))
+        .collect();
+    let volume = if t.contains_key("volume") {
+        positive(r, "volume", "m3", volume_to_m3, VOLUME_UNITS)
+    } else {
+        None
+    };
+    let rate = match given.as_slice() {
+        ["residence_time"] => {
+            if let Some(v) = t.get("volume") {
+                r.warning(
+                    v.span().start,
+                    "`volume` in [flow] is not used with `residence_time`",
+                    None,
+                );
+            }
+            positive(r, "residence_time", "s", time_to_s, SCENARIO_TIME_UNITS)
+                .map(FeedRate::ResidenceTime)
+        }
+        [key] => {
+            let rate = if *key == "volumetric_flow" {
+                positive(
+                    r,
+                    key,
+                    "m3/s",
+                    volumetric_flow_to_m3_per_s,
+                    VOLUMETRIC_FLOW_UNITS,
+                )
+            } else {
+                positive(r, key, "kg/s", mass_flow_to_kg_per_s, MASS_FLOW_UNITS)
+            };
+            if !t.contains_key("volume") {
+                r.error(
+                    at,
+                    format!("`{key}` in [flow] needs the tank's `volume`"),
+                    Some("e.g. volume = \"2 L\"".to_string()),
+                );
+            }
+            match (rate, volume) {
+                (Some(q), Some(v)) if *key == "volumetric_flow" => Some(FeedRate::Volumetric {
+                    m3_per_s: q,
+                    volume_m3: v,
+                }),
+                (Some(m), Some(v)) => Some(FeedRate::Mass {
+                    kg_per_s: m,
+                    volume_m3: v,
+                }),
+                _ => None,
+            }
+        }
+        [] => {
+            r.error(
+                at,
+                "[flow] needs the feed rate: `residence_time`, `volumetric_flow` or `mass_flow`",
+                Some(hint.to_string()),
+            );
+            None
+        }
+        _ => {
+            let second = t.get(given[1]).map_or(at, |v| v.span().start);
+            r.error(
+                second,
+                format!(
+                    "give one feed rate in [flow], not {}",
+                    given
+                        .iter()
+                        .map(|k| format!("`{k}`"))
+                        .collect::<Vec<_>>()
+                        .join(" and ")
+                ),
+                None,
+            );
+            None
+        }
+    };
+    let inlet_temperature_k = match t.get("inlet_temperature") {
+        None => Some(None),
+        Some(v) => quantity(
+            r,
+            "inlet_temperature",
+            v,
+            "K",
+            temperature_to_k,
+            TEMPERATURE_UNITS,
+        )
+        .and_then(|x| {
+            require_in_range(
+                r,
+                "inlet_temperature",
+                v.span().start,
+                x,
+                TEMPERATURE_RANGE_K,
+                "K",
+            )
+        })
+        .map(Some),
+    };
+    let inlet = read_composition(
+        r,
+        t,
+        at,
+        [
+            "flow",
+            "inlet_concentrations",
+            "inlet_mole_fractions",
+            "inlet concentration",
+        ],
+        pressure_given,
+    );
+    Some(Some(FlowSpec {
+        rate: rate?,
+        inlet_temperature_k: inlet_temperature_k?,
+        inlet: inlet?,
+        at: r.location(at),
+    }))
 }
 
 /// What `[output]` says.

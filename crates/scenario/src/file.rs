@@ -371,7 +371,7 @@ pub(crate) enum Thermal {
 }
 
 /// The reactor kinds as written in files, with their meaning.
-const KINDS: [(&str, Constraint, Thermal); 7] = [
+const KINDS: [(&str, Constraint, Thermal); 8] = [
     (
         "isothermal-constant-volume",
         Constraint::ConstantVolume,

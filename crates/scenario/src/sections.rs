@@ -524,7 +524,7 @@ pub(crate) enum FeedRate {
 }
 
 /// What `[flow]` says: the feed of a continuous stirred tank.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub(crate) struct FlowSpec {
     pub(crate) rate: FeedRate,
     /// Inlet temperature (K); `None` for the reactor's temperature.

@@ -396,6 +396,19 @@ fn describe_reactor(plan: &RunPlan) -> String {
         Constraint::ConstantVolume => "constant volume",
     };
     let t = plan.temperature_k();
+    match &model.flow {
+        None => describe_energy(model, held, t),
+        Some(flow) => format!(
+            "stirred tank, {}; residence time {} s, feed at {} K",
+            describe_energy(model, held, t),
+            flow.residence_time_s(),
+            flow.inlet_temperature_k()
+        ),
+    }
+}
+
+/// The temperature law of `model` with what it holds (`held`) and its temperature `t` (K).
+fn describe_energy(model: &stoik::reactor::ReactorModel, held: &str, t: f64) -> String {
     match &model.energy {
         Energy::Isothermal => format!("isothermal {held} at {t} K"),
         Energy::Adiabatic => format!("adiabatic {held}, starting at {t} K"),

@@ -345,7 +345,7 @@ def main() -> int:
         "flux": (["flux", SCENARIO, "--element", "H", "--time", "2.2e-4", "--report", "flux.html"], 1, 3),
         # The bar chart, the concentrations and the temperature; Sensitivities, Profiles of the
         # run, Summary.
-        "sensitivity": (["sensitivity", SCENARIO, "--of", "ignition-delay", "--top", "8",
+        "sensitivity": (["sensitivity", SCENARIO, "--of", "ignition-delay", "--top", "6",
                          "--report", "sensitivity.html"], 3, 3),
     }
     for name, (argv, _, _) in reports.items():

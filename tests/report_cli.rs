@@ -392,14 +392,20 @@ fn sensitivity_report_ranks_the_steps_as_the_csv_does_with_chart_and_profiles() 
     }
     // The CSV's ranking: rank,step,equation,normalized,derivative,unit,value.
     let csv = std::fs::read_to_string(dir.join("s.csv")).unwrap();
-    let ranked: Vec<Vec<&str>> = csv.lines().skip(1).map(|l| l.split(',').collect()).collect();
+    let ranked: Vec<Vec<&str>> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').collect())
+        .collect();
     assert_eq!(ranked.len(), 13, "every step of the demo");
     // The table rows carry the steps in the CSV's order and, in their title attributes,
     // the CSV's full-precision numbers (normalized, derivative) exactly.
     let mut at = 0;
     for row in &ranked {
         let cell = format!("<td>{}</td>", row[1]);
-        let found = html[at..].find(&cell).unwrap_or_else(|| panic!("{} out of order", row[1]));
+        let found = html[at..]
+            .find(&cell)
+            .unwrap_or_else(|| panic!("{} out of order", row[1]));
         at += found + cell.len();
     }
     let expected: Vec<&str> = ranked.iter().flat_map(|r| [r[3], r[4]]).collect();
@@ -433,10 +439,7 @@ fn sensitivity_report_ranks_the_steps_as_the_csv_does_with_chart_and_profiles() 
         .map(|t| t.trim().to_string())
         .filter(|t| t.starts_with('R') && t[1..].starts_with(|c: char| c.is_ascii_digit()))
         .collect();
-    let expected: Vec<String> = top
-        .iter()
-        .map(|r| format!("{} {}", r[1], r[2]))
-        .collect();
+    let expected: Vec<String> = top.iter().map(|r| format!("{} {}", r[1], r[2])).collect();
     assert_eq!(labels, expected);
     // The page's chart is the same drawing.
     assert!(html.contains(svg[svg.find("<svg").unwrap()..].trim_end()));
@@ -450,7 +453,14 @@ fn sensitivity_of_a_first_order_product_matches_the_closed_form() {
     let dir = scratch("sensitivity-closed-form");
     let scenario = hostile(&dir);
     let out = stoik(
-        &["sensitivity", &scenario, "--of", "final:B\"'", "--report", "b.html"],
+        &[
+            "sensitivity",
+            &scenario,
+            "--of",
+            "final:B\"'",
+            "--report",
+            "b.html",
+        ],
         &dir,
     );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));

@@ -10,9 +10,7 @@ use crate::error::CliError;
 use crate::out_file::write_text;
 use crate::run::RunText;
 use std::path::Path;
-use stoik::analysis::{
-    species_budget, Contribution, FluxGraph, ObservableSensitivity, StepRates,
-};
+use stoik::analysis::{species_budget, Contribution, FluxGraph, ObservableSensitivity, StepRates};
 use stoik::mechanism::Mechanism;
 use stoik::plot::{
     bar_chart_svg, flux_graph_svg, largest_series, profile_svg, AxisScale, HtmlReport, PlotError,
@@ -116,8 +114,7 @@ pub fn profile_figures(
         return Ok(None);
     }
     let n = mechanism.species.len();
-    let (columns, value_axis, quantity): (Vec<Vec<f64>>, String, &str) = if choice.mole_fractions
-    {
+    let (columns, value_axis, quantity): (Vec<Vec<f64>>, String, &str) = if choice.mole_fractions {
         let fractions: Vec<Option<Vec<f64>>> = (0..rows.len())
             .map(|r| profiles.mole_fractions(r))
             .collect();
@@ -125,7 +122,12 @@ pub fn profile_figures(
             .map(|i| {
                 fractions
                     .iter()
-                    .map(|x| x.as_ref().and_then(|x| x.get(i)).copied().unwrap_or(f64::NAN))
+                    .map(|x| {
+                        x.as_ref()
+                            .and_then(|x| x.get(i))
+                            .copied()
+                            .unwrap_or(f64::NAN)
+                    })
                     .collect()
             })
             .collect();
@@ -418,7 +420,11 @@ pub fn sensitivity_page(
 ) -> Result<HtmlReport, CliError> {
     let mechanism = plan.mechanism();
     let observable = result.observable.describe(mechanism);
-    let title = plan.scenario().title.as_deref().unwrap_or("stoik sensitivity");
+    let title = plan
+        .scenario()
+        .title
+        .as_deref()
+        .unwrap_or("stoik sensitivity");
     let mut report = page(
         &format!("{title}: sensitivity of the {observable}"),
         scenario,

@@ -509,6 +509,26 @@ fn sensitivity_outputs_are_checked_before_the_run() {
         assert!(err.contains(flag) && err.contains(reason), "{err}");
         assert!(!dir.join("same").exists() && !dir.join("c.csv").exists());
     }
+    // No bar to draw: refused before the run, nothing written.
+    let out = stoik(
+        &[
+            "sensitivity",
+            &scenario,
+            "--of",
+            "final:B\"'",
+            "--top",
+            "0",
+            "--csv",
+            "c.csv",
+            "--svg",
+            "z.svg",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("--top 0 leaves no bar to draw"));
+    assert!(text(&out.stdout).is_empty());
+    assert!(!dir.join("c.csv").exists() && !dir.join("z.svg").exists());
 }
 
 /// The `[mole fraction]` columns of a run's CSV.

@@ -98,6 +98,11 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
     if let Some(report) = &args.report {
         outputs.output("--report", report)?;
     }
+    if args.top == 0 && (args.svg.is_some() || args.report.is_some()) {
+        return Err(CliError::BadFlag(
+            "--top 0 leaves no bar to draw for --svg/--report; give --top 1 or more".into(),
+        ));
+    }
     let choice = ProfileChoice {
         species: report_species(&args.report_species, &mechanism)?,
         mole_fractions: args.report_mole_fractions,

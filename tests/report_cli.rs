@@ -1,4 +1,5 @@
-//! `--report FILE.html` of the real binary's `run`, `rates` and `flux`: the sections of each
+//! `--report FILE.html` of the real binary's `run`, `rates`, `flux` and `sensitivity` (and
+//! `sensitivity --svg`): the sections of each
 //! page, a page with nothing fetched from outside, hostile names escaped, a report path
 //! onto an input refused. The numbers shown are the library's (tested against outside
 //! sources in their own crates); here the page's content is checked against what the
@@ -191,6 +192,14 @@ fn hostile_names_are_escaped_on_every_page() {
             "--report",
             "rates.html",
         ],
+        vec![
+            "sensitivity",
+            &scenario,
+            "--of",
+            "final:<i>A&amp;",
+            "--report",
+            "sens.html",
+        ],
     ] {
         let out = stoik(&args, &dir);
         assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
@@ -331,4 +340,260 @@ fn a_failed_run_still_writes_its_report_with_the_partial_profile() {
     assert!(html
         .contains("the run FAILED; its profiles stop at the failure: integration failed at t = "));
     assert_eq!(html.matches("<svg").count(), 2);
+}
+
+/// The cells of the `<td ... title="...">` attributes of `html`, in page order.
+fn titles(html: &str) -> Vec<&str> {
+    html.split("<td")
+        .skip(1)
+        .filter_map(|cell| {
+            let head = &cell[..cell.find('>')?];
+            let start = head.find("title=\"")? + "title=\"".len();
+            let len = head[start..].find('"')?;
+            Some(&head[start..start + len])
+        })
+        .collect()
+}
+
+#[test]
+fn sensitivity_report_ranks_the_steps_as_the_csv_does_with_chart_and_profiles() {
+    let dir = scratch("sensitivity");
+    let out = stoik(
+        &[
+            "sensitivity",
+            &demo(),
+            "--of",
+            "ignition-delay",
+            "--top",
+            "6",
+            "--csv",
+            "s.csv",
+            "--svg",
+            "s.svg",
+            "--report",
+            "s.html",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let stdout = text(&out.stdout);
+    assert!(stdout.contains("wrote s.svg") && stdout.contains("wrote s.html"));
+    let html = std::fs::read_to_string(dir.join("s.html")).unwrap();
+    self_contained(&html);
+    for section in ["Sensitivities", "Profiles of the run", "Summary"] {
+        assert!(html.contains(&format!("<h2>{section}</h2>")), "{section}");
+    }
+    // The bar chart, the concentrations and the temperature.
+    assert_eq!(html.matches("<svg").count(), 3);
+    // The ignition caution of the run is in the summary.
+    assert!(html.contains("CAUTION: ignition or thermal runaway detected"));
+    for line in stdout.lines().filter(|l| !l.starts_with("wrote")) {
+        assert!(html.contains(&stoik::plot::escape(line)), "missing: {line}");
+    }
+    // The CSV's ranking: rank,step,equation,normalized,derivative,unit,value.
+    let csv = std::fs::read_to_string(dir.join("s.csv")).unwrap();
+    let ranked: Vec<Vec<&str>> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').collect())
+        .collect();
+    assert_eq!(ranked.len(), 13, "every step of the demo");
+    // The table rows carry the steps in the CSV's order and, in their title attributes,
+    // the CSV's full-precision numbers (normalized, derivative) exactly.
+    let mut at = 0;
+    for row in &ranked {
+        let cell = format!("<td>{}</td>", row[1]);
+        let found = html[at..]
+            .find(&cell)
+            .unwrap_or_else(|| panic!("{} out of order", row[1]));
+        at += found + cell.len();
+    }
+    let expected: Vec<&str> = ranked.iter().flat_map(|r| [r[3], r[4]]).collect();
+    assert_eq!(titles(&html), expected);
+    // The --svg chart: well-formed, one bar per ranked step shown (the --top 6), in the
+    // CSV's order, each bar's colour the sign of its coefficient.
+    let svg = std::fs::read_to_string(dir.join("s.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&svg).expect("well-formed SVG");
+    assert_eq!(doc.root_element().tag_name().name(), "svg");
+    let positive = stoik::plot::color_hex(stoik::plot::POSITIVE_COLOR);
+    let negative = stoik::plot::color_hex(stoik::plot::NEGATIVE_COLOR);
+    let bars: Vec<bool> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("rect"))
+        .filter_map(|n| match n.attribute("fill") {
+            Some(f) if f == positive => Some(false),
+            Some(f) if f == negative => Some(true),
+            _ => None,
+        })
+        .collect();
+    let top: Vec<&Vec<&str>> = ranked.iter().take(6).collect();
+    let signs: Vec<bool> = top
+        .iter()
+        .map(|r| r[3].parse::<f64>().unwrap() < 0.0)
+        .collect();
+    assert_eq!(bars, signs);
+    let labels: Vec<String> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("text"))
+        .filter_map(|n| n.text())
+        .map(|t| t.trim().to_string())
+        .filter(|t| t.starts_with('R') && t[1..].starts_with(|c: char| c.is_ascii_digit()))
+        .collect();
+    let expected: Vec<String> = top.iter().map(|r| format!("{} {}", r[1], r[2])).collect();
+    assert_eq!(labels, expected);
+    // The page's chart is the same drawing.
+    assert!(html.contains(svg[svg.find("<svg").unwrap()..].trim_end()));
+}
+
+#[test]
+fn sensitivity_of_a_first_order_product_matches_the_closed_form() {
+    // A -> B, k = 2.5 /s, B(0) = 0: B(t) = A0 (1 - e^{-kt}) (the integrated first-order rate
+    // law, Atkins' Physical Chemistry), so d ln B/d ln k = k t e^{-kt} / (1 - e^{-kt}); at
+    // t = 2 s, kt = 5.
+    let dir = scratch("sensitivity-closed-form");
+    let scenario = hostile(&dir);
+    let out = stoik(
+        &[
+            "sensitivity",
+            &scenario,
+            "--of",
+            "final:B\"'",
+            "--report",
+            "b.html",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let html = std::fs::read_to_string(dir.join("b.html")).unwrap();
+    self_contained(&html);
+    let kt: f64 = 5.0;
+    let exact = kt * (-kt).exp() / (1.0 - (-kt).exp());
+    let shown: f64 = titles(&html)[0].parse().unwrap();
+    assert!(
+        (shown - exact).abs() < 1e-4 * exact,
+        "{shown} against {exact}"
+    );
+}
+
+#[test]
+fn sensitivity_outputs_are_checked_before_the_run() {
+    let dir = scratch("sensitivity-outputs");
+    let scenario = hostile(&dir);
+    for (args, flag, reason) in [
+        (
+            vec!["--svg", "m&<x>.toml"],
+            "--svg",
+            "refusing to overwrite an input",
+        ),
+        (
+            vec!["--report", "s<&>.scenario.toml"],
+            "--report",
+            "refusing to overwrite an input",
+        ),
+        (
+            vec!["--svg", "same", "--report", "./same"],
+            "--report",
+            "outputs must be distinct",
+        ),
+        (
+            vec!["--csv", "c.csv", "--report", "c.csv"],
+            "--report",
+            "outputs must be distinct",
+        ),
+    ] {
+        let mut argv = vec!["sensitivity", &scenario, "--of", "final:B\"'"];
+        argv.extend(args);
+        let out = stoik(&argv, &dir);
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{err}");
+        assert!(err.contains(flag) && err.contains(reason), "{err}");
+        assert!(!dir.join("same").exists() && !dir.join("c.csv").exists());
+    }
+    // No bar to draw: refused before the run, nothing written.
+    let out = stoik(
+        &[
+            "sensitivity",
+            &scenario,
+            "--of",
+            "final:B\"'",
+            "--top",
+            "0",
+            "--csv",
+            "c.csv",
+            "--svg",
+            "z.svg",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("--top 0 leaves no bar to draw"));
+    assert!(text(&out.stdout).is_empty());
+    assert!(!dir.join("c.csv").exists() && !dir.join("z.svg").exists());
+}
+
+/// The `[mole fraction]` columns of a run's CSV.
+fn mole_fraction_columns(csv: &common::Table) -> Vec<(String, Vec<f64>)> {
+    csv.header
+        .iter()
+        .enumerate()
+        .filter_map(|(k, h)| {
+            let name = h.strip_suffix(" [mole fraction]")?;
+            Some((name.to_string(), csv.rows.iter().map(|r| r[k]).collect()))
+        })
+        .collect()
+}
+
+#[test]
+fn mole_fraction_plots_have_their_axis_and_scale() {
+    // The hydrogen demo: mole fractions from 0.85 (AR) down to radicals near 1e-6 and less,
+    // so the axis is logarithmic; the plotted species are the 8 of largest peak mole
+    // fraction in the CSV.
+    let dir = scratch("mole-fractions");
+    let out = stoik(
+        &[
+            "run",
+            &demo(),
+            "-o",
+            "x.csv",
+            "--report",
+            "x.html",
+            "--report-mole-fractions",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let html = std::fs::read_to_string(dir.join("x.html")).unwrap();
+    self_contained(&html);
+    assert!(html.contains("mole fraction [-] (log scale)"));
+    assert!(!html.contains("concentration [mol/m3]"));
+    assert!(html.contains("The 8 species of largest peak mole fraction"));
+    let csv = common::Table::read(&dir.join("x.csv"));
+    let mut columns = mole_fraction_columns(&csv);
+    columns.sort_by(|a, b| {
+        let peak = |c: &[f64]| c.iter().copied().fold(f64::MIN, f64::max);
+        peak(&b.1).total_cmp(&peak(&a.1))
+    });
+    for (name, _) in &columns[..8] {
+        assert!(html.contains(&format!(">\n{name}\n</text>")), "{name}");
+    }
+    assert!(!html.contains(&format!(">\n{}\n</text>", columns[8].0)));
+    // A -> B over 2 s at k = 2.5 /s: mole fractions between 0.0067 and 1 (A = e^{-kt} of
+    // the total, B the rest), less than three decades: a linear axis.
+    let scenario = hostile(&dir);
+    let out = stoik(
+        &[
+            "sensitivity",
+            &scenario,
+            "--of",
+            "final:B\"'",
+            "--report",
+            "ab.html",
+            "--report-mole-fractions",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let html = std::fs::read_to_string(dir.join("ab.html")).unwrap();
+    assert!(html.contains("mole fraction [-]"));
+    assert!(!html.contains("mole fraction [-] (log scale)"));
 }

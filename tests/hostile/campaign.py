@@ -55,7 +55,7 @@ alias      Output paths equal to an input, spelled as given, with ./, through su
            absolute path and through a symlink: run -o the scenario, the mechanism, the thermo
            file (with a run that succeeds and one that fails with exit 3), run --report onto
            the scenario, the mechanism and the thermo file; rates --csv/--report and flux
-           --dot/--svg/--report onto them; fit-thermo TABLE -o
+           --dot/--svg/--report and sensitivity --svg/--report onto them; fit-thermo TABLE -o
            TABLE; fit-rate d.csv --svg d.csv / --snippet d.csv; a mechanism file named like
            the CSV that run or batch will write; fit-rate --snippet s.toml --svg no/dir/p.svg.
 collide    Outputs whose names collide: batch a/x.scenario.toml b/x.scenario.toml, the same
@@ -734,13 +734,15 @@ class Gen:
                          outputs={a: None for a, b in specials2 if b.startswith("symlink:")},
                          locus=("output",), flags=("-o", "--output", out, target),
                          note=f"suite record -o the {kind} ({label})")
-        # rates and flux outputs onto their inputs
+        # rates, flux and sensitivity outputs onto their inputs
         for flag_args in (["rates", ho, "--species", "OH", "--times", "1e-4", "--csv"],
                           ["flux", ho, "--element", "H", "--time", "1e-4", "--dot"],
                           ["flux", ho, "--element", "H", "--time", "1e-4", "--svg"],
                           ["rates", ho, "--species", "OH", "--times", "1e-4", "--report"],
                           ["flux", ho, "--element", "H", "--time", "1e-4", "--report"],
-                          ["run", ho, "-o", "ok.csv", "--report"]):
+                          ["run", ho, "-o", "ok.csv", "--report"],
+                          ["sensitivity", ho, "--of", "ignition-delay", "--svg"],
+                          ["sensitivity", ho, "--of", "ignition-delay", "--report"]):
             for target, kind in ((ho, "scenario"), ("hydrogen-oxygen.toml", "mechanism"),
                                  ("thermo/janaf-nasa7.toml", "thermo")):
                 for label, spell, specials in spellings:

@@ -4,8 +4,8 @@
 Usage:
     python3 tests/report/check_report.py BINARY [--chromium PATH] [--keep-docs]
 
-For each of the three reports (`stoik run`, `rates` and `flux` on the bundled hydrogen-oxygen
-demo, written into a temporary folder) the script drives chromium through its DevTools
+For each of the four reports (`stoik run`, `rates`, `flux` and `sensitivity` on the bundled
+hydrogen-oxygen demo, written into a temporary folder) the script drives chromium through its DevTools
 protocol (a WebSocket client written here with the Python standard library only) and
 checks that:
   - the page loads with no console error, no uncaught exception and no browser log entry
@@ -22,7 +22,8 @@ an uncaught exception and an external image must give findings, and a blank page
 fail the screenshot test; otherwise the checks above could not fail.
 
 With --keep-docs the run report and its screenshot are kept as docs/example-report.html and
-docs/report-screenshot.png. Exit status 0: every check passed; 1: a finding; 2: the browser
+docs/report-screenshot.png, the sensitivity report and its screenshot as
+docs/example-sensitivity-report.html and docs/sensitivity-report-screenshot.png. Exit status 0: every check passed; 1: a finding; 2: the browser
 could not be started or driven.
 """
 
@@ -342,6 +343,10 @@ def main() -> int:
         "rates": (["rates", SCENARIO, "--species", "OH,H2O", "--times", "2.2e-4", "--top", "4",
                    "--report", "rates.html"], 2, 3),
         "flux": (["flux", SCENARIO, "--element", "H", "--time", "2.2e-4", "--report", "flux.html"], 1, 3),
+        # The bar chart, the concentrations and the temperature; Sensitivities, Profiles of the
+        # run, Summary.
+        "sensitivity": (["sensitivity", SCENARIO, "--of", "ignition-delay", "--top", "6",
+                         "--report", "sensitivity.html"], 3, 3),
     }
     for name, (argv, _, _) in reports.items():
         done = subprocess.run([binary, *argv], cwd=tmp, capture_output=True, text=True)
@@ -370,9 +375,11 @@ def main() -> int:
             failures += [f"{name}: {r}" for r in blank_reasons(png)]
             print(f"{name}: {facts['svgs']} figures, {facts['sections']} sections, title {facts['title']!r}, "
                   f"{len(page.events)} browser events")
-            if args.keep_docs and name == "run":
-                (ROOT / "docs" / "report-screenshot.png").write_bytes(png)
-                shutil.copyfile(path, ROOT / "docs" / "example-report.html")
+            kept = {"run": ("report-screenshot.png", "example-report.html"),
+                    "sensitivity": ("sensitivity-report-screenshot.png", "example-sensitivity-report.html")}
+            if args.keep_docs and name in kept:
+                (ROOT / "docs" / kept[name][0]).write_bytes(png)
+                shutil.copyfile(path, ROOT / "docs" / kept[name][1])
     except (OSError, RuntimeError, ConnectionError, TimeoutError) as e:
         print(f"ERROR: driving the browser failed: {e}")
         return 2

@@ -31,6 +31,8 @@ pub fn escape(text: &str) -> String {
 pub struct Table {
     headers: Vec<String>,
     rows: Vec<Vec<String>>,
+    /// Per row, per cell: a `title` attribute (shown on hover), empty for none.
+    titles: Vec<Vec<String>>,
 }
 
 impl Table {
@@ -39,12 +41,22 @@ impl Table {
         Table {
             headers: headers.iter().map(|h| h.as_ref().to_string()).collect(),
             rows: Vec::new(),
+            titles: Vec::new(),
         }
     }
 
     /// Appends a row (plain text cells; fewer cells than headers leave the rest empty).
     pub fn row(&mut self, cells: Vec<String>) {
         self.rows.push(cells);
+        self.titles.push(Vec::new());
+    }
+
+    /// Appends a row whose cells carry `title` attributes (escaped; an empty title gives
+    /// none): e.g. a number shown rounded with its full-precision form in the title, which
+    /// browsers show on hover and scripts can read.
+    pub fn row_with_titles(&mut self, cells: Vec<String>, titles: Vec<String>) {
+        self.rows.push(cells);
+        self.titles.push(titles);
     }
 
     /// Number of rows.
@@ -64,17 +76,18 @@ impl Table {
             let _ = write!(out, "<th>{}</th>", escape(h));
         }
         out.push_str("</tr></thead>\n<tbody>\n");
-        for row in &self.rows {
+        for (r, row) in self.rows.iter().enumerate() {
             out.push_str("<tr>");
             for k in 0..self.headers.len().max(row.len()) {
                 let cell = row.get(k).map_or("", String::as_str);
                 let numeric =
                     !cell.is_empty() && cell.trim_end_matches([' ', '%']).parse::<f64>().is_ok();
-                if numeric {
-                    let _ = write!(out, "<td class=\"num\">{}</td>", escape(cell));
-                } else {
-                    let _ = write!(out, "<td>{}</td>", escape(cell));
-                }
+                let class = if numeric { " class=\"num\"" } else { "" };
+                let title = match self.titles.get(r).and_then(|t| t.get(k)) {
+                    Some(t) if !t.is_empty() => format!(" title=\"{}\"", escape(t)),
+                    _ => String::new(),
+                };
+                let _ = write!(out, "<td{class}{title}>{}</td>", escape(cell));
             }
             out.push_str("</tr>\n");
         }
@@ -173,6 +186,20 @@ impl HtmlReport {
     /// sensitivities (ranked table + bar chart).
     pub fn table_and_chart_section(&mut self, title: &str, intro: &str, table: &Table, svg: &str) {
         self.table_and_charts_section(title, intro, table, &[svg]);
+    }
+
+    /// A ranked-quantity section with the chart first: a title, an optional introduction
+    /// (escaped), the chart (an SVG document, e.g. from [`crate::bar_chart_svg`]) and the
+    /// table under it. The local-sensitivity page uses it, so that the ranking is what the
+    /// page opens on and the table with every number follows.
+    pub fn chart_and_table_section(&mut self, title: &str, intro: &str, svg: &str, table: &Table) {
+        let mut body = String::new();
+        if !intro.is_empty() {
+            let _ = writeln!(body, "<p>{}</p>", escape(intro));
+        }
+        let _ = writeln!(body, "<figure>\n{}\n</figure>", inline_svg(svg));
+        body.push_str(&table.to_html());
+        self.push(title, body);
     }
 
     /// Like [`HtmlReport::table_and_chart_section`] with any number of charts (none: the

@@ -393,6 +393,38 @@ fn the_report_page_escapes_every_text_and_holds_its_sections() {
 }
 
 #[test]
+fn chart_first_sections_put_the_figure_above_the_table_and_escape_cell_titles() {
+    let hostile = "\"><script>x</script>";
+    let mut table = Table::new(&["step", "S"]);
+    table.row_with_titles(
+        vec!["R1".to_string(), "-8.2571e-1".to_string()],
+        vec![String::new(), hostile.to_string()],
+    );
+    table.row_with_titles(
+        vec!["R2".to_string(), "1.5e-3".to_string()],
+        vec![String::new(), "1.5000000000000002e-3".to_string()],
+    );
+    let svg = bar_chart_svg(
+        "t",
+        "v",
+        &[("R1".to_string(), -0.8), ("R2".to_string(), 1.5e-3)],
+    )
+    .expect("drawn");
+    let mut report = HtmlReport::new("page");
+    report.chart_and_table_section("Sensitivities", "ranked", &svg, &table);
+    let html = report.render();
+    assert!(html.find("<figure>").unwrap() < html.find("<table>").unwrap());
+    assert!(
+        !html.contains("<script"),
+        "a title broke out of its attribute"
+    );
+    assert!(html.contains(&format!("<td class=\"num\" title=\"{}\">", escape(hostile))));
+    assert!(html.contains("<td class=\"num\" title=\"1.5000000000000002e-3\">1.5e-3</td>"));
+    // A cell with an empty title has no attribute.
+    assert_eq!(html.matches("<td>R").count(), 2);
+}
+
+#[test]
 fn a_long_profile_is_thinned_to_the_plot_resolution() {
     // 200,001 rows of first-order decay c = c0 exp(-k t) with k = 3 1/s over 2 s: the line
     // keeps its ends and at most four points per 1/1500 of the time axis.

@@ -50,7 +50,7 @@ enum Command {
     },
     /// Run a scenario: integrate its mechanism and write concentration profiles as CSV.
     #[command(
-        after_help = "Examples:\n  stoik run mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/hires.scenario.toml --output hires.csv --rtol 1e-10\n  stoik run mechanisms/ozone-flask.scenario.toml --temperature-k 650 --end-time-s 0.5\n  stoik run mechanisms/hydrogen-oxygen.scenario.toml --report h2.html"
+        after_help = "Examples:\n  stoik run mechanisms/ozone-flask.scenario.toml\n  stoik run mechanisms/hires.scenario.toml --output hires.csv --rtol 1e-10\n  stoik run mechanisms/ozone-flask.scenario.toml --temperature-k 650 --end-time-s 0.5\n  stoik run mechanisms/hydrogen-oxygen.scenario.toml --report h2.html --report-mole-fractions\n\nThe report of a run shows its profiles and summary; ranked sensitivities, rates of production and\nthe flux graph have their own reports: stoik sensitivity|rates|flux ... --report FILE.html."
     )]
     Run(RunArgs),
     /// Run many scenarios in parallel, each mechanism compiled once; one CSV per run.
@@ -96,7 +96,7 @@ enum Command {
     /// Which rate constants matter: the local sensitivity of an observable (ignition delay,
     /// a final or peak value, a peak time) to the rate constant of every step, ranked.
     #[command(
-        after_help = "Examples:\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of ignition-delay\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of peak:OH --method adjoint --top 5 --csv oh.csv\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of final:H2O --steps R1,R3 --profile-csv profile.csv\n\nThe parameter of a step is ln k of its forward rate constant (both falloff limits together; a reverse\nrate constant from thermochemistry follows it, explicit reverse parameters stay). The table ranks\nd ln G/d ln k, the relative change of the observable per relative change of k.\nExit status: 0 success, 2 bad input, 3 integration failure."
+        after_help = "Examples:\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of ignition-delay\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of peak:OH --method adjoint --top 5 --csv oh.csv\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of final:H2O --steps R1,R3 --profile-csv profile.csv\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of ignition-delay --top 8 --svg delay.svg --report delay.html\n\nThe parameter of a step is ln k of its forward rate constant (both falloff limits together; a reverse\nrate constant from thermochemistry follows it, explicit reverse parameters stay). The table ranks\nd ln G/d ln k, the relative change of the observable per relative change of k.\nExit status: 0 success, 2 bad input, 3 integration failure."
     )]
     Sensitivity(SensitivityArgs),
     /// Regression suites: record trusted predictions of scenario runs in a baseline, then
@@ -205,6 +205,20 @@ pub struct SensitivityArgs {
     /// CSV file (forward method).
     #[arg(long)]
     pub profile_csv: Option<PathBuf>,
+    /// Write the ranked sensitivities (the --top largest) as a bar chart, SVG, to this file.
+    #[arg(long, value_name = "FILE.svg")]
+    pub svg: Option<PathBuf>,
+    /// Write a self-contained HTML report (the ranked sensitivities as a bar chart and a
+    /// table, the run's profiles and summary) to this file.
+    #[arg(long, value_name = "FILE.html")]
+    pub report: Option<PathBuf>,
+    /// Species plotted in the report, comma-separated, at most 10 [default: the 8 largest by
+    /// peak].
+    #[arg(long, value_delimiter = ',', requires = "report")]
+    pub report_species: Vec<String>,
+    /// Plot mole fractions (dimensionless) instead of concentrations in the report.
+    #[arg(long, requires = "report")]
+    pub report_mole_fractions: bool,
 }
 
 /// Flags of `stoik flux`.
@@ -445,6 +459,9 @@ pub struct RunArgs {
     /// peak concentration].
     #[arg(long, value_delimiter = ',', requires = "report")]
     pub report_species: Vec<String>,
+    /// Plot mole fractions (dimensionless) instead of concentrations in the report.
+    #[arg(long, requires = "report")]
+    pub report_mole_fractions: bool,
 }
 
 /// The reactor's linear algebra on the command line, spelled as in scenario files.

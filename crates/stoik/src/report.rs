@@ -1,5 +1,6 @@
-//! `--report FILE.html` of `run`, `rates` and `flux`: one self-contained HTML page (inline
-//! CSS and SVG, no script, nothing fetched) assembled with `stoik::plot`, written atomically.
+//! `--report FILE.html` of `run`, `rates`, `flux` and `sensitivity`: one self-contained HTML
+//! page (inline CSS and SVG, no script, nothing fetched) assembled with `stoik::plot`, written
+//! atomically; and the sensitivity bar chart of `stoik sensitivity --svg`.
 //!
 //! Every page: the title, the files read, the caution, what the command printed, then the
 //! command's own sections. Every user string (species names, equations, file names) is
@@ -9,7 +10,7 @@ use crate::error::CliError;
 use crate::out_file::write_text;
 use crate::run::RunText;
 use std::path::Path;
-use stoik::analysis::{species_budget, Contribution, FluxGraph, StepRates};
+use stoik::analysis::{species_budget, Contribution, FluxGraph, ObservableSensitivity, StepRates};
 use stoik::mechanism::Mechanism;
 use stoik::plot::{
     bar_chart_svg, flux_graph_svg, largest_series, profile_svg, AxisScale, HtmlReport, PlotError,
@@ -55,18 +56,27 @@ fn plot_error(path: &Path) -> impl Fn(PlotError) -> CliError + '_ {
     }
 }
 
-/// The page of `stoik run` (`path`: the report file, named in errors): the concentrations of `species` (default: the
-/// [`DEFAULT_PLOTTED_SPECIES`] largest by peak) in the scenario's output unit and the
-/// temperature against time, then the summary as printed (warnings and the failure too).
+/// What the profile figures of a page show: the species (`None`: the
+/// [`DEFAULT_PLOTTED_SPECIES`] largest by peak) and whether as mole fractions instead of
+/// concentrations in the scenario's output unit.
+#[derive(Debug, Clone, Default)]
+pub struct ProfileChoice {
+    /// Species indices of `--report-species`, checked against the mechanism.
+    pub species: Option<Vec<usize>>,
+    /// `--report-mole-fractions`: plot x_i = c_i / sum_k c_k (dimensionless).
+    pub mole_fractions: bool,
+}
+
+/// The page of `stoik run` (`path`: the report file, named in errors): the profile figures
+/// ([`profile_figures`]), then the summary as printed (warnings and the failure too).
 pub fn run_page(
     path: &Path,
     scenario: &Path,
     plan: &RunPlan,
     profiles: &Profiles,
     text: &RunText,
-    species: &Option<Vec<usize>>,
+    choice: &ProfileChoice,
 ) -> Result<HtmlReport, CliError> {
-    let mechanism = plan.mechanism();
     let title = plan.scenario().title.as_deref().unwrap_or("stoik run");
     let mut report = page(&format!("{title}: run report"), scenario, plan);
     let mut lines = Vec::new();
@@ -78,22 +88,67 @@ pub fn run_page(
     }
     lines.extend(text.summary.iter().cloned());
     lines.extend(text.warnings.iter().cloned());
+    if let Some(figures) = profile_figures(path, plan, profiles, choice)? {
+        // The figures first: on a laptop screen they are what the page opens on.
+        report.figure_section("Profiles", &figures);
+    }
+    report.text_section("Run summary", &lines);
+    Ok(report)
+}
+
+/// The two profile figures of a run with their captions: the concentrations (in the
+/// scenario's output unit) or mole fractions of the chosen species, and the temperature,
+/// against time. `None` when the run has no output row.
+///
+/// Mole fractions of a row whose total concentration is not positive are undefined (NaN)
+/// and refuse the report, as any NaN does.
+pub fn profile_figures(
+    path: &Path,
+    plan: &RunPlan,
+    profiles: &Profiles,
+    choice: &ProfileChoice,
+) -> Result<Option<Vec<(String, String)>>, CliError> {
+    let mechanism = plan.mechanism();
     let rows = &profiles.concentrations_mol_per_m3;
     if rows.is_empty() {
-        report.text_section("Run summary", &lines);
-        return Ok(report);
+        return Ok(None);
     }
-    let unit = plan.output_concentration_unit();
-    let factor = unit.to_si_factor();
     let n = mechanism.species.len();
-    let columns: Vec<Vec<f64>> = (0..n)
-        .map(|i| {
-            rows.iter()
-                .map(|r| r.get(i).copied().unwrap_or(f64::NAN) / factor)
-                .collect()
-        })
-        .collect();
-    let chosen = match species {
+    let (columns, value_axis, quantity): (Vec<Vec<f64>>, String, &str) = if choice.mole_fractions {
+        let fractions: Vec<Option<Vec<f64>>> = (0..rows.len())
+            .map(|r| profiles.mole_fractions(r))
+            .collect();
+        let columns = (0..n)
+            .map(|i| {
+                fractions
+                    .iter()
+                    .map(|x| {
+                        x.as_ref()
+                            .and_then(|x| x.get(i))
+                            .copied()
+                            .unwrap_or(f64::NAN)
+                    })
+                    .collect()
+            })
+            .collect();
+        (columns, "mole fraction [-]".to_string(), "mole fraction")
+    } else {
+        let unit = plan.output_concentration_unit();
+        let factor = unit.to_si_factor();
+        let columns = (0..n)
+            .map(|i| {
+                rows.iter()
+                    .map(|r| r.get(i).copied().unwrap_or(f64::NAN) / factor)
+                    .collect()
+            })
+            .collect();
+        (
+            columns,
+            format!("concentration [{}]", unit.label()),
+            "concentration",
+        )
+    };
+    let chosen = match &choice.species {
         Some(list) => list.clone(),
         None => {
             let peaks: Vec<f64> = columns
@@ -103,7 +158,6 @@ pub fn run_page(
             largest_series(&peaks, DEFAULT_PLOTTED_SPECIES)
         }
     };
-    let value_axis = format!("concentration [{}]", unit.label());
     let series: Vec<Series> = chosen
         .iter()
         .filter_map(|&i| {
@@ -113,8 +167,12 @@ pub fn run_page(
             })
         })
         .collect();
-    let concentrations = profile_svg(&ProfilePlot {
-        title: "Concentrations",
+    let species_plot = profile_svg(&ProfilePlot {
+        title: if choice.mole_fractions {
+            "Mole fractions"
+        } else {
+            "Concentrations"
+        },
         times_s: &profiles.times_s,
         series,
         value_axis_label: &value_axis,
@@ -134,21 +192,18 @@ pub fn run_page(
         value_scale: AxisScale::Linear,
     })
     .map_err(plot_error(path))?;
-    let caption = if species.is_some() {
+    let caption = if choice.species.is_some() {
         "Species chosen with --report-species.".to_string()
     } else {
         format!(
-            "The {} species of largest peak concentration (choose others with --report-species).",
+            "The {} species of largest peak {quantity} (choose others with --report-species).",
             chosen.len()
         )
     };
-    // The figures first: on a laptop screen they are what the page opens on.
-    report.figure_section(
-        "Profiles",
-        &[(caption, concentrations), (String::new(), temperature)],
-    );
-    report.text_section("Run summary", &lines);
-    Ok(report)
+    Ok(Some(vec![
+        (caption, species_plot),
+        (String::new(), temperature),
+    ]))
 }
 
 /// `R<n>` and the equation of step `j`.
@@ -296,5 +351,148 @@ pub fn flux_page(
         &table,
         &[],
     );
+    Ok(report)
+}
+
+/// The bar chart of the `top` largest sensitivities of `result`, largest |S| first (top to
+/// bottom): the normalized coefficients `d ln G/d ln k` (dimensionless), or, when the
+/// observable's value is zero (the normalized coefficients undefined), the derivatives
+/// `dG/d ln k` in the observable's unit. `path` is the file named in errors.
+pub fn sensitivity_chart(
+    path: &Path,
+    mechanism: &Mechanism,
+    result: &ObservableSensitivity,
+    top: usize,
+) -> Result<String, CliError> {
+    let observable = result.observable.describe(mechanism);
+    let shown = top.min(result.ranked.len());
+    let (bars, axis) = if result.value == 0.0 {
+        let bars = result
+            .ranked
+            .iter()
+            .take(top)
+            .map(|s| {
+                let (label, equation) = step_text(mechanism, s.step);
+                (format!("{label} {equation}"), s.derivative)
+            })
+            .collect::<Vec<_>>();
+        (
+            bars,
+            format!("dG/d ln k [{}], G = {observable}", result.observable.unit()),
+        )
+    } else {
+        (
+            result.labelled(mechanism, top),
+            format!("d ln G/d ln k [-], G = {observable}"),
+        )
+    };
+    bar_chart_svg(
+        &format!(
+            "Sensitivity of the {observable} to ln k: the {shown} largest of {}",
+            result.ranked.len()
+        ),
+        &axis,
+        &bars,
+    )
+    .map_err(plot_error(path))
+}
+
+/// What `stoik sensitivity` printed and ran, for its report.
+pub struct SensitivityText<'a> {
+    /// The lines printed (the observable, the ranked table).
+    pub printed: &'a [String],
+    /// The plain run of the scenario: its profiles and the lines describing it (reactor,
+    /// final state, ignition delay, cautions), with the warnings of the files.
+    pub run: Option<(&'a Profiles, Vec<String>)>,
+}
+
+/// The page of `stoik sensitivity`: the ranked sensitivities (bar chart of the `top`
+/// largest, then a table of every step, at most 60 rows, short numbers with the full
+/// precision in each cell's `title`), the run's profile figures, and the summary.
+pub fn sensitivity_page(
+    path: &Path,
+    scenario: &Path,
+    plan: &RunPlan,
+    result: &ObservableSensitivity,
+    top: usize,
+    text: &SensitivityText,
+    choice: &ProfileChoice,
+) -> Result<HtmlReport, CliError> {
+    let mechanism = plan.mechanism();
+    let observable = result.observable.describe(mechanism);
+    let title = plan
+        .scenario()
+        .title
+        .as_deref()
+        .unwrap_or("stoik sensitivity");
+    let mut report = page(
+        &format!("{title}: sensitivity of the {observable}"),
+        scenario,
+        plan,
+    );
+    let unit = result.observable.unit();
+    let method = match result.method {
+        stoik::analysis::Method::Forward => "forward",
+        stoik::analysis::Method::Adjoint => "adjoint",
+    };
+    let chart = sensitivity_chart(path, mechanism, result, top)?;
+    let mut table = Table::new(&[
+        "rank".to_string(),
+        "step".to_string(),
+        "equation".to_string(),
+        "d ln G/d ln k [-]".to_string(),
+        format!("dG/d ln k [{unit}]"),
+    ]);
+    let short = |v: f64| {
+        if v.is_finite() {
+            format!("{v:.4e}")
+        } else {
+            "undefined".to_string()
+        }
+    };
+    for (k, s) in result.ranked.iter().take(MAX_TABLE_ROWS).enumerate() {
+        let (label, equation) = step_text(mechanism, s.step);
+        table.row_with_titles(
+            vec![
+                (k + 1).to_string(),
+                label,
+                equation,
+                short(s.normalized),
+                short(s.derivative),
+            ],
+            vec![
+                String::new(),
+                String::new(),
+                String::new(),
+                format!("{:e}", s.normalized),
+                format!("{:e}", s.derivative),
+            ],
+        );
+    }
+    if result.ranked.len() > MAX_TABLE_ROWS {
+        table.row(vec![
+            String::new(),
+            String::new(),
+            format!(
+                "... {} more steps (all are in --csv)",
+                result.ranked.len() - MAX_TABLE_ROWS
+            ),
+        ]);
+    }
+    let intro = format!(
+        "G = {observable} = {:.6e} {unit} ({method} method). The parameter of a step is ln k of its forward rate constant; S = d ln G/d ln k is the relative change of G per relative change of k (S = -0.8: 1 % larger k, 0.8 % smaller G). Bars: the {} largest |S| (--top); blue positive, red negative. Table: every step ranked, full precision on hover.",
+        result.value,
+        top.min(result.ranked.len())
+    );
+    report.chart_and_table_section("Sensitivities", &intro, &chart, &table);
+    let mut lines = text.printed.to_vec();
+    if let Some((profiles, run_lines)) = &text.run {
+        if let Some(figures) = profile_figures(path, plan, profiles, choice)? {
+            report.figure_section("Profiles of the run", &figures);
+        }
+        lines.push(String::new());
+        lines.extend(run_lines.iter().cloned());
+    }
+    report.text_section("Summary", &lines);
     Ok(report)
 }

@@ -87,7 +87,10 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
     if let Some(report) = &args.report {
         outputs.output("--report", report)?;
     }
-    let report_species = report_species(args, plan.mechanism())?;
+    let choice = crate::report::ProfileChoice {
+        species: report_species(&args.report_species, plan.mechanism())?,
+        mole_fractions: args.report_mole_fractions,
+    };
     let outcome = plan.run()?;
     let elapsed = started.elapsed();
     let mechanism = plan.mechanism();
@@ -157,7 +160,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
                 warnings: &warnings,
                 failure: failure.as_deref(),
             },
-            &report_species,
+            &choice,
         )?;
         crate::report::write(path, &page)?;
         if !args.quiet {
@@ -190,19 +193,22 @@ pub struct RunText<'a> {
 }
 
 /// The species plotted in the report: those of `--report-species`, or the largest few by
-/// peak concentration (`None`: chosen after the run).
-fn report_species(args: &RunArgs, mechanism: &Mechanism) -> Result<Option<Vec<usize>>, CliError> {
-    if args.report_species.is_empty() {
+/// peak (`None`: chosen after the run). Shared by `run` and `sensitivity`.
+pub fn report_species(
+    names: &[String],
+    mechanism: &Mechanism,
+) -> Result<Option<Vec<usize>>, CliError> {
+    if names.is_empty() {
         return Ok(None);
     }
-    if args.report_species.len() > stoik::plot::PALETTE.len() {
+    if names.len() > stoik::plot::PALETTE.len() {
         return Err(CliError::BadFlag(format!(
             "--report-species: {} species given; at most {} are plotted (one colour each)",
-            args.report_species.len(),
+            names.len(),
             stoik::plot::PALETTE.len()
         )));
     }
-    args.report_species
+    names
         .iter()
         .map(|name| {
             mechanism.species_index(name.trim()).ok_or_else(|| {
@@ -230,7 +236,7 @@ fn criterion_words(c: IgnitionCriterion, mechanism: &Mechanism) -> String {
 
 /// The lines on the ignition delay and, for an adiabatic run whose temperature rose by more than
 /// [`RUNAWAY_RISE_K`], the hazard caution.
-fn ignition_lines(plan: &RunPlan, outcome: &RunOutcome) -> Vec<String> {
+pub fn ignition_lines(plan: &RunPlan, outcome: &RunOutcome) -> Vec<String> {
     let mut lines = Vec::new();
     let mechanism = plan.mechanism();
     if let Some(criterion) = outcome.ignition {
@@ -389,7 +395,7 @@ fn summary_lines(
 }
 
 /// One line on the reactor of a plan.
-fn describe_reactor(plan: &RunPlan) -> String {
+pub fn describe_reactor(plan: &RunPlan) -> String {
     let model = plan.model();
     let held = match model.constraint {
         Constraint::ConstantPressure => "constant pressure",

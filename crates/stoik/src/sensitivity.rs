@@ -4,8 +4,9 @@
 
 use crate::csv_out::{number, UNDEFINED};
 use crate::error::CliError;
-use crate::out_file::{write_atomically, OutputPaths};
-use crate::run::record_inputs;
+use crate::out_file::{write_atomically, write_text, OutputPaths};
+use crate::report::{ProfileChoice, SensitivityText};
+use crate::run::{describe_reactor, ignition_lines, record_inputs, report_species};
 use crate::{MethodArg, SensitivityArgs};
 use std::io::Write;
 use stoik::analysis::{
@@ -13,6 +14,7 @@ use stoik::analysis::{
     ObservableSensitivity, ProfileSensitivities, StateQuantity,
 };
 use stoik::mechanism::Mechanism;
+use stoik::reactor::Profiles;
 use stoik::scenario::RunPlan;
 
 fn at_flag(flag: &'static str) -> impl Fn(AnalysisError) -> CliError {
@@ -90,18 +92,38 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
     if let Some(csv) = &args.profile_csv {
         outputs.output("--profile-csv", csv)?;
     }
+    if let Some(svg) = &args.svg {
+        outputs.output("--svg", svg)?;
+    }
+    if let Some(report) = &args.report {
+        outputs.output("--report", report)?;
+    }
+    if args.top == 0 && (args.svg.is_some() || args.report.is_some()) {
+        return Err(CliError::BadFlag(
+            "--top 0 leaves no bar to draw for --svg/--report; give --top 1 or more".into(),
+        ));
+    }
+    let choice = ProfileChoice {
+        species: report_species(&args.report_species, &mechanism)?,
+        mole_fractions: args.report_mole_fractions,
+    };
     let profile = match &args.profile_csv {
         Some(_) => Some(profile_sensitivities(&plan, steps.as_deref()).map_err(of_run)?),
         None => None,
     };
     let result =
         observable_sensitivity(&plan, observable, method, steps.as_deref()).map_err(of_run)?;
-    print_ranked(&mechanism, &result, args.top);
+    let mut printed = ranked_lines(&mechanism, &result, args.top);
+    for line in &printed {
+        println!("{line}");
+    }
     if result.value == 0.0 {
-        eprintln!(
+        let warning = format!(
             "warning: {} is zero: the normalized coefficients are undefined ({UNDEFINED})",
             observable.describe(&mechanism)
         );
+        eprintln!("{warning}");
+        printed.push(warning);
     }
     if let Some(csv) = &args.csv {
         write_atomically(csv, |w| write_ranked_csv(w, &mechanism, &result))
@@ -122,46 +144,102 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
         }
         println!("wrote {}", csv.display());
     }
+    if let Some(svg) = &args.svg {
+        let chart = crate::report::sensitivity_chart(svg, &mechanism, &result, args.top)?;
+        write_text(svg, &chart).map_err(|e| CliError::write(svg, e))?;
+        println!("wrote {}", svg.display());
+    }
+    if let Some(report) = &args.report {
+        // A plain run of the scenario for the profile figures and the run summary (the
+        // sensitivity integration does not keep its profile).
+        let outcome = plan.run()?;
+        let mut run_lines = run_lines(&plan, outcome.profiles());
+        if let Some(f) = outcome.failure() {
+            run_lines.push(format!(
+                "the plain run FAILED; its profiles stop at the failure: {f}"
+            ));
+        }
+        run_lines.extend(ignition_lines(&plan, &outcome));
+        run_lines.extend(outcome.warnings.iter().map(|w| w.to_string()));
+        let page = crate::report::sensitivity_page(
+            report,
+            &args.scenario,
+            &plan,
+            &result,
+            args.top,
+            &SensitivityText {
+                printed: &printed,
+                run: Some((outcome.profiles(), run_lines)),
+            },
+            &choice,
+        )?;
+        crate::report::write(report, &page)?;
+        println!("wrote {}", report.display());
+    }
     Ok(())
 }
 
-/// The ranked table: one line per step, largest |d ln G/d ln k| first.
-fn print_ranked(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
+/// The lines on the run under a sensitivity report: the scenario and reactor, and the final
+/// state.
+fn run_lines(plan: &RunPlan, profiles: &Profiles) -> Vec<String> {
+    let mechanism = plan.mechanism();
+    let mut lines = vec![format!(
+        "{}: {} species, {} steps; {}",
+        plan.scenario().title.as_deref().unwrap_or("scenario"),
+        mechanism.species.len(),
+        mechanism.steps.len(),
+        describe_reactor(plan)
+    )];
+    if let (Some(t), Some(temperature)) = (profiles.times_s.last(), profiles.temperatures_k.last())
+    {
+        let rows = profiles.times_s.len();
+        lines.push(format!(
+            "final state at t = {t:.6e} s: T = {temperature:.2} K, P = {:.6e} Pa",
+            profiles.pressure_pa(rows - 1).unwrap_or(f64::NAN),
+        ));
+    }
+    lines
+}
+
+/// The ranked table as printed: one line per step, largest |d ln G/d ln k| first.
+fn ranked_lines(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) -> Vec<String> {
+    let mut lines = Vec::new();
     let unit = r.observable.unit();
     let method = match r.method {
         Method::Forward => "forward",
         Method::Adjoint => "adjoint",
     };
-    println!(
+    lines.push(format!(
         "{} = {:.6e} {unit}; sensitivities to ln k of {} step(s) ({method}; {} forward, {} backward solver steps)",
         r.observable.describe(mechanism),
         r.value,
         r.ranked.len(),
         r.stats.forward_steps,
         r.stats.backward_steps,
-    );
+    ));
     let header = format!("dG/d ln k ({unit})");
     let width = header.len().max(14);
-    println!(
+    lines.push(format!(
         "  {:>4}  {:<6} {:>14}  {header:>width$}  equation",
         "rank", "step", "d ln G/d ln k",
-    );
+    ));
     for (rank, s) in r.ranked.iter().take(top).enumerate() {
-        println!(
+        lines.push(format!(
             "  {:>4}  {:<6} {:>14.6e}  {:>width$.6e}  {}",
             rank + 1,
             format!("R{}", s.step + 1),
             s.normalized,
             s.derivative,
             equation(mechanism, s.step)
-        );
+        ));
     }
     if r.ranked.len() > top {
-        println!(
+        lines.push(format!(
             "  ({} more; --top N or --csv for all)",
             r.ranked.len() - top
-        );
+        ));
     }
+    lines
 }
 
 fn non_finite(what: String) -> std::io::Error {

@@ -58,13 +58,15 @@ forward = {{ prefactor = {prefactor}, activation_energy = {ea_k} }}
         .mechanism
 }
 
-/// A (+M) -> B (+M) with Troe broadening, inert N2 as the bath; with `reversible`, the
-/// step is A (+M) <=> B (+M) with the reverse from thermochemistry.
+/// A -> B, a falloff step (collider M) with Troe broadening, inert N2 as the bath, SI units
+/// (Pr = k0 [M]/kinf about 1 at the start); with `reversible`, the
+/// step is A <=> B with the reverse from thermochemistry.
 fn falloff(reversible: bool) -> Mechanism {
     let arrow = if reversible { "<=>" } else { "->" };
     let text = format!(
         r#"stoik_mechanism = 1
 [units]
+length = "m"
 activation_energy = "K"
 [[species]]
 name = "A"
@@ -76,7 +78,7 @@ thermo = {{ temperature_ranges_k = [100, 1000, 5000], coefficients_low = [3.5, 0
 name = "N2"
 thermo = {{ temperature_ranges_k = [100, 1000, 5000], coefficients_low = [3.5, 0, 0, 0, 0, 0, 0], coefficients_high = [3.5, 0, 0, 0, 0, 0, 0] }}
 [[step]]
-equation = "A (+M) {arrow} B (+M)"
+equation = "A {arrow} B"
 forward = {{ prefactor = 10.0 }}
 falloff = {{ low_pressure = {{ prefactor = 0.25 }}, broadening = "troe", troe = {{ a = 0.6, t3 = 200, t1 = 2000 }} }}
 third_body = {{ efficiency = {{ B = 2.0 }} }}

@@ -1,4 +1,6 @@
-//! Local sensitivities of a batch reactor to the rate constants of its steps.
+//! Local sensitivities of a batch reactor to its parameters ([`Parameter`]): the rate
+//! constants of its steps, each limit of a falloff step alone, and species' formation
+//! enthalpies.
 //!
 //! The parameter of step `j` is `ln k_j`, the log of its forward rate constant, scaled the
 //! way [`Kinetics::scale_forward`] scales it: a reverse rate constant from `kf/Kc` follows
@@ -10,20 +12,22 @@
 //!
 //! with `r_j = dq_j/d ln k_j` ([`Kinetics::scaling_rates`]: the net rate of progress, or the
 //! forward rate alone for explicit reverse parameters), `nu_j` the step's net stoichiometric
-//! column and `A`
-//! the model's linear map from production rates to the state derivative (the identity at
-//! constant volume; the temperature row `-e_i/C` of an adiabatic model; the dilution terms at
-//! constant pressure).
+//! column and `A` the model's linear map from production rates to the state derivative (the
+//! identity at constant volume; the temperature row `-e_i/C` of an adiabatic model; the
+//! dilution terms at constant pressure). A falloff limit alone enters through
+//! [`Kinetics::falloff_limit_rates`], a formation enthalpy (J/mol) through the reverse rates
+//! from `kf/Kc` ([`Kinetics::reverse_rates_from_thermo`]) and the heat release; see
+//! `docs/sensitivity.md`.
 //!
-//! - [`forward_sensitivities`]: the sensitivities `s_j = dy/d ln k_j` of the whole state
-//!   (concentrations and temperature) at output times, integrated with the state as one
-//!   augmented system `(y, s_1, ..., s_P)` with `ds_j/dt = J s_j + df/d ln k_j` (simultaneous
-//!   corrector). The Newton matrix of the augmented system is taken block diagonal: one
-//!   factorization of the state's `I - c J` serves every block.
-//! - [`adjoint_sensitivity`]: the gradient of one scalar [`Target`] with respect to every
-//!   chosen rate constant in one backward pass: `dlambda/dt = -J^T lambda` from the target's
-//!   terminal vector, and `dG/d ln k_j = int lambda^T df/d ln k_j dt + direct term`, the
-//!   integral by Gauss-Legendre quadrature on the pieces of the backward and forward steps.
+//! - [`forward_sensitivities`] / [`forward_parameter_sensitivities`]: the sensitivities
+//!   `s_j = dy/dp_j` of the whole state (concentrations and temperature) at output times,
+//!   with diffsol's forward sensitivities (staggered corrector: after the state's Newton
+//!   iteration, the linear sensitivity equations of all parameters are solved as one block
+//!   with the state's factored `I - c J`; sensitivities out of the error test).
+//! - [`adjoint_sensitivity`] / [`adjoint_parameter_sensitivity`]: the gradient of one scalar
+//!   [`Target`] with respect to every chosen parameter in one backward pass:
+//!   `dlambda/dt = -J^T lambda` from the target's terminal vector, and
+//!   `dG/dp_j = int lambda^T df/dp_j dt + direct term`, the integral by Gauss-Legendre quadrature on the pieces of the backward and forward steps.
 //!   The forward trajectory is kept as interpolation samples of every accepted step.
 //!
 //! Targets that are times (an ignition delay, a peak time) are differentiated through the

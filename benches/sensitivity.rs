@@ -8,7 +8,10 @@
 //!   constants of the 1,000-species synthetic mechanism, to 10 s; target under 10 times the
 //!   plain run.
 //!
-//! Both at rtol 1e-6, atol 1e-10 mol/m3, 300 K, isothermal constant volume. The plain runs
+//! - scaling: the 200-species case with 10, 50 and 200 rate constants, forward and adjoint
+//!   (one final concentration), against the plain run.
+//!
+//! All at rtol 1e-6, atol 1e-10 mol/m3, 300 K, isothermal constant volume. The plain runs
 //! use the sparse linear algebra the sensitivity solvers use.
 
 mod common;
@@ -91,5 +94,57 @@ fn adjoint_bench(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, forward_bench, adjoint_bench);
+/// How forward and adjoint costs grow with the number of parameters: the 200-species case
+/// above with 10, 50 and 200 rate constants (every step_by-th step), one final concentration
+/// as the adjoint's target.
+fn scaling_bench(c: &mut Criterion) {
+    let n = 200;
+    let kinetics = Kinetics::compile(&common::synthetic_mechanism(n, 11)).expect("valid");
+    let c0 = common::test_concentrations(n, 11);
+    let options = options(n);
+    let model = ReactorModel::default();
+    let target = Target::Value {
+        state: n - 1,
+        time_s: END_S,
+    };
+    let mut group = c.benchmark_group("scaling_200_species");
+    group.sample_size(10);
+    group.bench_function("plain", |b| {
+        b.iter(|| black_box(integrate(&kinetics, 300.0, &c0, &[0.0, END_S], &options).is_ok()))
+    });
+    for p in [10usize, 50, 200] {
+        let steps: Vec<usize> = (0..kinetics.n_steps())
+            .step_by(kinetics.n_steps() / p)
+            .take(p)
+            .collect();
+        assert_eq!(steps.len(), p);
+        group.bench_function(format!("forward_{p}"), |b| {
+            b.iter(|| {
+                let r = forward_sensitivities(
+                    &kinetics,
+                    &model,
+                    300.0,
+                    &c0,
+                    &[0.0, END_S],
+                    &options,
+                    &steps,
+                    &[],
+                );
+                assert!(r.is_ok(), "{:?}", r.err());
+                black_box(r)
+            })
+        });
+        group.bench_function(format!("adjoint_{p}"), |b| {
+            b.iter(|| {
+                let r =
+                    adjoint_sensitivity(&kinetics, &model, 300.0, &c0, &options, &steps, target);
+                assert!(r.is_ok(), "{:?}", r.err());
+                black_box(r)
+            })
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(benches, forward_bench, adjoint_bench, scaling_bench);
 criterion_main!(benches);

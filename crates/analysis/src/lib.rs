@@ -51,6 +51,8 @@ pub use flux::{
 };
 pub use rates::{species_index, step_rates, step_rates_at_state, Span, StepRates};
 pub use sensitivity::{
-    observable_sensitivity, profile_sensitivities, Method, Observable, ObservableSensitivity,
-    ProfileSensitivities, StateQuantity, StepSensitivity, MAX_FORWARD_STATE, MAX_PROFILE_VALUES,
+    observable_sensitivity, observable_sensitivity_with, profile_sensitivities,
+    EnthalpySensitivity, ExtraParameters, LimitSensitivity, Method, Observable,
+    ObservableSensitivity, ProfileSensitivities, StateQuantity, StepSensitivity, MAX_FORWARD_STATE,
+    MAX_PROFILE_VALUES,
 };

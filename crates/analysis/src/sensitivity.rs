@@ -3,11 +3,12 @@
 
 use crate::rates::species_index;
 use crate::AnalysisError;
+use stoik_kinetics::FalloffLimit;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::Mechanism;
 use stoik_reactor::{
-    adjoint_sensitivity, forward_sensitivities, IgnitionCriterion, Quantity, SensitivityError,
-    SensitivityStats, Target, Watch,
+    adjoint_parameter_sensitivity, forward_parameter_sensitivities, IgnitionCriterion, Parameter,
+    Quantity, SensitivityError, SensitivityStats, Target, Watch,
 };
 use stoik_scenario::RunPlan;
 
@@ -114,6 +115,40 @@ pub struct StepSensitivity {
     pub normalized: f64,
 }
 
+/// The sensitivity to one limit of a falloff step's rate constant alone.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LimitSensitivity {
+    /// Step (mechanism index).
+    pub step: usize,
+    /// Which limit: k0 (low pressure) or kinf (high pressure).
+    pub limit: FalloffLimit,
+    /// `dG/d ln k_limit` (the observable's unit).
+    pub derivative: f64,
+    /// `d ln G/d ln k_limit` (dimensionless); NaN when the value is zero.
+    pub normalized: f64,
+}
+
+/// The sensitivity to one species' standard formation enthalpy.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EnthalpySensitivity {
+    /// Species (mechanism index).
+    pub species: usize,
+    /// `dG/dH_f` (the observable's unit per J/mol).
+    pub derivative: f64,
+    /// `d ln G/dH_f` per kJ/mol (mol/kJ): the relative change of the observable for a
+    /// formation enthalpy 1 kJ/mol higher; NaN when the value is zero.
+    pub normalized_per_kj_per_mol: f64,
+}
+
+/// Parameters besides the chosen steps' rate constants.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct ExtraParameters {
+    /// Each limit (k0, kinf) of every chosen falloff or chemically activated step alone.
+    pub falloff_limits: bool,
+    /// The formation enthalpy of every species with thermochemistry.
+    pub enthalpies: bool,
+}
+
 /// The sensitivities of one observable to the chosen steps' rate constants, ranked.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ObservableSensitivity {
@@ -125,6 +160,13 @@ pub struct ObservableSensitivity {
     pub method: Method,
     /// Every chosen step, largest `|normalized|` first (NaN last, ties in step order).
     pub ranked: Vec<StepSensitivity>,
+    /// With [`ExtraParameters::falloff_limits`]: each limit of every chosen falloff step,
+    /// largest `|normalized|` first; empty otherwise. For each step the two sum to its
+    /// entry in `ranked` (both limits together).
+    pub falloff_limits: Vec<LimitSensitivity>,
+    /// With [`ExtraParameters::enthalpies`]: every species with thermochemistry, largest
+    /// `|normalized_per_kj_per_mol|` first; empty otherwise.
+    pub enthalpies: Vec<EnthalpySensitivity>,
     /// Counters of the integrations.
     pub stats: SensitivityStats,
 }
@@ -270,6 +312,23 @@ pub fn observable_sensitivity(
     method: Method,
     steps: Option<&[usize]>,
 ) -> Result<ObservableSensitivity, AnalysisError> {
+    observable_sensitivity_with(plan, observable, method, steps, ExtraParameters::default())
+}
+
+/// As [`observable_sensitivity`], with the `extra` parameters too: each limit of the chosen
+/// falloff steps alone (`d ln G/d ln k0`, `d ln G/d ln kinf`), and the formation enthalpy of
+/// every species with thermochemistry (`d ln G/dH_f` per kJ/mol; a shift of the species'
+/// enthalpy at every temperature, which moves equilibrium constants, hence reverse rate
+/// constants from thermochemistry, and the heat release of an energy-solving reactor).
+///
+/// Errors: as for [`observable_sensitivity`].
+pub fn observable_sensitivity_with(
+    plan: &RunPlan,
+    observable: Observable,
+    method: Method,
+    steps: Option<&[usize]>,
+    extra: ExtraParameters,
+) -> Result<ObservableSensitivity, AnalysisError> {
     let mechanism = plan.mechanism();
     let steps = chosen_steps(mechanism, steps)?;
     let n_species = mechanism.species.len();
@@ -337,17 +396,34 @@ pub fn observable_sensitivity(
             }
         }
     };
+    let mut parameters: Vec<Parameter> =
+        steps.iter().map(|&j| Parameter::RateConstant(j)).collect();
+    if extra.falloff_limits {
+        for &j in &steps {
+            if kinetics.is_falloff(j) {
+                parameters.push(Parameter::LowPressureLimit(j));
+                parameters.push(Parameter::HighPressureLimit(j));
+            }
+        }
+    }
+    if extra.enthalpies {
+        for (i, thermo) in kinetics.species_thermo().iter().enumerate() {
+            if thermo.is_some() {
+                parameters.push(Parameter::FormationEnthalpy(i));
+            }
+        }
+    }
     let (value, gradient, stats) = match method {
         Method::Forward => {
-            check_forward_size(&plan, steps.len())?;
-            let r = forward_sensitivities(
+            check_forward_size(&plan, parameters.len())?;
+            let r = forward_parameter_sensitivities(
                 &kinetics,
                 plan.model(),
                 plan.temperature_k(),
                 plan.initial_mol_per_m3(),
                 &[0.0, target.time_s()],
                 plan.options(),
-                &steps,
+                &parameters,
                 &[target],
             )
             .map_err(sensitivity_error)?;
@@ -357,37 +433,61 @@ pub fn observable_sensitivity(
             (t.value, t.gradient, r.stats)
         }
         Method::Adjoint => {
-            let r = adjoint_sensitivity(
+            let r = adjoint_parameter_sensitivity(
                 &kinetics,
                 plan.model(),
                 plan.temperature_k(),
                 plan.initial_mol_per_m3(),
                 plan.options(),
-                &steps,
+                &parameters,
                 target,
             )
             .map_err(sensitivity_error)?;
             (r.target.value, r.target.gradient, r.stats)
         }
     };
-    let entries = steps
-        .iter()
-        .zip(&gradient)
-        .map(|(&step, &derivative)| StepSensitivity {
-            step,
-            derivative,
-            normalized: if value != 0.0 {
-                derivative / value
-            } else {
-                f64::NAN
-            },
-        })
-        .collect();
+    let normalize = |d: f64| if value != 0.0 { d / value } else { f64::NAN };
+    let mut entries = Vec::with_capacity(steps.len());
+    let mut falloff_limits = Vec::new();
+    let mut enthalpies = Vec::new();
+    for (&parameter, &derivative) in parameters.iter().zip(&gradient) {
+        match parameter {
+            Parameter::RateConstant(step) => entries.push(StepSensitivity {
+                step,
+                derivative,
+                normalized: normalize(derivative),
+            }),
+            Parameter::LowPressureLimit(step) | Parameter::HighPressureLimit(step) => {
+                falloff_limits.push(LimitSensitivity {
+                    step,
+                    limit: if matches!(parameter, Parameter::LowPressureLimit(_)) {
+                        FalloffLimit::Low
+                    } else {
+                        FalloffLimit::High
+                    },
+                    derivative,
+                    normalized: normalize(derivative),
+                })
+            }
+            Parameter::FormationEnthalpy(species) => enthalpies.push(EnthalpySensitivity {
+                species,
+                derivative,
+                normalized_per_kj_per_mol: normalize(derivative) * 1e3,
+            }),
+        }
+    }
+    let key = |x: f64| if x.is_nan() { -1.0 } else { x.abs() };
+    falloff_limits.sort_by(|a, b| key(b.normalized).total_cmp(&key(a.normalized)));
+    enthalpies.sort_by(|a, b| {
+        key(b.normalized_per_kj_per_mol).total_cmp(&key(a.normalized_per_kj_per_mol))
+    });
     Ok(ObservableSensitivity {
         observable,
         value,
         method,
         ranked: rank(entries),
+        falloff_limits,
+        enthalpies,
         stats,
     })
 }
@@ -405,14 +505,15 @@ pub fn profile_sensitivities(
     let mechanism = plan.mechanism();
     let steps = chosen_steps(mechanism, steps)?;
     let kinetics = Kinetics::compile(mechanism).map_err(stoik_scenario::ScenarioError::from)?;
-    let r = forward_sensitivities(
+    let parameters: Vec<Parameter> = steps.iter().map(|&j| Parameter::RateConstant(j)).collect();
+    let r = forward_parameter_sensitivities(
         &kinetics,
         plan.model(),
         plan.temperature_k(),
         plan.initial_mol_per_m3(),
         plan.output_times_s(),
         plan.options(),
-        &steps,
+        &parameters,
         &[],
     )
     .map_err(sensitivity_error)?;

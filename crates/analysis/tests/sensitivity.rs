@@ -227,3 +227,76 @@ fn bad_observables_and_steps_are_refused() {
     );
     assert!(err.to_string().contains(&format!("R{}", n + 1)), "{err}");
 }
+
+/// Falloff limits and formation enthalpies through the analysis layer on the hydrogen demo
+/// (its H + O2 (+M) <=> HO2 (+M) is a Troe falloff step): the two limits of a step sum to its
+/// rate-constant sensitivity (both limits scaled together leave Pr unchanged), the adjoint
+/// agrees with the forward method within 1e-6 relative, and a central difference of full
+/// reruns with HO2's formation enthalpy shifted by +-50 J/mol matches `d ln G/dH_f` within
+/// 1e-3.
+#[test]
+fn falloff_limits_and_enthalpies_of_the_hydrogen_demo() {
+    use stoik_analysis::{observable_sensitivity_with, ExtraParameters};
+    let plan = hydrogen_plan();
+    let mechanism = plan.mechanism();
+    let ho2 = mechanism.species_index("HO2").expect("HO2");
+    let extra = ExtraParameters {
+        falloff_limits: true,
+        enthalpies: true,
+    };
+    let observable = Observable::Final(StateQuantity::Species(
+        mechanism.species_index("OH").expect("OH"),
+    ));
+    let forward = observable_sensitivity_with(&plan, observable, Method::Forward, None, extra)
+        .expect("forward");
+    let adjoint = observable_sensitivity_with(&plan, observable, Method::Adjoint, None, extra)
+        .expect("adjoint");
+    assert_eq!(forward.falloff_limits.len(), 2);
+    let step = forward.falloff_limits[0].step;
+    let both = forward
+        .ranked
+        .iter()
+        .find(|s| s.step == step)
+        .expect("the falloff step is ranked")
+        .derivative;
+    let sum: f64 = forward.falloff_limits.iter().map(|l| l.derivative).sum();
+    assert_rel("k0 + kinf = k", sum, both, 1e-9);
+    for (f, a) in forward.falloff_limits.iter().zip(&adjoint.falloff_limits) {
+        assert_eq!((f.step, f.limit), (a.step, a.limit));
+        assert_rel("adjoint limit", a.derivative, f.derivative, ADJOINT_REL);
+    }
+    let largest = forward.enthalpies[0].derivative.abs();
+    for f in &forward.enthalpies {
+        let a = adjoint
+            .enthalpies
+            .iter()
+            .find(|a| a.species == f.species)
+            .expect("same species");
+        let err = (a.derivative - f.derivative).abs();
+        assert!(
+            err <= ADJOINT_REL * largest,
+            "adjoint dG/dH_f of species {}: {:e} against {:e}",
+            f.species,
+            a.derivative,
+            f.derivative
+        );
+    }
+    // Central difference of reruns in HO2's enthalpy.
+    let h = 50.0;
+    let final_oh = |shift: f64| {
+        let mut kinetics = Kinetics::compile(mechanism).expect("compiles");
+        assert!(kinetics.shift_formation_enthalpy(ho2, shift));
+        let outcome = plan.run_compiled(&kinetics).expect("runs");
+        let profiles = outcome.profiles();
+        let last = profiles.concentrations_mol_per_m3.len() - 1;
+        profiles.concentrations_mol_per_m3[last][mechanism.species_index("OH").unwrap()]
+    };
+    let fd = (final_oh(h) - final_oh(-h)) / (2.0 * h);
+    let got = forward
+        .enthalpies
+        .iter()
+        .find(|e| e.species == ho2)
+        .expect("HO2 has thermochemistry")
+        .derivative;
+    assert_rel("dOH/dH_f(HO2) against central differences", got, fd, 1e-3);
+}

@@ -162,6 +162,15 @@ pub(crate) enum ThirdBodyKind {
     Table(usize),
 }
 
+/// One limit of a falloff or chemically activated step's rate constant.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum FalloffLimit {
+    /// The low-pressure limit k0.
+    Low,
+    /// The high-pressure limit kinf.
+    High,
+}
+
 /// A mechanism compiled for fast evaluation. Build once with [`Kinetics::compile`], then
 /// evaluate as often as needed; every evaluation routine is allocation-free.
 #[derive(Debug, Clone)]
@@ -304,6 +313,116 @@ impl Kinetics {
                 g * fwd
             } else {
                 g * (fwd - rev)
+            };
+        }
+    }
+
+    /// Whether step `step` is a falloff or chemically activated step (a rate constant with a
+    /// low-pressure limit k0 and a high-pressure limit kinf); `false` out of range.
+    pub fn is_falloff(&self, step: usize) -> bool {
+        matches!(self.third_body.get(step), Some(ThirdBodyKind::Falloff(_)))
+    }
+
+    /// Multiplies one limit of falloff or chemically activated step `step` by `factor`
+    /// (dimensionless): its pre-exponential factor alone, so that Pr = k0 [M]/kinf (and the
+    /// broadening F(Pr)) changes. A reverse rate constant from `kf/Kc` follows the step's
+    /// forward rate constant; explicit reverse parameters share the step's pressure factor.
+    /// The parameter of [`falloff_limit_rates`](Self::falloff_limit_rates). Returns `false`
+    /// (and changes nothing) when `step` is not such a step or `factor` is not finite and
+    /// positive.
+    pub fn scale_falloff_limit(&mut self, step: usize, limit: FalloffLimit, factor: f64) -> bool {
+        if !(factor.is_finite() && factor > 0.0) {
+            return false;
+        }
+        let Some(ThirdBodyKind::Falloff(i)) = self.third_body.get(step).copied() else {
+            return false;
+        };
+        let f = &mut self.falloff[i];
+        // `forward` holds kinf for falloff, k0 for chemically activated steps.
+        let in_forward = match limit {
+            FalloffLimit::Low => f.chemically_activated,
+            FalloffLimit::High => !f.chemically_activated,
+        };
+        if in_forward {
+            self.forward[step].pre_exponential_si *= factor;
+        } else {
+            f.other_limit.pre_exponential_si *= factor;
+        }
+        true
+    }
+
+    /// `(dq/d ln k0, dq/d ln kinf)` of falloff or chemically activated step `step` (mol/(m3
+    /// s)) at rate constants `k` and concentrations `c` (mol/m3): the derivatives of its net
+    /// rate of progress with respect to the log of each limit as
+    /// [`scale_falloff_limit`](Self::scale_falloff_limit) scales it. With `L = d ln g/d ln Pr`
+    /// of the pressure factor `g` and `q` the net rate of progress, a falloff step (kf = kinf
+    /// g, g = Pr/(1+Pr) F) has `dq/d ln k0 = L q` and `dq/d ln kinf = r - L q`; a chemically
+    /// activated one (kf = k0 g, g = F/(1+Pr)) has `dq/d ln k0 = r + L q` and
+    /// `dq/d ln kinf = -L q`, `r` the step's [`scaling_rates`](Self::scaling_rates) entry. The
+    /// two sum to `r` (both limits together). For a falloff step `L = 1/(1+Pr) + d ln F/d ln
+    /// Pr`. `None` when `step` is not such a step. No allocation.
+    pub fn falloff_limit_rates(
+        &self,
+        k: &RateConstants,
+        c: &[f64],
+        step: usize,
+    ) -> Option<(f64, f64)> {
+        let Some(ThirdBodyKind::Falloff(i)) = self.third_body.get(step).copied() else {
+            return None;
+        };
+        let total = self.total_concentration(c);
+        let f = &self.falloff[i];
+        let m = f.collider.concentration(&self.mixtures, c, total);
+        let (g, dg_dm, _) = f.factor(&k.falloff[i], None, m);
+        let (fwd, rev) = self.directional_rates(k, step, c);
+        let q = g * (fwd - rev);
+        let r = if self.reverse[step].is_some() {
+            g * fwd
+        } else {
+            q
+        };
+        // L q = (d ln g/d ln [M]) q = [M] dg/d[M] (fwd - rev).
+        let lq = m * dg_dm * (fwd - rev);
+        Some(if f.chemically_activated {
+            (r + lq, -lq)
+        } else {
+            (lq, r - lq)
+        })
+    }
+
+    /// Shifts the standard enthalpy of species `species` by `shift_j_per_mol` (J/mol) at every
+    /// temperature (the constant `a6` of both ranges of its NASA polynomials): a change of its
+    /// formation enthalpy. Equilibrium constants, hence reverse rate constants from `kf/Kc`,
+    /// follow, and so does the heat release of a reactor that takes its thermochemistry from
+    /// these kinetics. The parameter of [`reverse_rates_from_thermo`](Self::reverse_rates_from_thermo).
+    /// Returns `false` (and changes nothing) when the species is out of range, has no
+    /// thermochemistry, or the shift is not finite.
+    pub fn shift_formation_enthalpy(&mut self, species: usize, shift_j_per_mol: f64) -> bool {
+        if !shift_j_per_mol.is_finite() {
+            return false;
+        }
+        let Some(Some(thermo)) = self.species_thermo.get_mut(species) else {
+            return false;
+        };
+        let da6 = shift_j_per_mol / GAS_CONSTANT;
+        thermo.low[5] += da6;
+        thermo.high[5] += da6;
+        true
+    }
+
+    /// Writes into `out` (length `n_steps`, mol/(m3 s)) the reverse rate (pressure factor
+    /// included) of every step whose reverse rate constant is `kf/Kc`, 0 for the others, at
+    /// rate constants `k` and concentrations `c` (mol/m3). A shift `dH_i` (J/mol) of species
+    /// `i`'s enthalpy changes `ln Kc_j` by `-nu_ij dH_i/(R T)`, so such a step's net rate of
+    /// progress changes by `dq_j/d(dH_i) = -nu_ij out[j] / (R T)`. No allocation.
+    pub fn reverse_rates_from_thermo(&self, k: &RateConstants, c: &[f64], out: &mut [f64]) {
+        let total = self.total_concentration(c);
+        for (j, o) in out.iter_mut().enumerate().take(self.n_steps) {
+            *o = if self.reverse_from_thermo[j] && k.reverse[j] != 0.0 {
+                let (_, rev) = self.directional_rates(k, j, c);
+                self.third_body_concentration(k, j, c, total) * rev
+            } else {
+                0.0
             };
         }
     }

@@ -460,15 +460,16 @@ impl<M: Backend> BatchEquations<M> {
         &self.state_pattern
     }
 
-    /// `dq_j/d ln kf_j` of every step (mol/(m3 s), see [`Kinetics::scaling_rates`]) at time
-    /// `t_s` (s) and state `y` with the rate constants the equations use there; returns the
-    /// temperature (K).
-    pub(crate) fn scaling_rates(&self, t_s: f64, y: &[f64], q: &mut [f64]) -> f64 {
+    /// Calls `f(k, temperature)` with the rate constants the equations use at time `t_s` (s)
+    /// and state `y` and the temperature (K) there.
+    pub(crate) fn with_rate_constants<R>(
+        &self,
+        t_s: f64,
+        y: &[f64],
+        f: impl FnOnce(&RateConstants, f64) -> R,
+    ) -> R {
         let temperature_k = self.rates_for(t_s, y);
-        let n = self.kinetics.n_species();
-        self.kinetics
-            .scaling_rates(&self.rate_constants.borrow(), &y[..n], q);
-        temperature_k
+        f(&self.rate_constants.borrow(), temperature_k)
     }
 
     /// Whether the sparse backend received a usable pattern (always true for dense).

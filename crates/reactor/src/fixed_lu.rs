@@ -29,6 +29,9 @@ pub(crate) struct FixedPatternSolver {
     lu: Option<FixedPatternLu>,
     /// Whether the last `set_linearisation` produced usable factors.
     factorized: bool,
+    /// Row-major scratch of the multi-column solves (forward sensitivities: one column per
+    /// parameter).
+    block: std::cell::RefCell<Vec<f64>>,
 }
 
 /// How many patterns keep their symbolic analysis in [`ANALYSES`]; the least recently used
@@ -186,7 +189,28 @@ impl FixedPatternSolver {
             _ => return Err(LaError::from(LinearSolverError::LuNotInitialized)),
         };
         let data = x.inner_mut();
-        for column in 0..data.ncols() {
+        let ncols = data.ncols();
+        if ncols > 1 && !transpose {
+            // All columns at once: one pass over the factors (see
+            // `FixedPatternLu::solve_rows_in_place`).
+            let n = data.nrows();
+            let mut block = self.block.borrow_mut();
+            block.resize(n * ncols, 0.0);
+            for c in 0..ncols {
+                for (i, &v) in data.col_as_slice(c).iter().enumerate() {
+                    block[i * ncols + c] = v;
+                }
+            }
+            lu.solve_rows_in_place(&mut block, ncols)
+                .map_err(|_| LaError::from(LinearSolverError::LuSolveFailed))?;
+            for c in 0..ncols {
+                for (i, v) in data.col_as_slice_mut(c).iter_mut().enumerate() {
+                    *v = block[i * ncols + c];
+                }
+            }
+            return Ok(());
+        }
+        for column in 0..ncols {
             let rhs = data.col_as_slice_mut(column);
             let result = if transpose {
                 lu.solve_transpose_in_place(rhs)

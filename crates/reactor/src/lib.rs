@@ -78,8 +78,9 @@ pub use options::{
 pub use owned::OwnedIntegrator;
 pub use profiles::{element_balance, ElementBalance, Profiles};
 pub use sensitivity::{
-    adjoint_sensitivity, forward_sensitivities, AdjointSensitivity, ForwardSensitivities,
-    SensitivityError, SensitivityStats, Target, TargetSensitivity,
+    adjoint_parameter_sensitivity, adjoint_sensitivity, forward_parameter_sensitivities,
+    forward_sensitivities, AdjointSensitivity, ForwardSensitivities, Parameter, SensitivityError,
+    SensitivityStats, Target, TargetSensitivity,
 };
 pub use watch::{Located, Quantity, Watch};
 

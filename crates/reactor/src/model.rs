@@ -630,6 +630,41 @@ impl ModelEquations<'_> {
         }
     }
 
+    /// The derivative of the state derivative with respect to the heat release
+    /// `sum_i e_i w_i` (J/(m3 s); `e_i` the enthalpy or internal energy per mole) at fixed
+    /// production rates, into `out` (the state's length): `-1/C` in the temperature row
+    /// (K/s per J/(m3 s), `C` the heat capacity per volume), at constant pressure the
+    /// expansion `c_k/(C T)` in the species rows (1/s per J/(m3 s) per mol/m3), zero for fixed
+    /// species; all zero when the model does not solve the energy balance. A shift of species
+    /// `i`'s enthalpy by `dH` (J/mol) shifts `e_i` by `dH` (u = h - R T as well), so at fixed
+    /// rates `df/d(dH_i) = w_i out`. No allocation.
+    pub fn heat_release_direction(&self, temperature_k: f64, y: &[f64], out: &mut [f64]) {
+        out.iter_mut().for_each(|x| *x = 0.0);
+        if !self.model.solves_energy() {
+            return;
+        }
+        let n = self.kinetics.n_species();
+        let c = &y[..n];
+        let capacity: f64 = self
+            .thermo
+            .iter()
+            .zip(c)
+            .map(|(thermo, &ci)| ci * energy_terms(thermo, temperature_k, self.model.energy_basis()).1)
+            .sum();
+        let temperature_rate = -1.0 / capacity;
+        if self.model.constraint == Constraint::ConstantPressure {
+            for (o, ci) in out[..n].iter_mut().zip(c) {
+                *o -= ci * temperature_rate / temperature_k;
+            }
+        }
+        out[n] = temperature_rate;
+        for &i in &self.model.conditions.fixed_species {
+            if let Some(o) = out.get_mut(i) {
+                *o = 0.0;
+            }
+        }
+    }
+
     /// The transpose of [`chemistry_map`](Self::chemistry_map): `v = A^T lambda` (one entry
     /// per species) for `lambda` of the state's length.
     pub fn chemistry_map_transpose(

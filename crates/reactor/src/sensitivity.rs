@@ -1,4 +1,6 @@
-//! Local sensitivities of a batch reactor to the rate constants of its steps.
+//! Local sensitivities of a batch reactor to its parameters ([`Parameter`]): the rate
+//! constants of its steps, each limit of a falloff step alone, and species' formation
+//! enthalpies.
 //!
 //! The parameter of step `j` is `ln k_j`, the log of its forward rate constant, scaled the
 //! way [`Kinetics::scale_forward`] scales it: a reverse rate constant from `kf/Kc` follows
@@ -10,20 +12,22 @@
 //!
 //! with `r_j = dq_j/d ln k_j` ([`Kinetics::scaling_rates`]: the net rate of progress, or the
 //! forward rate alone for explicit reverse parameters), `nu_j` the step's net stoichiometric
-//! column and `A`
-//! the model's linear map from production rates to the state derivative (the identity at
-//! constant volume; the temperature row `-e_i/C` of an adiabatic model; the dilution terms at
-//! constant pressure).
+//! column and `A` the model's linear map from production rates to the state derivative (the
+//! identity at constant volume; the temperature row `-e_i/C` of an adiabatic model; the
+//! dilution terms at constant pressure). A falloff limit alone enters through
+//! [`Kinetics::falloff_limit_rates`], a formation enthalpy (J/mol) through the reverse rates
+//! from `kf/Kc` ([`Kinetics::reverse_rates_from_thermo`]) and the heat release; see
+//! `docs/sensitivity.md`.
 //!
-//! - [`forward_sensitivities`]: the sensitivities `s_j = dy/d ln k_j` of the whole state
-//!   (concentrations and temperature) at output times, integrated with the state as one
-//!   augmented system `(y, s_1, ..., s_P)` with `ds_j/dt = J s_j + df/d ln k_j` (simultaneous
-//!   corrector). The Newton matrix of the augmented system is taken block diagonal: one
-//!   factorization of the state's `I - c J` serves every block.
-//! - [`adjoint_sensitivity`]: the gradient of one scalar [`Target`] with respect to every
-//!   chosen rate constant in one backward pass: `dlambda/dt = -J^T lambda` from the target's
-//!   terminal vector, and `dG/d ln k_j = int lambda^T df/d ln k_j dt + direct term`, the
-//!   integral by Gauss-Legendre quadrature on the pieces of the backward and forward steps.
+//! - [`forward_sensitivities`] / [`forward_parameter_sensitivities`]: the sensitivities
+//!   `s_j = dy/dp_j` of the whole state (concentrations and temperature) at output times,
+//!   with diffsol's forward sensitivities (staggered corrector: after the state's Newton
+//!   iteration, the linear sensitivity equations of all parameters are solved as one block
+//!   with the state's factored `I - c J`; sensitivities out of the error test).
+//! - [`adjoint_sensitivity`] / [`adjoint_parameter_sensitivity`]: the gradient of one scalar
+//!   [`Target`] with respect to every chosen parameter in one backward pass:
+//!   `dlambda/dt = -J^T lambda` from the target's terminal vector, and
+//!   `dG/dp_j = int lambda^T df/dp_j dt + direct term`, the integral by Gauss-Legendre quadrature on the pieces of the backward and forward steps.
 //!   The forward trajectory is kept as interpolation samples of every accepted step.
 //!
 //! Targets that are times (an ignition delay, a peak time) are differentiated through the
@@ -31,19 +35,15 @@
 //! `dt/dp = -(grad_y phi . s + dphi/dp) / (dphi/dt)`.
 
 use std::cell::{Cell, RefCell};
-use std::rc::Rc;
 
 use diffsol::{
-    Bdf, ConstantOp, DiffsolError, FaerContext, FaerSparseMat, FaerVec, LaError, LaLinearOp,
-    Matrix, MatrixCommon, NonLinearOp, NonLinearOpJacobian, OdeBuilder, OdeEquations,
-    OdeEquationsRef, OdeSolverConfig, OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op,
-    ParameterisedOp, UnitCallable, Vector,
+    ConstantOp, ConstantOpSens, DiffsolError, FaerContext, FaerSparseMat, FaerVec, Matrix,
+    NonLinearOp, NonLinearOpJacobian, NonLinearOpSens, OdeBuilder, OdeEquations, OdeEquationsRef,
+    OdeSolverConfig, OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op, ParameterisedOp,
+    UnitCallable, Vector, VectorCommon,
 };
-use diffsol_la::error::LinearSolverError;
-use diffsol_la::LinearSolver as LaLinearSolver;
 use faer::sparse::SymbolicSparseColMat;
-use stoik_kinetics::Kinetics;
-use stoik_sparse::FixedPatternLu;
+use stoik_kinetics::{FalloffLimit, Kinetics, GAS_CONSTANT};
 
 use crate::equations::{Backend, BatchEquations};
 use crate::fixed_lu::FixedPatternSolver;
@@ -127,7 +127,8 @@ impl Target {
 pub struct TargetSensitivity {
     /// The target: a state value (mol/m3 or K) or a time (s).
     pub value: f64,
-    /// `d value / d ln k_j` for each chosen step, in the order asked (units of the value).
+    /// `d value / dp` for each parameter, in the order asked (units of the value per unit
+    /// of the parameter: per unit of ln k, or per J/mol for an enthalpy).
     pub gradient: Vec<f64>,
 }
 
@@ -145,14 +146,15 @@ pub struct SensitivityStats {
 /// Forward sensitivities along a run.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ForwardSensitivities {
-    /// The steps whose rate constants are the parameters, in the order asked.
-    pub steps: Vec<usize>,
+    /// The parameters, in the order asked.
+    pub parameters: Vec<Parameter>,
     /// Output times (s), as asked.
     pub times_s: Vec<f64>,
     /// Per output time: the state (concentrations in mol/m3, then the temperature in K when
     /// solved).
     pub states: Vec<Vec<f64>>,
-    /// Per output time, per parameter: `dy/d ln k_j` over the state (mol/m3, K).
+    /// Per output time, per parameter: `dy/dp` over the state (mol/m3, K per unit of the
+    /// parameter).
     pub sensitivities: Vec<Vec<Vec<f64>>>,
     /// Per target asked: its value and gradient.
     pub targets: Vec<TargetSensitivity>,
@@ -163,8 +165,8 @@ pub struct ForwardSensitivities {
 /// The gradient of one target from one backward pass.
 #[derive(Debug, Clone, PartialEq)]
 pub struct AdjointSensitivity {
-    /// The steps whose rate constants are the parameters, in the order asked.
-    pub steps: Vec<usize>,
+    /// The parameters, in the order asked.
+    pub parameters: Vec<Parameter>,
     /// The target's value and gradient.
     pub target: TargetSensitivity,
     /// Counters.
@@ -184,6 +186,26 @@ pub enum SensitivityError {
         step: usize,
         /// Number of steps.
         n_steps: usize,
+    },
+    /// A species index is out of range.
+    #[error("species index {species} is out of range: the mechanism has {n_species} species")]
+    SpeciesOutOfRange {
+        /// The index given.
+        species: usize,
+        /// Number of species.
+        n_species: usize,
+    },
+    /// A falloff limit was asked of a step that has no falloff.
+    #[error("step {step} is not a falloff or chemically activated step: it has no separate pressure limits")]
+    NotFalloff {
+        /// The step (mechanism index).
+        step: usize,
+    },
+    /// A formation enthalpy was asked of a species without thermochemistry.
+    #[error("species {species} has no thermochemistry: its formation enthalpy is not a parameter")]
+    NoThermochemistry {
+        /// The species (mechanism index).
+        species: usize,
     },
     /// A target's state index is out of range.
     #[error("state index {state} is out of range: the state has {n_states} components")]
@@ -220,6 +242,242 @@ pub enum SensitivityError {
         /// diffsol's message.
         reason: String,
     },
+}
+
+/// A parameter of local sensitivities.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Parameter {
+    /// `ln kf` of step `j` (dimensionless): its forward rate constant as
+    /// [`Kinetics::scale_forward`] scales it (a reverse rate constant from `kf/Kc` follows,
+    /// both limits of a falloff step together).
+    RateConstant(usize),
+    /// `ln k0` of falloff or chemically activated step `j` (dimensionless): its low-pressure
+    /// limit alone ([`Kinetics::scale_falloff_limit`]).
+    LowPressureLimit(usize),
+    /// `ln kinf` of falloff or chemically activated step `j` (dimensionless): its
+    /// high-pressure limit alone.
+    HighPressureLimit(usize),
+    /// The standard formation enthalpy of species `i`, in J/mol: a shift of its enthalpy at
+    /// every temperature ([`Kinetics::shift_formation_enthalpy`]). It moves the equilibrium
+    /// constants (`d ln Kc_j/dH_i = -nu_ij/(R T)`), hence the reverse rate constants from
+    /// `kf/Kc`, and the heat release of a reactor that solves the energy balance.
+    FormationEnthalpy(usize),
+}
+
+/// The parameters' derivatives of the state derivative, `df/dp_b = A(y) w_b + d_b u(y)`:
+/// `w_b = sum_j a_bj nu_j` a combination of steps' stoichiometric columns (`A` the model's
+/// map from production rates, [`ModelEquations::chemistry_map`]), and `d_b u` the direct
+/// change of the heat release (enthalpies only; `u` from
+/// [`ModelEquations::heat_release_direction`], `d_b` the species' production rate).
+struct ParameterSet {
+    parameters: Vec<Parameter>,
+    /// Per formation-enthalpy parameter: the steps whose reverse rate constant is `kf/Kc`
+    /// and that change the species, with `nu_ij`; empty for the others.
+    enthalpy_steps: Vec<Vec<(usize, f64)>>,
+    any_enthalpy: bool,
+}
+
+/// Scratch and results of one evaluation of a [`ParameterSet`].
+struct ParameterDerivatives {
+    /// Per parameter: `(step j, a_bj)` (mol/(m3 s) per unit of the parameter).
+    weights: Vec<Vec<(usize, f64)>>,
+    /// Per parameter: `d_b` (mol/(m3 s) per J/mol for an enthalpy, else 0).
+    direct: Vec<f64>,
+    scaling: Vec<f64>,
+    reverse: Vec<f64>,
+    production: Vec<f64>,
+    /// `u`, the state's length.
+    heat: Vec<f64>,
+    /// Dense `w_b` (species) and a column (state).
+    w: Vec<f64>,
+    column: Vec<f64>,
+}
+
+impl ParameterSet {
+    /// Checks `parameters` against `kinetics` (and, for enthalpies, its thermochemistry).
+    fn new(kinetics: &Kinetics, parameters: &[Parameter]) -> Result<Self, SensitivityError> {
+        let n_steps = kinetics.n_steps();
+        let n_species = kinetics.n_species();
+        let mut enthalpy_steps = Vec::with_capacity(parameters.len());
+        for &p in parameters {
+            let mut list = Vec::new();
+            match p {
+                Parameter::RateConstant(step) if step >= n_steps => {
+                    return Err(SensitivityError::StepOutOfRange { step, n_steps });
+                }
+                Parameter::LowPressureLimit(step) | Parameter::HighPressureLimit(step) => {
+                    if step >= n_steps {
+                        return Err(SensitivityError::StepOutOfRange { step, n_steps });
+                    }
+                    if !kinetics.is_falloff(step) {
+                        return Err(SensitivityError::NotFalloff { step });
+                    }
+                }
+                Parameter::FormationEnthalpy(species) => {
+                    if species >= n_species {
+                        return Err(SensitivityError::SpeciesOutOfRange { species, n_species });
+                    }
+                    if kinetics.species_thermo()[species].is_none() {
+                        return Err(SensitivityError::NoThermochemistry { species });
+                    }
+                    for j in 0..n_steps {
+                        if let Some(&(_, nu)) =
+                            kinetics.net_changes(j).iter().find(|(i, _)| *i == species)
+                        {
+                            list.push((j, nu));
+                        }
+                    }
+                }
+                Parameter::RateConstant(_) => {}
+            }
+            enthalpy_steps.push(list);
+        }
+        Ok(ParameterSet {
+            any_enthalpy: parameters
+                .iter()
+                .any(|p| matches!(p, Parameter::FormationEnthalpy(_))),
+            parameters: parameters.to_vec(),
+            enthalpy_steps,
+        })
+    }
+
+    fn len(&self) -> usize {
+        self.parameters.len()
+    }
+
+    fn scratch(&self, kinetics: &Kinetics, m: usize) -> ParameterDerivatives {
+        ParameterDerivatives {
+            weights: self.parameters.iter().map(|_| Vec::new()).collect(),
+            direct: vec![0.0; self.len()],
+            scaling: vec![0.0; kinetics.n_steps()],
+            reverse: vec![0.0; kinetics.n_steps()],
+            production: vec![0.0; kinetics.n_species()],
+            heat: vec![0.0; m],
+            w: vec![0.0; kinetics.n_species()],
+            column: vec![0.0; m],
+        }
+    }
+
+    /// Fills `d.weights`, `d.direct` and `d.heat` at `(t, y)`; returns the temperature (K).
+    fn evaluate(&self, eqn: &Core, t: f64, y: &[f64], d: &mut ParameterDerivatives) -> f64 {
+        let kinetics = &eqn.kinetics;
+        let n = kinetics.n_species();
+        let c = &y[..n];
+        let temperature_k = eqn.with_rate_constants(t, y, |k, temperature_k| {
+            kinetics.scaling_rates(k, c, &mut d.scaling);
+            if self.any_enthalpy {
+                kinetics.reverse_rates_from_thermo(k, c, &mut d.reverse);
+                kinetics.production_rates(k, c, &mut d.production);
+            }
+            for (b, &p) in self.parameters.iter().enumerate() {
+                let weights = &mut d.weights[b];
+                weights.clear();
+                d.direct[b] = 0.0;
+                match p {
+                    Parameter::RateConstant(j) => weights.push((j, d.scaling[j])),
+                    Parameter::LowPressureLimit(j) | Parameter::HighPressureLimit(j) => {
+                        let (low, high) = kinetics.falloff_limit_rates(k, c, j).unwrap_or_default();
+                        let a = if matches!(p, Parameter::LowPressureLimit(_)) {
+                            low
+                        } else {
+                            high
+                        };
+                        weights.push((j, a));
+                    }
+                    Parameter::FormationEnthalpy(i) => {
+                        let rt = GAS_CONSTANT * temperature_k;
+                        for &(j, nu) in &self.enthalpy_steps[b] {
+                            if d.reverse[j] != 0.0 {
+                                weights.push((j, -nu * d.reverse[j] / rt));
+                            }
+                        }
+                        d.direct[b] = d.production[i];
+                    }
+                }
+            }
+            temperature_k
+        });
+        if self.any_enthalpy {
+            eqn.model_equations()
+                .heat_release_direction(temperature_k, y, &mut d.heat);
+        }
+        temperature_k
+    }
+
+    /// After [`evaluate`](Self::evaluate): calls `each(b, column)` with the dense `df/dp_b`.
+    fn for_each_column(
+        &self,
+        eqn: &Core,
+        temperature_k: f64,
+        y: &[f64],
+        d: &mut ParameterDerivatives,
+        mut each: impl FnMut(usize, &[f64]),
+    ) {
+        let kinetics = &eqn.kinetics;
+        let equations = eqn.model_equations();
+        for b in 0..self.len() {
+            d.w.iter_mut().for_each(|x| *x = 0.0);
+            for &(j, a) in &d.weights[b] {
+                for &(i, nu) in kinetics.net_changes(j) {
+                    d.w[i] += nu * a;
+                }
+            }
+            equations.chemistry_map(temperature_k, y, &d.w, &mut d.column);
+            if d.direct[b] != 0.0 {
+                for (o, u) in d.column.iter_mut().zip(&d.heat) {
+                    *o += d.direct[b] * u;
+                }
+            }
+            each(b, &d.column);
+        }
+    }
+
+    /// The dense `df/dp` of every parameter at `(t, y)` (allocates).
+    fn columns(&self, eqn: &Core, t: f64, y: &[f64]) -> Vec<Vec<f64>> {
+        let mut d = self.scratch(&eqn.kinetics, eqn.n_states());
+        let temperature_k = self.evaluate(eqn, t, y, &mut d);
+        let mut out = vec![Vec::new(); self.len()];
+        self.for_each_column(eqn, temperature_k, y, &mut d, |b, column| {
+            out[b] = column.to_vec()
+        });
+        out
+    }
+
+    /// The step of a central difference in parameter `b` at temperature `temperature_k`:
+    /// [`RATE_MAXIMUM_STEP`] in ln k, that times `R T` (J/mol) for an enthalpy.
+    fn difference_step(&self, b: usize, temperature_k: f64) -> f64 {
+        match self.parameters[b] {
+            Parameter::FormationEnthalpy(_) => RATE_MAXIMUM_STEP * GAS_CONSTANT * temperature_k,
+            _ => RATE_MAXIMUM_STEP,
+        }
+    }
+}
+
+/// The equations of `base` with parameter `parameter` moved by `delta` (in ln k, or J/mol).
+fn perturbed_core(base: &Core, parameter: Parameter, delta: f64) -> Result<Core, ReactorError> {
+    let mut kinetics = base.kinetics.clone();
+    match parameter {
+        Parameter::RateConstant(j) => {
+            kinetics.scale_forward(j, delta.exp());
+        }
+        Parameter::LowPressureLimit(j) => {
+            kinetics.scale_falloff_limit(j, FalloffLimit::Low, delta.exp());
+        }
+        Parameter::HighPressureLimit(j) => {
+            kinetics.scale_falloff_limit(j, FalloffLimit::High, delta.exp());
+        }
+        Parameter::FormationEnthalpy(i) => {
+            kinetics.shift_formation_enthalpy(i, delta);
+        }
+    }
+    let thermo = energy_thermo(&kinetics, &base.model)?;
+    Core::new(
+        kinetics,
+        base.model.clone(),
+        thermo,
+        base.temperature_k(),
+        base.initial.clone(),
+    )
 }
 
 /// The state's evaluator: the reactor equations of `kinetics` in `model`, with the full
@@ -265,16 +523,6 @@ fn state_atol(model: &ReactorModel, options: &IntegrationOptions) -> Vec<f64> {
         atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
     }
     atol
-}
-
-fn check_steps(kinetics: &Kinetics, steps: &[usize]) -> Result<(), SensitivityError> {
-    match steps.iter().find(|&&j| j >= kinetics.n_steps()) {
-        Some(&step) => Err(SensitivityError::StepOutOfRange {
-            step,
-            n_steps: kinetics.n_steps(),
-        }),
-        None => Ok(()),
-    }
 }
 
 fn check_target(
@@ -349,28 +597,6 @@ impl Pointwise<'_> {
         row
     }
 
-    /// `df/d ln k_j` for every step of `steps` (each a state-length vector).
-    fn parameter_columns(&self, t: f64, y: &[f64], steps: &[usize]) -> Vec<Vec<f64>> {
-        let kinetics = &self.eqn.kinetics;
-        let n = kinetics.n_species();
-        let mut q = vec![0.0; kinetics.n_steps()];
-        let temperature_k = self.eqn.scaling_rates(t, y, &mut q);
-        let equations = self.eqn.model_equations();
-        let mut w = vec![0.0; n];
-        steps
-            .iter()
-            .map(|&j| {
-                w.iter_mut().for_each(|x| *x = 0.0);
-                for &(i, nu) in kinetics.net_changes(j) {
-                    w[i] = nu * q[j];
-                }
-                let mut out = vec![0.0; self.m()];
-                equations.chemistry_map(temperature_k, y, &w, &mut out);
-                out
-            })
-            .collect()
-    }
-
     /// `d/dt f_i` along the trajectory: `(J f)_i + df_i/dt` (the explicit time dependence of
     /// a prescribed temperature or photolysis by central differences in t alone).
     fn rate_slope(&self, t: f64, y: &[f64], i: usize) -> f64 {
@@ -410,20 +636,6 @@ fn second_derivative(eqn: &Core, t: f64, y: &[f64], i: usize) -> f64 {
     Pointwise { eqn }.rate_slope(t, y, i)
 }
 
-/// The equations of `base` with step `j`'s rate constants multiplied by `factor`.
-fn scaled_core(base: &Core, j: usize, factor: f64) -> Result<Core, ReactorError> {
-    let mut kinetics = base.kinetics.clone();
-    kinetics.scale_forward(j, factor);
-    let thermo = energy_thermo(&kinetics, &base.model)?;
-    Core::new(
-        kinetics,
-        base.model.clone(),
-        thermo,
-        base.temperature_k(),
-        base.initial.clone(),
-    )
-}
-
 /// Relative step of the central differences of a [`Target::RateMaximum`] in ln k and along
 /// the state.
 const RATE_MAXIMUM_STEP: f64 = 1e-5;
@@ -455,162 +667,92 @@ fn second_derivative_slope(eqn: &Core, t: f64, y: &[f64], i: usize, atol: &[f64]
 }
 
 // ---------------------------------------------------------------------------------------
-// Forward: the augmented system.
+// Forward: the state with diffsol's staggered forward sensitivities.
 
-/// The state and its sensitivities as one system `(y, s_1, ..., s_P)` (shared by the
-/// problem and its linear solver, [`BlockSolver`]).
-struct SensEquations {
-    core: Rc<SensCore>,
-}
-
-impl std::ops::Deref for SensEquations {
-    type Target = SensCore;
-    fn deref(&self) -> &SensCore {
-        &self.core
-    }
-}
-
-/// What the augmented system evaluates with.
-struct SensCore {
+/// The reactor equations with the chosen rate constants as parameters, for diffsol's forward
+/// sensitivities: the right-hand side is the state's, `df/dp` has one column per parameter,
+/// and Jacobian products act on a block of columns (one per parameter) with one evaluation
+/// of the sparse Jacobian per state.
+struct ParamEquations {
     eqn: Core,
-    steps: Vec<usize>,
+    set: ParameterSet,
     m: usize,
-    /// Absolute tolerances of the state (the scale of difference quotients).
-    atol: Vec<f64>,
-    /// Time and augmented state of the last Jacobian evaluation (the Newton matrix's point).
-    lin: RefCell<(f64, Vec<f64>)>,
-    /// The augmented derivative there, and scratch for a perturbed evaluation.
-    base: RefCell<Vec<f64>>,
-    probe: RefCell<Vec<f64>>,
-    probe_out: RefCell<Vec<f64>>,
-    /// Augmented sparsity: the state's Jacobian pattern in the first block, the diagonal
-    /// elsewhere (the other blocks' values are never used: see [`BlockSolver`]).
-    sparsity: SymbolicSparseColMat<usize>,
     initial: Vec<f64>,
+    /// `df/dp`'s pattern: dense, `m x P` (a column is dense in general: the dilution terms at
+    /// constant pressure touch every row).
+    sens_sparsity: SymbolicSparseColMat<usize>,
+    /// Jacobian values at `jac_point` (time and state), valid when `jac_valid`.
     jac: RefCell<Vec<f64>>,
-    q: RefCell<Vec<f64>>,
-    w: RefCell<Vec<f64>>,
-    column: RefCell<Vec<f64>>,
+    jac_point: RefCell<(f64, Vec<f64>)>,
+    jac_valid: Cell<bool>,
+    scratch: RefCell<ParameterDerivatives>,
+    /// Row-major blocks (state x parameters) of the Jacobian products.
+    blocks: RefCell<(Vec<f64>, Vec<f64>)>,
     evaluations: Cell<usize>,
     ctx: FaerContext,
 }
 
-impl SensEquations {
-    fn new(eqn: Core, steps: Vec<usize>, initial_state: &[f64], atol: Vec<f64>) -> Self {
+impl ParamEquations {
+    fn new(eqn: Core, set: ParameterSet, initial: &[f64]) -> Self {
         let m = eqn.n_states();
-        let p = steps.len();
-        let n_total = m * (1 + p);
-        let pattern = eqn.state_pattern();
-        let mut starts = pattern.column_starts().to_vec();
-        let mut rows = pattern.row_indices().to_vec();
-        for col in m..n_total {
-            rows.push(col);
-            starts.push(rows.len());
-        }
-        let sparsity = SymbolicSparseColMat::new_checked(n_total, n_total, starts, None, rows);
-        let mut initial = vec![0.0; n_total];
-        initial[..m].copy_from_slice(initial_state);
-        let nnz = pattern.nnz();
-        let n_species = eqn.kinetics.n_species();
-        let n_steps = eqn.kinetics.n_steps();
-        SensEquations {
-            core: Rc::new(SensCore {
-                lin: RefCell::new((0.0, vec![0.0; n_total])),
-                base: RefCell::new(vec![0.0; n_total]),
-                probe: RefCell::new(vec![0.0; n_total]),
-                probe_out: RefCell::new(vec![0.0; n_total]),
-                atol,
-                steps,
-                m,
-                sparsity,
-                initial,
-                jac: RefCell::new(vec![0.0; nnz]),
-                q: RefCell::new(vec![0.0; n_steps]),
-                w: RefCell::new(vec![0.0; n_species]),
-                column: RefCell::new(vec![0.0; m]),
-                evaluations: Cell::new(0),
-                ctx: FaerContext::default(),
-                eqn,
-            }),
-        }
-    }
-}
-
-impl SensCore {
-    fn n_total(&self) -> usize {
-        self.m * (1 + self.steps.len())
-    }
-
-    /// Adds `c H_j x0` to each block `j` of `rest`, with `H_j x0` the difference quotient of
-    /// the augmented derivative along `x0` (state part only) at the Newton matrix's point.
-    fn coupling(&self, x0: &[f64], c: f64, rest: &mut [f64]) {
-        let m = self.m;
-        let lin = self.lin.borrow();
-        let (t, point) = (&lin.0, &lin.1);
-        let scale = x0
-            .iter()
-            .zip(&point[..m])
-            .zip(&self.atol)
-            .map(|((x, y), a)| x.abs() / (y.abs() + a))
-            .fold(0.0, f64::max);
-        if scale == 0.0 || !scale.is_finite() {
-            return;
-        }
-        let sigma = f64::EPSILON.sqrt() / scale;
-        let mut probe = self.probe.borrow_mut();
-        probe.copy_from_slice(point);
-        for (p, x) in probe[..m].iter_mut().zip(x0) {
-            *p += sigma * x;
-        }
-        let mut out = self.probe_out.borrow_mut();
-        self.derivative(*t, &probe, &mut out);
-        let base = self.base.borrow();
-        for ((r, o), b) in rest.iter_mut().zip(&out[m..]).zip(&base[m..]) {
-            *r += c * (o - b) / sigma;
+        let p = set.len();
+        let starts: Vec<usize> = (0..=p).map(|c| c * m).collect();
+        let rows: Vec<usize> = (0..p).flat_map(|_| 0..m).collect();
+        let sens_sparsity = SymbolicSparseColMat::new_checked(m, p, starts, None, rows);
+        let nnz = eqn.state_pattern().nnz();
+        ParamEquations {
+            m,
+            initial: initial.to_vec(),
+            sens_sparsity,
+            jac: RefCell::new(vec![0.0; nnz]),
+            jac_point: RefCell::new((f64::NAN, vec![f64::NAN; m])),
+            jac_valid: Cell::new(false),
+            scratch: RefCell::new(set.scratch(&eqn.kinetics, m)),
+            blocks: RefCell::new((Vec::new(), Vec::new())),
+            evaluations: Cell::new(0),
+            ctx: FaerContext::default(),
+            set,
+            eqn,
         }
     }
 
-    /// The augmented derivative at `(t, x)`.
-    fn derivative(&self, t: f64, x: &[f64], out: &mut [f64]) {
-        self.evaluations.set(self.evaluations.get() + 1);
-        let m = self.m;
-        let (y, sens) = x.split_at(m);
-        let (f, sens_out) = out.split_at_mut(m);
-        self.eqn.state_derivative(t, y, f);
-        let pattern = self.eqn.state_pattern();
-        let mut jac = self.jac.borrow_mut();
-        self.eqn.jacobian_values(t, y, &mut jac);
-        let mut q = self.q.borrow_mut();
-        let temperature_k = self.eqn.scaling_rates(t, y, &mut q);
-        let mut w = self.w.borrow_mut();
-        let mut column = self.column.borrow_mut();
-        let equations = self.eqn.model_equations();
-        let (starts, rows) = (pattern.column_starts(), pattern.row_indices());
-        for (b, &j) in self.steps.iter().enumerate() {
-            let s = &sens[b * m..(b + 1) * m];
-            let o = &mut sens_out[b * m..(b + 1) * m];
-            csc_mul(starts, rows, &jac, s, o);
-            w.iter_mut().for_each(|x| *x = 0.0);
-            for &(i, nu) in self.eqn.kinetics.net_changes(j) {
-                w[i] = nu * q[j];
-            }
-            equations.chemistry_map(temperature_k, y, &w, &mut column);
-            for (o, c) in o.iter_mut().zip(column.iter()) {
-                *o += c;
+    fn n_params(&self) -> usize {
+        self.set.len()
+    }
+
+    /// The Jacobian values at `(t, y)`, evaluated only when the point changed (diffsol asks
+    /// for products at the same point in every iteration of a step's sensitivity solve).
+    fn jacobian_at(&self, t: f64, y: &[f64]) -> std::cell::Ref<'_, Vec<f64>> {
+        {
+            let mut point = self.jac_point.borrow_mut();
+            if !(self.jac_valid.get() && point.0 == t && point.1 == y) {
+                self.eqn.jacobian_values(t, y, &mut self.jac.borrow_mut());
+                point.0 = t;
+                point.1.copy_from_slice(y);
+                self.jac_valid.set(true);
             }
         }
+        self.jac.borrow()
+    }
+
+    /// Calls `each(b, column)` with `df/dp_b` at `(t, y)` for every parameter `b`.
+    fn for_each_column(&self, t: f64, y: &[f64], each: impl FnMut(usize, &[f64])) {
+        let mut d = self.scratch.borrow_mut();
+        let temperature_k = self.set.evaluate(&self.eqn, t, y, &mut d);
+        self.set
+            .for_each_column(&self.eqn, temperature_k, y, &mut d, each);
     }
 }
 
-struct SensRhs<'a> {
-    eqn: &'a SensEquations,
+struct ParamRhs<'a> {
+    eqn: &'a ParamEquations,
 }
 
-struct SensInit<'a> {
-    eqn: &'a SensEquations,
+struct ParamInit<'a> {
+    eqn: &'a ParamEquations,
 }
 
-macro_rules! impl_sens_op {
+macro_rules! impl_param_op {
     ($name:ident) => {
         impl Op for $name<'_> {
             type T = f64;
@@ -622,24 +764,26 @@ macro_rules! impl_sens_op {
                 &self.eqn.ctx
             }
             fn nstates(&self) -> usize {
-                self.eqn.n_total()
+                self.eqn.m
             }
             fn nout(&self) -> usize {
-                self.eqn.n_total()
+                self.eqn.m
             }
             fn nparams(&self) -> usize {
-                0
+                self.eqn.n_params()
             }
         }
     };
 }
 
-impl_sens_op!(SensRhs);
-impl_sens_op!(SensInit);
+impl_param_op!(ParamRhs);
+impl_param_op!(ParamInit);
 
-impl NonLinearOp for SensRhs<'_> {
+impl NonLinearOp for ParamRhs<'_> {
     fn call_inplace(&self, x: &FaerVec<f64>, t: f64, y: &mut FaerVec<f64>) {
-        self.eqn.derivative(
+        let eqn = self.eqn;
+        eqn.evaluations.set(eqn.evaluations.get() + 1);
+        eqn.eqn.state_derivative(
             t,
             <FaerSparseMat<f64> as Backend>::slice(x),
             <FaerSparseMat<f64> as Backend>::slice_mut(y),
@@ -647,55 +791,122 @@ impl NonLinearOp for SensRhs<'_> {
     }
 }
 
-impl NonLinearOpJacobian for SensRhs<'_> {
+impl NonLinearOpJacobian for ParamRhs<'_> {
+    /// `J v` for every column (batch lane) of `v`: one parameter's sensitivity per lane. The
+    /// lanes are gathered into a row-major block so that each Jacobian entry updates all of
+    /// them with one contiguous (vectorized) row operation.
     fn jac_mul_inplace(&self, x: &FaerVec<f64>, t: f64, v: &FaerVec<f64>, y: &mut FaerVec<f64>) {
-        // The block-diagonal part (each block the state's Jacobian); the second-order
-        // coupling of the sensitivities to the state is left out, as in the Newton matrix.
-        let m = self.eqn.m;
-        let x = <FaerSparseMat<f64> as Backend>::slice(x);
-        let v = <FaerSparseMat<f64> as Backend>::slice(v);
-        let y = <FaerSparseMat<f64> as Backend>::slice_mut(y);
-        let pattern = self.eqn.eqn.state_pattern();
-        let mut jac = self.eqn.jac.borrow_mut();
-        self.eqn.eqn.jacobian_values(t, &x[..m], &mut jac);
-        for (vb, yb) in v.chunks(m).zip(y.chunks_mut(m)) {
-            csc_mul(pattern.column_starts(), pattern.row_indices(), &jac, vb, yb);
+        let eqn = self.eqn;
+        let jac = eqn.jacobian_at(t, <FaerSparseMat<f64> as Backend>::slice(x));
+        let pattern = eqn.eqn.state_pattern();
+        let (starts, rows) = (pattern.column_starts(), pattern.row_indices());
+        let v = v.inner();
+        let y = y.inner_mut();
+        let lanes = v.ncols().min(y.ncols());
+        if lanes == 1 {
+            csc_mul(starts, rows, &jac, v.col_as_slice(0), y.col_as_slice_mut(0));
+            return;
+        }
+        let m = eqn.m;
+        let mut blocks = eqn.blocks.borrow_mut();
+        let (input, output) = &mut *blocks;
+        input.resize(m * lanes, 0.0);
+        output.clear();
+        output.resize(m * lanes, 0.0);
+        for lane in 0..lanes {
+            for (i, &value) in v.col_as_slice(lane).iter().enumerate() {
+                input[i * lanes + lane] = value;
+            }
+        }
+        for col in 0..m {
+            let source = &input[col * lanes..(col + 1) * lanes];
+            for p in starts[col]..starts[col + 1] {
+                let a = jac[p];
+                let r = rows[p];
+                let target = &mut output[r * lanes..(r + 1) * lanes];
+                for (o, s) in target.iter_mut().zip(source) {
+                    *o += a * s;
+                }
+            }
+        }
+        for lane in 0..lanes {
+            for (i, o) in y.col_as_slice_mut(lane).iter_mut().enumerate() {
+                *o = output[i * lanes + lane];
+            }
         }
     }
 
     fn jacobian_inplace(&self, x: &FaerVec<f64>, t: f64, y: &mut FaerSparseMat<f64>) {
+        self.eqn.eqn.rhs().jacobian_inplace(x, t, y);
+    }
+
+    fn jacobian_sparsity(&self) -> Option<SymbolicSparseColMat<usize>> {
+        self.eqn.eqn.rhs().jacobian_sparsity()
+    }
+}
+
+impl NonLinearOpSens for ParamRhs<'_> {
+    /// `(df/dp) v`, `v` one number per parameter.
+    fn sens_mul_inplace(&self, x: &FaerVec<f64>, t: f64, v: &FaerVec<f64>, y: &mut FaerVec<f64>) {
+        let y = <FaerSparseMat<f64> as Backend>::slice_mut(y);
+        y.iter_mut().for_each(|e| *e = 0.0);
+        let v = <FaerSparseMat<f64> as Backend>::slice(v);
+        self.eqn
+            .for_each_column(t, <FaerSparseMat<f64> as Backend>::slice(x), |b, column| {
+                if let Some(&vb) = v.get(b) {
+                    for (o, c) in y.iter_mut().zip(column) {
+                        *o += vb * c;
+                    }
+                }
+            });
+    }
+
+    fn sens_inplace(&self, x: &FaerVec<f64>, t: f64, y: &mut FaerSparseMat<f64>) {
         let m = self.eqn.m;
-        let x = <FaerSparseMat<f64> as Backend>::slice(x);
-        let pattern = self.eqn.eqn.state_pattern();
-        let nnz = pattern.nnz();
         let Some(matrix) = y.inner_mut().first_mut() else {
             return;
         };
         let values = matrix.val_mut();
-        if values.len() != nnz + m * self.eqn.steps.len() {
+        if values.len() != m * self.eqn.n_params() {
             return;
         }
-        self.eqn.eqn.jacobian_values(t, &x[..m], &mut values[..nnz]);
-        // The other blocks' diagonals carry -1, so that the Newton matrix holds 1 + c there:
-        // the linear solver reads the step coefficient c from it (see `BlockSolver`).
-        values[nnz..].iter_mut().for_each(|v| *v = -1.0);
-        let mut lin = self.eqn.lin.borrow_mut();
-        lin.0 = t;
-        lin.1.copy_from_slice(x);
+        self.eqn
+            .for_each_column(t, <FaerSparseMat<f64> as Backend>::slice(x), |b, column| {
+                values[b * m..(b + 1) * m].copy_from_slice(column);
+            });
     }
 
-    fn jacobian_sparsity(&self) -> Option<SymbolicSparseColMat<usize>> {
-        Some(self.eqn.sparsity.clone())
+    fn sens_sparsity(&self) -> Option<SymbolicSparseColMat<usize>> {
+        Some(self.eqn.sens_sparsity.clone())
     }
 }
 
-impl ConstantOp for SensInit<'_> {
+impl ConstantOp for ParamInit<'_> {
     fn call_inplace(&self, _t: f64, y: &mut FaerVec<f64>) {
         <FaerSparseMat<f64> as Backend>::slice_mut(y).copy_from_slice(&self.eqn.initial);
     }
 }
 
-impl Op for SensEquations {
+impl ConstantOpSens for ParamInit<'_> {
+    /// The initial state does not depend on any rate constant.
+    fn sens_mul_inplace(&self, _t: f64, _v: &FaerVec<f64>, y: &mut FaerVec<f64>) {
+        <FaerSparseMat<f64> as Backend>::slice_mut(y)
+            .iter_mut()
+            .for_each(|e| *e = 0.0);
+    }
+
+    fn sens_inplace(&self, _t: f64, y: &mut FaerSparseMat<f64>) {
+        if let Some(matrix) = y.inner_mut().first_mut() {
+            matrix.val_mut().iter_mut().for_each(|e| *e = 0.0);
+        }
+    }
+
+    fn sens_sparsity(&self) -> Option<SymbolicSparseColMat<usize>> {
+        Some(self.eqn.sens_sparsity.clone())
+    }
+}
+
+impl Op for ParamEquations {
     type T = f64;
     type V = FaerVec<f64>;
     type M = FaerSparseMat<f64>;
@@ -705,184 +916,42 @@ impl Op for SensEquations {
         &self.ctx
     }
     fn nstates(&self) -> usize {
-        self.n_total()
+        self.m
     }
     fn nout(&self) -> usize {
-        self.n_total()
+        self.m
     }
     fn nparams(&self) -> usize {
-        0
+        self.n_params()
     }
 }
 
-impl<'a> OdeEquationsRef<'a> for SensEquations {
+impl<'a> OdeEquationsRef<'a> for ParamEquations {
     type Mass = ParameterisedOp<'a, UnitCallable<FaerSparseMat<f64>>>;
-    type Rhs = SensRhs<'a>;
+    type Rhs = ParamRhs<'a>;
     type Root = ParameterisedOp<'a, UnitCallable<FaerSparseMat<f64>>>;
-    type Init = SensInit<'a>;
+    type Init = ParamInit<'a>;
     type Out = ParameterisedOp<'a, UnitCallable<FaerSparseMat<f64>>>;
     type Reset = ParameterisedOp<'a, UnitCallable<FaerSparseMat<f64>>>;
 }
 
-impl OdeEquations for SensEquations {
-    fn rhs(&self) -> SensRhs<'_> {
-        SensRhs { eqn: self }
+impl OdeEquations for ParamEquations {
+    fn rhs(&self) -> ParamRhs<'_> {
+        ParamRhs { eqn: self }
     }
     fn mass(&self) -> Option<<Self as OdeEquationsRef<'_>>::Mass> {
         None
     }
-    fn init(&self) -> SensInit<'_> {
-        SensInit { eqn: self }
+    fn init(&self) -> ParamInit<'_> {
+        ParamInit { eqn: self }
     }
     fn set_params(&mut self, _p: &Self::V) {}
     fn get_params(&self, _p: &mut Self::V) {}
 }
 
-/// Linear solver of the augmented Newton matrix `I - c J_aug`, which is block lower
-/// triangular: diagonal blocks `I - c J` (the state's, factorized once by
-/// [`FixedPatternLu`] and applied to every block), and below them `-c H_j` with
-/// `H_j = d(J s_j + df/d ln k_j)/dy`. The solve is by block forward substitution:
-/// `x_0 = (I - c J)^-1 b_0`, `x_j = (I - c J)^-1 (b_j + c H_j x_0)`, every `H_j x_0` from
-/// one difference quotient of the augmented derivative along `x_0` at the matrix's point.
-/// Without the `H_j` terms (block diagonal) Newton's iterations failed to converge wherever
-/// the sensitivities are large (thousands of failures through an ignition).
-struct BlockSolver {
-    m: usize,
-    core: Option<Rc<SensCore>>,
-    /// The step coefficient of the Newton matrix.
-    c: f64,
-    matrix: Option<FaerSparseMat<f64>>,
-    /// Positions in the matrix values of the first block's entries, in block order.
-    positions: Vec<usize>,
-    block_values: Vec<f64>,
-    lu: Option<FixedPatternLu>,
-    factorized: bool,
-}
-
-impl BlockSolver {
-    fn new(m: usize, core: Option<Rc<SensCore>>) -> Self {
-        BlockSolver {
-            m,
-            core,
-            c: 0.0,
-            matrix: None,
-            positions: Vec::new(),
-            block_values: Vec::new(),
-            lu: None,
-            factorized: false,
-        }
-    }
-}
-
-impl Default for BlockSolver {
-    fn default() -> Self {
-        BlockSolver::new(0, None)
-    }
-}
-
-impl LaLinearSolver<FaerSparseMat<f64>> for BlockSolver {
-    fn set_sparsity<
-        C: LaLinearOp<T = f64, V = FaerVec<f64>, M = FaerSparseMat<f64>, C = FaerContext>,
-    >(
-        &mut self,
-        op: &C,
-    ) {
-        self.factorized = false;
-        self.lu = None;
-        self.matrix = op.sparsity().map(|s| {
-            FaerSparseMat::new_from_sparsity(op.nrows(), op.ncols(), Some(s), *op.context())
-        });
-        let Some(block) = self.matrix.as_ref().and_then(|m| m.inner().first()) else {
-            return;
-        };
-        let symbolic = block.symbolic();
-        let (col_ptr, row_idx) = (symbolic.col_ptr(), symbolic.row_idx());
-        let m = self.m.min(block.ncols());
-        let mut starts = vec![0];
-        let mut rows = Vec::new();
-        self.positions.clear();
-        for col in 0..m {
-            let entries = col_ptr[col]..col_ptr[col + 1];
-            for (p, &row) in entries.clone().zip(&row_idx[entries]) {
-                if row < m {
-                    rows.push(row);
-                    self.positions.push(p);
-                }
-            }
-            starts.push(rows.len());
-        }
-        self.block_values = vec![0.0; rows.len()];
-        self.lu = FixedPatternLu::new(m, &starts, &rows).ok();
-    }
-
-    fn set_linearisation<
-        C: LaLinearOp<T = f64, V = FaerVec<f64>, M = FaerSparseMat<f64>, C = FaerContext>,
-    >(
-        &mut self,
-        op: &C,
-    ) {
-        self.factorized = false;
-        let Some(matrix) = self.matrix.as_mut() else {
-            return;
-        };
-        op.matrix_inplace(matrix);
-        let Some(block) = matrix.inner().first() else {
-            return;
-        };
-        let values = block.val();
-        for (dst, &p) in self.block_values.iter_mut().zip(&self.positions) {
-            *dst = values[p];
-        }
-        if let Some(lu) = self.lu.as_mut() {
-            self.factorized = lu.factorize(&self.block_values).is_ok();
-        }
-        if let Some(core) = &self.core {
-            let nnz = core.eqn.state_pattern().nnz();
-            self.c = values.get(nnz).map_or(0.0, |v| v - 1.0);
-            let lin = core.lin.borrow();
-            core.derivative(lin.0, &lin.1, &mut core.base.borrow_mut());
-        }
-    }
-
-    fn solve_in_place(&self, x: &mut FaerVec<f64>) -> Result<(), LaError> {
-        let lu = match (&self.lu, self.factorized) {
-            (Some(lu), true) if self.m > 0 => lu,
-            _ => return Err(LaError::from(LinearSolverError::LuNotInitialized)),
-        };
-        let fail = |_| LaError::from(LinearSolverError::LuSolveFailed);
-        let m = self.m;
-        let data = x.inner_mut();
-        for column in 0..data.ncols() {
-            let rhs = data.col_as_slice_mut(column);
-            let (first, rest) = rhs.split_at_mut(m);
-            lu.solve_in_place(first).map_err(fail)?;
-            if let (Some(core), false) = (&self.core, rest.is_empty()) {
-                if self.c != 0.0 {
-                    core.coupling(first, self.c, rest);
-                }
-            }
-            for block in rest.chunks_mut(m) {
-                lu.solve_in_place(block).map_err(fail)?;
-            }
-        }
-        Ok(())
-    }
-
-    fn solve_transpose_in_place(&self, x: &mut FaerVec<f64>) -> Result<(), LaError> {
-        let lu = match (&self.lu, self.factorized) {
-            (Some(lu), true) if self.m > 0 => lu,
-            _ => return Err(LaError::from(LinearSolverError::LuNotInitialized)),
-        };
-        let data = x.inner_mut();
-        for column in 0..data.ncols() {
-            for block in data.col_as_slice_mut(column).chunks_mut(self.m) {
-                lu.solve_transpose_in_place(block)
-                    .map_err(|_| LaError::from(LinearSolverError::LuSolveFailed))?;
-            }
-        }
-        Ok(())
-    }
-}
+/// Whether the sensitivities take part in the local error test of the forward integration
+/// (they do not: see `docs/sensitivity.md`, "Forward method", for the measurements).
+const SENSITIVITIES_IN_ERROR_TEST: bool = false;
 
 /// Problem settings shared by the forward and backward integrations.
 fn configure<E>(problem: &mut OdeSolverProblem<E>, options: &IntegrationOptions)
@@ -953,17 +1022,10 @@ fn stop_times(model: &ReactorModel, times: &[f64]) -> Vec<f64> {
     stops
 }
 
-/// Forward sensitivities of the state to the rate constants of `steps` (mechanism indices),
-/// at every time of `output_times_s` (s; finite, increasing; the first is the start), and of
-/// each of `targets` (their times inside the run).
+/// Forward sensitivities of the state to the rate constants of `steps` (mechanism indices):
+/// [`forward_parameter_sensitivities`] with [`Parameter::RateConstant`] of each.
 ///
-/// The run is the reactor `model` of `kinetics` from `initial_mol_per_m3` (mol/m3) at
-/// `temperature_k` (K, as for [`crate::BatchSystem::with_model`]) with the tolerances of
-/// `options`, which also apply to the sensitivities (in the state's units). Non-negativity
-/// and invariant projection are not applied (the sensitivities would need the same
-/// projection); at tight tolerances the state matches a plain run to the tolerance.
-///
-/// Errors: [`SensitivityError`] for bad input, and when the integration fails.
+/// Errors: as for [`forward_parameter_sensitivities`].
 #[allow(clippy::too_many_arguments)]
 pub fn forward_sensitivities(
     kinetics: &Kinetics,
@@ -975,7 +1037,47 @@ pub fn forward_sensitivities(
     steps: &[usize],
     targets: &[Target],
 ) -> Result<ForwardSensitivities, SensitivityError> {
-    check_steps(kinetics, steps)?;
+    let parameters: Vec<Parameter> = steps.iter().map(|&j| Parameter::RateConstant(j)).collect();
+    forward_parameter_sensitivities(
+        kinetics,
+        model,
+        temperature_k,
+        initial_mol_per_m3,
+        output_times_s,
+        options,
+        &parameters,
+        targets,
+    )
+}
+
+/// Forward sensitivities of the state to `parameters` at every time of `output_times_s` (s;
+/// finite, increasing; the first is the start), and of each of `targets` (their times inside
+/// the run).
+///
+/// The run is the reactor `model` of `kinetics` from `initial_mol_per_m3` (mol/m3) at
+/// `temperature_k` (K, as for [`crate::BatchSystem::with_model`]) with the tolerances of
+/// `options`. The sensitivities are integrated with the state by diffsol's BDF (staggered
+/// corrector: after the state's Newton iteration has converged, each step solves the linear
+/// sensitivity equations of all parameters at once with the state's factored Newton matrix);
+/// they do not take part in the local error test, so the steps are the state's. Non-negativity
+/// and invariant projection are not applied (the sensitivities would need the same
+/// projection); at tight tolerances the state matches a plain run to the tolerance.
+///
+/// Errors: [`SensitivityError`] for bad input (a step or species out of range, a falloff
+/// limit of a step without falloff, the enthalpy of a species without thermochemistry), and
+/// when the integration fails.
+#[allow(clippy::too_many_arguments)]
+pub fn forward_parameter_sensitivities(
+    kinetics: &Kinetics,
+    model: &ReactorModel,
+    temperature_k: f64,
+    initial_mol_per_m3: &[f64],
+    output_times_s: &[f64],
+    options: &IntegrationOptions,
+    parameters: &[Parameter],
+    targets: &[Target],
+) -> Result<ForwardSensitivities, SensitivityError> {
+    let set = ParameterSet::new(kinetics, parameters)?;
     let (eqn, initial) = core(kinetics, model, temperature_k, initial_mol_per_m3, options)?;
     let m = eqn.n_states();
     let Some((&t0, &t_end)) = output_times_s.first().zip(output_times_s.last()) else {
@@ -996,121 +1098,156 @@ pub fn forward_sensitivities(
         check_target(target, m, t0, t_end)?;
     }
     let atol_state = state_atol(model, options);
-    let p = steps.len();
-    let mut atol = Vec::with_capacity(m * (1 + p));
-    for _ in 0..=p {
-        atol.extend_from_slice(&atol_state);
-    }
-    let sens = SensEquations::new(eqn, steps.to_vec(), &initial, atol_state.clone());
-    let mut problem = OdeBuilder::<FaerSparseMat<f64>>::new()
+    let p = set.len();
+    let params = ParamEquations::new(eqn, set, &initial);
+    let builder = OdeBuilder::<FaerSparseMat<f64>>::new()
         .rtol(options.relative_tolerance)
-        .atol(atol)
+        .atol(atol_state.clone())
         .t0(t0)
-        .build_from_eqn(sens)
-        .map_err(|e| failed(t0, e))?;
+        .p(vec![0.0; p]);
+    let builder = if SENSITIVITIES_IN_ERROR_TEST {
+        let mut sens_atol = Vec::with_capacity(m * p);
+        for _ in 0..p {
+            sens_atol.extend_from_slice(&atol_state);
+        }
+        builder
+            .sens_rtol(options.relative_tolerance)
+            .sens_atol(sens_atol)
+    } else {
+        builder
+    };
+    let mut problem = builder.build_from_eqn(params).map_err(|e| failed(t0, e))?;
     configure(&mut problem, options);
+
     let problem = problem;
-    let state = problem
-        .bdf_state::<BlockSolver>()
-        .map_err(|e| failed(t0, e))?;
-    let mut solver: Bdf<'_, SensEquations, BlockSolver> = Bdf::new(
-        &problem,
-        state,
-        BlockSolver::new(m, Some(Rc::clone(&problem.eqn.core))),
-    )
-    .map_err(|e| failed(t0, e))?;
 
     let mut wanted: Vec<f64> = output_times_s.to_vec();
     wanted.extend(targets.iter().map(Target::time_s));
     let stops = stop_times(model, &wanted);
-    let n_total = m * (1 + p);
-    // The augmented state at every stop (output and target times).
-    let mut recorded: Vec<(f64, Vec<f64>)> = Vec::with_capacity(stops.len());
-    recorded.push((t0, problem.eqn.initial.clone()));
-    let mut buffer = FaerVec::<f64>::zeros(n_total, problem.eqn.ctx);
+    // The state and its sensitivities (one vector per parameter) at every stop (output and
+    // target times).
+    let mut recorded: Vec<(f64, Vec<f64>, Vec<Vec<f64>>)> = Vec::with_capacity(stops.len());
+    recorded.push((t0, initial.clone(), vec![vec![0.0; m]; p]));
     let mut pending: Vec<f64> = stops.iter().copied().filter(|&t| t > t0).collect();
     pending.reverse();
-    let forward_steps = {
-        let recorded = &mut recorded;
-        let pending = &mut pending;
-        let buffer = &mut buffer;
-        let solver = &mut solver;
-        // One stop at the end: outputs inside steps are interpolated, so the solver's steps
-        // do not depend on the output grid (breakpoints of a prescribed history are stops).
-        let mut hard_stops: Vec<f64> = stop_times(model, &[t0, t_end]);
-        hard_stops.retain(|&t| t > t0);
-        march::<SensEquations, _>(
-            solver,
+    // One stop at the end: outputs inside steps are interpolated, so the solver's steps do
+    // not depend on the output grid (breakpoints of a prescribed history are stops).
+    let mut hard_stops: Vec<f64> = stop_times(model, &[t0, t_end]);
+    hard_stops.retain(|&t| t > t0);
+    let forward_steps = if p == 0 {
+        // No parameter: the state alone (diffsol's sensitivities need at least one).
+        let mut solver = problem
+            .bdf::<FixedPatternSolver>()
+            .map_err(|e| failed(t0, e))?;
+        let mut y_buf = FaerVec::<f64>::zeros(m, problem.eqn.ctx);
+        march::<ParamEquations, _>(
+            &mut solver,
             &hard_stops,
             |s, _before, after| {
                 while let Some(&t) = pending.last() {
                     if t > after {
                         break;
                     }
-                    s.interpolate_inplace(t, buffer)
+                    s.interpolate_inplace(t, &mut y_buf)
                         .map_err(|e| failed(after, e))?;
-                    recorded.push((t, <FaerSparseMat<f64> as Backend>::slice(buffer).to_vec()));
+                    let y = <FaerSparseMat<f64> as Backend>::slice(&y_buf).to_vec();
+                    recorded.push((t, y, Vec::new()));
                     pending.pop();
                 }
                 Ok(())
             },
             |_, _| Ok(()),
         )?
+    } else {
+        let mut solver = problem
+            .bdf_sens::<FixedPatternSolver>()
+            .map_err(|e| failed(t0, e))?;
+        let mut y_buf = FaerVec::<f64>::zeros(m, problem.eqn.ctx);
+        let mut s_buf = solver.state().s.clone();
+        let n = march::<ParamEquations, _>(
+            &mut solver,
+            &hard_stops,
+            |s, _before, after| {
+                while let Some(&t) = pending.last() {
+                    if t > after {
+                        break;
+                    }
+                    s.interpolate_inplace(t, &mut y_buf)
+                        .map_err(|e| failed(after, e))?;
+                    s.interpolate_sens_inplace(t, &mut s_buf)
+                        .map_err(|e| failed(after, e))?;
+                    let y = <FaerSparseMat<f64> as Backend>::slice(&y_buf).to_vec();
+                    let lanes = s_buf.inner();
+                    let sens = (0..p).map(|b| lanes.col_as_slice(b).to_vec()).collect();
+                    recorded.push((t, y, sens));
+                    pending.pop();
+                }
+                Ok(())
+            },
+            |_, _| Ok(()),
+        )?;
+        n
     };
-    let find = |t: f64| recorded.iter().find(|(rt, _)| *rt == t).map(|(_, x)| x);
+    let find = |t: f64| {
+        recorded
+            .iter()
+            .find(|(rt, _, _)| *rt == t)
+            .map(|(_, y, s)| (y, s))
+    };
     let mut times_s = Vec::with_capacity(output_times_s.len());
     let mut states = Vec::with_capacity(output_times_s.len());
     let mut sensitivities = Vec::with_capacity(output_times_s.len());
     for &t in output_times_s {
-        let x = find(t).ok_or_else(|| SensitivityError::Failed {
+        let (y, s) = find(t).ok_or_else(|| SensitivityError::Failed {
             time_s: t,
             reason: "output time not reached".into(),
         })?;
         times_s.push(t);
-        states.push(x[..m].to_vec());
-        sensitivities.push(x[m..].chunks(m.max(1)).map(<[f64]>::to_vec).collect());
+        states.push(y.clone());
+        sensitivities.push(s.clone());
     }
-    let eqn = &problem.eqn.eqn;
-    let mut derivative = vec![0.0; n_total];
+    let params = &problem.eqn;
+    let eqn = &params.eqn;
+    let pointwise = Pointwise { eqn };
     let mut target_results = Vec::with_capacity(targets.len());
     for target in targets {
         let t = target.time_s();
-        let x = find(t).ok_or_else(|| SensitivityError::Failed {
+        let (y, s) = find(t).ok_or_else(|| SensitivityError::Failed {
             time_s: t,
             reason: "target time not reached".into(),
         })?;
-        let (y, s) = x.split_at(m);
-        problem.eqn.derivative(t, x, &mut derivative);
-        let (f, ds) = derivative.split_at(m);
         let i = target.state();
-        let pointwise = Pointwise { eqn };
         let result = match *target {
             Target::Value { .. } => TargetSensitivity {
                 value: y[i],
-                gradient: s.chunks(m).map(|sj| sj[i]).collect(),
+                gradient: s.iter().map(|sj| sj[i]).collect(),
             },
             Target::Crossing { .. } => {
-                let slope = nonzero(f[i], t)?;
+                let slope = nonzero(pointwise.f(t, y)[i], t)?;
                 TargetSensitivity {
                     value: t,
-                    gradient: s.chunks(m).map(|sj| -sj[i] / slope).collect(),
+                    gradient: s.iter().map(|sj| -sj[i] / slope).collect(),
                 }
             }
             Target::Peak { .. } => {
+                // d(dy_i/dt)/dp_j = (J s_j + df/dp_j)_i.
                 let slope = nonzero(pointwise.rate_slope(t, y, i), t)?;
-                TargetSensitivity {
-                    value: t,
-                    gradient: ds.chunks(m).map(|dj| -dj[i] / slope).collect(),
-                }
+                let row = pointwise.jac_row(t, y, i);
+                let mut gradient = vec![0.0; p];
+                params.for_each_column(t, y, |b, column| {
+                    let js: f64 = row.iter().zip(&s[b]).map(|(r, x)| r * x).sum();
+                    gradient[b] = -(js + column[i]) / slope;
+                });
+                TargetSensitivity { value: t, gradient }
             }
             Target::RateMaximum { .. } => {
                 let slope = nonzero(second_derivative_slope(eqn, t, y, i, &atol_state), t)?;
                 let mut gradient = Vec::with_capacity(p);
-                for (b, &j) in steps.iter().enumerate() {
-                    let sj = &s[b * m..(b + 1) * m];
-                    let e = RATE_MAXIMUM_STEP;
-                    let up = scaled_core(eqn, j, e.exp())?;
-                    let down = scaled_core(eqn, j, (-e).exp())?;
+                let temperature_k = eqn.temperature_at(t, y);
+                for (b, (sj, &parameter)) in s.iter().zip(parameters).enumerate() {
+                    let e = params.set.difference_step(b, temperature_k);
+                    let up = perturbed_core(eqn, parameter, e)?;
+                    let down = perturbed_core(eqn, parameter, -e)?;
                     let y_up: Vec<f64> = y.iter().zip(sj).map(|(y, s)| y + e * s).collect();
                     let y_down: Vec<f64> = y.iter().zip(sj).map(|(y, s)| y - e * s).collect();
                     let d = (second_derivative(&up, t, &y_up, i)
@@ -1126,10 +1263,10 @@ pub fn forward_sensitivities(
     let stats = SensitivityStats {
         forward_steps,
         backward_steps: 0,
-        rhs_evaluations: problem.eqn.evaluations.get(),
+        rhs_evaluations: params.evaluations.get(),
     };
     Ok(ForwardSensitivities {
-        steps: steps.to_vec(),
+        parameters: parameters.to_vec(),
         times_s,
         states,
         sensitivities,
@@ -1399,18 +1536,11 @@ const GAUSS: [(f64, f64); 3] = [
     (0.774_596_669_241_483_4, 5.0 / 9.0),
 ];
 
-/// The gradient of one `target` with respect to the rate constants of `steps` by the adjoint
-/// method: one forward pass (state only, kept as interpolation samples of each step), one
-/// backward pass of the adjoint equations from the target's time to the start, with the
-/// parameter integrals accumulated on the way. Arguments as for [`forward_sensitivities`].
+/// The gradient of one `target` with respect to the rate constants of `steps` (mechanism
+/// indices) by the adjoint method: [`adjoint_parameter_sensitivity`] with
+/// [`Parameter::RateConstant`] of each.
 ///
-/// The cost is about two plain runs plus, per backward step, nine rate-of-progress
-/// evaluations and a pass over the chosen steps' stoichiometry, independent of the number of
-/// parameters otherwise; a [`Target::RateMaximum`] also needs two evaluations of the
-/// equations with each step scaled (the terminal condition by central differences).
-/// Memory: five states per forward step.
-///
-/// Errors: [`SensitivityError`] for bad input, and when an integration fails.
+/// Errors: as for [`adjoint_parameter_sensitivity`].
 pub fn adjoint_sensitivity(
     kinetics: &Kinetics,
     model: &ReactorModel,
@@ -1420,7 +1550,39 @@ pub fn adjoint_sensitivity(
     steps: &[usize],
     target: Target,
 ) -> Result<AdjointSensitivity, SensitivityError> {
-    check_steps(kinetics, steps)?;
+    let parameters: Vec<Parameter> = steps.iter().map(|&j| Parameter::RateConstant(j)).collect();
+    adjoint_parameter_sensitivity(
+        kinetics,
+        model,
+        temperature_k,
+        initial_mol_per_m3,
+        options,
+        &parameters,
+        target,
+    )
+}
+
+/// The gradient of one `target` with respect to `parameters` by the adjoint method: one
+/// forward pass (state only, kept as interpolation samples of each step), one backward pass of the adjoint equations from the target's time to the start, with the
+/// parameter integrals accumulated on the way. Arguments as for [`forward_sensitivities`].
+///
+/// The cost is about two plain runs plus, per backward step, nine rate-of-progress
+/// evaluations and a pass over the chosen steps' stoichiometry, independent of the number of
+/// parameters otherwise; a [`Target::RateMaximum`] also needs two evaluations of the
+/// equations with each step scaled (the terminal condition by central differences).
+/// Memory: five states per forward step.
+///
+/// Errors: [`SensitivityError`] for bad input, and when an integration fails.
+pub fn adjoint_parameter_sensitivity(
+    kinetics: &Kinetics,
+    model: &ReactorModel,
+    temperature_k: f64,
+    initial_mol_per_m3: &[f64],
+    options: &IntegrationOptions,
+    parameters: &[Parameter],
+    target: Target,
+) -> Result<AdjointSensitivity, SensitivityError> {
+    let set = ParameterSet::new(kinetics, parameters)?;
     let (eqn, initial) = core(kinetics, model, temperature_k, initial_mol_per_m3, options)?;
     let m = eqn.n_states();
     let t0 = 0.0;
@@ -1494,7 +1656,7 @@ pub fn adjoint_sensitivity(
     trajectory.at(t_star, &mut y_star);
     let i = target.state();
     let pointwise = Pointwise { eqn: &eqn };
-    let p = steps.len();
+    let p = set.len();
     let (value, terminal, direct) = match target {
         Target::Value { .. } => {
             let mut a = vec![0.0; m];
@@ -1514,8 +1676,8 @@ pub fn adjoint_sensitivity(
                 .iter()
                 .map(|r| -r / slope)
                 .collect();
-            let direct = pointwise
-                .parameter_columns(t_star, &y_star, steps)
+            let direct = set
+                .columns(&eqn, t_star, &y_star)
                 .iter()
                 .map(|c| -c[i] / slope)
                 .collect();
@@ -1539,10 +1701,11 @@ pub fn adjoint_sensitivity(
                 *ak = -d / slope;
             }
             let mut direct = Vec::with_capacity(p);
-            for &j in steps {
-                let e = RATE_MAXIMUM_STEP;
-                let plus = scaled_core(&eqn, j, e.exp())?;
-                let minus = scaled_core(&eqn, j, (-e).exp())?;
+            let temperature_k = eqn.temperature_at(t_star, &y_star);
+            for (b, &parameter) in parameters.iter().enumerate() {
+                let e = set.difference_step(b, temperature_k);
+                let plus = perturbed_core(&eqn, parameter, e)?;
+                let minus = perturbed_core(&eqn, parameter, -e)?;
                 let d = (second_derivative(&plus, t_star, &y_star, i)
                     - second_derivative(&minus, t_star, &y_star, i))
                     / (2.0 * e);
@@ -1577,7 +1740,7 @@ pub fn adjoint_sensitivity(
     let mut lambda = FaerVec::<f64>::zeros(m, adj.ctx);
     let mut y = vec![0.0; m];
     let mut v = vec![0.0; kinetics.n_species()];
-    let mut q = vec![0.0; kinetics.n_steps()];
+    let mut d = set.scratch(kinetics, m);
     // Backward stops: the target time mapped from every breakpoint, then the start.
     let mut stops: Vec<f64> = stop_times(model, &[t0, t_star])
         .into_iter()
@@ -1609,20 +1772,25 @@ pub fn adjoint_sensitivity(
                     s.interpolate_inplace(t_star - t, &mut lambda)
                         .map_err(|e| failed(t, e))?;
                     traj.at(t, &mut y);
-                    let temperature_k = adj.eqn.scaling_rates(t, &y, &mut q);
-                    equations.chemistry_map_transpose(
-                        temperature_k,
-                        &y,
-                        <FaerSparseMat<f64> as Backend>::slice(&lambda),
-                        &mut v,
-                    );
-                    for (g, &j) in gradient.iter_mut().zip(steps) {
-                        let dot: f64 = kinetics
-                            .net_changes(j)
-                            .iter()
-                            .map(|&(i, nu)| nu * v[i])
-                            .sum();
-                        *g += w * half * q[j] * dot;
+                    let temperature_k = set.evaluate(&adj.eqn, t, &y, &mut d);
+                    let lam = <FaerSparseMat<f64> as Backend>::slice(&lambda);
+                    equations.chemistry_map_transpose(temperature_k, &y, lam, &mut v);
+                    let heat: f64 = if set.any_enthalpy {
+                        lam.iter().zip(&d.heat).map(|(l, u)| l * u).sum()
+                    } else {
+                        0.0
+                    };
+                    for (b, g) in gradient.iter_mut().enumerate() {
+                        let mut sum = d.direct[b] * heat;
+                        for &(j, a) in &d.weights[b] {
+                            let dot: f64 = kinetics
+                                .net_changes(j)
+                                .iter()
+                                .map(|&(i, nu)| nu * v[i])
+                                .sum();
+                            sum += a * dot;
+                        }
+                        *g += w * half * sum;
                     }
                 }
             }
@@ -1636,7 +1804,7 @@ pub fn adjoint_sensitivity(
         rhs_evaluations: forward_evaluations + adj.evaluations.get(),
     };
     Ok(AdjointSensitivity {
-        steps: steps.to_vec(),
+        parameters: parameters.to_vec(),
         target: TargetSensitivity { value, gradient },
         stats,
     })

@@ -219,6 +219,14 @@ pub struct SensitivityArgs {
     /// Plot mole fractions (dimensionless) instead of concentrations in the report.
     #[arg(long, requires = "report")]
     pub report_mole_fractions: bool,
+    /// Also rank the formation enthalpy of every species with thermochemistry
+    /// (d ln G/dH_f per kJ/mol), in a table of their own.
+    #[arg(long)]
+    pub enthalpies: bool,
+    /// Also rank each limit (k0, kinf) of the chosen falloff steps alone, in a table of
+    /// their own.
+    #[arg(long)]
+    pub falloff_limits: bool,
 }
 
 /// Flags of `stoik flux`.

@@ -10,9 +10,10 @@ use crate::run::{describe_reactor, ignition_lines, record_inputs, report_species
 use crate::{MethodArg, SensitivityArgs};
 use std::io::Write;
 use stoik::analysis::{
-    observable_sensitivity, profile_sensitivities, AnalysisError, Method, Observable,
-    ObservableSensitivity, ProfileSensitivities, StateQuantity,
+    observable_sensitivity_with, profile_sensitivities, AnalysisError, ExtraParameters, Method,
+    Observable, ObservableSensitivity, ProfileSensitivities, StateQuantity,
 };
+use stoik::kinetics::FalloffLimit;
 use stoik::mechanism::Mechanism;
 use stoik::reactor::Profiles;
 use stoik::scenario::RunPlan;
@@ -111,11 +112,21 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
         Some(_) => Some(profile_sensitivities(&plan, steps.as_deref()).map_err(of_run)?),
         None => None,
     };
-    let result =
-        observable_sensitivity(&plan, observable, method, steps.as_deref()).map_err(of_run)?;
+    let extra = ExtraParameters {
+        falloff_limits: args.falloff_limits,
+        enthalpies: args.enthalpies,
+    };
+    let result = observable_sensitivity_with(&plan, observable, method, steps.as_deref(), extra)
+        .map_err(of_run)?;
     let mut printed = ranked_lines(&mechanism, &result, args.top);
     for line in &printed {
         println!("{line}");
+    }
+    if args.falloff_limits {
+        print_limits(&mechanism, &result, args.top);
+    }
+    if args.enthalpies {
+        print_enthalpies(&mechanism, &result, args.top);
     }
     if result.value == 0.0 {
         let warning = format!(
@@ -240,6 +251,69 @@ fn ranked_lines(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) ->
         ));
     }
     lines
+}
+
+/// The falloff limits' table: each limit of each chosen falloff step alone.
+fn print_limits(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
+    let unit = r.observable.unit();
+    if r.falloff_limits.is_empty() {
+        println!("no falloff step among the chosen steps: no limits to rank");
+        return;
+    }
+    println!("each falloff limit alone (the two of a step sum to its d ln G/d ln k above):");
+    let header = format!("dG/d ln k ({unit})");
+    let width = header.len().max(14);
+    println!(
+        "  {:>4}  {:<6} {:<5} {:>14}  {header:>width$}  equation",
+        "rank", "step", "limit", "d ln G/d ln k",
+    );
+    for (rank, s) in r.falloff_limits.iter().take(top).enumerate() {
+        let limit = match s.limit {
+            FalloffLimit::Low => "k0",
+            FalloffLimit::High => "kinf",
+        };
+        println!(
+            "  {:>4}  {:<6} {:<5} {:>14.6e}  {:>width$.6e}  {}",
+            rank + 1,
+            format!("R{}", s.step + 1),
+            limit,
+            s.normalized,
+            s.derivative,
+            equation(mechanism, s.step)
+        );
+    }
+}
+
+/// The formation enthalpies' table.
+fn print_enthalpies(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
+    let unit = r.observable.unit();
+    if r.enthalpies.is_empty() {
+        println!("no species has thermochemistry: no formation enthalpies to rank");
+        return;
+    }
+    println!("formation enthalpies (d ln G/dH_f in 1/(kJ/mol): relative change per kJ/mol):");
+    let header = format!("dG/dH_f ({unit} per J/mol)");
+    let width = header.len().max(14);
+    println!(
+        "  {:>4}  {:<12} {:>20}  {header:>width$}",
+        "rank", "species", "d ln G/dH_f (mol/kJ)",
+    );
+    for (rank, s) in r.enthalpies.iter().take(top).enumerate() {
+        let name = mechanism
+            .species
+            .get(s.species)
+            .map_or("?", |x| x.name.as_str());
+        println!(
+            "  {:>4}  {:<12} {:>20.6e}  {:>width$.6e}",
+            rank + 1,
+            name,
+            s.normalized_per_kj_per_mol,
+            s.derivative,
+        );
+    }
+    if r.enthalpies.len() > top {
+        println!("  ({} more; --top N for more)", r.enthalpies.len() - top);
+    }
 }
 
 fn non_finite(what: String) -> std::io::Error {

@@ -55,6 +55,7 @@ mod options;
 mod owned;
 mod profiles;
 mod sensitivity;
+mod steady;
 mod watch;
 
 pub use atmosphere::{
@@ -80,6 +81,11 @@ pub use profiles::{element_balance, ElementBalance, Profiles};
 pub use sensitivity::{
     adjoint_sensitivity, forward_sensitivities, AdjointSensitivity, ForwardSensitivities,
     SensitivityError, SensitivityStats, Target, TargetSensitivity,
+};
+pub use steady::{
+    continuation, steady_state, Branch, BranchEnd, BranchPoint, ContinuationOptions,
+    ContinuationParameter, Stability, SteadyError, SteadyOptions, SteadyPath, SteadyState,
+    TurningPoint,
 };
 pub use watch::{Located, Quantity, Watch};
 

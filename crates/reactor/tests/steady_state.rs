@@ -273,3 +273,76 @@ fn closed_reactors_and_bad_parameters_are_refused() {
         assert!(matches!(e, Err(SteadyError::BadParameter(_))), "{e:?}");
     }
 }
+
+#[test]
+fn feed_and_coolant_temperature_branches_satisfy_the_steady_flow_energy_balance() {
+    // The same tank at tau = 20 s followed in the feed temperature (adiabatic) and, cooled
+    // through U A / V = 50 W/(m3 K), in the coolant temperature. Every point must satisfy
+    // c_A = c_in / (1 + k tau) and the steady-flow first law
+    // C cp (T - T_in) / tau + U A / V (T - T_c) = q k c_A (van Heerden's heat-generation and
+    // heat-removal lines; H. S. Fogler, Elements of Chemical Reaction Engineering, 4th ed.,
+    // ch. 8).
+    use stoik_reactor::{HeatExchange, TemperatureHistory};
+    let (pre, ea, q) = (5e6, 8e4, 6e4);
+    let kin = exothermic(pre, ea, q);
+    let (c_in, diluent, t_in, tau, ua) = (2.0, 38.0, 450.0, 20.0, 50.0);
+    let capacity = (c_in + diluent) * 2.5 * R;
+    let flow = StirredFlow::new(tau, vec![c_in, 0.0, diluent], t_in).unwrap();
+    let coolant = TemperatureHistory::new(vec![0.0], vec![440.0]).unwrap();
+    let cases = [
+        (
+            Energy::Adiabatic,
+            ContinuationParameter::InletTemperature,
+            0.0,
+            (400.0, 480.0),
+        ),
+        (
+            Energy::HeatExchange(HeatExchange::new(ua, coolant).unwrap()),
+            ContinuationParameter::CoolantTemperature,
+            ua,
+            (400.0, 520.0),
+        ),
+    ];
+    for (energy, parameter, ua, (from, to)) in cases {
+        let model = tank(Constraint::ConstantVolume, energy, flow.clone());
+        let branch = continuation(
+            &kin,
+            &model,
+            t_in,
+            &[c_in, 0.0, diluent],
+            parameter,
+            from,
+            to,
+            &ContinuationOptions::new(steady_options(3)),
+        )
+        .unwrap_or_else(|e| panic!("{e}"));
+        assert_eq!(branch.end, BranchEnd::ReachedEnd, "{parameter:?}");
+        let mut worst: f64 = 0.0;
+        for p in &branch.points {
+            let (feed, cool) = match parameter {
+                ContinuationParameter::InletTemperature => (p.parameter, 0.0),
+                _ => (t_in, p.parameter),
+            };
+            let t = p.temperature_k;
+            let k = pre * (-ea / (R * t)).exp();
+            let c_a = c_in / (1.0 + k * tau);
+            assert_close("c_A", p.concentrations_mol_per_m3[0], c_a, 1e-8, 1e-12);
+            let generation = q * k * c_a;
+            let removal = capacity * (t - feed) / tau + ua * (t - cool);
+            worst = worst.max((generation - removal).abs() / (capacity * 100.0 / tau));
+        }
+        eprintln!(
+            "{parameter:?}: {} points, {} turning points, worst balance error {worst:e}",
+            branch.points.len(),
+            branch.turning_points.len()
+        );
+        assert!(worst < 1e-8, "{parameter:?}: {worst:e}");
+        if parameter == ContinuationParameter::InletTemperature {
+            // Three steady states at T_in = 450 K (the S-curve above at tau = 20 s): the
+            // feed-temperature branch folds twice around it.
+            assert_eq!(branch.turning_points.len(), 2);
+            let folds: Vec<f64> = branch.turning_points.iter().map(|t| t.parameter).collect();
+            assert!(folds.iter().any(|&f| f > 450.0) && folds.iter().any(|&f| f < 450.0));
+        }
+    }
+}

@@ -58,6 +58,11 @@ pub struct SteadyOptions {
     pub fallback_residence_times: f64,
     /// Tolerances and linear algebra of the time-integration fall-back.
     pub integration: IntegrationOptions,
+    /// Start with pseudo-transient continuation instead of Newton (default `false`). A tank
+    /// with several steady states then tends to settle where its transient from the guess
+    /// goes (small pseudo time steps follow the transient), where Newton goes to the steady
+    /// state nearest the guess in its own sense.
+    pub transient_first: bool,
 }
 
 impl SteadyOptions {
@@ -78,6 +83,7 @@ impl SteadyOptions {
             max_pseudo_transient_steps: 2000,
             fallback_residence_times: 200.0,
             integration: integration.clone(),
+            transient_first: false,
         }
     }
 }
@@ -850,7 +856,16 @@ fn solve(
     let n = tank.n;
     let start = tank.eq.initial.clone();
     let mut y = start.clone();
-    let first = newton(tank, &mut y, options, options.max_newton_iterations);
+    let first = if options.transient_first {
+        NewtonRun {
+            iterations: 0,
+            converged: false,
+            correction: f64::INFINITY,
+            reason: String::new(),
+        }
+    } else {
+        newton(tank, &mut y, options, options.max_newton_iterations)
+    };
     let mut newton_iterations = first.iterations;
     let (mut steps, mut integrated) = (0, 0.0);
     let mut path = SteadyPath::Newton;

@@ -5,6 +5,7 @@
 use crate::axis::{clean_label, Axis};
 use crate::PlotError;
 use plotters::coord::Shift;
+use plotters::element::DashedPathElement;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 

@@ -76,7 +76,10 @@ pub fn steady(args: &SteadyArgs) -> Result<(), CliError> {
     if let Some(csv) = &args.csv {
         outputs.output("--csv", csv)?;
     }
-    let options = SteadyOptions::from_integration(plan.options());
+    let options = SteadyOptions {
+        transient_first: !args.newton,
+        ..SteadyOptions::from_integration(plan.options())
+    };
     let s = steady_state(
         &kinetics,
         plan.model(),
@@ -170,33 +173,28 @@ fn convergence_line(s: &SteadyState) -> String {
     )
 }
 
-/// Writes a CSV table atomically, every number in round-trip form.
+/// Writes a CSV table atomically, every number in round-trip form; a value that is not
+/// finite refuses the file.
 fn write_table(path: &Path, header: &[String], rows: &[Vec<f64>]) -> Result<(), CliError> {
-    write_atomically(path, |w| -> Result<(), CliError> {
-        let io = |e: std::io::Error| CliError::write(path, e);
+    write_atomically(path, |w| -> std::io::Result<()> {
         let quoted: Vec<String> = header.iter().map(|h| csv_field(h)).collect();
-        writeln!(w, "{}", quoted.join(",")).map_err(io)?;
+        writeln!(w, "{}", quoted.join(","))?;
         for (r, row) in rows.iter().enumerate() {
-            let cells: Result<Vec<String>, CliError> = row
-                .iter()
-                .enumerate()
-                .map(|(i, &v)| {
-                    number(v).ok_or_else(|| {
-                        CliError::write(
-                            path,
-                            format!("value of column `{}` in row {} is {v}", header[i], r + 1),
-                        )
-                    })
-                })
-                .collect();
-            writeln!(w, "{}", cells?.join(",")).map_err(io)?;
+            let mut cells = Vec::with_capacity(row.len());
+            for (i, &v) in row.iter().enumerate() {
+                cells.push(number(v).ok_or_else(|| {
+                    std::io::Error::other(format!(
+                        "value of column `{}` in row {} is {v}, not a finite number",
+                        header[i],
+                        r + 1
+                    ))
+                })?);
+            }
+            writeln!(w, "{}", cells.join(","))?;
         }
         Ok(())
     })
-    .map_err(|e| match e {
-        CliError::Write { .. } => e,
-        other => other,
-    })
+    .map_err(|e| CliError::write(path, e))
 }
 
 /// A header field quoted when it holds a comma or a quote.
@@ -205,16 +203,6 @@ fn csv_field(text: &str) -> String {
         format!("\"{}\"", text.replace('"', "\"\""))
     } else {
         text.to_string()
-    }
-}
-
-impl From<std::io::Error> for CliError {
-    fn from(e: std::io::Error) -> Self {
-        CliError::Write {
-            what: "write",
-            path: Default::default(),
-            source: Box::new(e),
-        }
     }
 }
 
@@ -230,7 +218,10 @@ pub fn continuation(args: &ContinuationArgs) -> Result<(), CliError> {
         outputs.output("--svg", svg)?;
     }
     let parameter = args.parameter.parameter();
-    let options = ContinuationOptions::new(SteadyOptions::from_integration(plan.options()));
+    let options = ContinuationOptions::new(SteadyOptions {
+        transient_first: !args.newton,
+        ..SteadyOptions::from_integration(plan.options())
+    });
     let branch = follow(
         &kinetics,
         plan.model(),

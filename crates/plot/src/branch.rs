@@ -117,7 +117,12 @@ fn min_max(values: &[f64]) -> (f64, f64) {
 
 type DrawResult = Result<(), DrawingAreaErrorKind<std::io::Error>>;
 
-fn draw(root: &DrawingArea<SVGBackend, Shift>, plot: &BranchPlot, x: &Axis, y: &Axis) -> DrawResult {
+fn draw(
+    root: &DrawingArea<SVGBackend, Shift>,
+    plot: &BranchPlot,
+    x: &Axis,
+    y: &Axis,
+) -> DrawResult {
     root.fill(&WHITE)?;
     let x_label = if x.log {
         format!("{} (log scale)", clean_label(plot.parameter_label, 60))

@@ -31,8 +31,10 @@ mod html;
 mod profile;
 
 pub use axis::{AxisScale, AUTO_LOG_DECADES};
-pub use branch::{branch_svg, BranchPlot, BRANCH_SIZE, STABLE_COLOR, TURNING_COLOR, UNSTABLE_COLOR};
 pub use bar::{bar_chart_svg, BAR_CHART_WIDTH, MAX_LABEL_CHARS, NEGATIVE_COLOR, POSITIVE_COLOR};
+pub use branch::{
+    branch_svg, BranchPlot, BRANCH_SIZE, STABLE_COLOR, TURNING_COLOR, UNSTABLE_COLOR,
+};
 pub use error::PlotError;
 pub use flux::{flux_graph_svg, EDGE_COLOR, FLUX_SIZE};
 pub use html::{escape, HtmlReport, Table};

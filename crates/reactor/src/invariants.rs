@@ -227,7 +227,10 @@ mod tests {
         assert_eq!(y, before);
         let mut y = [0.2 + 1000.0 * f64::EPSILON * 0.4, 0.2];
         assert!(inv.project(&mut y, &atol, 1e-14));
-        assert!((y[0] + y[1] - 0.4).abs() <= 4.0 * f64::EPSILON * 0.4, "{y:?}");
+        assert!(
+            (y[0] + y[1] - 0.4).abs() <= 4.0 * f64::EPSILON * 0.4,
+            "{y:?}"
+        );
     }
 
     #[test]

@@ -140,7 +140,10 @@ impl StirredFlow {
     }
 
     /// Changes the inlet temperature (K, finite and positive).
-    pub fn set_inlet_temperature_k(&mut self, inlet_temperature_k: f64) -> Result<(), ReactorError> {
+    pub fn set_inlet_temperature_k(
+        &mut self,
+        inlet_temperature_k: f64,
+    ) -> Result<(), ReactorError> {
         if !(inlet_temperature_k.is_finite() && inlet_temperature_k > 0.0) {
             return Err(ReactorError::BadFlow(format!(
                 "the inlet temperature must be finite and positive, got {inlet_temperature_k:e} K"
@@ -831,9 +834,8 @@ impl ModelEquations<'_> {
                 let feed = self.feed_expansion(total);
                 let g = w_total / total + feed + temperature_rate / t;
                 for col in 0..n {
-                    let mut dg = scratch.column_sum[col] / total
-                        - w_total / (total * total)
-                        - feed / total;
+                    let mut dg =
+                        scratch.column_sum[col] / total - w_total / (total * total) - feed / total;
                     if energy_solved {
                         let a_k = energy_row(col);
                         dg += a_k / t;

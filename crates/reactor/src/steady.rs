@@ -151,7 +151,9 @@ pub struct SteadyState {
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum SteadyError {
     /// The reactor model has no flow: a closed reactor has no steady state to solve for.
-    #[error("a steady state needs a stirred tank: the reactor has no flow (give a [flow] section)")]
+    #[error(
+        "a steady state needs a stirred tank: the reactor has no flow (give a [flow] section)"
+    )]
     NotATank,
     /// The model cannot be solved for a steady state (e.g. a prescribed temperature).
     #[error("no steady state for this tank: {0}")]
@@ -532,15 +534,20 @@ impl Tank {
             }
         };
         // The Schur iteration's test on the subdiagonal is relative to the diagonal.
-        let mut eigen: Vec<(f64, f64)> =
-            match nalgebra::Schur::try_new(matrix, f64::EPSILON, 100_000) {
-                Some(s) => s
-                    .complex_eigenvalues()
-                    .iter()
-                    .map(|z| (z.re, z.im))
-                    .collect(),
-                None => vec![(f64::NAN, 0.0)],
-            };
+        // A stalled iteration is retried with a looser test (1e-12 and 1e-9 relative: the
+        // eigenvalues then carry that relative error).
+        let mut eigen: Vec<(f64, f64)> = [f64::EPSILON, 1e-12, 1e-9]
+            .into_iter()
+            .find_map(|eps| nalgebra::Schur::try_new(matrix.clone(), eps, 10_000))
+            .map_or_else(
+                || vec![(f64::NAN, 0.0)],
+                |s| {
+                    s.complex_eigenvalues()
+                        .iter()
+                        .map(|z| (z.re, z.im))
+                        .collect()
+                },
+            );
         eigen.sort_by(|a, b| b.0.total_cmp(&a.0));
         let largest = eigen.first().map_or(f64::NAN, |e| e.0);
         Stability {
@@ -618,11 +625,7 @@ impl Tank {
         self.set_parameter(parameter, shifted)?;
         let f1 = self.residual(y);
         self.set_parameter(parameter, base)?;
-        Ok(f1
-            .iter()
-            .zip(&f0)
-            .map(|(a, b)| (a - b) * factor)
-            .collect())
+        Ok(f1.iter().zip(&f0).map(|(a, b)| (a - b) * factor).collect())
     }
 
     /// `cp_in(T) / (H_in(T2) - H_in(T))`, the factor turning the difference of `f` between
@@ -716,7 +719,10 @@ fn newton(tank: &mut Tank, y: &mut [f64], options: &SteadyOptions, max_iter: usi
             return run;
         }
         let j = tank.residual_jacobian(y);
-        let Some(dy) = j.lu().solve(&DVector::from_iterator(f.len(), f.iter().map(|v| -v))) else {
+        let Some(dy) = j
+            .lu()
+            .solve(&DVector::from_iterator(f.len(), f.iter().map(|v| -v)))
+        else {
             run.reason = "the Jacobian is singular".into();
             return run;
         };
@@ -727,7 +733,11 @@ fn newton(tank: &mut Tank, y: &mut [f64], options: &SteadyOptions, max_iter: usi
         run.correction = correction;
         let mut lambda = 1.0;
         loop {
-            let trial: Vec<f64> = y.iter().zip(dy.iter()).map(|(a, d)| a + lambda * d).collect();
+            let trial: Vec<f64> = y
+                .iter()
+                .zip(dy.iter())
+                .map(|(a, d)| a + lambda * d)
+                .collect();
             if tank.admissible(&trial) {
                 // A full step below the tolerance is converged whatever the merit says
                 // (the residual is then at round-off).
@@ -918,7 +928,10 @@ fn solve(
     if path != SteadyPath::Newton || correction.is_infinite() {
         // The correction of the converging attempt.
         let j = tank.residual_jacobian(&y);
-        if let Some(dy) = j.lu().solve(&DVector::from_iterator(f.len(), f.iter().map(|v| -v))) {
+        if let Some(dy) = j
+            .lu()
+            .solve(&DVector::from_iterator(f.len(), f.iter().map(|v| -v)))
+        {
             correction = dy
                 .iter()
                 .zip(&w)
@@ -1240,6 +1253,7 @@ pub fn continuation(
         });
     };
     let mut points = vec![follower.point(&u)?];
+    points[0].parameter = from;
     let mut turning_points = Vec::new();
     let mut h = options.initial_step;
     let mut corrector_iterations = 0;
@@ -1282,7 +1296,10 @@ pub fn continuation(
                 .map(|(a, b)| a + share * (b - a))
                 .collect();
             if let Some(last) = follower.at_parameter(&guess, bound, &options.steady)? {
-                points.push(follower.point(&last)?);
+                let mut p = follower.point(&last)?;
+                // The bound exactly as given (not through exp(ln tau)).
+                p.parameter = if leaving_at_end { to } else { from };
+                points.push(p);
             }
             break if leaving_at_end {
                 BranchEnd::ReachedEnd

@@ -8,9 +8,8 @@ use common::*;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::{Arrhenius, GAS_CONSTANT as R};
 use stoik_reactor::{
-    continuation, steady_state, BranchEnd, Constraint, ContinuationOptions,
-    ContinuationParameter, Energy, LinearAlgebra, ReactorModel, SteadyError, SteadyOptions,
-    SteadyPath, StirredFlow,
+    continuation, steady_state, BranchEnd, Constraint, ContinuationOptions, ContinuationParameter,
+    Energy, LinearAlgebra, ReactorModel, SteadyError, SteadyOptions, SteadyPath, StirredFlow,
 };
 use stoik_thermo::Nasa7;
 
@@ -40,10 +39,23 @@ fn first_order_isothermal_tank_meets_the_design_equation() {
     let s = steady_state(&kin, &model, 300.0, &[0.0, 0.0], &steady_options(2)).unwrap();
     let a = c_in / (1.0 + k * tau);
     assert_close("c_A", s.concentrations_mol_per_m3[0], a, 1e-12, 1e-15);
-    assert_close("c_B", s.concentrations_mol_per_m3[1], c_in - a, 1e-12, 1e-15);
+    assert_close(
+        "c_B",
+        s.concentrations_mol_per_m3[1],
+        c_in - a,
+        1e-12,
+        1e-15,
+    );
     assert_eq!(s.path, SteadyPath::Newton);
-    assert!(s.newton_iterations <= 3, "{} iterations", s.newton_iterations);
-    assert!(s.scaled_correction < 1.0 && s.scaled_residual < 1.0, "{s:?}");
+    assert!(
+        s.newton_iterations <= 3,
+        "{} iterations",
+        s.newton_iterations
+    );
+    assert!(
+        s.scaled_correction < 1.0 && s.scaled_residual < 1.0,
+        "{s:?}"
+    );
     eprintln!(
         "isothermal: {} Newton iterations, scaled residual {:e}",
         s.newton_iterations, s.scaled_residual
@@ -67,10 +79,22 @@ fn first_order_isothermal_tank_meets_the_design_equation() {
     assert_eq!(branch.end, BranchEnd::ReachedEnd);
     assert!(branch.turning_points.is_empty());
     assert!(branch.points.len() > 10);
-    assert_close("last tau", branch.points.last().unwrap().parameter, 100.0, 1e-14, 0.0);
+    assert_close(
+        "last tau",
+        branch.points.last().unwrap().parameter,
+        100.0,
+        1e-14,
+        0.0,
+    );
     for p in &branch.points {
         let a = c_in / (1.0 + k * p.parameter);
-        assert_close("c_A on the branch", p.concentrations_mol_per_m3[0], a, 1e-9, 1e-14);
+        assert_close(
+            "c_A on the branch",
+            p.concentrations_mol_per_m3[0],
+            a,
+            1e-9,
+            1e-14,
+        );
         assert!(p.stable);
     }
 }
@@ -136,7 +160,9 @@ fn adiabatic_exothermic_tank_follows_the_van_heerden_s_curve() {
     let slope = |t: f64| -ea / (R * t * t) + 1.0 / (t - t_in) + 1.0 / (t_ad - t);
     let tau_of = |t: f64| (t - t_in) / ((t_ad - t) * k(t));
     // The two roots of the slope, bracketed by a scan of the closed form.
-    let scan: Vec<f64> = (1..4000).map(|i| t_in + dt_ad * i as f64 / 4000.0).collect();
+    let scan: Vec<f64> = (1..4000)
+        .map(|i| t_in + dt_ad * i as f64 / 4000.0)
+        .collect();
     let mut folds = Vec::new();
     for w in scan.windows(2) {
         if (slope(w[0]) > 0.0) != (slope(w[1]) > 0.0) {
@@ -181,7 +207,12 @@ fn adiabatic_exothermic_tank_follows_the_van_heerden_s_curve() {
     eprintln!("worst van Heerden residual / dT_ad: {worst:e}");
     assert!(worst < 1e-8, "{worst:e}");
     // Turning points: the ignition (low T, large tau) and extinction (high T, small tau).
-    assert_eq!(branch.turning_points.len(), 2, "{:?}", branch.turning_points);
+    assert_eq!(
+        branch.turning_points.len(),
+        2,
+        "{:?}",
+        branch.turning_points
+    );
     for (found, &t_fold) in branch.turning_points.iter().zip(&folds) {
         eprintln!(
             "turning point at tau = {:.12} s, T = {:.9} K (closed form {:.12} s, {:.9} K)",
@@ -223,9 +254,22 @@ fn three_steady_states_at_one_residence_time_are_found_from_three_guesses() {
     let dt_ad = q * c_in / ((c_in + diluent) * 2.5 * R);
     let flow = StirredFlow::new(tau, vec![c_in, 0.0, diluent], t_in).unwrap();
     let model = tank(Constraint::ConstantVolume, Energy::Adiabatic, flow);
-    let cold = steady_state(&kin, &model, t_in, &[c_in, 0.0, diluent], &steady_options(3)).unwrap();
-    let hot = steady_state(&kin, &model, t_in + dt_ad, &[0.0, c_in, diluent], &steady_options(3))
-        .unwrap();
+    let cold = steady_state(
+        &kin,
+        &model,
+        t_in,
+        &[c_in, 0.0, diluent],
+        &steady_options(3),
+    )
+    .unwrap();
+    let hot = steady_state(
+        &kin,
+        &model,
+        t_in + dt_ad,
+        &[0.0, c_in, diluent],
+        &steady_options(3),
+    )
+    .unwrap();
     for s in [&cold, &hot] {
         let kt = pre * (-ea / (R * s.temperature_k)).exp() * tau;
         assert_close(

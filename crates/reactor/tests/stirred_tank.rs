@@ -37,8 +37,8 @@ fn first_order_step_approaches_the_design_equation() {
     let c0 = [1.0, 0.5];
     let times = [0.0, 0.1, 0.5, 1.0, 3.0, 10.0];
     for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
-        let mut system = BatchSystem::with_model(&kin, &model, 300.0, &options(2, 1e-10, 1e-14, la))
-            .unwrap();
+        let mut system =
+            BatchSystem::with_model(&kin, &model, 300.0, &options(2, 1e-10, 1e-14, la)).unwrap();
         let p = system.integrate(&c0, &times).unwrap();
         let s = c_in / (1.0 + k * tau);
         for (row, &t) in p.concentrations_mol_per_m3.iter().zip(&times) {

@@ -416,8 +416,7 @@ const KINDS: [(&str, Constraint, Thermal); 8] = [
 
 /// Reactor kind names accepted in files (`[reactor] kind`).
 pub const REACTOR_KINDS: [&str; 8] = [
-    KINDS[0].0, KINDS[1].0, KINDS[2].0, KINDS[3].0, KINDS[4].0, KINDS[5].0, KINDS[6].0,
-    KINDS[7].0,
+    KINDS[0].0, KINDS[1].0, KINDS[2].0, KINDS[3].0, KINDS[4].0, KINDS[5].0, KINDS[6].0, KINDS[7].0,
 ];
 
 /// The constraint and temperature law of a kind name.

@@ -18,7 +18,8 @@ use stoik_mechanism::{
     Mechanism, MechanismFile, GAS_CONSTANT,
 };
 use stoik_reactor::{
-    BatchCase, Energy, StirredFlow, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel, Watch,
+    BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel,
+    StirredFlow, Watch,
 };
 
 /// An initial composition given in place of a scenario's ([`RunPlan::set_initial_composition`]),

@@ -407,7 +407,12 @@ pub(crate) fn read_initial(
         r,
         t,
         at,
-        ["initial", "concentrations", "mole_fractions", "initial concentration"],
+        [
+            "initial",
+            "concentrations",
+            "mole_fractions",
+            "initial concentration",
+        ],
         pressure_given,
     )
 }
@@ -469,7 +474,9 @@ fn read_composition(
             if let Some(unit_value) = t.get("concentration_unit") {
                 r.warning(
                     unit_value.span().start,
-                    format!("`concentration_unit` in [{section_name}] is ignored with `{frac_key}`"),
+                    format!(
+                        "`concentration_unit` in [{section_name}] is ignored with `{frac_key}`"
+                    ),
                     None,
                 );
             }
@@ -587,7 +594,8 @@ pub(crate) fn read_flow(
         let x = quantity(r, key, v, unit, convert, units)?;
         require_positive(r, key, v, x)
     };
-    let hint = "e.g. residence_time = \"2 s\", or volumetric_flow = \"0.5 L/min\" with volume = \"2 L\"";
+    let hint =
+        "e.g. residence_time = \"2 s\", or volumetric_flow = \"0.5 L/min\" with volume = \"2 L\"";
     let given: Vec<&str> = ["residence_time", "volumetric_flow", "mass_flow"]
         .into_iter()
         .filter(|k| t.contains_key(*k))

@@ -139,11 +139,15 @@ fn flow_mistakes_are_all_reported_at_their_keys() {
     let e = err("inlet_mole_fractions = { AR = 1.0 }");
     assert!(e.contains("f.toml:9:") && e.contains("feed rate"), "{e}");
     let e = err("residence_time = \"1 s\"\nvolumetric_flow = \"1 L/s\"\nvolume = \"1 L\"\ninlet_mole_fractions = { AR = 1.0 }");
-    assert!(e.contains("f.toml:11:") && e.contains("one feed rate"), "{e}");
+    assert!(
+        e.contains("f.toml:11:") && e.contains("one feed rate"),
+        "{e}"
+    );
     let e = err("volumetric_flow = \"1 L/s\"\ninlet_mole_fractions = { AR = 1.0 }");
     assert!(e.contains("needs the tank's `volume`"), "{e}");
     // Several problems at once: a bad unit, a negative time and an unknown species.
-    let e = err("residence_time = \"-2 s\"\ninlet_concentrations = { XE = 1.0, AR = \"3 furlongs\" }");
+    let e =
+        err("residence_time = \"-2 s\"\ninlet_concentrations = { XE = 1.0, AR = \"3 furlongs\" }");
     assert!(e.contains("f.toml:10:"), "{e}");
     assert!(e.contains("f.toml:11:"), "{e}");
     // The jacketed kind at constant pressure needs a tank.
@@ -152,7 +156,10 @@ fn flow_mistakes_are_all_reported_at_their_keys() {
         kind = \"jacketed-constant-pressure\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"\n\
         ua = \"2 W/K\"\nvolume = \"1 L\"\ncoolant_temperature = \"300 K\"\n\
         [initial]\nmole_fractions = {{ AR = 1.0 }}\n[output]\nend_time = \"1 s\"\n",
-        mechanisms().join("hydrogen-oxygen.toml").display().to_string()
+        mechanisms()
+            .join("hydrogen-oxygen.toml")
+            .display()
+            .to_string()
     );
     let e = load(&text, "j.toml").err().unwrap();
     assert!(e.contains("stirred tanks") && e.contains("j.toml:"), "{e}");

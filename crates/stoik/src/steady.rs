@@ -134,7 +134,11 @@ pub fn steady(args: &SteadyArgs) -> Result<(), CliError> {
         lines.push(if *im == 0.0 {
             format!("  {re:.6e} 1/s")
         } else {
-            format!("  {re:.6e} {} {:.6e}i 1/s", if *im < 0.0 { "-" } else { "+" }, im.abs())
+            format!(
+                "  {re:.6e} {} {:.6e}i 1/s",
+                if *im < 0.0 { "-" } else { "+" },
+                im.abs()
+            )
         });
     }
     if let Some(csv) = &args.csv {
@@ -154,7 +158,10 @@ pub fn steady(args: &SteadyArgs) -> Result<(), CliError> {
         write_table(csv, &header, &[row])?;
         lines.push(format!("wrote {}", csv.display()));
     }
-    lines.extend(caution_lines(&plan, s.temperature_k - feed_temperature(&plan)));
+    lines.extend(caution_lines(
+        &plan,
+        s.temperature_k - feed_temperature(&plan),
+    ));
     for line in &lines {
         println!("{line}");
     }
@@ -285,7 +292,9 @@ pub fn continuation(args: &ContinuationArgs) -> Result<(), CliError> {
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), p| {
             (a.min(p.temperature_k), b.max(p.temperature_k))
         });
-    lines.push(format!("temperature on the branch: {t_lo:.3} K to {t_hi:.3} K"));
+    lines.push(format!(
+        "temperature on the branch: {t_lo:.3} K to {t_hi:.3} K"
+    ));
     if let Some(csv) = &args.csv {
         let mut header = vec![label.clone(), "temperature [K]".to_string()];
         header.extend(
@@ -372,11 +381,10 @@ fn end_words(branch: &Branch) -> String {
         BranchEnd::ReachedEnd => "reached the end of the range".into(),
         BranchEnd::LeftAtStart => "turned back and left the range at its start".into(),
         BranchEnd::PointBudget => "stopped: the point budget ran out".into(),
-        BranchEnd::StepTooSmall => {
-            "stopped: the corrector failed even at the smallest step".into()
-        }
+        BranchEnd::StepTooSmall => "stopped: the corrector failed even at the smallest step".into(),
         BranchEnd::Unphysical => {
-            "stopped: the branch left the physical states (negative concentration or temperature)".into()
+            "stopped: the branch left the physical states (negative concentration or temperature)"
+                .into()
         }
     }
 }

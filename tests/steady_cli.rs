@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 /// Runs the binary in `dir`: the exit status and stdout followed by stderr.
 fn run(dir: &Path, args: &[&str]) -> (Option<i32>, String) {
     let out = stoik(args, dir);
-    (out.0, text(&out.stdout) + &text(&out.stderr))
+    (out.status.code(), text(&out.stdout) + &text(&out.stderr))
 }
 
 fn scratch(name: &str) -> PathBuf {

@@ -232,7 +232,7 @@ impl ContinuationParameter {
         }
     }
 
-    fn from_internal(self, lambda: f64) -> f64 {
+    fn value_of_internal(self, lambda: f64) -> f64 {
         match self {
             ContinuationParameter::ResidenceTime => lambda.exp(),
             _ => lambda,
@@ -978,7 +978,7 @@ impl Follower<'_> {
     }
 
     fn set(&mut self, u: &[f64]) -> Result<Vec<f64>, ReactorError> {
-        let value = self.parameter.from_internal(self.lambda(u));
+        let value = self.parameter.value_of_internal(self.lambda(u));
         self.tank.set_parameter(self.parameter, value)?;
         Ok(self.state(u))
     }
@@ -1098,7 +1098,7 @@ impl Follower<'_> {
         let y = self.set(u)?;
         let stability = self.tank.stability(&y);
         Ok(BranchPoint {
-            parameter: self.parameter.from_internal(self.lambda(u)),
+            parameter: self.parameter.value_of_internal(self.lambda(u)),
             concentrations_mol_per_m3: y[..self.tank.n].to_vec(),
             temperature_k: self.tank.temperature(&y),
             stable: stability.stable,

@@ -13,6 +13,8 @@
 //!   choice of species).
 //! - [`bar_chart_svg`]: a horizontal bar chart of signed values with labels: each step's
 //!   contribution to a species' production, or local sensitivities.
+//! - [`branch_svg`]: a branch of steady states of a stirred tank, temperature against the
+//!   continuation parameter, unstable parts dashed, turning points marked.
 //! - [`flux_graph_svg`]: the element-flux graph of `stoik_analysis` (species on a circle,
 //!   arrows whose width grows with the flux, labels with the carrying steps).
 //! - [`HtmlReport`] and [`Table`]: one self-contained HTML page (inline CSS and SVG, no
@@ -22,6 +24,7 @@
 
 mod axis;
 mod bar;
+mod branch;
 mod error;
 mod flux;
 mod html;
@@ -29,6 +32,9 @@ mod profile;
 
 pub use axis::{AxisScale, AUTO_LOG_DECADES};
 pub use bar::{bar_chart_svg, BAR_CHART_WIDTH, MAX_LABEL_CHARS, NEGATIVE_COLOR, POSITIVE_COLOR};
+pub use branch::{
+    branch_svg, BranchPlot, BRANCH_SIZE, STABLE_COLOR, TURNING_COLOR, UNSTABLE_COLOR,
+};
 pub use error::PlotError;
 pub use flux::{flux_graph_svg, EDGE_COLOR, FLUX_SIZE};
 pub use html::{escape, HtmlReport, Table};

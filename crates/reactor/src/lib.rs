@@ -24,6 +24,11 @@
 //!   totals and moieties, with a box model's open species left out; per unit mass at
 //!   constant pressure) and measures their drift along a profile against the allowance of
 //!   the tolerances ([`ConservationDrift`]).
+//! - [`steady_state`] solves for the steady state of a stirred tank (damped Newton,
+//!   pseudo-transient continuation, time integration as fall-back; dense LU) with the
+//!   eigenvalues of its Jacobian; [`continuation`] follows steady states against the
+//!   residence time, the feed or the coolant temperature (pseudo-arclength, turning points,
+//!   stability of every point).
 //! - [`element_balance`] reports the element totals at the start and end of a profile.
 //!
 //! Numerics (see the design notes): the Jacobian is filled analytically from the kinetics in
@@ -55,6 +60,7 @@ mod options;
 mod owned;
 mod profiles;
 mod sensitivity;
+mod steady;
 mod watch;
 
 pub use atmosphere::{
@@ -81,6 +87,11 @@ pub use sensitivity::{
     adjoint_parameter_sensitivity, adjoint_sensitivity, forward_parameter_sensitivities,
     forward_sensitivities, AdjointSensitivity, ForwardSensitivities, Parameter, SensitivityError,
     SensitivityStats, Target, TargetSensitivity,
+};
+pub use steady::{
+    continuation, steady_state, Branch, BranchEnd, BranchPoint, ContinuationOptions,
+    ContinuationParameter, Stability, SteadyError, SteadyOptions, SteadyPath, SteadyState,
+    TurningPoint,
 };
 pub use watch::{Located, Quantity, Watch};
 

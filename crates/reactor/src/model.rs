@@ -198,6 +198,13 @@ impl HeatExchange {
         &self.coolant
     }
 
+    /// Holds the coolant at `temperature_k` (K, finite and positive) at all times, replacing
+    /// its history (the parameter of a steady-state continuation).
+    pub fn set_coolant_temperature_k(&mut self, temperature_k: f64) -> Result<(), ReactorError> {
+        self.coolant = TemperatureHistory::new(vec![0.0], vec![temperature_k])?;
+        Ok(())
+    }
+
     /// Heat flow into the reactor per unit volume (W/m3) at time `t_s` (s) and reactor
     /// temperature `temperature_k` (K).
     pub fn heat_flow_w_per_m3(&self, t_s: f64, temperature_k: f64) -> f64 {

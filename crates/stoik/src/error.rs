@@ -152,6 +152,12 @@ pub enum CliError {
     /// `stoik diff` could not read or compare its mechanisms.
     #[error("{}", diff_message(.0))]
     Diff(#[from] DiffError),
+    /// No steady state, or a bad continuation parameter.
+    #[error("error: {0}")]
+    Steady(#[from] stoik::reactor::SteadyError),
+    /// A continuation stopped before leaving its range (the points so far were written).
+    #[error("error: the branch is incomplete: {0}")]
+    BranchIncomplete(String),
     /// Several inputs failed (a batch reports every bad scenario).
     #[error("{}", .0.iter().map(|e| e.to_string()).collect::<Vec<_>>().join("\n"))]
     Several(Vec<CliError>),
@@ -191,7 +197,12 @@ impl CliError {
             }
             | CliError::NonFinite { .. }
             | CliError::IntegrationFailed { .. }
-            | CliError::RunsFailed { .. } => EXIT_INTEGRATION_FAILED,
+            | CliError::RunsFailed { .. }
+            | CliError::BranchIncomplete(_) => EXIT_INTEGRATION_FAILED,
+            CliError::Steady(
+                stoik::reactor::SteadyError::NotConverged { .. }
+                | stoik::reactor::SteadyError::Integration(_),
+            ) => EXIT_INTEGRATION_FAILED,
             CliError::Several(errors) => errors
                 .iter()
                 .map(CliError::exit_code)

@@ -14,6 +14,7 @@ mod out_file;
 mod report;
 mod run;
 mod sensitivity;
+mod steady;
 mod suite;
 
 use clap::builder::{PossibleValue, PossibleValuesParser, TypedValueParser};
@@ -99,6 +100,18 @@ enum Command {
         after_help = "Examples:\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of ignition-delay\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of peak:OH --method adjoint --top 5 --csv oh.csv\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of final:H2O --steps R1,R3 --profile-csv profile.csv\n  stoik sensitivity mechanisms/hydrogen-oxygen.scenario.toml --of ignition-delay --top 8 --svg delay.svg --report delay.html\n\nThe parameter of a step is ln k of its forward rate constant (both falloff limits together; a reverse\nrate constant from thermochemistry follows it, explicit reverse parameters stay). The table ranks\nd ln G/d ln k, the relative change of the observable per relative change of k.\nExit status: 0 success, 2 bad input, 3 integration failure."
     )]
     Sensitivity(SensitivityArgs),
+    /// The steady state of a stirred tank (a scenario with [flow]): state, convergence and
+    /// stability (eigenvalues of the Jacobian).
+    #[command(
+        after_help = "Examples:\n  stoik steady mechanisms/hydrogen-stirred-tank.scenario.toml\n  stoik steady mechanisms/hydrogen-stirred-tank.scenario.toml --csv steady.csv\n\nThe search starts from the scenario's initial state: pseudo-transient continuation (which follows the\ntank's transient), then time integration, each finished by Newton; --newton starts with Newton instead.\nExit status: 0 success, 2 bad input (no [flow] section), 3 no steady state found."
+    )]
+    Steady(SteadyArgs),
+    /// A branch of steady states of a stirred tank against one parameter (pseudo-arclength
+    /// continuation): turning points, stability of every point, the S-curve as SVG.
+    #[command(
+        after_help = "Examples:\n  stoik continuation mechanisms/hydrogen-stirred-tank.scenario.toml --parameter residence-time --from 0.05 --to 1e-5 --svg s-curve.svg\n  stoik continuation tank.scenario.toml --parameter inlet-temperature --from 600 --to 1000 --csv branch.csv\n\nThe branch starts at the steady state found at --from (as `stoik steady` finds it) and runs until the\nparameter leaves the range [--from, --to]. Residence time in s, temperatures in K.\nExit status: 0 the branch left the range, 2 bad input, 3 no starting steady state or the branch stopped."
+    )]
+    Continuation(ContinuationArgs),
     /// Regression suites: record trusted predictions of scenario runs in a baseline, then
     /// verify a mechanism edit against them.
     #[command(subcommand)]
@@ -227,6 +240,60 @@ pub struct SensitivityArgs {
     /// their own.
     #[arg(long)]
     pub falloff_limits: bool,
+}
+
+/// Flags of `stoik steady`.
+#[derive(clap::Args)]
+pub struct SteadyArgs {
+    /// Scenario file with a [flow] section.
+    pub scenario: PathBuf,
+    /// Write the steady state (temperature, pressure, concentrations, stability) as one CSV
+    /// row to this file.
+    #[arg(long)]
+    pub csv: Option<PathBuf>,
+    /// Start with Newton from the scenario's initial state instead of pseudo-transient
+    /// continuation.
+    #[arg(long)]
+    pub newton: bool,
+}
+
+/// The parameter of `stoik continuation`.
+#[derive(Clone, Copy, Debug, ValueEnum)]
+pub enum ParameterArg {
+    /// The residence time, s (followed in ln tau).
+    ResidenceTime,
+    /// The feed temperature, K (tanks with the energy balance).
+    InletTemperature,
+    /// The coolant temperature, K (jacketed tanks).
+    CoolantTemperature,
+}
+
+/// Flags of `stoik continuation`.
+#[derive(clap::Args)]
+pub struct ContinuationArgs {
+    /// Scenario file with a [flow] section.
+    pub scenario: PathBuf,
+    /// The parameter followed.
+    #[arg(long, value_enum)]
+    pub parameter: ParameterArg,
+    /// Start of the range (s or K): the branch starts at the steady state there.
+    #[arg(long, allow_negative_numbers = true)]
+    pub from: f64,
+    /// End of the range (s or K).
+    #[arg(long, allow_negative_numbers = true)]
+    pub to: f64,
+    /// Write the branch (parameter, temperature, concentrations, stable flag, largest
+    /// eigenvalue real part) to this CSV file.
+    #[arg(long)]
+    pub csv: Option<PathBuf>,
+    /// Write the temperature against the parameter (unstable parts dashed, turning points
+    /// circled) to this SVG file.
+    #[arg(long, value_name = "FILE.svg")]
+    pub svg: Option<PathBuf>,
+    /// Start with Newton from the scenario's initial state instead of pseudo-transient
+    /// continuation.
+    #[arg(long)]
+    pub newton: bool,
 }
 
 /// Flags of `stoik flux`.
@@ -508,6 +575,8 @@ fn main() -> ExitCode {
         Command::Rates(args) => analysis::rates(&args),
         Command::Flux(args) => analysis::flux(&args),
         Command::Sensitivity(args) => sensitivity::sensitivity(&args),
+        Command::Steady(args) => steady::steady(&args),
+        Command::Continuation(args) => steady::continuation(&args),
     };
     // Every error is reported here, once.
     match result {

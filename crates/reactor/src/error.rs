@@ -24,6 +24,12 @@ pub enum FailureKind {
         /// Failures in the step.
         count: usize,
     },
+    /// A stop was requested through the run's [`RunMonitor`](crate::RunMonitor) (Ctrl-C in
+    /// the binary).
+    Interrupted,
+    /// The wall-clock limit ([`IntegrationOptions::wall_time_limit_s`](crate::IntegrationOptions::wall_time_limit_s))
+    /// ran out.
+    WallTimeLimit,
     /// Any other solver error (see [`IntegrationFailure::reason`]).
     Other,
 }
@@ -85,7 +91,8 @@ pub struct IntegrationFailure {
     /// The output rows produced before the failure (for [`BatchIntegrator`](crate::BatchIntegrator), the single row
     /// of the state at `time_s`), with the statistics up to the failure.
     pub partial: Profiles,
-    /// The solver's own error, when the solver reported one.
+    /// The solver's own error, when the solver reported one (not for an interruption or
+    /// the wall-clock limit).
     #[source]
     pub source: Option<SolverError>,
 }
@@ -191,6 +198,9 @@ pub enum ReactorError {
     /// `max_steps` is zero.
     #[error("max_steps must be at least 1")]
     NoSteps,
+    /// The wall-clock limit is not a positive finite number of seconds.
+    #[error("the wall-time limit must be positive and finite, got {0} s")]
+    BadWallTimeLimit(f64),
     /// The kinetics' Jacobian pattern is malformed (a defect of the kinetics compiler).
     #[error("the Jacobian pattern of the kinetics is malformed")]
     BadPattern,

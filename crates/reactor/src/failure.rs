@@ -13,10 +13,54 @@ pub(crate) struct Diagnosis {
     /// Boxed: it is large, and the step loop returns a `Diagnosis` as its error.
     pub(crate) fastest: Option<Box<FastestComponent>>,
     pub(crate) nonfinite_steps: Vec<usize>,
-    pub(crate) source: SolverError,
+    pub(crate) source: Option<SolverError>,
+}
+
+/// Why the step loop stopped early: the solver failed, or it was asked to stop.
+#[derive(Debug)]
+pub(crate) enum Halt {
+    /// The solver reported an error.
+    Solver(DiffsolError),
+    /// The run's monitor asked for a stop.
+    Interrupted,
+    /// The wall-clock limit (s) ran out.
+    WallTime(f64),
+}
+
+impl From<DiffsolError> for Halt {
+    fn from(error: DiffsolError) -> Self {
+        Halt::Solver(error)
+    }
 }
 
 impl Diagnosis {
+    /// The diagnosis of a halt: [`Diagnosis::new`] for a solver error; for a requested stop or
+    /// the wall-clock limit, its kind and message (no advice on the state is needed).
+    pub(crate) fn of_halt(
+        halt: &Halt,
+        fastest: Option<FastestComponent>,
+        nonfinite_steps: Vec<usize>,
+    ) -> Diagnosis {
+        let (kind, message) = match halt {
+            Halt::Solver(error) => return Diagnosis::new(error, fastest, nonfinite_steps),
+            Halt::Interrupted => (
+                FailureKind::Interrupted,
+                "interrupted on request".to_string(),
+            ),
+            Halt::WallTime(limit_s) => (
+                FailureKind::WallTimeLimit,
+                format!("the wall-time limit of {limit_s} s ran out"),
+            ),
+        };
+        Diagnosis {
+            kind,
+            message,
+            fastest: None,
+            nonfinite_steps: Vec::new(),
+            source: None,
+        }
+    }
+
     pub(crate) fn new(
         error: &DiffsolError,
         fastest: Option<FastestComponent>,
@@ -55,14 +99,16 @@ impl Diagnosis {
             FailureKind::NewtonFailures { count } => {
                 format!("the Newton iterations did not converge ({count} failures in one step)")
             }
-            FailureKind::Other => format!("the solver stopped: {error}"),
+            FailureKind::Other | FailureKind::Interrupted | FailureKind::WallTimeLimit => {
+                format!("the solver stopped: {error}")
+            }
         };
         Diagnosis {
             kind,
             message,
             fastest: fastest.map(Box::new),
             nonfinite_steps,
-            source: SolverError::new(error.clone()),
+            source: Some(SolverError::new(error.clone())),
         }
     }
 }
@@ -138,6 +184,11 @@ impl IntegrationFailure {
                 "the solution may be changing abruptly here (an ignition, a runaway, a switch in a prescribed history): check the rate constants of the steps named above",
                 "try a tighter relative tolerance (smaller steps before the event) or raise that species' absolute tolerance",
                 "with a large mechanism, try `--linear-algebra dense` to rule out the sparse factorization",
+            ],
+            FailureKind::Interrupted => &["the profile up to the interruption is kept; rerun to continue"],
+            FailureKind::WallTimeLimit => &[
+                "raise the wall-time limit (`[solver] wall_time_limit`, `--wall-time-limit-s`), or shorten the run",
+                "a run much slower than expected often spends its steps on a species with an absolute tolerance far below the concentrations that matter",
             ],
             FailureKind::Other => &["report the input that causes this; it is not a known failure mode"],
         };

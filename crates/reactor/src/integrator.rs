@@ -30,15 +30,56 @@ use diffsol::{
 use stoik_kinetics::Kinetics;
 
 use crate::equations::{Backend, BatchEquations};
-use crate::failure::Diagnosis;
+use crate::failure::{Diagnosis, Halt};
 use crate::fixed_lu::FixedPatternSolver;
 use crate::invariants::Invariants;
 use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
 use crate::watch::{gauss_legendre_3_nodes, Quantity, Watch, Watcher};
 use crate::{
     FastestComponent, IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra,
-    Profiles, ReactorError, SolverError, SolverStats,
+    Profiles, ReactorError, RunMonitor, SolverError, SolverStats,
 };
+use std::time::{Duration, Instant};
+
+/// What the step loop checks after every accepted step besides the solver: the run's
+/// monitor (publish progress, honour a stop request) and the wall-clock deadline.
+#[derive(Debug, Clone, Copy, Default)]
+pub(crate) struct Control<'a> {
+    pub(crate) monitor: Option<&'a RunMonitor>,
+    /// The deadline and the limit (s) it came from.
+    pub(crate) deadline: Option<(Instant, f64)>,
+}
+
+impl Control<'_> {
+    /// Publishes an accepted step ending at `t` and says whether the loop must stop (never
+    /// when the step `finished` the call).
+    #[inline]
+    pub(crate) fn after_step(&self, t: f64, finished: bool) -> Result<(), Halt> {
+        if let Some(monitor) = self.monitor {
+            monitor.step_taken(t);
+            if finished {
+                return Ok(());
+            }
+            if monitor.is_interrupted() {
+                return Err(Halt::Interrupted);
+            }
+        }
+        if let Some((deadline, limit_s)) = self.deadline {
+            if !finished && Instant::now() >= deadline {
+                return Err(Halt::WallTime(limit_s));
+            }
+        }
+        Ok(())
+    }
+}
+
+/// The deadline of a call starting now with a wall-clock limit of `limit_s` seconds.
+pub(crate) fn deadline(limit_s: Option<f64>) -> Option<(Instant, f64)> {
+    let limit = limit_s?;
+    // Limits beyond what `Instant` can represent are no limit.
+    let deadline = Instant::now().checked_add(Duration::try_from_secs_f64(limit).ok()?)?;
+    Some((deadline, limit))
+}
 
 /// Checks the options and the temperature of a [`BatchSystem`].
 pub(crate) fn validate_options(
@@ -73,6 +114,11 @@ pub(crate) fn validate_options(
     if let Some(tol) = options.newton_tolerance {
         if !(tol.is_finite() && tol > 0.0) {
             return Err(ReactorError::BadNewtonTolerance(tol));
+        }
+    }
+    if let Some(limit) = options.wall_time_limit_s {
+        if !(limit.is_finite() && limit > 0.0) {
+            return Err(ReactorError::BadWallTimeLimit(limit));
         }
     }
     check_watches(kinetics.n_species(), kinetics.n_steps(), &options.watch)
@@ -200,7 +246,8 @@ fn drive<'a, M, S>(
     record: &mut dyn FnMut(f64, &[f64]),
     negative: &mut f64,
     rejections: &mut usize,
-) -> Result<(), DiffsolError>
+    control: Control<'_>,
+) -> Result<(), Halt>
 where
     M: Backend + 'a,
     S: OdeSolverMethod<'a, BatchEquations<M>>,
@@ -306,6 +353,7 @@ where
                 *projections += 1;
             }
         }
+        control.after_step(t, stopped)?;
         if stopped {
             break;
         }
@@ -415,6 +463,9 @@ struct Stepper<M: Backend, S> {
     probe_w: Vec<f64>,
     /// Accepted steps allowed per call.
     max_steps: usize,
+    /// Progress and stop requests, and the wall-clock limit per call (s).
+    monitor: Option<RunMonitor>,
+    wall_time_limit_s: Option<f64>,
     /// The state's linear invariants, kept by projection (`None`: none, or not kept).
     invariants: Option<Invariants>,
     /// The equations' right-hand-side and Jacobian counters when the session began.
@@ -431,7 +482,7 @@ where
     /// [`prepare_problem`]): the allocating step.
     fn open(
         problem: &'a OdeSolverProblem<BatchEquations<M>>,
-        max_steps: usize,
+        limits: &Limits,
         make: impl FnOnce(&'a OdeSolverProblem<BatchEquations<M>>) -> Result<S, DiffsolError>,
     ) -> Result<Self, ReactorError> {
         let initial = problem.eqn.initial.as_slice();
@@ -449,7 +500,9 @@ where
             buffer: M::V::zeros(n, problem.eqn.context().clone()),
             probe_y: vec![0.0; n],
             probe_w: vec![0.0; n],
-            max_steps,
+            max_steps: limits.max_steps,
+            monitor: limits.monitor.clone(),
+            wall_time_limit_s: limits.wall_time_limit_s,
             rhs_base,
             jacobian_base,
         })
@@ -486,7 +539,8 @@ where
         record: &mut dyn FnMut(f64, &[f64]),
         negative: &mut f64,
         rejections: &mut usize,
-    ) -> Result<(), DiffsolError> {
+        deadline: Option<(Instant, f64)>,
+    ) -> Result<(), Halt> {
         let budget = self
             .solver
             .get_statistics()
@@ -509,6 +563,10 @@ where
             record,
             negative,
             rejections,
+            Control {
+                monitor: self.monitor.as_ref(),
+                deadline,
+            },
         );
         if result.is_err() {
             self.restart(None, None);
@@ -807,7 +865,7 @@ pub struct BatchSystem {
     model: ReactorModel,
     linear_algebra_used: LinearAlgebra,
     n_species: usize,
-    max_steps: usize,
+    limits: Limits,
     /// Quantities to locate on the solver's steps in [`integrate`](Self::integrate).
     watches: Vec<Watch>,
 }
@@ -889,7 +947,11 @@ impl BatchSystem {
                 LinearAlgebra::Dense
             },
             n_species: kinetics.n_species(),
-            max_steps: options.max_steps,
+            limits: Limits {
+                max_steps: options.max_steps,
+                monitor: options.monitor.clone(),
+                wall_time_limit_s: options.wall_time_limit_s,
+            },
             watches: options.watch.clone(),
         })
     }
@@ -969,7 +1031,7 @@ impl BatchSystem {
 
     /// Opens a session from the state [`prepare`](Self::prepare) set.
     pub(crate) fn open_prepared(&self) -> Result<BatchIntegrator<'_>, ReactorError> {
-        let max_steps = self.max_steps;
+        let max_steps = &self.limits;
         let linear_algebra_used = self.linear_algebra_used;
         let session = match &self.problem {
             Problem::Dense(p) => Session::Dense(Box::new(Stepper::open(p, max_steps, |p| {
@@ -998,6 +1060,7 @@ impl BatchSystem {
             watcher: Watcher::default(),
             extents: None,
             step_scratch: vec![0.0; 2 * n_steps],
+            deadline: None,
         };
         integrator.refresh_stats();
         Ok(integrator)
@@ -1046,7 +1109,9 @@ impl BatchSystem {
             &mut profiles.concentrations_mol_per_m3,
             &mut profiles.temperatures_k,
         );
+        let last = std::cell::Cell::new(t0);
         let mut record = |t: f64, y: &[f64]| {
+            last.set(t);
             times.push(t);
             rows.push(y[..n].to_vec());
             temperatures.push(model.temperature(t, y, n, held_k));
@@ -1054,9 +1119,14 @@ impl BatchSystem {
         record(t0, integrator.full_state());
         integrator.watch(&watches);
         let result = integrator.run(&output_times_s[1..], &mut record);
+        let time_s = integrator.time();
+        // A failed run keeps the state it reached (the last accepted step) as its last row,
+        // off the output grid, so the profile so far ends where the run stopped.
+        if result.is_err() && time_s > last.get() {
+            record(time_s, integrator.full_state());
+        }
         profiles.located = integrator.watcher.results();
         profiles.stats = integrator.stats;
-        let time_s = integrator.time();
         drop(integrator);
         profiles.temperature_rates_k_per_s = self.temperature_rates(&profiles);
         match result {
@@ -1068,7 +1138,7 @@ impl BatchSystem {
                 fastest: d.fastest.map(|f| *f),
                 nonfinite_steps: d.nonfinite_steps,
                 partial: profiles,
-                source: Some(d.source),
+                source: d.source,
             }
             .into()),
         }
@@ -1141,6 +1211,17 @@ pub struct BatchIntegrator<'a> {
     extents: Option<Extents>,
     /// Two per-step buffers (rates, enthalpies) for the heat release.
     step_scratch: Vec<f64>,
+    /// The wall-clock deadline of the current call, with its limit (s).
+    deadline: Option<(Instant, f64)>,
+}
+
+/// The limits of every call of a system's integrators: the step budget, the wall-clock
+/// limit (s) and the monitor.
+#[derive(Debug, Clone)]
+struct Limits {
+    max_steps: usize,
+    monitor: Option<RunMonitor>,
+    wall_time_limit_s: Option<f64>,
 }
 
 impl BatchIntegrator<'_> {
@@ -1169,7 +1250,7 @@ impl BatchIntegrator<'_> {
                     kind: d.kind,
                     fastest: d.fastest.map(|f| *f),
                     nonfinite_steps: d.nonfinite_steps,
-                    source: Some(d.source),
+                    source: d.source,
                     partial: Profiles {
                         times_s: vec![time_s],
                         concentrations_mol_per_m3: vec![self.state().to_vec()],
@@ -1208,6 +1289,7 @@ impl BatchIntegrator<'_> {
         record: &mut dyn FnMut(f64, &[f64]),
     ) -> Result<(), Diagnosis> {
         let now = self.time();
+        self.deadline = with_stepper!(&self.session, s => deadline(s.wall_time_limit_s));
         let breakpoints: Vec<f64> = match (&self.session_model().energy, outputs.last()) {
             (Energy::Prescribed(history), Some(&end)) => {
                 history.breakpoints_between(now, end).collect()
@@ -1260,11 +1342,15 @@ impl BatchIntegrator<'_> {
         let projections = &mut self.stats.invariant_projections;
         let watcher = (!self.watcher.is_empty()).then_some(&mut self.watcher);
         let extents = self.extents.as_mut();
-        let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, extents, projections, record, negative, rejections));
-        let reason = result.map_err(|e| {
-            let fastest = with_stepper!(&mut self.session, s => s.fastest_component());
-            let nonfinite = with_stepper!(&mut self.session, s => s.nonfinite_steps());
-            Diagnosis::new(&e, fastest, nonfinite)
+        let deadline = self.deadline;
+        let result = with_stepper!(&mut self.session, s => s.advance(outputs, watcher, extents, projections, record, negative, rejections, deadline));
+        let reason = result.map_err(|e| match e {
+            Halt::Solver(_) => {
+                let fastest = with_stepper!(&mut self.session, s => s.fastest_component());
+                let nonfinite = with_stepper!(&mut self.session, s => s.nonfinite_steps());
+                Diagnosis::of_halt(&e, fastest, nonfinite)
+            }
+            _ => Diagnosis::of_halt(&e, None, Vec::new()),
         });
         most_negative(
             with_stepper!(&self.session, s => s.state()),

@@ -56,6 +56,7 @@ mod ignition;
 mod integrator;
 mod invariants;
 mod model;
+mod monitor;
 mod options;
 mod owned;
 mod profiles;
@@ -78,6 +79,7 @@ pub use error::{
 pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
 pub use model::{Constraint, Energy, HeatExchange, ReactorModel, StirredFlow, TemperatureHistory};
+pub use monitor::RunMonitor;
 pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
 };

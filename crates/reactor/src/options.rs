@@ -1,7 +1,7 @@
 //! The settings of an integration: tolerances, linear algebra, step limits and watches, and
 //! the solver's work counts.
 
-use crate::Watch;
+use crate::{RunMonitor, Watch};
 use stoik_kinetics::Kinetics;
 
 /// Largest number of species for which [`LinearAlgebra::Auto`] picks dense linear algebra
@@ -107,6 +107,17 @@ pub struct IntegrationOptions {
     /// saves about 40 % of the right-hand-side evaluations at the price of larger global
     /// errors.
     pub newton_tolerance: Option<f64>,
+    /// Longest wall-clock time (s, finite and positive) one call ([`integrate`](crate::integrate),
+    /// [`simulate`](crate::simulate) or [`BatchIntegrator::advance_to`](crate::BatchIntegrator::advance_to))
+    /// may take; checked after every accepted step. Running out ends the call like a solver
+    /// failure: an [`IntegrationFailure`](crate::IntegrationFailure) of kind
+    /// [`FailureKind::WallTimeLimit`](crate::FailureKind::WallTimeLimit) with the profile so
+    /// far. `None` (the default): no limit.
+    pub wall_time_limit_s: Option<f64>,
+    /// A handle through which another thread follows the integration (time reached, steps)
+    /// and can stop it ([`RunMonitor::interrupt`](crate::RunMonitor::interrupt)); see
+    /// [`RunMonitor`](crate::RunMonitor). `None` (the default): none.
+    pub monitor: Option<RunMonitor>,
 }
 
 impl IntegrationOptions {
@@ -123,6 +134,8 @@ impl IntegrationOptions {
             watch: Vec::new(),
             keep_invariants: true,
             newton_tolerance: None,
+            wall_time_limit_s: None,
+            monitor: None,
         }
     }
 }

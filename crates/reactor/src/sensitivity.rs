@@ -977,6 +977,7 @@ fn failed(time_s: f64, e: DiffsolError) -> SensitivityError {
 fn march<'a, E, S>(
     solver: &mut S,
     stops: &[f64],
+    options: &IntegrationOptions,
     mut on_step: impl FnMut(&S, f64, f64) -> Result<(), SensitivityError>,
     mut at_stop: impl FnMut(&S, f64) -> Result<(), SensitivityError>,
 ) -> Result<usize, SensitivityError>
@@ -985,6 +986,11 @@ where
     S: OdeSolverMethod<'a, E>,
 {
     let mut steps = 0;
+    // The run's monitor and wall-clock limit (per integration pass).
+    let control = crate::integrator::Control {
+        monitor: options.monitor.as_ref(),
+        deadline: crate::integrator::deadline(options.wall_time_limit_s),
+    };
     for &stop in stops {
         if stop <= solver.state().t {
             at_stop(solver, stop)?;
@@ -999,7 +1005,15 @@ where
                 crate::integrator::minimum_step(before);
             let reason = solver.step().map_err(|e| failed(before, e))?;
             steps += 1;
-            on_step(solver, before, solver.state().t)?;
+            let after = solver.state().t;
+            on_step(solver, before, after)?;
+            let finished = matches!(reason, OdeSolverStopReason::TstopReached);
+            control
+                .after_step(after, finished)
+                .map_err(|halt| SensitivityError::Failed {
+                    time_s: after,
+                    reason: crate::failure::Diagnosis::of_halt(&halt, None, Vec::new()).message,
+                })?;
             if matches!(reason, OdeSolverStopReason::TstopReached) {
                 break;
             }
@@ -1143,6 +1157,7 @@ pub fn forward_parameter_sensitivities(
         march::<ParamEquations, _>(
             &mut solver,
             &hard_stops,
+            options,
             |s, _before, after| {
                 while let Some(&t) = pending.last() {
                     if t > after {
@@ -1167,6 +1182,7 @@ pub fn forward_parameter_sensitivities(
         let n = march::<ParamEquations, _>(
             &mut solver,
             &hard_stops,
+            options,
             |s, _before, after| {
                 while let Some(&t) = pending.last() {
                     if t > after {
@@ -1623,6 +1639,7 @@ pub fn adjoint_parameter_sensitivity(
         let steps_taken = march::<Core, _>(
             &mut solver,
             &stops,
+            options,
             |s, before, after| {
                 let mut sample = Vec::with_capacity(5 * m);
                 sample.extend_from_slice(&previous);
@@ -1751,6 +1768,7 @@ pub fn adjoint_parameter_sensitivity(
     let backward_steps = march::<AdjointEquations, _>(
         &mut solver,
         &stops,
+        options,
         |s, tau_a, tau_b| {
             // Pieces of [t_star - tau_b, t_star - tau_a] between forward step ends.
             let (t_lo, t_hi) = (t_star - tau_b, t_star - tau_a);

@@ -151,6 +151,8 @@ pub struct Scenario {
     pub newton_tolerance: Option<f64>,
     /// Whether round-off drift of the conserved combinations is projected away.
     pub keep_invariants: bool,
+    /// Longest wall-clock time of the integration (s); `None`: no limit.
+    pub wall_time_limit_s: Option<f64>,
     pub(crate) initial: InitialState,
     pub(crate) tolerance_overrides: Vec<NamedValue>,
     pub(crate) ignition: Option<IgnitionSpec>,
@@ -281,6 +283,7 @@ fn read_scenario(
         max_steps: solver.max_steps?,
         newton_tolerance: solver.newton_tolerance?,
         keep_invariants: solver.keep_invariants?,
+        wall_time_limit_s: solver.wall_time_limit_s?,
         initial: initial?,
         tolerance_overrides: solver.tolerance_overrides?,
         file: file.to_string(),

@@ -19,7 +19,7 @@ use stoik_mechanism::{
 };
 use stoik_reactor::{
     BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel,
-    StirredFlow, Watch,
+    RunMonitor, StirredFlow, Watch,
 };
 
 /// An initial composition given in place of a scenario's ([`RunPlan::set_initial_composition`]),
@@ -49,6 +49,8 @@ pub struct RunPlan {
     non_negative: bool,
     /// Watches asked for by the caller ([`RunPlan::add_watches`]), kept across overrides.
     extra_watches: Vec<Watch>,
+    /// The monitor of the plan's runs ([`RunPlan::set_monitor`]), kept across overrides.
+    monitor: Option<RunMonitor>,
     resolved: Resolved,
 }
 
@@ -88,6 +90,7 @@ impl RunPlan {
             absolute_tolerance_override_mol_per_m3: None,
             non_negative: true,
             extra_watches: Vec::new(),
+            monitor: None,
             resolved,
         })
     }
@@ -333,6 +336,24 @@ impl RunPlan {
         Ok(())
     }
 
+    /// Overrides the wall-clock limit of the integration (s, finite and positive; `None`:
+    /// no limit). Running out ends the run like a solver failure, with the profile so far.
+    pub fn set_wall_time_limit_s(&mut self, limit_s: Option<f64>) -> Result<(), ScenarioError> {
+        if let Some(limit) = limit_s {
+            positive("wall-time limit", "a positive number of seconds", limit)?;
+        }
+        self.scenario.wall_time_limit_s = limit_s;
+        self.resolved.options.wall_time_limit_s = limit_s;
+        Ok(())
+    }
+
+    /// Follows and controls the plan's runs through `monitor` (progress, stop requests; see
+    /// [`RunMonitor`]); `None` removes it. Kept across later overrides.
+    pub fn set_monitor(&mut self, monitor: Option<RunMonitor>) {
+        self.monitor = monitor.clone();
+        self.resolved.options.monitor = monitor;
+    }
+
     /// Whether non-negative concentrations are enforced in the step acceptance (default
     /// `true`).
     pub fn set_non_negative(&mut self, non_negative: bool) {
@@ -364,6 +385,7 @@ impl RunPlan {
             .options
             .watch
             .extend_from_slice(&self.extra_watches);
+        self.resolved.options.monitor = self.monitor.clone();
         self.scenario = scenario;
         Ok(())
     }
@@ -663,6 +685,8 @@ fn resolve(
             watch,
             keep_invariants: scenario.keep_invariants,
             newton_tolerance: scenario.newton_tolerance,
+            wall_time_limit_s: scenario.wall_time_limit_s,
+            monitor: None,
         },
         ignition,
     })

@@ -74,6 +74,7 @@ const SOLVER_KEYS: &[&str] = &[
     "linear_algebra",
     "max_steps",
     "newton_tolerance",
+    "wall_time_limit",
     "keep_invariants",
 ];
 
@@ -932,6 +933,7 @@ pub(crate) struct SolverSection {
     pub(crate) max_steps: Option<usize>,
     pub(crate) newton_tolerance: Option<Option<f64>>,
     pub(crate) keep_invariants: Option<bool>,
+    pub(crate) wall_time_limit_s: Option<Option<f64>>,
 }
 
 /// Reads `[solver]`; bare absolute tolerances are in the output concentration unit `unit`.
@@ -949,6 +951,7 @@ pub(crate) fn read_solver(
         max_steps: Some(100_000),
         newton_tolerance: Some(None),
         keep_invariants: Some(true),
+        wall_time_limit_s: Some(None),
     };
     let Some(t) = section(r, root, "solver", SOLVER_KEYS) else {
         return out;
@@ -1009,6 +1012,12 @@ pub(crate) fn read_solver(
     }
     if let Some(v) = t.get("keep_invariants") {
         out.keep_invariants = r.boolean("keep_invariants", v);
+    }
+    if let Some(v) = t.get("wall_time_limit") {
+        out.wall_time_limit_s =
+            quantity(r, "wall_time_limit", v, "s", time_to_s, SCENARIO_TIME_UNITS)
+                .and_then(|x| require_positive(r, "wall_time_limit", v, x))
+                .map(Some);
     }
     out
 }

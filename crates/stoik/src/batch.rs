@@ -171,8 +171,18 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
         )
         .unwrap_or_else(|_| ProgressStyle::default_bar()),
     );
-    let plans: Vec<RunPlan> = jobs.iter().map(|j| j.plan.clone()).collect();
+    // Ctrl-C stops every run at its next step; each writes its profile so far.
+    let monitor = crate::progress::interrupt_monitor();
+    let plans: Vec<RunPlan> = jobs
+        .iter()
+        .map(|j| {
+            let mut plan = j.plan.clone();
+            plan.set_monitor(Some(monitor.clone()));
+            plan
+        })
+        .collect();
     let outcomes = run_batch(&plans, &|| bar.inc(1));
+    let mut complete = 0;
     let mut failures = 0;
     let mut refused = 0;
     let mut printed = HashSet::new();
@@ -190,6 +200,7 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
         };
         // A failed run writes its partial profile beside its CSV, never over it.
         let partial = partial_path(&job.output);
+        complete += usize::from(outcome.failure().is_none());
         let output = if let Some(f) = outcome.failure() {
             bar.suspend(|| {
                 eprintln!(
@@ -252,7 +263,9 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
         );
         println!("{CAUTION}");
     }
-    if failures > 0 {
+    if monitor.is_interrupted() {
+        Err(CliError::BatchInterrupted { complete, total })
+    } else if failures > 0 {
         Err(CliError::RunsFailed {
             failed: failures,
             refused,

@@ -23,6 +23,9 @@ pub const EXIT_BAD_INPUT: u8 = 2;
 pub const EXIT_INTEGRATION_FAILED: u8 = 3;
 /// Exit status of `suite verify` when an observable moved beyond its tolerance.
 pub const EXIT_MOVED: u8 = 4;
+/// Exit status of a run ended by Ctrl-C (the profile so far is written): 128 + SIGINT (2),
+/// the shell convention for a process ended by that signal (common practice).
+pub const EXIT_INTERRUPTED: u8 = 130;
 
 /// Why a subcommand ended with a nonzero exit status.
 #[derive(Debug, thiserror::Error)]
@@ -120,6 +123,26 @@ pub enum CliError {
         /// The requested output, not written by a failed run.
         target: PathBuf,
     },
+    /// The run was interrupted (Ctrl-C); its profile so far was written.
+    #[error("interrupted at t = {time_s:e} s; the profile so far ({rows} rows) was written to {} ({} is left as it was)", output.display(), target.display())]
+    Interrupted {
+        /// Simulated time reached (s).
+        time_s: f64,
+        /// Rows written.
+        rows: usize,
+        /// The CSV written: the partial-profile file beside the requested output.
+        output: PathBuf,
+        /// The requested output, not written by an interrupted run.
+        target: PathBuf,
+    },
+    /// A batch was interrupted (Ctrl-C); every run's profile so far was written.
+    #[error("interrupted: {complete} of {total} runs complete; the others wrote their profiles so far (.partial.csv)")]
+    BatchInterrupted {
+        /// Runs that reached their end time.
+        complete: usize,
+        /// All runs.
+        total: usize,
+    },
     /// Some runs of a batch failed (each was reported as it happened).
     #[error("error: {failed} of {total} runs failed{}", if *.refused > 0 { format!(" ({refused} refused as bad input)") } else { String::new() })]
     RunsFailed {
@@ -187,6 +210,7 @@ impl CliError {
         match self {
             CliError::StrictWarnings(_) => EXIT_WARNINGS,
             CliError::Moved { .. } => EXIT_MOVED,
+            CliError::Interrupted { .. } | CliError::BatchInterrupted { .. } => EXIT_INTERRUPTED,
             CliError::KineticChanges(_) => EXIT_DIFFERENCES,
             CliError::RunsFailed { refused, .. } if *refused > 0 => EXIT_BAD_INPUT,
             CliError::AnalysisRun(AnalysisError::RunFailed { .. })

@@ -11,6 +11,7 @@ mod error;
 mod fit_rate;
 mod fit_thermo;
 mod out_file;
+mod progress;
 mod report;
 mod run;
 mod sensitivity;
@@ -519,11 +520,16 @@ pub struct RunArgs {
     /// Override the linear algebra of the Newton iterations.
     #[arg(long, value_parser = linear_algebra_parser())]
     pub linear_algebra: Option<LinearAlgebra>,
+    /// Longest wall-clock time of the integration, in s; running out ends the run like a
+    /// failed one (exit 3), with the profile so far written [default: the scenario's
+    /// `[solver] wall_time_limit`, else none].
+    #[arg(long, value_name = "SECONDS")]
+    pub wall_time_limit_s: Option<f64>,
     /// Do not enforce non-negative concentrations in the step acceptance (for comparison
     /// with solvers that do not).
     #[arg(long)]
     pub allow_negative: bool,
-    /// Print only errors.
+    /// Print only errors (no progress line for long runs).
     #[arg(short, long)]
     pub quiet: bool,
     /// Write a self-contained HTML report (the run summary, concentration and temperature

@@ -45,6 +45,12 @@ fn plan(args: &RunArgs) -> Result<RunPlan, CliError> {
     if let Some(choice) = args.linear_algebra {
         plan.set_linear_algebra(choice);
     }
+    if let Some(limit) = args.wall_time_limit_s {
+        flag(
+            "--wall-time-limit-s",
+            plan.set_wall_time_limit_s(Some(limit)),
+        )?;
+    }
     plan.set_non_negative(!args.allow_negative);
     Ok(plan)
 }
@@ -91,7 +97,18 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         species: report_species(&args.report_species, plan.mechanism())?,
         mole_fractions: args.report_mole_fractions,
     };
+    // Ctrl-C stops the run at its next step; a run longer than a second shows its progress.
+    let mut plan = plan;
+    let monitor = crate::progress::interrupt_monitor();
+    plan.set_monitor(Some(monitor.clone()));
+    let progress = {
+        let times = plan.output_times_s();
+        let end = times.last().copied().unwrap_or(0.0);
+        let first = times.iter().copied().find(|&t| t > 0.0).unwrap_or(end);
+        crate::progress::RunProgress::start(&monitor, first, end, args.quiet)
+    };
     let outcome = plan.run()?;
+    progress.finish();
     let elapsed = started.elapsed();
     let mechanism = plan.mechanism();
     if !args.quiet {
@@ -169,6 +186,14 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
     }
     match outcome.result {
         Ok(_) => Ok(()),
+        Err(failure) if failure.kind == stoik::reactor::FailureKind::Interrupted => {
+            Err(CliError::Interrupted {
+                time_s: failure.time_s,
+                rows: failure.partial.times_s.len(),
+                output,
+                target,
+            })
+        }
         Err(failure) => Err(CliError::IntegrationFailed {
             advice: {
                 let (names, equations) = names_and_equations(mechanism);

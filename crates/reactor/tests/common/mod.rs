@@ -98,6 +98,8 @@ pub fn options(
         watch: Vec::new(),
         keep_invariants: true,
         newton_tolerance: None,
+        wall_time_limit_s: None,
+        monitor: None,
     }
 }
 

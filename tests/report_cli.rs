@@ -42,7 +42,15 @@ fn self_contained(html: &str) {
 fn run_report_holds_the_printed_summary_and_the_profile_plots() {
     let dir = scratch("run");
     let out = stoik(
-        &["run", &demo(), "-o", "h2.csv", "--report", "h2.html"],
+        &[
+            "run",
+            &demo(),
+            "-o",
+            "h2.csv",
+            "--report",
+            "h2.html",
+            "--report-without-analyses",
+        ],
         &dir,
     );
     assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
@@ -596,4 +604,187 @@ fn mole_fraction_plots_have_their_axis_and_scale() {
     let html = std::fs::read_to_string(dir.join("ab.html")).unwrap();
     assert!(html.contains("mole fraction [-]"));
     assert!(!html.contains("mole fraction [-] (log scale)"));
+}
+
+#[test]
+fn run_report_holds_sensitivities_rates_of_production_and_the_flux_of_the_run() {
+    let dir = scratch("run-analyses");
+    let out = stoik(
+        &[
+            "run",
+            &demo(),
+            "-o",
+            "h2.csv",
+            "--report",
+            "h2.html",
+            "--report-rates-of",
+            "OH,H2O",
+            "--report-flux-element",
+            "H",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let html = std::fs::read_to_string(dir.join("h2.html")).unwrap();
+    self_contained(&html);
+    for section in [
+        "Profiles",
+        "Sensitivities of the ignition delay",
+        "Flux of H atoms over the run",
+        "Edges of the H flux",
+        "Run summary",
+    ] {
+        assert!(html.contains(&format!("<h2>{section}</h2>")), "{section}");
+    }
+    // Concentrations, temperature, the sensitivity chart, one rates chart per species, the
+    // flux graph.
+    assert_eq!(html.matches("<svg").count(), 6);
+
+    // The sensitivities are those of `stoik sensitivity` (forward method) on the same
+    // scenario, number for number (full precision in the table's title attributes).
+    let out = stoik(
+        &[
+            "sensitivity",
+            &demo(),
+            "--of",
+            "ignition-delay",
+            "--csv",
+            "s.csv",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let csv = std::fs::read_to_string(dir.join("s.csv")).unwrap();
+    let ranked: Vec<Vec<&str>> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').collect())
+        .collect();
+    let expected: Vec<&str> = ranked.iter().flat_map(|r| [r[3], r[4]]).collect();
+    assert_eq!(titles(&html), expected);
+    // Common practice (trade fact, no source): near 1100 K the chain-branching step
+    // H + O2 -> O + OH has the largest, negative sensitivity of the hydrogen ignition delay.
+    assert!(ranked[0][2].contains("H + O2") && ranked[0][2].contains("O + OH"));
+    assert!(ranked[0][3].parse::<f64>().unwrap() < 0.0);
+
+    // The rates of production are those of `stoik rates` over the whole run (the demo ends
+    // at 2 ms): every contribution is on the page as printed there.
+    let out = stoik(
+        &[
+            "rates",
+            &demo(),
+            "--species",
+            "OH,H2O",
+            "--window",
+            "0,2e-3",
+            "--csv",
+            "r.csv",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let rates = std::fs::read_to_string(dir.join("r.csv")).unwrap();
+    let mut checked = 0;
+    for line in rates.lines().skip(1) {
+        let fields: Vec<&str> = line.split(',').collect();
+        let value: f64 = fields[5].parse().unwrap();
+        assert!(
+            html.contains(&format!("<td class=\"num\">{value:.4e}</td>")),
+            "{line} not on the page"
+        );
+        checked += 1;
+    }
+    assert!(checked > 10, "{checked} contributions");
+
+    // The flux graph is that of `stoik flux` over the same window: one table row per DOT
+    // edge.
+    let out = stoik(
+        &[
+            "flux",
+            &demo(),
+            "--element",
+            "H",
+            "--window",
+            "0,2e-3",
+            "--dot",
+            "f.dot",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let dot = std::fs::read_to_string(dir.join("f.dot")).unwrap();
+    let edges = dot.matches(" -> ").count();
+    assert!(edges > 3, "{dot}");
+    let table = &html[html.find("<h2>Edges of the H flux</h2>").unwrap()..];
+    let table = &table[..table.find("</table>").unwrap()];
+    assert_eq!(
+        table.matches("<tr>").count(),
+        edges + 1,
+        "header and one row per edge"
+    );
+}
+
+#[test]
+fn run_report_analyses_default_sensibly_and_bad_flags_are_refused_before_the_run() {
+    let dir = scratch("run-analyses-defaults");
+    // Robertson's problem: abstract species (no atoms: no flux), no ignition: the
+    // sensitivity of the final value of the main product (C, absent at the start).
+    let scenario = repo()
+        .join("mechanisms/robertson.scenario.toml")
+        .to_string_lossy()
+        .into_owned();
+    let out = stoik(
+        &["run", &scenario, "-o", "r.csv", "--report", "r.html"],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let html = std::fs::read_to_string(dir.join("r.html")).unwrap();
+    assert!(html.contains("element flux left out: no species of the mechanism declares atoms"));
+    assert!(!html.contains("Flux of"));
+    let heading = html
+        .split("<h2>Sensitivities of the final ")
+        .nth(1)
+        .and_then(|rest| rest.split("</h2>").next())
+        .expect("a sensitivity section");
+    let csv = common::Table::read(&dir.join("r.csv"));
+    let last = csv.rows.last().unwrap();
+    // The default product: the species absent at the start with the largest peak.
+    let first = &csv.rows[0];
+    let product = csv
+        .header
+        .iter()
+        .enumerate()
+        .filter_map(|(k, h)| Some((k, h.strip_suffix(" [mol/m3]")?)))
+        .filter(|(k, _)| first[*k] == 0.0)
+        .max_by(|a, b| {
+            let peak = |k: usize| csv.rows.iter().map(|r| r[k]).fold(f64::MIN, f64::max);
+            peak(a.0).total_cmp(&peak(b.0))
+        })
+        .map(|(_, name)| name)
+        .unwrap();
+    assert_eq!(heading, product, "final value of {product} = {last:?}");
+
+    for (flag, value, message) in [
+        ("--report-rates-of", "OH,XO", "XO"),
+        ("--report-flux-element", "Zz", "Zz"),
+        ("--report-sensitivity-of", "final:nope", "nope"),
+    ] {
+        let out = stoik(
+            &[
+                "run",
+                &demo(),
+                "-o",
+                "bad.csv",
+                "--report",
+                "bad.html",
+                flag,
+                value,
+            ],
+            &dir,
+        );
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{flag}: {err}");
+        assert!(err.contains(flag) && err.contains(message), "{err}");
+        assert!(!dir.join("bad.csv").exists() && !dir.join("bad.html").exists());
+    }
 }

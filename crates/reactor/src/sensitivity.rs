@@ -1787,7 +1787,10 @@ pub fn adjoint_parameter_sensitivity(
                 let (mid, half) = (0.5 * (a + b), 0.5 * (b - a));
                 for (x, w) in GAUSS {
                     let t = mid + half * x;
-                    s.interpolate_inplace(t_star - t, &mut lambda)
+                    // t_star - t can round past the backward step's ends by an ulp of
+                    // t_star (a late target and a short piece): clamp into the step.
+                    let tau = (t_star - t).clamp(tau_a, tau_b);
+                    s.interpolate_inplace(tau, &mut lambda)
                         .map_err(|e| failed(t, e))?;
                     traj.at(t, &mut y);
                     let temperature_k = set.evaluate(&adj.eqn, t, &y, &mut d);

@@ -14,6 +14,7 @@ mod out_file;
 mod progress;
 mod report;
 mod run;
+mod run_analyses;
 mod sensitivity;
 mod steady;
 mod suite;
@@ -543,6 +544,23 @@ pub struct RunArgs {
     /// Plot mole fractions (dimensionless) instead of concentrations in the report.
     #[arg(long, requires = "report")]
     pub report_mole_fractions: bool,
+    /// Species whose rates of production (integrated over the run) the report ranks,
+    /// comma-separated [default: the 3 of largest peak concentration].
+    #[arg(long, value_delimiter = ',', requires = "report")]
+    pub report_rates_of: Vec<String>,
+    /// Element whose flux between species (integrated over the run) the report draws
+    /// [default: the element in the most species].
+    #[arg(long, requires = "report")]
+    pub report_flux_element: Option<String>,
+    /// Observable whose sensitivities to every rate constant the report ranks (adjoint
+    /// method): `ignition-delay`, `final:NAME`, `peak:NAME`, `peak-time:NAME` (NAME a species
+    /// or T) [default: the ignition delay if found, else the final value of the main product].
+    #[arg(long, requires = "report")]
+    pub report_sensitivity_of: Option<String>,
+    /// Leave the analyses (sensitivities, rates of production, flux) out of the report: the
+    /// profiles and the summary only.
+    #[arg(long, requires = "report")]
+    pub report_without_analyses: bool,
 }
 
 /// The reactor's linear algebra on the command line, spelled as in scenario files.

@@ -9,6 +9,7 @@
 use crate::error::CliError;
 use crate::out_file::write_text;
 use crate::run::RunText;
+use crate::run_analyses::{RunAnalyses, TOP};
 use std::path::Path;
 use stoik::analysis::{species_budget, Contribution, FluxGraph, ObservableSensitivity, StepRates};
 use stoik::mechanism::Mechanism;
@@ -76,6 +77,7 @@ pub fn run_page(
     profiles: &Profiles,
     text: &RunText,
     choice: &ProfileChoice,
+    analyses: &RunAnalyses,
 ) -> Result<HtmlReport, CliError> {
     let title = plan.scenario().title.as_deref().unwrap_or("stoik run");
     let mut report = page(&format!("{title}: run report"), scenario, plan);
@@ -88,9 +90,33 @@ pub fn run_page(
     }
     lines.extend(text.summary.iter().cloned());
     lines.extend(text.warnings.iter().cloned());
+    lines.extend(analyses.notes.iter().cloned());
     if let Some(figures) = profile_figures(path, plan, profiles, choice)? {
         // The figures first: on a laptop screen they are what the page opens on.
         report.figure_section("Profiles", &figures);
+    }
+    let mechanism = plan.mechanism();
+    if let Some(result) = &analyses.sensitivity {
+        let heading = format!(
+            "Sensitivities of the {}",
+            result.observable.describe(mechanism)
+        );
+        add_sensitivity_section(&mut report, path, mechanism, result, TOP, &heading)?;
+    }
+    if let Some((rates, species)) = &analyses.rates {
+        add_rates_sections(&mut report, path, mechanism, rates, species, TOP)?;
+    }
+    if let Some(graph) = &analyses.flux {
+        add_flux_sections(
+            &mut report,
+            path,
+            mechanism,
+            graph,
+            [
+                &format!("Flux of {} atoms over the run", graph.symbol),
+                &format!("Edges of the {} flux", graph.symbol),
+            ],
+        )?;
     }
     report.text_section("Run summary", &lines);
     Ok(report)
@@ -229,9 +255,22 @@ pub fn rates_page(
     top: usize,
     printed: &[String],
 ) -> Result<HtmlReport, CliError> {
-    let mechanism = plan.mechanism();
     let mut report = page("Rates of production", scenario, plan);
     report.text_section("Summary", printed);
+    add_rates_sections(&mut report, path, plan.mechanism(), rates, species, top)?;
+    Ok(report)
+}
+
+/// Per span and species of `rates`: a table of every contributing step ranked by magnitude
+/// and a bar chart of the `top` largest of each side (`path`: the report, named in errors).
+pub fn add_rates_sections(
+    report: &mut HtmlReport,
+    path: &Path,
+    mechanism: &Mechanism,
+    rates: &[StepRates],
+    species: &[usize],
+    top: usize,
+) -> Result<(), CliError> {
     for r in rates {
         for &i in species {
             let b = species_budget(mechanism, r, i);
@@ -299,7 +338,7 @@ pub fn rates_page(
             }
         }
     }
-    Ok(report)
+    Ok(())
 }
 
 /// The page of `stoik flux`: the printed table, the graph drawn, and every edge with its
@@ -311,11 +350,29 @@ pub fn flux_page(
     graph: &FluxGraph,
     printed: &[String],
 ) -> Result<HtmlReport, CliError> {
-    let mechanism = plan.mechanism();
     let mut report = page(&format!("Flux of {} atoms", graph.symbol), scenario, plan);
     report.text_section("Summary", printed);
+    add_flux_sections(
+        &mut report,
+        path,
+        plan.mechanism(),
+        graph,
+        ["Flux graph", "Edges"],
+    )?;
+    Ok(report)
+}
+
+/// The flux graph drawn and every edge with its carrying steps' equations, under the two
+/// `headings` (`path`: the report, named in errors).
+pub fn add_flux_sections(
+    report: &mut HtmlReport,
+    path: &Path,
+    mechanism: &Mechanism,
+    graph: &FluxGraph,
+    headings: [&str; 2],
+) -> Result<(), CliError> {
     let svg = flux_graph_svg(graph, mechanism).map_err(plot_error(path))?;
-    report.figure_section("Flux graph", &[(String::new(), svg)]);
+    report.figure_section(headings[0], &[(String::new(), svg)]);
     let unit = format!(
         "mol of atoms{}",
         graph.span.rate_unit().trim_start_matches("mol")
@@ -346,12 +403,12 @@ pub fn flux_page(
         ]);
     }
     report.table_and_charts_section(
-        "Edges",
+        headings[1],
         "Net flow of atoms between pairs of species, largest first.",
         &table,
         &[],
     );
-    Ok(report)
+    Ok(())
 }
 
 /// The bar chart of the `top` largest sensitivities of `result`, largest |S| first (top to
@@ -430,6 +487,31 @@ pub fn sensitivity_page(
         scenario,
         plan,
     );
+    add_sensitivity_section(&mut report, path, mechanism, result, top, "Sensitivities")?;
+    let mut lines = text.printed.to_vec();
+    if let Some((profiles, run_lines)) = &text.run {
+        if let Some(figures) = profile_figures(path, plan, profiles, choice)? {
+            report.figure_section("Profiles of the run", &figures);
+        }
+        lines.push(String::new());
+        lines.extend(run_lines.iter().cloned());
+    }
+    report.text_section("Summary", &lines);
+    Ok(report)
+}
+
+/// The ranked sensitivities of `result`: bar chart of the `top` largest, then a table of
+/// every step (at most 60 rows; short numbers, full precision in each cell's `title`), under
+/// `heading`.
+pub fn add_sensitivity_section(
+    report: &mut HtmlReport,
+    path: &Path,
+    mechanism: &Mechanism,
+    result: &ObservableSensitivity,
+    top: usize,
+    heading: &str,
+) -> Result<(), CliError> {
+    let observable = result.observable.describe(mechanism);
     let unit = result.observable.unit();
     let method = match result.method {
         stoik::analysis::Method::Forward => "forward",
@@ -484,15 +566,6 @@ pub fn sensitivity_page(
         result.value,
         top.min(result.ranked.len())
     );
-    report.chart_and_table_section("Sensitivities", &intro, &chart, &table);
-    let mut lines = text.printed.to_vec();
-    if let Some((profiles, run_lines)) = &text.run {
-        if let Some(figures) = profile_figures(path, plan, profiles, choice)? {
-            report.figure_section("Profiles of the run", &figures);
-        }
-        lines.push(String::new());
-        lines.extend(run_lines.iter().cloned());
-    }
-    report.text_section("Summary", &lines);
-    Ok(report)
+    report.chart_and_table_section(heading, &intro, &chart, &table);
+    Ok(())
 }

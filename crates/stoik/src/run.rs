@@ -97,6 +97,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         species: report_species(&args.report_species, plan.mechanism())?,
         mole_fractions: args.report_mole_fractions,
     };
+    let asked = crate::run_analyses::asked(args, plan.mechanism())?;
     // Ctrl-C stops the run at its next step; a run longer than a second shows its progress.
     let mut plan = plan;
     let monitor = crate::progress::interrupt_monitor();
@@ -167,6 +168,12 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
             .chain(conservation.warnings.iter().cloned())
             .collect();
         let failure = outcome.failure().map(|f| failure_message(f, mechanism));
+        // The analyses rerun the scenario: only for a run that completed.
+        let analyses = if args.report_without_analyses || failure.is_some() {
+            crate::run_analyses::RunAnalyses::default()
+        } else {
+            crate::run_analyses::analyse(&plan, &outcome, &asked)
+        };
         let page = crate::report::run_page(
             path,
             &args.scenario,
@@ -178,6 +185,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
                 failure: failure.as_deref(),
             },
             &choice,
+            &analyses,
         )?;
         crate::report::write(path, &page)?;
         if !args.quiet {

@@ -247,3 +247,98 @@ fn sensitivity_outputs_never_overwrite_an_input() {
     }
     assert_eq!(std::fs::read_to_string(&scenario).unwrap(), before);
 }
+
+#[test]
+fn falloff_limit_and_enthalpy_tables_are_written_in_full_precision() {
+    let dir = scratch("extra-csvs");
+    let out = stoik(
+        &[
+            "sensitivity",
+            &demo(),
+            "--of",
+            "ignition-delay",
+            "--falloff-limits",
+            "--enthalpies",
+            "--csv",
+            "s.csv",
+            "--falloff-limits-csv",
+            "l.csv",
+            "--enthalpies-csv",
+            "e.csv",
+            "--report",
+            "s.html",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let read = |name: &str| -> Vec<Vec<String>> {
+        std::fs::read_to_string(dir.join(name))
+            .unwrap()
+            .lines()
+            .skip(1)
+            .map(|l| l.split(',').map(str::to_string).collect())
+            .collect()
+    };
+    let ranked = read("s.csv");
+    let limits = read("l.csv");
+    assert!(!limits.is_empty());
+    // Scaling both limits of a falloff step scales the step (kf = kinf g(Pr), Pr = k0 [M] /
+    // kinf): the two limits' coefficients sum to the step's (docs/sensitivity.md; an identity
+    // of the falloff form, independent of the integration).
+    let mut steps: Vec<&str> = limits.iter().map(|r| r[1].as_str()).collect();
+    steps.dedup();
+    for step in steps {
+        let sum: f64 = limits
+            .iter()
+            .filter(|r| r[1] == step)
+            .map(|r| r[4].parse::<f64>().unwrap())
+            .sum();
+        let whole: f64 = ranked
+            .iter()
+            .find(|r| r[1] == step)
+            .map(|r| r[3].parse().unwrap())
+            .unwrap();
+        assert!(
+            (sum - whole).abs() <= 1e-7 * whole.abs(),
+            "{step}: limits sum to {sum}, the step has {whole}"
+        );
+    }
+    // Enthalpies: d ln G/dH_f per kJ/mol = 1000 (dG/dH_f per J/mol) / G, for every species
+    // with thermochemistry (all 9 of the demo).
+    let enthalpies = read("e.csv");
+    assert_eq!(enthalpies.len(), 9);
+    for r in &enthalpies {
+        let (normalized, derivative, value): (f64, f64, f64) = (
+            r[2].parse().unwrap(),
+            r[3].parse().unwrap(),
+            r[5].parse().unwrap(),
+        );
+        assert!(
+            (normalized - 1e3 * derivative / value).abs() <= 1e-12 * normalized.abs(),
+            "{r:?}"
+        );
+    }
+    // The page holds both tables with the CSVs' numbers on hover.
+    let html = std::fs::read_to_string(dir.join("s.html")).unwrap();
+    for section in ["Each falloff limit alone", "Formation enthalpies"] {
+        assert!(html.contains(&format!("<h2>{section}</h2>")), "{section}");
+    }
+    for r in limits.iter().chain(&enthalpies) {
+        let number = if r.len() == 8 { &r[4] } else { &r[2] };
+        assert!(html.contains(&format!("title=\"{number}\"")), "{number}");
+    }
+    // The tables' CSVs need their tables.
+    let out = stoik(
+        &[
+            "sensitivity",
+            &demo(),
+            "--of",
+            "ignition-delay",
+            "--enthalpies-csv",
+            "x.csv",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(2), "{}", text(&out.stderr));
+    assert!(!dir.join("x.csv").exists());
+}

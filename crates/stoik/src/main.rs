@@ -242,6 +242,14 @@ pub struct SensitivityArgs {
     /// their own.
     #[arg(long)]
     pub falloff_limits: bool,
+    /// Write the formation-enthalpy table (every species with thermochemistry, full
+    /// precision) to this CSV file.
+    #[arg(long, requires = "enthalpies")]
+    pub enthalpies_csv: Option<PathBuf>,
+    /// Write the falloff-limit table (each limit of each chosen falloff step, full precision)
+    /// to this CSV file.
+    #[arg(long, requires = "falloff_limits")]
+    pub falloff_limits_csv: Option<PathBuf>,
 }
 
 /// Flags of `stoik steady`.

@@ -567,5 +567,85 @@ pub fn add_sensitivity_section(
         top.min(result.ranked.len())
     );
     report.chart_and_table_section(heading, &intro, &chart, &table);
+    if !result.falloff_limits.is_empty() {
+        let mut table = Table::new(&[
+            "rank".to_string(),
+            "step".to_string(),
+            "equation".to_string(),
+            "limit".to_string(),
+            "d ln G/d ln k [-]".to_string(),
+            format!("dG/d ln k [{unit}]"),
+        ]);
+        for (k, s) in result
+            .falloff_limits
+            .iter()
+            .take(MAX_TABLE_ROWS)
+            .enumerate()
+        {
+            let (label, equation) = step_text(mechanism, s.step);
+            let limit = match s.limit {
+                stoik::kinetics::FalloffLimit::Low => "k0",
+                stoik::kinetics::FalloffLimit::High => "kinf",
+            };
+            table.row_with_titles(
+                vec![
+                    (k + 1).to_string(),
+                    label,
+                    equation,
+                    limit.to_string(),
+                    short(s.normalized),
+                    short(s.derivative),
+                ],
+                vec![
+                    String::new(),
+                    String::new(),
+                    String::new(),
+                    String::new(),
+                    format!("{:e}", s.normalized),
+                    format!("{:e}", s.derivative),
+                ],
+            );
+        }
+        report.table_and_charts_section(
+            "Each falloff limit alone",
+            "ln k0 (low-pressure limit) and ln kinf (high-pressure limit) of each chosen falloff step scaled on their own; the two of a step sum to its coefficient above. Full precision on hover.",
+            &table,
+            &[],
+        );
+    }
+    if !result.enthalpies.is_empty() {
+        let mut table = Table::new(&[
+            "rank".to_string(),
+            "species".to_string(),
+            "d ln G/dH_f [mol/kJ]".to_string(),
+            format!("dG/dH_f [{unit} per J/mol]"),
+        ]);
+        for (k, s) in result.enthalpies.iter().take(MAX_TABLE_ROWS).enumerate() {
+            let name = mechanism
+                .species
+                .get(s.species)
+                .map_or("?", |x| x.name.as_str());
+            table.row_with_titles(
+                vec![
+                    (k + 1).to_string(),
+                    name.to_string(),
+                    short(s.normalized_per_kj_per_mol),
+                    short(s.derivative),
+                ],
+                vec![
+                    String::new(),
+                    String::new(),
+                    format!("{:e}", s.normalized_per_kj_per_mol),
+                    format!("{:e}", s.derivative),
+                ],
+            );
+        }
+        report.table_and_charts_section(
+            "Formation enthalpies",
+            "The relative change of G for a formation enthalpy 1 kJ/mol higher (it moves the equilibrium constants, hence reverse rates, and the heat release). Full precision on hover.",
+            &table,
+            &[],
+        );
+    }
     Ok(())
 }

@@ -96,6 +96,12 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
     if let Some(svg) = &args.svg {
         outputs.output("--svg", svg)?;
     }
+    if let Some(csv) = &args.falloff_limits_csv {
+        outputs.output("--falloff-limits-csv", csv)?;
+    }
+    if let Some(csv) = &args.enthalpies_csv {
+        outputs.output("--enthalpies-csv", csv)?;
+    }
     if let Some(report) = &args.report {
         outputs.output("--report", report)?;
     }
@@ -119,14 +125,14 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
     let result = observable_sensitivity_with(&plan, observable, method, steps.as_deref(), extra)
         .map_err(of_run)?;
     let mut printed = ranked_lines(&mechanism, &result, args.top);
-    for line in &printed {
-        println!("{line}");
-    }
     if args.falloff_limits {
-        print_limits(&mechanism, &result, args.top);
+        printed.extend(limit_lines(&mechanism, &result, args.top));
     }
     if args.enthalpies {
-        print_enthalpies(&mechanism, &result, args.top);
+        printed.extend(enthalpy_lines(&mechanism, &result, args.top));
+    }
+    for line in &printed {
+        println!("{line}");
     }
     if result.value == 0.0 {
         let warning = format!(
@@ -138,6 +144,16 @@ pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
     }
     if let Some(csv) = &args.csv {
         write_atomically(csv, |w| write_ranked_csv(w, &mechanism, &result))
+            .map_err(|e| CliError::write(csv, e))?;
+        println!("wrote {}", csv.display());
+    }
+    if let Some(csv) = &args.falloff_limits_csv {
+        write_atomically(csv, |w| write_limits_csv(w, &mechanism, &result))
+            .map_err(|e| CliError::write(csv, e))?;
+        println!("wrote {}", csv.display());
+    }
+    if let Some(csv) = &args.enthalpies_csv {
+        write_atomically(csv, |w| write_enthalpies_csv(w, &mechanism, &result))
             .map_err(|e| CliError::write(csv, e))?;
         println!("wrote {}", csv.display());
     }
@@ -253,67 +269,163 @@ fn ranked_lines(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) ->
     lines
 }
 
-/// The falloff limits' table: each limit of each chosen falloff step alone.
-fn print_limits(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
-    let unit = r.observable.unit();
-    if r.falloff_limits.is_empty() {
-        println!("no falloff step among the chosen steps: no limits to rank");
-        return;
-    }
-    println!("each falloff limit alone (the two of a step sum to its d ln G/d ln k above):");
-    let header = format!("dG/d ln k ({unit})");
-    let width = header.len().max(14);
-    println!(
-        "  {:>4}  {:<6} {:<5} {:>14}  {header:>width$}  equation",
-        "rank", "step", "limit", "d ln G/d ln k",
-    );
-    for (rank, s) in r.falloff_limits.iter().take(top).enumerate() {
-        let limit = match s.limit {
-            FalloffLimit::Low => "k0",
-            FalloffLimit::High => "kinf",
-        };
-        println!(
-            "  {:>4}  {:<6} {:<5} {:>14.6e}  {:>width$.6e}  {}",
-            rank + 1,
-            format!("R{}", s.step + 1),
-            limit,
-            s.normalized,
-            s.derivative,
-            equation(mechanism, s.step)
-        );
+/// The name of a falloff limit in tables: `k0` or `kinf`.
+fn limit_name(limit: FalloffLimit) -> &'static str {
+    match limit {
+        FalloffLimit::Low => "k0",
+        FalloffLimit::High => "kinf",
     }
 }
 
-/// The formation enthalpies' table.
-fn print_enthalpies(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) {
+/// The falloff limits' table as printed: each limit of each chosen falloff step alone.
+fn limit_lines(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) -> Vec<String> {
+    let unit = r.observable.unit();
+    if r.falloff_limits.is_empty() {
+        return vec!["no falloff step among the chosen steps: no limits to rank".to_string()];
+    }
+    let mut lines = vec![
+        "each falloff limit alone (the two of a step sum to its d ln G/d ln k above):".to_string(),
+    ];
+    let header = format!("dG/d ln k ({unit})");
+    let width = header.len().max(14);
+    lines.push(format!(
+        "  {:>4}  {:<6} {:<5} {:>14}  {header:>width$}  equation",
+        "rank", "step", "limit", "d ln G/d ln k",
+    ));
+    for (rank, s) in r.falloff_limits.iter().take(top).enumerate() {
+        lines.push(format!(
+            "  {:>4}  {:<6} {:<5} {:>14.6e}  {:>width$.6e}  {}",
+            rank + 1,
+            format!("R{}", s.step + 1),
+            limit_name(s.limit),
+            s.normalized,
+            s.derivative,
+            equation(mechanism, s.step)
+        ));
+    }
+    if r.falloff_limits.len() > top {
+        lines.push(format!(
+            "  ({} more; --top N or --falloff-limits-csv for all)",
+            r.falloff_limits.len() - top
+        ));
+    }
+    lines
+}
+
+/// The formation enthalpies' table as printed.
+fn enthalpy_lines(mechanism: &Mechanism, r: &ObservableSensitivity, top: usize) -> Vec<String> {
     let unit = r.observable.unit();
     if r.enthalpies.is_empty() {
-        println!("no species has thermochemistry: no formation enthalpies to rank");
-        return;
+        return vec!["no species has thermochemistry: no formation enthalpies to rank".to_string()];
     }
-    println!("formation enthalpies (d ln G/dH_f in 1/(kJ/mol): relative change per kJ/mol):");
+    let mut lines = vec![
+        "formation enthalpies (d ln G/dH_f in 1/(kJ/mol): relative change per kJ/mol):".to_string(),
+    ];
     let header = format!("dG/dH_f ({unit} per J/mol)");
     let width = header.len().max(14);
-    println!(
+    lines.push(format!(
         "  {:>4}  {:<12} {:>20}  {header:>width$}",
         "rank", "species", "d ln G/dH_f (mol/kJ)",
-    );
+    ));
     for (rank, s) in r.enthalpies.iter().take(top).enumerate() {
         let name = mechanism
             .species
             .get(s.species)
             .map_or("?", |x| x.name.as_str());
-        println!(
+        lines.push(format!(
             "  {:>4}  {:<12} {:>20.6e}  {:>width$.6e}",
             rank + 1,
             name,
             s.normalized_per_kj_per_mol,
             s.derivative,
-        );
+        ));
     }
     if r.enthalpies.len() > top {
-        println!("  ({} more; --top N for more)", r.enthalpies.len() - top);
+        lines.push(format!(
+            "  ({} more; --top N or --enthalpies-csv for all)",
+            r.enthalpies.len() - top
+        ));
     }
+    lines
+}
+
+/// The falloff-limit CSV: `rank,step,equation,limit,normalized,derivative,unit,value`, every
+/// limit, largest |normalized| first; numbers in shortest round-trip form.
+fn write_limits_csv(
+    w: &mut impl Write,
+    mechanism: &Mechanism,
+    r: &ObservableSensitivity,
+) -> Result<(), std::io::Error> {
+    writeln!(
+        w,
+        "rank,step,equation,limit,normalized,derivative,unit,value"
+    )?;
+    let value = number(r.value).ok_or_else(|| non_finite("the observable's value".into()))?;
+    for (rank, s) in r.falloff_limits.iter().enumerate() {
+        let what = || format!("{} of step R{}", limit_name(s.limit), s.step + 1);
+        let derivative = number(s.derivative)
+            .ok_or_else(|| non_finite(format!("the derivative for {}", what())))?;
+        let normalized = match number(s.normalized) {
+            Some(x) => x,
+            None if r.value == 0.0 => UNDEFINED.to_string(),
+            None => {
+                return Err(non_finite(format!(
+                    "the normalized coefficient of {}",
+                    what()
+                )))
+            }
+        };
+        writeln!(
+            w,
+            "{},R{},{},{},{normalized},{derivative},{},{value}",
+            rank + 1,
+            s.step + 1,
+            field(equation(mechanism, s.step)),
+            limit_name(s.limit),
+            r.observable.unit(),
+        )?;
+    }
+    Ok(())
+}
+
+/// The formation-enthalpy CSV:
+/// `rank,species,normalized_per_kj_per_mol,derivative_per_j_per_mol,unit,value`, every species
+/// with thermochemistry, largest |normalized| first; numbers in shortest round-trip form.
+fn write_enthalpies_csv(
+    w: &mut impl Write,
+    mechanism: &Mechanism,
+    r: &ObservableSensitivity,
+) -> Result<(), std::io::Error> {
+    writeln!(
+        w,
+        "rank,species,normalized_per_kj_per_mol,derivative_per_j_per_mol,unit,value"
+    )?;
+    let value = number(r.value).ok_or_else(|| non_finite("the observable's value".into()))?;
+    for (rank, s) in r.enthalpies.iter().enumerate() {
+        let name = mechanism
+            .species
+            .get(s.species)
+            .map_or("?", |x| x.name.as_str());
+        let derivative = number(s.derivative)
+            .ok_or_else(|| non_finite(format!("the derivative for H_f of {name}")))?;
+        let normalized = match number(s.normalized_per_kj_per_mol) {
+            Some(x) => x,
+            None if r.value == 0.0 => UNDEFINED.to_string(),
+            None => {
+                return Err(non_finite(format!(
+                    "the normalized coefficient of H_f of {name}"
+                )))
+            }
+        };
+        writeln!(
+            w,
+            "{},{},{normalized},{derivative},{},{value}",
+            rank + 1,
+            field(name),
+            r.observable.unit(),
+        )?;
+    }
+    Ok(())
 }
 
 fn non_finite(what: String) -> std::io::Error {

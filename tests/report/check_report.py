@@ -343,8 +343,8 @@ def main() -> int:
         # rates-of-production charts, the H flux graph; Profiles, Sensitivities, three rates
         # sections, Flux graph, Edges, Run summary.
         "run": (["run", SCENARIO, "-o", "h2.csv", "--report", "run.html"], 7, 8),
-        "run-plain": (["run", SCENARIO, "-o", "h2p.csv", "--report", "run-plain.html",
-                       "--report-without-analyses"], 2, 2),
+        "run-plain": (["run", SCENARIO, "-o", "h2p.csv", "--report-without-analyses",
+                       "--report", "run-plain.html"], 2, 2),
         "rates": (["rates", SCENARIO, "--species", "OH,H2O", "--times", "2.2e-4", "--top", "4",
                    "--report", "rates.html"], 2, 3),
         "flux": (["flux", SCENARIO, "--element", "H", "--time", "2.2e-4", "--report", "flux.html"], 1, 3),

@@ -714,6 +714,8 @@ macro_rules! with_stepper {
     };
 }
 
+mod plug_run;
+
 /// The diffsol problem of one backend (both sparse solvers share the sparse problem).
 enum Problem {
     Dense(Box<OdeSolverProblem<DenseEquations>>),
@@ -837,6 +839,7 @@ impl BatchSystem {
         validate_options(kinetics, temperature_k, options)?;
         let conditions = &model.conditions;
         conditions.validate(kinetics.n_species(), kinetics.n_steps())?;
+        crate::plug::validate(model, kinetics.n_species())?;
         if let Some(flow) = &model.flow {
             if flow.inlet_mol_per_m3().len() != kinetics.n_species() {
                 return Err(ReactorError::BadFlow(format!(
@@ -1013,6 +1016,13 @@ impl BatchSystem {
         output_times_s: &[f64],
     ) -> Result<Profiles, IntegrationError> {
         check_state(self.n_species, initial_mol_per_m3, "initial state")?;
+        if self.model.plug.is_some() {
+            return Err(ReactorError::BadPlugFlow(
+                "a plug flow reports against distance and residence time: use integrate_plug_flow"
+                    .into(),
+            )
+            .into());
+        }
         let Some(&t0) = output_times_s.first() else {
             return Err(ReactorError::NoOutputTimes.into());
         };

@@ -58,6 +58,7 @@ mod invariants;
 mod model;
 mod options;
 mod owned;
+mod plug;
 mod profiles;
 mod sensitivity;
 mod steady;
@@ -82,6 +83,9 @@ pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
 };
 pub use owned::OwnedIntegrator;
+pub use plug::{
+    simulate_plug_flow, AxialProfile, PlugFlow, PlugFlowProfiles, PlugOutputs, WallExchange,
+};
 pub use profiles::{element_balance, ElementBalance, Profiles};
 pub use sensitivity::{
     adjoint_parameter_sensitivity, adjoint_sensitivity, forward_parameter_sensitivities,

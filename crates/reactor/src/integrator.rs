@@ -748,6 +748,9 @@ fn build_problem<M: Backend>(
     if model.solves_energy() {
         atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
     }
+    if model.plug.is_some() {
+        atol.push(DISTANCE_ABSOLUTE_TOLERANCE_M);
+    }
     let mut problem = OdeBuilder::<M>::new()
         .rtol(options.relative_tolerance)
         .atol(atol)
@@ -776,6 +779,10 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
     }
     kinetics.conserved_combinations().to_vec()
 }
+
+/// Absolute tolerance of the distance state of a plug flow (m): a nanometre; the relative
+/// tolerance times the distance takes over after the first steps.
+pub(crate) const DISTANCE_ABSOLUTE_TOLERANCE_M: f64 = 1e-9;
 
 /// Absolute tolerance of the temperature state (K); the relative tolerance times the
 /// temperature is far larger in practice.

@@ -577,7 +577,8 @@ pub(crate) fn plug_flow(
                 format!(
                     "the pressure profile starts at {} Pa but the inlet is at {} Pa (sum(c) R T of [initial] and [reactor]); they must agree within 1e-6",
                     show_number(p[0]),
-                    show_number(inlet_pa)
+                    // Nine significant digits: the rounding of R T does not show.
+                    show_number(format!("{inlet_pa:.8e}").parse().unwrap_or(inlet_pa))
                 ),
             );
             return None;

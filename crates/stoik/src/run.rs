@@ -445,7 +445,7 @@ pub fn describe_reactor(plan: &RunPlan) -> String {
         };
         let length = plan.output_distances_m().last().copied().unwrap_or(0.0);
         return format!(
-            "plug flow, {energy}, {pressure}{walled}; length {length} m, mass flow {} kg/s",
+            "plug flow, {energy}, {pressure}{walled}; length {length} m, mass flow {:.6e} kg/s",
             plug.mass_flow_kg_per_s()
         );
     }

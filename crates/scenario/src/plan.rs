@@ -659,6 +659,27 @@ fn resolve(
             .with_help("ask for fewer output times (`points` of `grid`, or `times`)"),
         );
     }
+    if let Some(spec) = &scenario.plug {
+        // A plug-flow run holds each output's full solver state besides its profile row:
+        // twice the rows of a profile.
+        let rows = spec.distances_m.len();
+        let needed = crate::file::profile_bytes(rows.saturating_mul(2), n);
+        if needed > crate::file::MAX_PROFILE_BYTES {
+            let mib = |b: u64| b / (1024 * 1024);
+            diagnostics.push(
+                Diagnostic::error(
+                    file,
+                    Some(spec.at),
+                    format!(
+                        "{rows} output distances of {n} species would need about {} MiB, above the limit of {} MiB",
+                        mib(needed),
+                        mib(crate::file::MAX_PROFILE_BYTES)
+                    ),
+                )
+                .with_help("ask for fewer output distances (`points` or `distances` in [plug_flow])"),
+            );
+        }
+    }
     let plug = scenario.plug.as_ref().and_then(|spec| {
         plug_problems(scenario, &mut diagnostics);
         let inlet_k = match &scenario.energy {

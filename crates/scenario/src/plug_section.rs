@@ -455,7 +455,8 @@ fn read_distances(
             }
             let len = length?;
             let n = n as usize;
-            Some((0..n).map(|i| len * i as f64 / (n - 1) as f64).collect())
+            // i/(n-1) first: len * i could overflow for a length near f64::MAX.
+            Some((0..n).map(|i| len * (i as f64 / (n - 1) as f64)).collect())
         }
         (None, Some(_)) => {
             let list = located_list(
@@ -499,7 +500,7 @@ fn read_distances(
         }
         (None, None) => {
             let len = length?;
-            Some((0..101).map(|i| len * i as f64 / 100.0).collect())
+            Some((0..101).map(|i| len * (i as f64 / 100.0)).collect())
         }
     }
 }

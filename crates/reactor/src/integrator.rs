@@ -946,6 +946,11 @@ impl BatchSystem {
         initial_mol_per_m3: &[f64],
     ) -> Result<BatchIntegrator<'_>, ReactorError> {
         check_state(self.n_species, initial_mol_per_m3, "initial state")?;
+        if self.model.plug.is_some() {
+            return Err(ReactorError::BadPlugFlow(
+                "a plug flow runs whole (integrate_plug_flow), not in a stepping session".into(),
+            ));
+        }
         self.open(0.0, initial_mol_per_m3)
     }
 

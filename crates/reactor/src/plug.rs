@@ -462,6 +462,12 @@ pub struct PlugFlowProfiles {
 /// from the inlet concentrations `initial_mol_per_m3` (mol/m3) at `temperature_k` (K, the
 /// held or inlet temperature) and reports the state at `outputs` (distances or residence
 /// times). The inlet pressure is that of the initial state.
+///
+/// Errors: [`ReactorError`] for bad arguments (among them [`ReactorError::BadPlugFlow`]: no
+/// plug flow in `model`, a model it does not go with, outputs not starting at 0 or not
+/// increasing); a solver failure part way gives the failure whose partial profile holds the
+/// rows reached, which are those of the first outputs, in order (their residence times in
+/// `times_s`).
 pub fn simulate_plug_flow(
     kinetics: &stoik_kinetics::Kinetics,
     model: &crate::ReactorModel,

@@ -455,4 +455,17 @@ fn malformed_plug_flows_are_refused() {
     ));
     let mut system = BatchSystem::with_model(&kin, &model, 300.0, &opts).unwrap();
     assert!(system.integrate(&[1.0, 0.0], &[0.0, 1.0]).is_err());
+    // Neither a stepping session nor sensitivities: the distance state has no place there.
+    assert!(system.integrator(&[1.0, 0.0]).is_err_and(bad));
+    let sensitivity = stoik_reactor::forward_sensitivities(
+        &kin,
+        &model,
+        300.0,
+        &[1.0, 0.0],
+        &[0.0, 1.0],
+        &opts,
+        &[0],
+        &[],
+    );
+    assert!(sensitivity.is_err());
 }

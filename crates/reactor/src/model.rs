@@ -31,6 +31,11 @@
 //!   Engineering*, 3rd ed., ch. 5 and 9; H. S. Fogler, *Elements of Chemical Reaction
 //!   Engineering*, 4th ed., ch. 8).
 //!
+//! A [`PlugFlow`] makes the reactor a parcel of a steady plug flow: the constant-pressure
+//! equations above plus the pressure term `c_i u (dP/dz) / P` in the species rows, the wall's
+//! heat `U p / A (T_wall - T)` in the energy balance and the distance `z` as the last state,
+//! `dz/dt = u = mdot / (rho A(z))`; the derivation is in the `plug` module.
+//!
 //! The Jacobian with respect to `(c, T)` is written analytically (see [`ModelJacobian`]):
 //! the kinetics' `dw/dc`, its temperature column `dw/dT` from the Arrhenius and van 't Hoff
 //! slopes of the rate constants, the energy row from differentiating the quotient above, and

@@ -77,3 +77,28 @@ fn run_of_a_malformed_plug_flow_exits_2_with_located_errors() {
     );
     assert!(!dir.join("bad.csv").exists());
 }
+
+#[test]
+fn analysis_commands_refuse_a_plug_flow_with_its_path() {
+    let dir = common::scratch("plug", "analysis");
+    let scenario = repo().join("mechanisms/hydrogen-tube.scenario.toml");
+    let path = scenario.to_str().unwrap();
+    for args in [
+        vec!["rates", path, "--species", "OH", "--times", "0.01"],
+        vec!["flux", path, "--element", "H", "--time", "0.01"],
+        vec!["sensitivity", path, "--of", "final:OH"],
+    ] {
+        let out = stoik(&args, &dir);
+        assert_eq!(
+            out.status.code(),
+            Some(2),
+            "{args:?}: {}",
+            text(&out.stderr)
+        );
+        let stderr = text(&out.stderr);
+        assert!(
+            stderr.contains("hydrogen-tube.scenario.toml") && stderr.contains("plug flow"),
+            "{args:?}: {stderr}"
+        );
+    }
+}

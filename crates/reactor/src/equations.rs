@@ -396,6 +396,21 @@ impl<M: Backend> BatchEquations<M> {
         }
     }
 
+    /// The temperature (K) and the state derivative `dy/dt` at time `t_s` (s) and full state
+    /// `y`; post-processing (allocates, not counted as an evaluation).
+    pub(crate) fn full_derivative(&self, t_s: f64, y: &[f64]) -> (f64, Vec<f64>) {
+        let n = self.kinetics.n_species();
+        let temperature_k = self.model.temperature(t_s, y, n, self.held_k.get());
+        let mut f = vec![0.0; y.len()];
+        let mut carry = vec![0.0; n];
+        let mut k = self.kinetics.rate_constants(temperature_k);
+        self.model.conditions.apply_photolysis(t_s, &mut k.forward);
+        self.model_equations()
+            .rhs(&k, t_s, temperature_k, y, &mut f, &mut carry);
+        self.model.conditions.apply_to_rhs(&y[..n], &mut f[..n]);
+        (temperature_k, f)
+    }
+
     /// Constant volume without an energy state: the Jacobian is the kinetics' own.
     fn is_plain(&self) -> bool {
         self.model.constraint == Constraint::ConstantVolume

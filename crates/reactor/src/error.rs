@@ -265,6 +265,10 @@ pub enum ReactorError {
     /// concentrations), or its inlet does not have one concentration per species.
     #[error("bad stirred-tank flow: {0}")]
     BadFlow(String),
+    /// The plug flow is malformed (mass flow, area or pressure profile, wall, molar masses)
+    /// or combined with a model that cannot take it.
+    #[error("bad plug flow: {0}")]
+    BadPlugFlow(String),
     /// The temperature follows a prescribed history and cannot be set.
     #[error("the temperature follows a prescribed history and cannot be set")]
     TemperaturePrescribed,

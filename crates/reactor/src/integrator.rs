@@ -772,6 +772,8 @@ macro_rules! with_stepper {
     };
 }
 
+mod plug_run;
+
 /// The diffsol problem of one backend (both sparse solvers share the sparse problem).
 enum Problem {
     Dense(Box<OdeSolverProblem<DenseEquations>>),
@@ -804,6 +806,9 @@ fn build_problem<M: Backend>(
     if model.solves_energy() {
         atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
     }
+    if model.plug.is_some() {
+        atol.push(DISTANCE_ABSOLUTE_TOLERANCE_M);
+    }
     let mut problem = OdeBuilder::<M>::new()
         .rtol(options.relative_tolerance)
         .atol(atol)
@@ -832,6 +837,10 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
     }
     kinetics.conserved_combinations().to_vec()
 }
+
+/// Absolute tolerance of the distance state of a plug flow (m): a nanometre; the relative
+/// tolerance times the distance takes over after the first steps.
+pub(crate) const DISTANCE_ABSOLUTE_TOLERANCE_M: f64 = 1e-9;
 
 /// Absolute tolerance of the temperature state (K); the relative tolerance times the
 /// temperature is far larger in practice.
@@ -895,6 +904,7 @@ impl BatchSystem {
         validate_options(kinetics, temperature_k, options)?;
         let conditions = &model.conditions;
         conditions.validate(kinetics.n_species(), kinetics.n_steps())?;
+        crate::plug::validate(model, kinetics.n_species())?;
         if let Some(flow) = &model.flow {
             if flow.inlet_mol_per_m3().len() != kinetics.n_species() {
                 return Err(ReactorError::BadFlow(format!(
@@ -998,6 +1008,11 @@ impl BatchSystem {
         initial_mol_per_m3: &[f64],
     ) -> Result<BatchIntegrator<'_>, ReactorError> {
         check_state(self.n_species, initial_mol_per_m3, "initial state")?;
+        if self.model.plug.is_some() {
+            return Err(ReactorError::BadPlugFlow(
+                "a plug flow runs whole (integrate_plug_flow), not in a stepping session".into(),
+            ));
+        }
         self.open(0.0, initial_mol_per_m3)
     }
 
@@ -1076,6 +1091,13 @@ impl BatchSystem {
         output_times_s: &[f64],
     ) -> Result<Profiles, IntegrationError> {
         check_state(self.n_species, initial_mol_per_m3, "initial state")?;
+        if self.model.plug.is_some() {
+            return Err(ReactorError::BadPlugFlow(
+                "a plug flow reports against distance and residence time: use integrate_plug_flow"
+                    .into(),
+            )
+            .into());
+        }
         let Some(&t0) = output_times_s.first() else {
             return Err(ReactorError::NoOutputTimes.into());
         };

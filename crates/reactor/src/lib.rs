@@ -29,6 +29,10 @@
 //!   eigenvalues of its Jacobian; [`continuation`] follows steady states against the
 //!   residence time, the feed or the coolant temperature (pseudo-arclength, turning points,
 //!   stability of every point).
+//! - [`simulate_plug_flow`] runs a steady plug flow ([`PlugFlow`] in
+//!   [`ReactorModel::plug`]: mass flow, cross-section and pressure along the tube, wall heat
+//!   exchange) as a parcel followed in its residence time, reporting at distances or residence
+//!   times ([`PlugFlowProfiles`]).
 //! - [`element_balance`] reports the element totals at the start and end of a profile.
 //!
 //! Numerics (see the design notes): the Jacobian is filled analytically from the kinetics in
@@ -59,6 +63,7 @@ mod model;
 mod monitor;
 mod options;
 mod owned;
+mod plug;
 mod profiles;
 mod sensitivity;
 mod steady;
@@ -84,6 +89,9 @@ pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
 };
 pub use owned::OwnedIntegrator;
+pub use plug::{
+    simulate_plug_flow, AxialProfile, PlugFlow, PlugFlowProfiles, PlugOutputs, WallExchange,
+};
 pub use profiles::{element_balance, ElementBalance, Profiles};
 pub use sensitivity::{
     adjoint_parameter_sensitivity, adjoint_sensitivity, forward_parameter_sensitivities,

@@ -31,6 +31,11 @@
 //!   Engineering*, 3rd ed., ch. 5 and 9; H. S. Fogler, *Elements of Chemical Reaction
 //!   Engineering*, 4th ed., ch. 8).
 //!
+//! A [`PlugFlow`] makes the reactor a parcel of a steady plug flow: the constant-pressure
+//! equations above plus the pressure term `c_i u (dP/dz) / P` in the species rows, the wall's
+//! heat `U p / A (T_wall - T)` in the energy balance and the distance `z` as the last state,
+//! `dz/dt = u = mdot / (rho A(z))`; the derivation is in the `plug` module.
+//!
 //! The Jacobian with respect to `(c, T)` is written analytically (see [`ModelJacobian`]):
 //! the kinetics' `dw/dc`, its temperature column `dw/dT` from the Arrhenius and van 't Hoff
 //! slopes of the rate constants, the energy row from differentiating the quotient above, and
@@ -40,6 +45,7 @@ use stoik_kinetics::{JacobianPattern, Kinetics, PatternError, RateConstants};
 use stoik_thermo::Nasa7;
 
 use crate::atmosphere::BoxConditions;
+use crate::plug::{PlugFlow, PlugTerms};
 use crate::ReactorError;
 
 // The molar gas constant R in J/(mol K), under its short name in the formulas below.
@@ -325,6 +331,10 @@ pub struct ReactorModel {
     /// The feed and outflow of a continuous stirred tank; `None` for a closed (batch)
     /// reactor.
     pub flow: Option<StirredFlow>,
+    /// The steady plug flow the reactor follows as a Lagrangian parcel (see
+    /// [`crate::PlugFlow`]): the distance is appended to the state; constant pressure only,
+    /// no stirred flow. `None` for a batch or stirred reactor.
+    pub plug: Option<PlugFlow>,
 }
 
 impl ReactorModel {
@@ -337,7 +347,7 @@ impl ReactorModel {
     /// closed constant-volume reactor, enthalpy and cp otherwise (constant pressure, and every
     /// stirred tank).
     fn energy_basis(&self) -> Constraint {
-        if self.flow.is_some() {
+        if self.flow.is_some() || self.plug.is_some() {
             Constraint::ConstantPressure
         } else {
             self.constraint
@@ -350,9 +360,10 @@ impl ReactorModel {
     }
 
     /// Number of integrated states for `n_species` species: `n_species`, plus one for the
-    /// temperature when the energy balance is solved.
+    /// temperature when the energy balance is solved, plus one for the distance (m) of a plug
+    /// flow (the last state).
     pub fn n_states(&self, n_species: usize) -> usize {
-        n_species + usize::from(self.solves_energy())
+        n_species + usize::from(self.solves_energy()) + usize::from(self.plug.is_some())
     }
 
     /// The temperature (K) at time `t_s` (s) for a state `y` (concentrations, then the
@@ -633,6 +644,10 @@ impl ModelEquations<'_> {
         if self.model.solves_energy() {
             out[n] = temperature_rate;
         }
+        if self.model.plug.is_some() {
+            // The velocity does not depend on the production rates.
+            out[out.len() - 1] = 0.0;
+        }
         for &i in &self.model.conditions.fixed_species {
             if let Some(o) = out.get_mut(i) {
                 *o = 0.0;
@@ -728,19 +743,22 @@ impl ModelEquations<'_> {
         carry: &mut [f64],
     ) {
         let n = self.kinetics.n_species();
+        let plug = self.plug_terms(y);
         let (c, w) = (&y[..n], &mut f[..n]);
         self.kinetics.production_rates_compensated(k, c, w, carry);
         let temperature_rate = match &self.model.energy {
             Energy::Isothermal => 0.0,
             Energy::Prescribed(history) => history.slope_at(t_s),
             Energy::Adiabatic | Energy::HeatExchange(_) => {
-                self.energy_rate(t_s, c, w, temperature_k).0
+                let (rate, capacity) = self.energy_rate(t_s, c, w, temperature_k);
+                rate + plug.map_or(0.0, |p| p.wall_heat(temperature_k) / capacity)
             }
         };
         if self.model.constraint == Constraint::ConstantPressure {
             let total: f64 = c.iter().sum();
             let w_total: f64 = w.iter().sum();
-            let g = w_total / total + self.feed_expansion(total) + temperature_rate / temperature_k;
+            let g = w_total / total + self.feed_expansion(total) + temperature_rate / temperature_k
+                - plug.map_or(0.0, |p| p.pressure_rate());
             for (wi, ci) in w.iter_mut().zip(c) {
                 *wi -= ci * g;
             }
@@ -749,6 +767,17 @@ impl ModelEquations<'_> {
         if self.model.solves_energy() {
             f[n] = temperature_rate;
         }
+        if let Some(p) = plug {
+            f[y.len() - 1] = p.u;
+        }
+    }
+
+    /// The plug-flow terms at state `y` (the distance is its last entry); `None` without
+    /// plug flow. No allocation.
+    fn plug_terms(&self, y: &[f64]) -> Option<PlugTerms> {
+        let plug = self.model.plug.as_ref()?;
+        let n = self.kinetics.n_species();
+        Some(plug.terms(&y[..n], y[y.len() - 1]))
     }
 
     /// Overwrites `values` (state-pattern order, see [`state_pattern`] with `map`) with the
@@ -820,10 +849,17 @@ impl ModelEquations<'_> {
         let w = &mut scratch.dw_dt;
         kinetics.production_rates(k, c, w);
         let w_total: f64 = w.iter().sum();
+        let plug = self.plug_terms(y);
         let (temperature_rate, capacity_total) = match &self.model.energy {
             Energy::Isothermal => (0.0, 0.0),
             Energy::Prescribed(history) => (history.slope_at(t_s), 0.0),
-            Energy::Adiabatic | Energy::HeatExchange(_) => self.energy_rate(t_s, c, w, t),
+            Energy::Adiabatic | Energy::HeatExchange(_) => {
+                let (rate, capacity) = self.energy_rate(t_s, c, w, t);
+                (
+                    rate + plug.map_or(0.0, |p| p.wall_heat(t) / capacity),
+                    capacity,
+                )
+            }
         };
         // Temperature derivatives: the energy row a_k = d(dT/dt)/dc_k and corner a_T.
         let (mut a_t, mut release_slope, mut dw_total_dt) = (0.0, 0.0, 0.0);
@@ -846,6 +882,7 @@ impl ModelEquations<'_> {
             a_t = -(capacity_release + release_slope
                 - self.exchange_slope()
                 - self.feed_enthalpy_slope(t)
+                + plug.map_or(0.0, |p| p.k)
                 + temperature_rate * capacity_slope)
                 / capacity_total;
         }
@@ -869,7 +906,8 @@ impl ModelEquations<'_> {
             Constraint::ConstantPressure => {
                 let total: f64 = c.iter().sum();
                 let feed = self.feed_expansion(total);
-                let g = w_total / total + feed + temperature_rate / t;
+                let g = w_total / total + feed + temperature_rate / t
+                    - plug.map_or(0.0, |p| p.pressure_rate());
                 for col in 0..n {
                     let mut dg =
                         scratch.column_sum[col] / total - w_total / (total * total) - feed / total;
@@ -877,6 +915,13 @@ impl ModelEquations<'_> {
                         let a_k = energy_row(col);
                         dg += a_k / t;
                         values[col * m + n] = a_k;
+                    }
+                    if let (Some(p), Some(flow)) = (plug, &self.model.plug) {
+                        // The velocity's dependence on the density: the distance row and the
+                        // pressure term.
+                        let du = p.du_dc(flow.molar_masses_kg_per_mol()[col]);
+                        values[col * m + m - 1] = du;
+                        dg -= p.s * du;
                     }
                     let column = &mut values[col * m..col * m + n];
                     for (v, ci) in column.iter_mut().zip(c) {
@@ -892,6 +937,20 @@ impl ModelEquations<'_> {
                     }
                     column[n] = a_t;
                 }
+                if let Some(p) = plug {
+                    // The distance column: area, pressure and wall coefficient vary along z.
+                    let z = m - 1;
+                    let mut dg_dz = -p.pressure_rate_dz();
+                    if energy_solved {
+                        let da_dz = p.wall_heat_dz(t) / capacity_total;
+                        values[z * m + n] = da_dz;
+                        dg_dz += da_dz / t;
+                    }
+                    for i in 0..n {
+                        values[z * m + i] = -c[i] * dg_dz;
+                    }
+                    values[z * m + z] = p.du_dz;
+                }
             }
         }
     }
@@ -900,6 +959,7 @@ impl ModelEquations<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::plug::{AxialProfile, WallExchange};
 
     fn hydrogen() -> Kinetics {
         let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
@@ -963,7 +1023,58 @@ mod tests {
                 });
             }
         }
+        // Plug flows: isothermal, adiabatic, prescribed; with an area profile, a pressure
+        // profile and a wall (circular or of given perimeter) whose slopes are all nonzero at
+        // the test distance.
+        let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
+        let mechanism = stoik_mechanism::load_mechanism(&path)
+            .unwrap_or_else(|e| panic!("{e}"))
+            .mechanism;
+        let masses: Vec<f64> = (0..n)
+            .map(|i| mechanism.molar_mass_kg_per_mol(i).unwrap_or(0.03))
+            .collect();
+        let area = AxialProfile::new("area", vec![0.0, 0.2, 1.0], vec![1e-4, 3e-4, 2e-4])
+            .unwrap_or_else(|e| panic!("{e}"));
+        let pressure = AxialProfile::new("pressure", vec![0.0, 0.5, 1.0], vec![2e5, 1.6e5, 1.5e5])
+            .unwrap_or_else(|e| panic!("{e}"));
+        let plug =
+            PlugFlow::new(0.02, area.clone(), masses.clone()).unwrap_or_else(|e| panic!("{e}"));
+        let full = plug.clone().with_pressure_profile(pressure);
+        for (energy, flow) in [
+            (Energy::Isothermal, plug.clone()),
+            (Energy::Isothermal, full.clone()),
+            (Energy::Adiabatic, full.clone()),
+            (Energy::Prescribed(history.clone()), full.clone()),
+            (
+                Energy::Adiabatic,
+                full.clone().with_wall(
+                    WallExchange::new(300.0, 900.0, None).unwrap_or_else(|e| panic!("{e}")),
+                ),
+            ),
+            (
+                Energy::Adiabatic,
+                full.clone().with_wall(
+                    WallExchange::new(300.0, 900.0, Some(0.05)).unwrap_or_else(|e| panic!("{e}")),
+                ),
+            ),
+        ] {
+            out.push(ReactorModel {
+                constraint: Constraint::ConstantPressure,
+                energy,
+                plug: Some(flow),
+                ..Default::default()
+            });
+        }
         out
+    }
+
+    /// The test state of `model`: [`state`], then the distance 0.37 m for a plug flow.
+    fn model_state(model: &ReactorModel, n: usize) -> Vec<f64> {
+        let mut y = state(n, model.solves_energy());
+        if model.plug.is_some() {
+            y.push(0.37);
+        }
+        y
     }
 
     /// The analytic Jacobian of every model against five-point central differences of the
@@ -981,7 +1092,7 @@ mod tests {
             };
             let m = model.n_states(n);
             let t_s = 0.6e-3;
-            let y = state(n, model.solves_energy());
+            let y = model_state(&model, n);
             let temp = model.temperature(t_s, &y, n, 1500.0);
             let (pattern, map) = state_pattern(&kinetics, &model).unwrap();
             let mut scratch = ModelScratch::new(&kinetics);
@@ -1010,7 +1121,9 @@ mod tests {
                 };
                 let (f2p, f1p, f1m, f2m) = (at(2.0 * h), at(h), at(-h), at(-2.0 * h));
                 for row in 0..m {
-                    let fd = (-f2p[row] + 8.0 * f1p[row] - 8.0 * f1m[row] + f2m[row]) / (12.0 * h);
+                    // Differences first: a right-hand side that does not depend on the column
+                    // gives exactly 0 (summing the four values first leaves rounding).
+                    let fd = (8.0 * (f1p[row] - f1m[row]) - (f2p[row] - f2m[row])) / (12.0 * h);
                     let analytic = pattern.position(row, col).map_or(0.0, |p| values[p]);
                     // Floor: rounding in the differences is about eps |f| / h, above the
                     // tolerance for the small entries of a column whose rates are large.
@@ -1049,7 +1162,7 @@ mod tests {
             let thermo = energy_thermo(&kinetics, &model).unwrap_or_else(|e| panic!("{e}"));
             let m = model.n_states(n);
             let t_s = 0.6e-3;
-            let y = state(n, model.solves_energy());
+            let y = model_state(&model, n);
             let temp = model.temperature(t_s, &y, n, 1500.0);
             let eq = ModelEquations {
                 kinetics: &kinetics,

@@ -64,6 +64,11 @@ impl OwnedIntegrator {
         initial_mol_per_m3: &[f64],
     ) -> Result<OwnedIntegrator, ReactorError> {
         check_state(system.n_species(), initial_mol_per_m3, "initial state")?;
+        if system.model().plug.is_some() {
+            return Err(ReactorError::BadPlugFlow(
+                "a plug flow runs whole (integrate_plug_flow), not in a stepping session".into(),
+            ));
+        }
         system.prepare(0.0, initial_mol_per_m3);
         let cell = SessionCell::try_new(system, |s| s.open_prepared())?;
         Ok(OwnedIntegrator { cell })

@@ -491,6 +491,11 @@ fn core(
 ) -> Result<(Core, Vec<f64>), ReactorError> {
     validate_options(kinetics, temperature_k, options)?;
     check_state(kinetics.n_species(), initial_mol_per_m3, "initial state")?;
+    if model.plug.is_some() {
+        return Err(ReactorError::BadPlugFlow(
+            "sensitivities are not available for a plug flow".into(),
+        ));
+    }
     model
         .conditions
         .validate(kinetics.n_species(), kinetics.n_steps())?;

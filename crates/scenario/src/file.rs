@@ -132,7 +132,8 @@ pub struct Scenario {
     pub temperature_k: f64,
     /// Pressure in Pa, when given (needed for mole fractions).
     pub pressure_pa: Option<f64>,
-    /// Simulated time span in s (from t = 0).
+    /// Simulated time span in s (from t = 0); 0 for a plug flow, whose outputs are
+    /// distances ([`Scenario::is_plug_flow`]).
     pub end_time_s: f64,
     /// Output times.
     pub output: OutputTimes,
@@ -159,6 +160,8 @@ pub struct Scenario {
     pub(crate) box_spec: BoxSpec,
     /// `[flow]`: the feed of a continuous stirred tank (`None`: a closed reactor).
     pub(crate) flow: Option<FlowSpec>,
+    /// `[plug_flow]`: a steady plug-flow tube (`None`: not a plug flow).
+    pub(crate) plug: Option<crate::plug_section::PlugSpec>,
     pub(crate) file: String,
     /// Where the output times are asked for (diagnostics about them point there).
     pub(crate) output_at: Option<SourceLocation>,
@@ -175,6 +178,12 @@ impl Scenario {
     /// `temperature_k` and `pressure_pa`).
     pub fn uses_mole_fractions(&self) -> bool {
         matches!(self.initial, InitialState::MoleFractions(_))
+    }
+
+    /// Whether the scenario is a steady plug flow (`[plug_flow]`): its outputs are distances
+    /// along the tube, with the residence time of each.
+    pub fn is_plug_flow(&self) -> bool {
+        self.plug.is_some()
     }
 
     /// The reactor kind as written in files, e.g. `"adiabatic-constant-volume"`.
@@ -229,6 +238,7 @@ const TOP_KEYS: &[&str] = &[
     "reactor",
     "initial",
     "flow",
+    "plug_flow",
     "output",
     "solver",
     "ignition",
@@ -253,7 +263,9 @@ fn read_scenario(
     let mechanism_path = read_mechanism_path(r, root, base_dir);
     let reactor = read_reactor(r, root);
     let initial = read_initial(r, root, reactor.pressure_given);
-    let output = read_output(r, root);
+    let plug = crate::plug_section::read_plug_flow(r, root);
+    let plug_given = root.contains_key("plug_flow");
+    let output = read_output(r, root, plug_given);
     let solver = read_solver(r, root, output.unit);
     let ignition = read_ignition(r, root);
     let box_spec = read_box(r, root);
@@ -268,6 +280,7 @@ fn read_scenario(
         ignition: ignition?,
         box_spec: box_spec?,
         flow: flow?,
+        plug: plug?,
         pressure_pa: if reactor.pressure_given {
             Some(reactor.pressure_pa?)
         } else {

@@ -37,6 +37,7 @@ mod box_sections;
 mod error;
 mod file;
 mod plan;
+mod plug_section;
 mod read;
 mod run;
 mod sections;

@@ -60,6 +60,8 @@ struct Resolved {
     model: ReactorModel,
     initial_mol_per_m3: Vec<f64>,
     output_times_s: Vec<f64>,
+    /// Output distances (m) of a plug flow, 0 first and the length last; empty otherwise.
+    output_distances_m: Vec<f64>,
     options: IntegrationOptions,
     ignition: Option<IgnitionCriterion>,
 }
@@ -131,9 +133,16 @@ impl RunPlan {
         &self.resolved.initial_mol_per_m3
     }
 
-    /// Output times in s: 0 first, the end time last, strictly increasing.
+    /// Output times in s: 0 first, the end time last, strictly increasing (only 0 for a
+    /// plug flow, which reports at [`RunPlan::output_distances_m`]).
     pub fn output_times_s(&self) -> &[f64] {
         &self.resolved.output_times_s
+    }
+
+    /// Output distances in m of a plug flow: 0 first, the tube's length last, strictly
+    /// increasing; empty for other reactors.
+    pub fn output_distances_m(&self) -> &[f64] {
+        &self.resolved.output_distances_m
     }
 
     /// Integration options: tolerances (absolute in mol/m3, per species), linear algebra,
@@ -269,6 +278,14 @@ impl RunPlan {
 
     /// Overrides the end time (s, finite and positive); the output times follow.
     pub fn set_end_time_s(&mut self, end_time_s: f64) -> Result<(), ScenarioError> {
+        if self.scenario.is_plug_flow() {
+            return Err(ScenarioError::BadOverride {
+                what: "end time",
+                requirement:
+                    "left out for a plug flow, which reports at the distances of [plug_flow]",
+                value: end_time_s,
+            });
+        }
         in_range(
             "end time",
             "positive and at most 1e15 seconds (MAX_END_TIME_S)",
@@ -280,6 +297,14 @@ impl RunPlan {
 
     /// Overrides the output times (within the end time).
     pub fn set_output_times(&mut self, output: OutputTimes) -> Result<(), ScenarioError> {
+        if self.scenario.is_plug_flow() {
+            return Err(ScenarioError::BadOverride {
+                what: "output times",
+                requirement:
+                    "left out for a plug flow, which reports at the distances of [plug_flow]",
+                value: 0.0,
+            });
+        }
         self.edit(|s| s.output = output)
     }
 
@@ -610,7 +635,9 @@ fn resolve(
             find(named, "[ignition] species").map(IgnitionCriterion::SpeciesMaximum)
         }
         Some(IgnitionSpec::TemperatureRise(k)) => Some(IgnitionCriterion::TemperatureRise(*k)),
-        None if matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_)) => {
+        None if scenario.plug.is_none()
+            && matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_)) =>
+        {
             Some(IgnitionCriterion::MaxTemperatureRate)
         }
         None => None,
@@ -624,6 +651,7 @@ fn resolve(
         .box_spec
         .resolve(mechanism, &species, file, &mut diagnostics);
     let output_times_s = match scenario.output_times_s() {
+        _ if scenario.plug.is_some() => vec![0.0],
         Ok(t) => t,
         Err(message) => {
             diagnostics.push(Diagnostic::error(
@@ -653,11 +681,45 @@ fn resolve(
             .with_help("ask for fewer output times (`points` of `grid`, or `times`)"),
         );
     }
+    if let Some(spec) = &scenario.plug {
+        // A plug-flow run holds each output's full solver state besides its profile row:
+        // twice the rows of a profile.
+        let rows = spec.distances_m.len();
+        let needed = crate::file::profile_bytes(rows.saturating_mul(2), n);
+        if needed > crate::file::MAX_PROFILE_BYTES {
+            let mib = |b: u64| b / (1024 * 1024);
+            diagnostics.push(
+                Diagnostic::error(
+                    file,
+                    Some(spec.at),
+                    format!(
+                        "{rows} output distances of {n} species would need about {} MiB, above the limit of {} MiB",
+                        mib(needed),
+                        mib(crate::file::MAX_PROFILE_BYTES)
+                    ),
+                )
+                .with_help("ask for fewer output distances (`points` or `distances` in [plug_flow])"),
+            );
+        }
+    }
+    let plug = scenario.plug.as_ref().and_then(|spec| {
+        plug_problems(scenario, &mut diagnostics);
+        let inlet_k = match &scenario.energy {
+            Energy::Prescribed(history) => history.temperature_at(0.0),
+            _ => scenario.temperature_k,
+        };
+        crate::plug_section::plug_flow(file, mechanism, spec, &initial, inlet_k, &mut diagnostics)
+    });
+    let output_distances_m = scenario
+        .plug
+        .as_ref()
+        .map_or_else(Vec::new, |spec| spec.distances_m.clone());
     let model = ReactorModel {
         constraint: scenario.constraint,
         energy: scenario.energy.clone(),
         conditions,
         flow,
+        plug,
     };
     model_problems(scenario, mechanism, &model, &mut diagnostics);
     if !diagnostics.is_empty() {
@@ -676,6 +738,7 @@ fn resolve(
         model,
         initial_mol_per_m3: initial,
         output_times_s,
+        output_distances_m,
         options: IntegrationOptions {
             relative_tolerance: scenario.relative_tolerance,
             absolute_tolerances_mol_per_m3: tolerances,
@@ -690,6 +753,55 @@ fn resolve(
         },
         ignition,
     })
+}
+
+/// What a plug flow does not go with, located at the reactor kind or the section at fault:
+/// a kind that does not hold the pressure, a jacket (the wall is the plug flow's), a wall
+/// without the energy balance, a stirred-tank `[flow]`, `[box]` and `[ignition]`.
+fn plug_problems(scenario: &Scenario, diagnostics: &mut Vec<Diagnostic>) {
+    let Some(spec) = &scenario.plug else {
+        return;
+    };
+    let file = scenario.file.as_str();
+    let kind = scenario.kind_label();
+    let mut at_kind = |message: String, help: &str| {
+        diagnostics.push(
+            Diagnostic::error(file, scenario.locations.reactor, message)
+                .with_help(help.to_string()),
+        );
+    };
+    if scenario.constraint != stoik_reactor::Constraint::ConstantPressure {
+        at_kind(
+            format!("a plug flow of gas holds the pressure (or follows `pressure_profile`): the `{kind}` kind holds the volume"),
+            "use `isothermal-constant-pressure`, `adiabatic-constant-pressure` or `prescribed-temperature-constant-pressure`",
+        );
+    } else if matches!(scenario.energy, Energy::HeatExchange(_)) {
+        at_kind(
+            format!("the `{kind}` kind's jacket is for stirred tanks; a plug flow exchanges heat through its wall"),
+            "use `adiabatic-constant-pressure` with `wall_heat_transfer_coefficient` and `wall_temperature` in [plug_flow]",
+        );
+    } else if spec.wall.is_some() && !matches!(scenario.energy, Energy::Adiabatic) {
+        at_kind(
+            format!("wall heat exchange needs the energy balance, which the `{kind}` kind does not solve"),
+            "use `adiabatic-constant-pressure`: the energy balance with the wall's heat added",
+        );
+    }
+    let mut at_section = |what: &str| {
+        diagnostics.push(Diagnostic::error(
+            file,
+            Some(spec.at),
+            format!("[plug_flow] does not go with {what}"),
+        ));
+    };
+    if scenario.flow.is_some() {
+        at_section("[flow] (a reactor is a stirred tank or a plug flow)");
+    }
+    if scenario.locations.box_section.is_some() {
+        at_section("[box] (fixed species, emissions and deposition are for closed boxes)");
+    }
+    if scenario.ignition.is_some() {
+        at_section("[ignition] (the ignition delay is measured in time; read the profile against distance instead)");
+    }
 }
 
 /// What the reactor would refuse before integrating `model`, found here so that `check`

@@ -10,9 +10,9 @@ use std::sync::Arc;
 use stoik_kinetics::{compiled_rate_constant_range_errors, Kinetics};
 use stoik_mechanism::{Diagnostic, Diagnostics, LoadError, Mechanism};
 use stoik_reactor::{
-    ignition_delay, integrate_batch, simulate, BatchError, ConservationCheckError,
-    ConservationDrift, IgnitionCriterion, IgnitionDelay, IntegrationError, IntegrationFailure,
-    Profiles, ReactorConservation,
+    ignition_delay, integrate_batch, simulate, simulate_plug_flow, BatchError,
+    ConservationCheckError, ConservationDrift, IgnitionCriterion, IgnitionDelay, IntegrationError,
+    IntegrationFailure, PlugOutputs, Profiles, ReactorConservation,
 };
 
 /// Something a run's user should know that did not stop it.
@@ -105,6 +105,9 @@ pub struct RunOutcome {
     /// Warnings: the files' first, then the thermochemistry range at the planned
     /// temperatures, then (adiabatic runs) over the temperatures reached.
     pub warnings: Vec<RunWarning>,
+    /// For a plug flow, the distance from the inlet (m) of every row of the profiles (complete
+    /// or partial), whose times are then residence times; `None` for other reactors.
+    pub distances_m: Option<Vec<f64>>,
 }
 
 impl RunOutcome {
@@ -143,6 +146,9 @@ impl RunPlan {
     /// ([`RunPlan::rate_constant_errors`]).
     pub fn run_compiled(&self, kinetics: &Kinetics) -> Result<RunOutcome, ScenarioError> {
         self.refuse_nonfinite_rate_constants(kinetics)?;
+        if self.model().plug.is_some() {
+            return self.run_plug_flow(kinetics);
+        }
         let result = simulate(
             kinetics,
             self.model(),
@@ -152,6 +158,30 @@ impl RunPlan {
             self.options(),
         );
         self.outcome(result)
+    }
+
+    /// Runs the plan's plug flow at its output distances.
+    fn run_plug_flow(&self, kinetics: &Kinetics) -> Result<RunOutcome, ScenarioError> {
+        let distances = self.output_distances_m();
+        let result = simulate_plug_flow(
+            kinetics,
+            self.model(),
+            self.temperature_k(),
+            self.initial_mol_per_m3(),
+            &PlugOutputs::Distances(distances.to_vec()),
+            self.options(),
+        );
+        // Rows come at the requested distances in order, so a partial profile's rows are at
+        // the first distances.
+        let result = result.map(|p| p.profiles);
+        let rows = match &result {
+            Ok(p) => p.times_s.len(),
+            Err(IntegrationError::Failed(f)) => f.partial.times_s.len(),
+            Err(IntegrationError::InvalidArgument(_)) => 0,
+        };
+        let mut outcome = self.outcome(result)?;
+        outcome.distances_m = Some(distances[..rows.min(distances.len())].to_vec());
+        Ok(outcome)
     }
 
     /// Errors for the steps whose forward or reverse rate constant is NaN or infinite
@@ -237,6 +267,7 @@ impl RunPlan {
             ignition_delay,
             conservation,
             warnings,
+            distances_m: None,
         })
     }
 }
@@ -284,6 +315,15 @@ pub fn run_batch(
                 },
             )
             .collect();
+        // Plug flows report at distances: run one by one.
+        let (plugs, members): (Vec<usize>, Vec<usize>) = members
+            .into_iter()
+            .partition(|&i| plans[i].model().plug.is_some());
+        for i in plugs {
+            done[i] = true;
+            results[i] = Some(plans[i].run_plug_flow(&kinetics));
+            progress();
+        }
         let cases: Vec<_> = members.iter().map(|&i| plans[i].batch_case()).collect();
         let outcomes = integrate_batch(&kinetics, &cases, progress);
         for (&i, outcome) in members.iter().zip(outcomes) {

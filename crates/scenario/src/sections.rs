@@ -276,7 +276,7 @@ fn kelvin_difference(value: f64, unit: &str) -> Option<f64> {
 
 /// Reads an array of quantities `key` of `table` (at `at`), each with its byte offset.
 #[allow(clippy::too_many_arguments)]
-fn located_list(
+pub(crate) fn located_list(
     r: &mut Report<'_>,
     table: &DeTable<'_>,
     at: usize,
@@ -725,8 +725,12 @@ pub(crate) struct OutputSection {
     pub(crate) unit: Option<ConcentrationUnit>,
 }
 
-/// Reads `[output]`: end time, times or grid, concentration unit.
-pub(crate) fn read_output(r: &mut Report<'_>, root: &DeTable<'_>) -> OutputSection {
+/// Reads `[output]`: end time, times or grid, concentration unit. With `[plug_flow]`
+/// (`plug`) the outputs are distances: `[output]` is optional and takes only the unit.
+pub(crate) fn read_output(r: &mut Report<'_>, root: &DeTable<'_>, plug: bool) -> OutputSection {
+    if plug {
+        return read_plug_output(r, root);
+    }
     let mut out = OutputSection {
         at: root.get("output").map(|v| r.location(v.span().start)),
         end_time_s: None,
@@ -784,6 +788,32 @@ pub(crate) fn read_output(r: &mut Report<'_>, root: &DeTable<'_>) -> OutputSecti
             out.times = read_grid(r, v, out.end_time_s);
         }
         (None, None) => {}
+    }
+    out
+}
+
+/// `[output]` of a plug flow: only `concentration_unit`; time keys are refused at their key.
+fn read_plug_output(r: &mut Report<'_>, root: &DeTable<'_>) -> OutputSection {
+    let mut out = OutputSection {
+        at: root.get("output").map(|v| r.location(v.span().start)),
+        end_time_s: Some(0.0),
+        times: Some(OutputTimes::Linear { points: 101 }),
+        unit: Some(ConcentrationUnit::MolPerM3),
+    };
+    let Some(t) = section(r, root, "output", OUTPUT_KEYS) else {
+        return out;
+    };
+    for key in ["end_time", "times", "grid"] {
+        if let Some((k, _)) = t.get_key_value(key) {
+            r.error(
+                k.span().start,
+                format!("`{key}` in [output] does not apply to a plug flow, which reports at distances along the tube"),
+                Some("give `points` or `distances` in [plug_flow]".to_string()),
+            );
+        }
+    }
+    if let Some(v) = t.get("concentration_unit") {
+        out.unit = concentration_unit(r, "concentration_unit", v);
     }
     out
 }

@@ -67,9 +67,22 @@ fn step_name(mechanism: &Mechanism, j: usize) -> (String, &str) {
     )
 }
 
+/// The plan of a scenario run in time; a plug flow (`[plug_flow]`, which reports against
+/// distance) is refused with the scenario's path and the command.
+pub fn time_plan(scenario: &std::path::Path, command: &str) -> Result<RunPlan, CliError> {
+    let plan = RunPlan::load(scenario)?;
+    if plan.scenario().is_plug_flow() {
+        return Err(CliError::BadFlag(format!(
+            "{}: `stoik {command}` works on runs in time; a plug flow ([plug_flow]) runs with `stoik run`",
+            scenario.display()
+        )));
+    }
+    Ok(plan)
+}
+
 /// `stoik rates`: each step's contribution to the production of the chosen species.
 pub fn rates(args: &RatesArgs) -> Result<(), CliError> {
-    let plan = RunPlan::load(&args.scenario)?;
+    let plan = time_plan(&args.scenario, "rates")?;
     let mechanism = plan.mechanism().clone();
     let species: Vec<usize> = args
         .species
@@ -223,7 +236,7 @@ fn write_rates_csv(
 
 /// `stoik flux`: the element-flux graph at an instant or over a window.
 pub fn flux(args: &FluxArgs) -> Result<(), CliError> {
-    let plan = RunPlan::load(&args.scenario)?;
+    let plan = time_plan(&args.scenario, "flux")?;
     let mechanism = plan.mechanism().clone();
     let element = element_index(&mechanism, args.element.trim()).map_err(at_flag("--element"))?;
     if !(0.0..=1.0).contains(&args.threshold) {

@@ -234,7 +234,12 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
                 bar.suspend(|| eprintln!("{}: {warning}", output.display()));
             }
         }
-        match write_csv(output, plan, outcome.profiles()) {
+        match write_csv(
+            output,
+            plan,
+            outcome.profiles(),
+            outcome.distances_m.as_deref(),
+        ) {
             Ok(notes) => {
                 if let Some(w) = notes.warning(&output.display().to_string()) {
                     bar.suspend(|| eprintln!("{w}"));

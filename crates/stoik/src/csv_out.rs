@@ -116,8 +116,42 @@ pub fn write_profiles(
     si_per_unit: f64,
     unit_label: &str,
 ) -> Result<CsvNotes, CsvError> {
+    write_rows(out, mechanism, None, profiles, si_per_unit, unit_label)
+}
+
+/// As [`write_profiles`], for a plug flow: the first two columns are `distance [m]` (one
+/// per row, from `distances_m`) and `residence time [s]` (the profiles' times).
+pub fn write_plug_profiles(
+    out: &mut impl Write,
+    mechanism: &Mechanism,
+    distances_m: &[f64],
+    profiles: &Profiles,
+    si_per_unit: f64,
+    unit_label: &str,
+) -> Result<CsvNotes, CsvError> {
+    write_rows(
+        out,
+        mechanism,
+        Some(distances_m),
+        profiles,
+        si_per_unit,
+        unit_label,
+    )
+}
+
+fn write_rows(
+    out: &mut impl Write,
+    mechanism: &Mechanism,
+    distances_m: Option<&[f64]>,
+    profiles: &Profiles,
+    si_per_unit: f64,
+    unit_label: &str,
+) -> Result<CsvNotes, CsvError> {
     let masses = molar_masses_kg_per_mol(mechanism);
-    let mut header = vec!["time [s]".to_string()];
+    let mut header = match distances_m {
+        Some(_) => vec!["distance [m]".to_string(), "residence time [s]".to_string()],
+        None => vec!["time [s]".to_string()],
+    };
     header.extend(
         mechanism
             .species
@@ -151,6 +185,9 @@ pub fn write_profiles(
         .enumerate()
     {
         let mut cells: Vec<f64> = Vec::with_capacity(header.len());
+        if let Some(d) = distances_m {
+            cells.push(d.get(i).copied().unwrap_or(f64::NAN));
+        }
         cells.push(t);
         cells.extend(row.iter().map(|c| c / si_per_unit));
         cells.push(temperature_k);

@@ -2,7 +2,7 @@
 //! runs; this file applies the flags, writes the CSV and prints.
 
 use crate::conservation_out::report_from_check;
-use crate::csv_out::{write_profiles, CsvError, CsvNotes};
+use crate::csv_out::{write_plug_profiles, write_profiles, CsvError, CsvNotes};
 use crate::error::CliError;
 use crate::out_file::{partial_path, write_atomically, OutputPaths};
 use crate::RunArgs;
@@ -125,7 +125,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
     } else {
         target.clone()
     };
-    match write_csv(&output, &plan, profiles) {
+    match write_csv(&output, &plan, profiles, outcome.distances_m.as_deref()) {
         // Printed even with --quiet: the file holds undefined values.
         Ok(notes) => {
             if let Some(w) = notes.warning(&output.display().to_string()) {
@@ -146,6 +146,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
     let mut lines = summary_lines(
         &plan,
         profiles,
+        outcome.distances_m.as_deref(),
         elapsed.as_secs_f64(),
         &output,
         &conservation.lines,
@@ -328,17 +329,31 @@ pub fn scenario_stem(path: &Path) -> String {
 }
 
 /// Writes `profiles` as CSV in the plan's output concentration unit, atomically (nothing is
-/// left at `output` when the write fails or a value is not finite).
-pub fn write_csv(output: &Path, plan: &RunPlan, profiles: &Profiles) -> Result<CsvNotes, CsvError> {
+/// left at `output` when the write fails or a value is not finite); a plug flow's rows carry
+/// their distance from the inlet (`distances_m`, m) and residence time.
+pub fn write_csv(
+    output: &Path,
+    plan: &RunPlan,
+    profiles: &Profiles,
+    distances_m: Option<&[f64]>,
+) -> Result<CsvNotes, CsvError> {
     let unit = plan.output_concentration_unit();
-    write_atomically(output, |w| {
-        write_profiles(
+    write_atomically(output, |w| match distances_m {
+        Some(d) => write_plug_profiles(
+            w,
+            plan.mechanism(),
+            d,
+            profiles,
+            unit.to_si_factor(),
+            unit.label(),
+        ),
+        None => write_profiles(
             w,
             plan.mechanism(),
             profiles,
             unit.to_si_factor(),
             unit.label(),
-        )
+        ),
     })
 }
 
@@ -346,6 +361,7 @@ pub fn write_csv(output: &Path, plan: &RunPlan, profiles: &Profiles) -> Result<C
 fn summary_lines(
     plan: &RunPlan,
     profiles: &Profiles,
+    distances_m: Option<&[f64]>,
     wall_s: f64,
     output: &std::path::Path,
     conservation: &[String],
@@ -369,8 +385,12 @@ fn summary_lines(
         return lines;
     };
     let rows = profiles.times_s.len();
+    let place = match distances_m.and_then(|d| d.last()) {
+        Some(z) => format!("z = {z:.6e} m (residence time {t_end:.6e} s)"),
+        None => format!("t = {t_end:.6e} s"),
+    };
     lines.push(format!(
-        "final state at t = {t_end:.6e} s: T = {:.2} K, P = {:.6e} Pa; concentrations [{}]:",
+        "final state at {place}: T = {:.2} K, P = {:.6e} Pa; concentrations [{}]:",
         profiles.temperatures_k.last().copied().unwrap_or(f64::NAN),
         profiles.pressure_pa(rows - 1).unwrap_or(f64::NAN),
         unit.label()
@@ -419,9 +439,11 @@ fn summary_lines(
         "wrote {} ({} rows, {} columns)",
         output.display(),
         profiles.times_s.len(),
-        // time, species, temperature, pressure, and density when every species has atoms
+        // time (and distance), species, temperature, pressure, and density when every
+        // species has atoms
         2 * mechanism.species.len()
             + 3
+            + usize::from(distances_m.is_some())
             + usize::from(mechanism.species.iter().all(|s| s.composition.is_some()))
     ));
     lines
@@ -435,6 +457,31 @@ pub fn describe_reactor(plan: &RunPlan) -> String {
         Constraint::ConstantVolume => "constant volume",
     };
     let t = plan.temperature_k();
+    if let Some(plug) = &model.plug {
+        let walled = plug.wall().map_or(String::new(), |w| {
+            format!(
+                ", wall at {} K with U = {} W/(m2 K)",
+                w.wall_temperature_k(),
+                w.coefficient_w_per_m2_k()
+            )
+        });
+        let pressure = if plug.pressure_profile().is_some() {
+            "pressure following its profile"
+        } else {
+            "constant pressure"
+        };
+        let energy = match &model.energy {
+            Energy::Isothermal => format!("isothermal at {t} K"),
+            Energy::Adiabatic if plug.wall().is_some() => format!("inlet at {t} K"),
+            Energy::Adiabatic => format!("adiabatic, inlet at {t} K"),
+            _ => describe_energy(model, held, t),
+        };
+        let length = plan.output_distances_m().last().copied().unwrap_or(0.0);
+        return format!(
+            "plug flow, {energy}, {pressure}{walled}; length {length} m, mass flow {:.6e} kg/s",
+            plug.mass_flow_kg_per_s()
+        );
+    }
     match &model.flow {
         None => describe_energy(model, held, t),
         Some(flow) => format!(

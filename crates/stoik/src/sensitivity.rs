@@ -73,7 +73,7 @@ fn field(text: &str) -> String {
 
 /// `stoik sensitivity`.
 pub fn sensitivity(args: &SensitivityArgs) -> Result<(), CliError> {
-    let plan = RunPlan::load(&args.scenario)?;
+    let plan = crate::analysis::time_plan(&args.scenario, "sensitivity")?;
     let mechanism = plan.mechanism().clone();
     let observable = Observable::parse(&mechanism, &args.of).map_err(at_flag("--of"))?;
     let steps = if args.steps.is_empty() {

@@ -746,6 +746,9 @@ fn build_problem<M: Backend>(
     if model.solves_energy() {
         atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
     }
+    if let Some(semi) = &model.semi_batch {
+        atol.push(VOLUME_ABSOLUTE_TOLERANCE * semi.initial_volume_m3());
+    }
     let mut problem = OdeBuilder::<M>::new()
         .rtol(options.relative_tolerance)
         .atol(atol)
@@ -768,7 +771,8 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
     let open = !c.fixed_species.is_empty()
         || !c.emissions.is_empty()
         || !c.deposition.is_empty()
-        || model.flow.is_some();
+        || model.flow.is_some()
+        || model.semi_batch.is_some();
     if open || model.constraint != Constraint::ConstantVolume {
         return Vec::new();
     }
@@ -778,6 +782,10 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
 /// Absolute tolerance of the temperature state (K); the relative tolerance times the
 /// temperature is far larger in practice.
 pub(crate) const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
+
+/// Absolute tolerance of the volume state, relative to the initial volume (dimensionless);
+/// the relative tolerance times the volume is far larger in practice.
+pub(crate) const VOLUME_ABSOLUTE_TOLERANCE: f64 = 1e-12;
 
 /// The batch-reactor equations of one compiled mechanism, set up once for repeated use.
 ///
@@ -857,7 +865,7 @@ impl BatchSystem {
             ));
         }
         let mut used = options.linear_algebra.resolve(kinetics);
-        if model.constraint == Constraint::ConstantPressure {
+        if model.constraint == Constraint::ConstantPressure || model.is_extended() {
             used = LinearAlgebra::Dense;
         }
         let temperature_k = match &model.energy {
@@ -953,11 +961,19 @@ impl BatchSystem {
     /// solved) and time (s) for the next session.
     pub(crate) fn prepare(&mut self, t0: f64, initial: &[f64]) {
         let temperature = self.model.solves_energy().then(|| self.temperature());
+        let volume = self
+            .model
+            .semi_batch
+            .as_ref()
+            .map(|s| s.initial_volume_m3());
         let set = |initial_state: &mut Vec<f64>, problem_t0: &mut f64| {
             let n = initial.len();
             initial_state[..n].copy_from_slice(initial);
             if let Some(t) = temperature {
                 initial_state[n] = t;
+            }
+            if let (Some(v), Some(last)) = (volume, initial_state.last_mut()) {
+                *last = v;
             }
             *problem_t0 = t0;
         };
@@ -1037,19 +1053,24 @@ impl BatchSystem {
             concentrations_mol_per_m3: Vec::with_capacity(output_times_s.len()),
             temperatures_k: Vec::with_capacity(output_times_s.len()),
             temperature_rates_k_per_s: Vec::new(),
+            volumes_m3: Vec::new(),
             stats: SolverStats::default(),
             linear_algebra_used: integrator.linear_algebra_used,
             located: Vec::new(),
         };
-        let (times, rows, temperatures) = (
+        let (times, rows, temperatures, volumes) = (
             &mut profiles.times_s,
             &mut profiles.concentrations_mol_per_m3,
             &mut profiles.temperatures_k,
+            &mut profiles.volumes_m3,
         );
         let mut record = |t: f64, y: &[f64]| {
             times.push(t);
             rows.push(y[..n].to_vec());
             temperatures.push(model.temperature(t, y, n, held_k));
+            if let Some(v) = model.volume(y, n) {
+                volumes.push(v);
+            }
         };
         record(t0, integrator.full_state());
         integrator.watch(&watches);
@@ -1080,13 +1101,15 @@ impl BatchSystem {
             .times_s
             .iter()
             .zip(&profiles.concentrations_mol_per_m3)
-            .zip(&profiles.temperatures_k);
+            .zip(&profiles.temperatures_k)
+            .enumerate();
+        let volume = |row: usize| profiles.volumes_m3.get(row).copied();
         match &self.problem {
             Problem::Dense(p) => rows
-                .map(|((&t, c), &temp)| p.eqn.temperature_rate(t, c, temp))
+                .map(|(r, ((&t, c), &temp))| p.eqn.temperature_rate(t, c, temp, volume(r)))
                 .collect(),
             Problem::Sparse(p) => rows
-                .map(|((&t, c), &temp)| p.eqn.temperature_rate(t, c, temp))
+                .map(|(r, ((&t, c), &temp))| p.eqn.temperature_rate(t, c, temp, volume(r)))
                 .collect(),
         }
     }
@@ -1175,6 +1198,7 @@ impl BatchIntegrator<'_> {
                         concentrations_mol_per_m3: vec![self.state().to_vec()],
                         temperatures_k: vec![self.temperature()],
                         temperature_rates_k_per_s: Vec::new(),
+                        volumes_m3: Vec::new(),
                         stats: self.stats,
                         linear_algebra_used: self.linear_algebra_used,
                         located: Vec::new(),
@@ -1200,19 +1224,18 @@ impl BatchIntegrator<'_> {
     /// Steps through `outputs` (strictly after the current time, increasing), recording each;
     /// updates the statistics also on failure.
     ///
-    /// A prescribed temperature history's breakpoints inside the interval become stop
-    /// times (the slope dT/dt jumps there): the solver stops exactly on each and restarts.
+    /// A prescribed temperature history's and the feed schedules' breakpoints inside the
+    /// interval become stop times (a slope jumps there): the solver stops exactly on each
+    /// and restarts.
     fn run(
         &mut self,
         outputs: &[f64],
         record: &mut dyn FnMut(f64, &[f64]),
     ) -> Result<(), Diagnosis> {
         let now = self.time();
-        let breakpoints: Vec<f64> = match (&self.session_model().energy, outputs.last()) {
-            (Energy::Prescribed(history), Some(&end)) => {
-                history.breakpoints_between(now, end).collect()
-            }
-            _ => Vec::new(),
+        let breakpoints: Vec<f64> = match outputs.last() {
+            Some(&end) => self.session_model().breakpoints_between(now, end),
+            None => Vec::new(),
         };
         let mut result = Ok(());
         let mut from = 0;

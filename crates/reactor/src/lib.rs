@@ -49,6 +49,7 @@ mod atmosphere;
 mod batch;
 mod conservation;
 mod equations;
+mod extended;
 mod error;
 mod failure;
 mod fixed_lu;
@@ -59,6 +60,7 @@ mod model;
 mod options;
 mod owned;
 mod profiles;
+mod semibatch;
 mod sensitivity;
 mod steady;
 mod watch;
@@ -83,6 +85,7 @@ pub use options::{
 };
 pub use owned::OwnedIntegrator;
 pub use profiles::{element_balance, ElementBalance, Profiles};
+pub use semibatch::{Feed, FeedSchedule, FeedStream, LiquidPhase, SemiBatch};
 pub use sensitivity::{
     adjoint_parameter_sensitivity, adjoint_sensitivity, forward_parameter_sensitivities,
     forward_sensitivities, AdjointSensitivity, ForwardSensitivities, Parameter, SensitivityError,

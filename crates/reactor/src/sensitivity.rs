@@ -491,6 +491,11 @@ fn core(
 ) -> Result<(Core, Vec<f64>), ReactorError> {
     validate_options(kinetics, temperature_k, options)?;
     check_state(kinetics.n_species(), initial_mol_per_m3, "initial state")?;
+    if model.is_extended() {
+        return Err(ReactorError::NotSupported(
+            "sensitivities of semi-batch and liquid-phase reactors are not implemented".into(),
+        ));
+    }
     model
         .conditions
         .validate(kinetics.n_species(), kinetics.n_steps())?;

@@ -431,3 +431,236 @@ impl ModelEquations<'_> {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{energy_thermo, state_pattern, HeatExchange, TemperatureHistory};
+    use crate::semibatch::{Feed, FeedSchedule, LiquidPhase, SemiBatch};
+    use stoik_mechanism::{Arrhenius, Mechanism, Species, Step, StoichTerm};
+
+    fn hydrogen() -> Kinetics {
+        let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
+        let file = stoik_mechanism::load_mechanism(&path).unwrap_or_else(|e| panic!("{e}"));
+        Kinetics::compile(&file.mechanism).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    fn terms(side: &[(usize, f64)]) -> Vec<StoichTerm> {
+        side.iter()
+            .map(|&(species, coefficient)| StoichTerm {
+                species,
+                coefficient,
+            })
+            .collect()
+    }
+
+    fn arrhenius(pre: f64, ea: f64) -> Arrhenius {
+        Arrhenius {
+            pre_exponential_si: pre,
+            temperature_exponent: 0.0,
+            activation_energy_j_per_mol: ea,
+        }
+    }
+
+    /// A + B -> C, C <=> D (explicit reverse), 2 A -> E: orders one and two, a reversible
+    /// step and Arrhenius temperature dependence, no thermochemistry (an invented liquid
+    /// mechanism for the Jacobian check).
+    fn liquid_kinetics() -> Kinetics {
+        let step = |r: &[(usize, f64)], p: &[(usize, f64)], k: Arrhenius| Step {
+            equation: format!("{r:?} -> {p:?}"),
+            reactants: terms(r),
+            products: terms(p),
+            reversible: false,
+            forward: k,
+            reverse: None,
+            third_body: None,
+            pressure_dependence: None,
+            forward_orders: None,
+            allow_duplicate: false,
+            note: None,
+            location: None,
+        };
+        let mut reversible = step(&[(2, 1.0)], &[(3, 1.0)], arrhenius(1e5, 4e4));
+        reversible.reversible = true;
+        reversible.reverse = Some(arrhenius(3e6, 6e4));
+        let mechanism = Mechanism {
+            title: None,
+            elements: Vec::new(),
+            species: ["A", "B", "C", "D", "E"]
+                .iter()
+                .map(|name| Species {
+                    collision_diameter_m: None,
+                    name: name.to_string(),
+                    composition: None,
+                    note: None,
+                    location: None,
+                    thermo: None,
+                })
+                .collect(),
+            steps: vec![
+                step(&[(0, 1.0), (1, 1.0)], &[(2, 1.0)], arrhenius(2e3, 5e4)),
+                reversible,
+                step(&[(0, 2.0)], &[(4, 1.0)], arrhenius(5e2, 7e4)),
+            ],
+        };
+        Kinetics::compile(&mechanism).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    /// Worst relative error of the analytic Jacobian of `model` at `(t_s, y)` against
+    /// five-point central differences of the right-hand side (error O(h^4), Abramowitz &
+    /// Stegun 25.3.6; step 1e-4 relative).
+    fn worst_jacobian_error(kinetics: &Kinetics, model: &ReactorModel, t_s: f64, y: &[f64]) -> f64 {
+        let thermo = energy_thermo(kinetics, model).unwrap_or_else(|e| panic!("{e}"));
+        let eq = ModelEquations {
+            kinetics,
+            model,
+            thermo: &thermo,
+        };
+        let n = kinetics.n_species();
+        let m = model.n_states(n);
+        assert_eq!(y.len(), m);
+        let held = 400.0;
+        let temp = model.temperature(t_s, y, n, held);
+        let (pattern, map) = state_pattern(kinetics, model).unwrap_or_else(|e| panic!("{e}"));
+        let mut scratch = ModelScratch::new(kinetics);
+        let mut values = vec![0.0; pattern.nnz()];
+        let k = kinetics.rate_constants(temp);
+        eq.jacobian(&k, t_s, temp, y, &map, &mut scratch, &mut values);
+        let f = |y: &[f64]| {
+            let temp = model.temperature(t_s, y, n, held);
+            let k = kinetics.rate_constants(temp);
+            let mut out = vec![0.0; m];
+            let mut carry = vec![0.0; n];
+            eq.rhs(&k, t_s, temp, y, &mut out, &mut carry);
+            out
+        };
+        let largest = values.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+        let mut worst: f64 = 0.0;
+        for col in 0..m {
+            let h = 1e-4 * y[col].abs().max(1e-3);
+            let at = |offset: f64| {
+                let mut shifted = y.to_vec();
+                shifted[col] += offset;
+                f(&shifted)
+            };
+            let (f2p, f1p, f1m, f2m) = (at(2.0 * h), at(h), at(-h), at(-2.0 * h));
+            let magnitude = [&f2p, &f1p, &f1m, &f2m]
+                .iter()
+                .flat_map(|f| f.iter())
+                .fold(0.0f64, |a, v| a.max(v.abs()));
+            for row in 0..m {
+                let fd = (-f2p[row] + 8.0 * f1p[row] - 8.0 * f1m[row] + f2m[row]) / (12.0 * h);
+                let analytic = pattern.position(row, col).map_or(0.0, |p| values[p]);
+                // Rounding of the differences: a few eps of the largest value of the
+                // right-hand side (the size of the terms its sums cancel) over h.
+                let rounding = 16.0 * f64::EPSILON * magnitude / h;
+                let scale = fd.abs().max(analytic.abs()).max(1e-9 * largest);
+                let err = ((fd - analytic).abs() - rounding).max(0.0) / scale;
+                if err > 1e-6 {
+                    eprintln!("row {row} col {col}: analytic {analytic:e}, differences {fd:e}");
+                }
+                worst = worst.max(err);
+            }
+        }
+        worst
+    }
+
+    fn energies(coolant: &TemperatureHistory, prescribed: &TemperatureHistory) -> Vec<Energy> {
+        vec![
+            Energy::Isothermal,
+            Energy::Adiabatic,
+            Energy::Prescribed(prescribed.clone()),
+            Energy::HeatExchange(
+                HeatExchange::new(5e4, coolant.clone()).unwrap_or_else(|e| panic!("{e}")),
+            ),
+            Energy::HeatExchange(
+                HeatExchange::total(3e3, coolant.clone()).unwrap_or_else(|e| panic!("{e}")),
+            ),
+        ]
+    }
+
+    /// Every new term (feeds, dilution, volume state, feed enthalpy, total U A, liquid
+    /// heat release) in the analytic Jacobian against central differences.
+    #[test]
+    fn semi_batch_and_liquid_jacobians_match_central_differences() {
+        let coolant = TemperatureHistory::new(vec![0.0, 1e-3], vec![800.0, 900.0])
+            .unwrap_or_else(|e| panic!("{e}"));
+        let prescribed =
+            TemperatureHistory::new(vec![0.0, 1e-3, 2e-3], vec![1000.0, 1600.0, 1400.0])
+                .unwrap_or_else(|e| panic!("{e}"));
+        let gas = hydrogen();
+        let n = gas.n_species();
+        let inlet: Vec<f64> = (0..n).map(|i| 0.02 + 0.3 * ((i * 3) % 5) as f64).collect();
+        // Feeds fast enough (q / V ~ 1e3 1/s) for the dilution terms to stand out of the
+        // chemistry's rounding at 1500 K.
+        let schedule = FeedSchedule::points(vec![0.0, 1e-3, 2e-3], vec![4e2, 9e2, 0.0])
+            .unwrap_or_else(|e| panic!("{e}"));
+        let feeds = vec![
+            Feed::volumetric(inlet, schedule.clone(), 700.0).unwrap_or_else(|e| panic!("{e}")),
+            Feed::species(1, 2e-1, FeedSchedule::window(0.0, 1e-3, 5e2).unwrap(), 350.0)
+                .unwrap_or_else(|e| panic!("{e}")),
+        ];
+        let semi = SemiBatch::new(0.5, feeds).unwrap_or_else(|e| panic!("{e}"));
+        let closed = SemiBatch::new(0.5, Vec::new()).unwrap_or_else(|e| panic!("{e}"));
+        for constraint in [Constraint::ConstantVolume, Constraint::ConstantPressure] {
+            for batch in [&semi, &closed] {
+                for energy in energies(&coolant, &prescribed) {
+                    let model = ReactorModel {
+                        constraint,
+                        energy,
+                        semi_batch: Some(batch.clone()),
+                        ..Default::default()
+                    };
+                    let mut y: Vec<f64> = (0..n)
+                        .map(|i| 0.05 + 0.9 * ((i * 7 + 3) % 11) as f64 / 11.0)
+                        .collect();
+                    if model.solves_energy() {
+                        y.push(1500.0);
+                    }
+                    y.push(0.7);
+                    let worst = worst_jacobian_error(&gas, &model, 0.6e-3, &y);
+                    eprintln!("gas {constraint:?} {:?}: worst {worst:.1e}", model.energy);
+                    assert!(worst < 1e-6, "{model:?}: worst relative error {worst:e}");
+                }
+            }
+        }
+        // Liquid phase: closed at constant volume, and semi-batch at constant density.
+        let liquid = liquid_kinetics();
+        let phase = LiquidPhase::per_mass(2.1e3, 950.0, vec![-9e4, 2.5e4, -4e4])
+            .unwrap_or_else(|e| panic!("{e}"));
+        let liquid_feeds = vec![
+            Feed::volumetric(vec![800.0, 0.0, 0.0, 0.0, 10.0], schedule, 300.0)
+                .unwrap_or_else(|e| panic!("{e}")),
+            Feed::species(1, 1e-4, FeedSchedule::window(0.0, 1e-3, 0.4).unwrap(), 290.0)
+                .unwrap_or_else(|e| panic!("{e}")),
+        ];
+        let liquid_semi = SemiBatch::new(0.5, liquid_feeds).unwrap_or_else(|e| panic!("{e}"));
+        let coolant = TemperatureHistory::new(vec![0.0], vec![300.0]).unwrap();
+        let prescribed = TemperatureHistory::new(vec![0.0, 1.0], vec![330.0, 360.0]).unwrap();
+        for batch in [None, Some(liquid_semi.clone()), Some(closed.clone())] {
+            for energy in energies(&coolant, &prescribed) {
+                if batch.is_none()
+                    && matches!(&energy, Energy::HeatExchange(x) if x.ua_total_w_per_k().is_some())
+                {
+                    continue;
+                }
+                let model = ReactorModel {
+                    energy,
+                    semi_batch: batch.clone(),
+                    liquid: Some(phase.clone()),
+                    ..Default::default()
+                };
+                let mut y = vec![900.0, 700.0, 300.0, 150.0, 40.0];
+                if model.solves_energy() {
+                    y.push(350.0);
+                }
+                if model.tracks_volume() {
+                    y.push(0.7);
+                }
+                let worst = worst_jacobian_error(&liquid, &model, 0.6e-3, &y);
+                eprintln!("liquid {:?}: worst {worst:.1e}", model.energy);
+                assert!(worst < 1e-6, "{model:?}: worst relative error {worst:e}");
+            }
+        }
+    }
+}

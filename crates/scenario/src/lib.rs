@@ -40,6 +40,7 @@ mod plan;
 mod read;
 mod run;
 mod sections;
+mod vessel_sections;
 
 pub use error::ScenarioError;
 pub use file::{

@@ -300,7 +300,12 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
             None
         }
     };
-    let molar = rate.as_ref().map(|(m, _)| *m);
+    // Which stream the feed is follows from its rate key, read or not.
+    let molar = match (t.contains_key("molar_flow"), t.contains_key("volumetric_flow")) {
+        (true, false) => Some(true),
+        (false, true) => Some(false),
+        _ => None,
+    };
     // What the feed carries: `species` with a molar flow, `concentrations` with a volumetric
     // flow.
     let carrier = match molar {

@@ -588,7 +588,12 @@ fn resolve(
             find(named, "[ignition] species").map(IgnitionCriterion::SpeciesMaximum)
         }
         Some(IgnitionSpec::TemperatureRise(k)) => Some(IgnitionCriterion::TemperatureRise(*k)),
-        None if matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_)) => {
+        // Semi-batch and liquid-phase runs report no ignition delay unless asked for
+        // ([ignition]): a maximum of dT/dt there is the feed's pace, not an ignition.
+        None if matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_))
+            && scenario.feeds.is_empty()
+            && scenario.liquid.is_none() =>
+        {
             Some(IgnitionCriterion::MaxTemperatureRate)
         }
         None => None,

@@ -259,7 +259,11 @@ pub fn ignition_lines(plan: &RunPlan, outcome: &RunOutcome) -> Vec<String> {
         .iter()
         .fold(f64::NEG_INFINITY, |m, &t| m.max(t))
         - temperatures.first().copied().unwrap_or(0.0);
-    if plan.model().solves_energy() && rise > RUNAWAY_RISE_K {
+    if plan.model().solves_energy() && rise > RUNAWAY_RISE_K && plan.model().liquid.is_some() {
+        lines.push(format!(
+            "CAUTION: thermal runaway detected (temperature rise {rise:.0} K): the heat released outgrew the cooling under these conditions."
+        ));
+    } else if plan.model().solves_energy() && rise > RUNAWAY_RISE_K {
         let has = |name: &str| mechanism.species.iter().any(|s| s.name == name);
         let hydrogen = if has("H2") && has("O2") {
             " Hydrogen-oxygen mixtures are explosive."

@@ -34,7 +34,10 @@ fn run_prints_and_writes_the_semi_batch_demo() {
         ],
     );
     assert_eq!(status, Some(0), "{out}");
-    assert!(out.contains("semi-batch, 2 m3 at the start, 1 feed"), "{out}");
+    assert!(
+        out.contains("semi-batch, 2 m3 at the start, 1 feed"),
+        "{out}"
+    );
     assert!(out.contains("liquid phase"), "{out}");
     assert!(out.contains("V = 3.000000e0 m3"), "{out}");
     assert!(

@@ -122,7 +122,11 @@ impl ModelEquations<'_> {
             }
             _ => (0.0, 0.0),
         };
-        let feeds = self.model.semi_batch.as_ref().map_or(&[][..], |s| s.feeds());
+        let feeds = self
+            .model
+            .semi_batch
+            .as_ref()
+            .map_or(&[][..], |s| s.feeds());
         let v = volume.unwrap_or(1.0);
         match &self.model.liquid {
             Some(liquid) => {
@@ -325,7 +329,12 @@ impl ModelEquations<'_> {
                     let dh = liquid.step_enthalpies_j_per_mol();
                     let row = &mut scratch.energy_row;
                     kinetics.for_each_rate_derivative(k, c, |j, i, d| row[i] -= dh[j] * d);
-                    kinetics.rates_of_progress_slopes(k, &scratch.slopes, c, &mut scratch.step_slopes);
+                    kinetics.rates_of_progress_slopes(
+                        k,
+                        &scratch.slopes,
+                        c,
+                        &mut scratch.step_slopes,
+                    );
                     let release_slope: f64 = dh
                         .iter()
                         .zip(&scratch.step_slopes)
@@ -597,8 +606,13 @@ mod tests {
             .unwrap_or_else(|e| panic!("{e}"));
         let feeds = vec![
             Feed::volumetric(inlet, schedule.clone(), 700.0).unwrap_or_else(|e| panic!("{e}")),
-            Feed::species(1, 2e-1, FeedSchedule::window(0.0, 1e-3, 5e2).unwrap(), 350.0)
-                .unwrap_or_else(|e| panic!("{e}")),
+            Feed::species(
+                1,
+                2e-1,
+                FeedSchedule::window(0.0, 1e-3, 5e2).unwrap(),
+                350.0,
+            )
+            .unwrap_or_else(|e| panic!("{e}")),
         ];
         let semi = SemiBatch::new(0.5, feeds).unwrap_or_else(|e| panic!("{e}"));
         let closed = SemiBatch::new(0.5, Vec::new()).unwrap_or_else(|e| panic!("{e}"));
@@ -631,8 +645,13 @@ mod tests {
         let liquid_feeds = vec![
             Feed::volumetric(vec![800.0, 0.0, 0.0, 0.0, 10.0], schedule, 300.0)
                 .unwrap_or_else(|e| panic!("{e}")),
-            Feed::species(1, 1e-4, FeedSchedule::window(0.0, 1e-3, 0.4).unwrap(), 290.0)
-                .unwrap_or_else(|e| panic!("{e}")),
+            Feed::species(
+                1,
+                1e-4,
+                FeedSchedule::window(0.0, 1e-3, 0.4).unwrap(),
+                290.0,
+            )
+            .unwrap_or_else(|e| panic!("{e}")),
         ];
         let liquid_semi = SemiBatch::new(0.5, liquid_feeds).unwrap_or_else(|e| panic!("{e}"));
         let coolant = TemperatureHistory::new(vec![0.0], vec![300.0]).unwrap();

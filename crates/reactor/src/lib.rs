@@ -24,6 +24,11 @@
 //!   totals and moieties, with a box model's open species left out; per unit mass at
 //!   constant pressure) and measures their drift along a profile against the allowance of
 //!   the tolerances ([`ConservationDrift`]).
+//! - A [`SemiBatch`] in the model makes the volume (m3) the last state and feeds species or
+//!   solutions into the batch over time ([`Feed`], [`FeedSchedule`]); the same volume state
+//!   lets a closed jacketed batch at constant pressure exchange heat through a total U A
+//!   ([`HeatExchange::total`]). A [`LiquidPhase`] replaces the species' thermochemistry by a
+//!   mixture heat capacity and a reaction enthalpy per step. Their Jacobian is dense.
 //! - [`steady_state`] solves for the steady state of a stirred tank (damped Newton,
 //!   pseudo-transient continuation, time integration as fall-back; dense LU) with the
 //!   eigenvalues of its Jacobian; [`continuation`] follows steady states against the
@@ -49,8 +54,8 @@ mod atmosphere;
 mod batch;
 mod conservation;
 mod equations;
-mod extended;
 mod error;
+mod extended;
 mod failure;
 mod fixed_lu;
 mod ignition;

@@ -199,7 +199,10 @@ impl HeatExchange {
     /// the volume state, so the model needs a [`SemiBatch`](crate::SemiBatch) (with or
     /// without feeds). The form for a closed batch at constant pressure, whose volume
     /// changes.
-    pub fn total(ua_w_per_k: f64, coolant: TemperatureHistory) -> Result<HeatExchange, ReactorError> {
+    pub fn total(
+        ua_w_per_k: f64,
+        coolant: TemperatureHistory,
+    ) -> Result<HeatExchange, ReactorError> {
         if !(ua_w_per_k.is_finite() && ua_w_per_k >= 0.0) {
             return Err(ReactorError::BadHeatExchange(format!(
                 "U A must be finite and not negative, got {ua_w_per_k:e} W/K"

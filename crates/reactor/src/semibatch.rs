@@ -21,9 +21,9 @@
 //! and temperature.
 //!
 //! The energy balance of a semi-batch is written on enthalpy (constant pressure; pressure
-//! work neglected at constant density, as for liquids). With ideal-gas thermochemistry:
-//! `sum_i c_i cp_i dT/dt = sum_feeds sum_i (F_i / V) (h_i(T_f) - h_i(T)) - sum_i h_i w_i
-//! + Q/V` (H. S. Fogler, *Elements of Chemical Reaction Engineering*, 4th ed., ch. 9,
+//! work neglected at constant density, as for liquids). With ideal-gas thermochemistry,
+//! `sum_i c_i cp_i dT/dt = sum_feeds sum_i (F_i / V) (h_i(T_f) - h_i(T)) - sum_i h_i w_i +
+//! Q/V` (H. S. Fogler, *Elements of Chemical Reaction Engineering*, 4th ed., ch. 9,
 //! semibatch energy balance).
 //!
 //! # Liquid phase

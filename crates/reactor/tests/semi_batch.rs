@@ -42,9 +42,12 @@ fn constant_feed_into_first_order_semi_batch_matches_the_closed_form() {
     let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], k)]);
     let (c_feed, q, v0) = (2000.0, 1e-5, 0.4);
     let end = 3600.0;
-    let volumetric =
-        Feed::volumetric(vec![c_feed, 0.0], FeedSchedule::window(0.0, end, q).unwrap(), T)
-            .unwrap();
+    let volumetric = Feed::volumetric(
+        vec![c_feed, 0.0],
+        FeedSchedule::window(0.0, end, q).unwrap(),
+        T,
+    )
+    .unwrap();
     let species = Feed::species(
         0,
         1.0 / c_feed,
@@ -66,11 +69,23 @@ fn constant_feed_into_first_order_semi_batch_matches_the_closed_form() {
             let what = format!("{:?} t = {t}", feed.stream());
             assert_close(&format!("{what} V"), p.volumes_m3[row], v, 1e-9, 0.0);
             let c_a = p.concentrations_mol_per_m3[row][0];
-            assert_close(&format!("{what} n_A"), c_a * p.volumes_m3[row], n_a, 1e-7, 0.0);
+            assert_close(
+                &format!("{what} n_A"),
+                c_a * p.volumes_m3[row],
+                n_a,
+                1e-7,
+                0.0,
+            );
             assert_close(&format!("{what} c_A"), c_a, n_a / v, 1e-7, 0.0);
             // Every mole fed is A or B: n_A + n_B = q c_A0 t.
             let n_b = p.concentrations_mol_per_m3[row][1] * p.volumes_m3[row];
-            assert_close(&format!("{what} n_A + n_B"), n_a + n_b, q * c_feed * t, 1e-7, 0.0);
+            assert_close(
+                &format!("{what} n_A + n_B"),
+                n_a + n_b,
+                q * c_feed * t,
+                1e-7,
+                0.0,
+            );
         }
     }
 }
@@ -82,9 +97,12 @@ fn a_feed_window_stops_the_volume_and_the_feed() {
     let k = 1e-3;
     let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], k)]);
     let (c_feed, q, v0, stop) = (1000.0, 2e-5, 1.0, 500.0);
-    let feed =
-        Feed::volumetric(vec![c_feed, 0.0], FeedSchedule::window(0.0, stop, q).unwrap(), T)
-            .unwrap();
+    let feed = Feed::volumetric(
+        vec![c_feed, 0.0],
+        FeedSchedule::window(0.0, stop, q).unwrap(),
+        T,
+    )
+    .unwrap();
     let model = ReactorModel {
         semi_batch: Some(SemiBatch::new(v0, vec![feed]).unwrap()),
         ..Default::default()
@@ -120,8 +138,12 @@ fn feed_enthalpy_follows_the_mixing_rule() {
     let (t0, tf, c0, cf, q, v0) = (300.0, 450.0, 40.0, 30.0, 2e-4, 0.5);
     let n0 = c0 * v0;
     let flow = q * cf;
-    let feed =
-        Feed::volumetric(vec![0.0, cf], FeedSchedule::window(0.0, 1e4, q).unwrap(), tf).unwrap();
+    let feed = Feed::volumetric(
+        vec![0.0, cf],
+        FeedSchedule::window(0.0, 1e4, q).unwrap(),
+        tf,
+    )
+    .unwrap();
     let times = [0.0, 100.0, 500.0, 1000.0, 3000.0];
     for constraint in [Constraint::ConstantVolume, Constraint::ConstantPressure] {
         let model = ReactorModel {
@@ -183,11 +205,20 @@ fn closed_constant_pressure_jacketed_batch_cools_by_newtons_law() {
         semi_batch: Some(SemiBatch::new(v0, Vec::new()).unwrap()),
         ..Default::default()
     };
-    let times: Vec<f64> = [0.0, 0.2, 0.5, 1.0, 2.0, 4.0].iter().map(|x| x * tau).collect();
+    let times: Vec<f64> = [0.0, 0.2, 0.5, 1.0, 2.0, 4.0]
+        .iter()
+        .map(|x| x * tau)
+        .collect();
     let p = run(&kin, &model, t0, &[c0, 0.0], &times);
     for (row, &t) in times.iter().enumerate() {
         let expected = tc + (t0 - tc) * (-t / tau).exp();
-        assert_close(&format!("T({t})"), p.temperatures_k[row], expected, 1e-8, 0.0);
+        assert_close(
+            &format!("T({t})"),
+            p.temperatures_k[row],
+            expected,
+            1e-8,
+            0.0,
+        );
         let v = v0 * expected / t0;
         assert_close(&format!("V({t})"), p.volumes_m3[row], v, 1e-8, 0.0);
         let moles = p.concentrations_mol_per_m3[row][0] * p.volumes_m3[row];
@@ -212,7 +243,10 @@ fn liquid_adiabatic_first_order_follows_the_temperature_rise_line() {
         temperature_exponent: 0.0,
         activation_energy_j_per_mol: 7.5e4,
     };
-    let kin = kinetics(&["A", "B"], vec![arrhenius_step(&[(0, 1.0)], &[(1, 1.0)], arrhenius)]);
+    let kin = kinetics(
+        &["A", "B"],
+        vec![arrhenius_step(&[(0, 1.0)], &[(1, 1.0)], arrhenius)],
+    );
     let model = ReactorModel {
         energy: Energy::Adiabatic,
         liquid: Some(phase.clone()),
@@ -223,17 +257,32 @@ fn liquid_adiabatic_first_order_follows_the_temperature_rise_line() {
     for (row, &t) in times.iter().enumerate() {
         let c_a = p.concentrations_mol_per_m3[row][0];
         let line = t0 + (-dh) * (c_a0 - c_a) / rho_cp;
-        assert_close(&format!("T({t}) on the line"), p.temperatures_k[row], line, 1e-9, 0.0);
+        assert_close(
+            &format!("T({t}) on the line"),
+            p.temperatures_k[row],
+            line,
+            1e-9,
+            0.0,
+        );
         converted = 1.0 - c_a / c_a0;
     }
-    assert!(converted > 0.9, "the run should convert most of A, got {converted}");
+    assert!(
+        converted > 0.9,
+        "the run should convert most of A, got {converted}"
+    );
     // Constant k: c_A = c_A0 e^{-k t} and the line.
     let k = 1e-3;
     let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], k)]);
     let p = run(&kin, &model, t0, &[c_a0, 0.0], &times);
     for (row, &t) in times.iter().enumerate() {
         let c_a = c_a0 * (-k * t).exp();
-        assert_close(&format!("c_A({t})"), p.concentrations_mol_per_m3[row][0], c_a, 1e-7, 1e-9);
+        assert_close(
+            &format!("c_A({t})"),
+            p.concentrations_mol_per_m3[row][0],
+            c_a,
+            1e-7,
+            1e-9,
+        );
         let temp = t0 + (-dh) * c_a0 * (1.0 - (-k * t).exp()) / rho_cp;
         assert_close(&format!("T({t})"), p.temperatures_k[row], temp, 1e-9, 0.0);
     }
@@ -268,7 +317,9 @@ fn mixed_and_incomplete_descriptions_are_refused() {
         liquid: Some(LiquidPhase::per_volume(4e6, vec![1.0, 2.0]).unwrap()),
         ..Default::default()
     });
-    assert!(matches!(e, ReactorError::BadLiquidPhase(ref m) if m.contains("2 reaction enthalpies")));
+    assert!(
+        matches!(e, ReactorError::BadLiquidPhase(ref m) if m.contains("2 reaction enthalpies"))
+    );
     // A reversible step whose reverse needs thermochemistry.
     let mut m = mechanism(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], 1e-3)]);
     m.steps[0].reversible = true;
@@ -320,16 +371,20 @@ fn mixed_and_incomplete_descriptions_are_refused() {
     .unwrap_err();
     assert!(e.to_string().contains("volume"), "{e}");
     // Feeds with a stirred-tank flow; a feed of the wrong length.
-    let feed = Feed::volumetric(vec![1.0, 0.0], FeedSchedule::window(0.0, 1.0, 1e-3).unwrap(), T)
-        .unwrap();
+    let feed = Feed::volumetric(
+        vec![1.0, 0.0],
+        FeedSchedule::window(0.0, 1.0, 1e-3).unwrap(),
+        T,
+    )
+    .unwrap();
     let e = refuse(ReactorModel {
         semi_batch: Some(SemiBatch::new(1.0, vec![feed]).unwrap()),
         flow: Some(StirredFlow::new(10.0, vec![1.0, 0.0], T).unwrap()),
         ..Default::default()
     });
     assert!(matches!(e, ReactorError::BadFeed(_)));
-    let short = Feed::volumetric(vec![1.0], FeedSchedule::window(0.0, 1.0, 1e-3).unwrap(), T)
-        .unwrap();
+    let short =
+        Feed::volumetric(vec![1.0], FeedSchedule::window(0.0, 1.0, 1e-3).unwrap(), T).unwrap();
     let e = refuse(ReactorModel {
         semi_batch: Some(SemiBatch::new(1.0, vec![short]).unwrap()),
         ..Default::default()
@@ -340,8 +395,11 @@ fn mixed_and_incomplete_descriptions_are_refused() {
     assert!(FeedSchedule::points(vec![0.0, 0.0], vec![1.0, 1.0]).is_err());
     assert!(FeedSchedule::window(0.0, 1.0, -1.0).is_err());
     assert!(LiquidPhase::per_mass(2e3, f64::NAN, vec![0.0]).is_err());
-    assert!(HeatExchange::total(-1.0, TemperatureHistory::new(vec![0.0], vec![300.0]).unwrap())
-        .is_err());
+    assert!(HeatExchange::total(
+        -1.0,
+        TemperatureHistory::new(vec![0.0], vec![300.0]).unwrap()
+    )
+    .is_err());
 }
 
 /// The piecewise-linear schedule: linear between points, zero outside, and its integral.

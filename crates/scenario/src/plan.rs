@@ -779,7 +779,10 @@ fn vessel(
                 )
             })
             .collect();
-        match (scenario.volume_m3, feeds.into_iter().collect::<Option<Vec<_>>>()) {
+        match (
+            scenario.volume_m3,
+            feeds.into_iter().collect::<Option<Vec<_>>>(),
+        ) {
             (Some(v), Some(feeds)) => match SemiBatch::new(v, feeds) {
                 Ok(s) => Some(s),
                 Err(e) => {

@@ -4,8 +4,8 @@
 
 use crate::file::TEMPERATURE_RANGE_K;
 use crate::read::{
-    concentration, concentration_unit, named_values, quantity, require_in_range,
-    require_positive, Converter, NamedValue, SpeciesLookup,
+    concentration, concentration_unit, named_values, quantity, require_in_range, require_positive,
+    Converter, NamedValue, SpeciesLookup,
 };
 use crate::sections::{volumetric_flow_to_m3_per_s, VOLUMETRIC_FLOW_UNITS};
 use stoik_mechanism::{
@@ -128,7 +128,10 @@ pub(crate) struct FeedSpec {
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) enum HeatCapacity {
     /// J/(kg K), with the density.
-    PerMass { j_per_kg_k: f64, density_kg_per_m3: f64 },
+    PerMass {
+        j_per_kg_k: f64,
+        density_kg_per_m3: f64,
+    },
     /// J/(m3 K).
     PerVolume(f64),
 }
@@ -301,7 +304,10 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
         }
     };
     // Which stream the feed is follows from its rate key, read or not.
-    let molar = match (t.contains_key("molar_flow"), t.contains_key("volumetric_flow")) {
+    let molar = match (
+        t.contains_key("molar_flow"),
+        t.contains_key("volumetric_flow"),
+    ) {
         (true, false) => Some(true),
         (false, true) => Some(false),
         _ => None,
@@ -326,7 +332,11 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
                     location: r.location(v.span().start),
                 }),
                 None => {
-                    r.error(at, "a [[feed]] with `molar_flow` needs `species`", Some(hint.to_string()));
+                    r.error(
+                        at,
+                        "a [[feed]] with `molar_flow` needs `species`",
+                        Some(hint.to_string()),
+                    );
                     None
                 }
             };
@@ -356,10 +366,12 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
                     }
                 }),
             };
-            species.zip(molar_volume).map(|(species, m)| FeedCarrier::Species {
-                species,
-                molar_volume_m3_per_mol: m,
-            })
+            species
+                .zip(molar_volume)
+                .map(|(species, m)| FeedCarrier::Species {
+                    species,
+                    molar_volume_m3_per_mol: m,
+                })
         }
         Some(false) => {
             for key in ["species", "molar_volume"] {
@@ -416,7 +428,10 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
         if !(x.is_finite() && x >= 0.0) {
             r.error(
                 v.span().start,
-                format!("`{key}` is {} s; it must be finite and not negative", show_number(x)),
+                format!(
+                    "`{key}` is {} s; it must be finite and not negative",
+                    show_number(x)
+                ),
                 None,
             );
             return None;
@@ -466,11 +481,25 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
     };
     let temperature_k = match t.get("temperature") {
         None => Some(None),
-        Some(v) => quantity(r, "temperature", v, "K", temperature_to_k, TEMPERATURE_UNITS)
-            .and_then(|x| {
-                require_in_range(r, "temperature", v.span().start, x, TEMPERATURE_RANGE_K, "K")
-            })
-            .map(Some),
+        Some(v) => quantity(
+            r,
+            "temperature",
+            v,
+            "K",
+            temperature_to_k,
+            TEMPERATURE_UNITS,
+        )
+        .and_then(|x| {
+            require_in_range(
+                r,
+                "temperature",
+                v.span().start,
+                x,
+                TEMPERATURE_RANGE_K,
+                "K",
+            )
+        })
+        .map(Some),
     };
     Some(FeedSpec {
         carrier: carrier?,
@@ -644,7 +673,11 @@ impl LiquidSpec {
         diagnostics: &mut Vec<Diagnostic>,
     ) -> Option<LiquidPhase> {
         let start = diagnostics.len();
-        let steps: Vec<String> = mechanism.steps.iter().map(|s| normalized(&s.equation)).collect();
+        let steps: Vec<String> = mechanism
+            .steps
+            .iter()
+            .map(|s| normalized(&s.equation))
+            .collect();
         let mut enthalpies = vec![None; steps.len()];
         for named in &self.enthalpies {
             let wanted = normalized(&named.name);

@@ -60,7 +60,12 @@ fn a_species_feed_at_constant_rate_matches_the_semibatch_closed_form() {
         let c = &p.concentrations_mol_per_m3[row];
         close(&format!("n_A({t})"), c[0] * p.volumes_m3[row], n_a, 1e-7);
         // The solvent is diluted, never consumed: n_S = 12000 V0.
-        close(&format!("n_S({t})"), c[2] * p.volumes_m3[row], 12000.0, 1e-9);
+        close(
+            &format!("n_S({t})"),
+            c[2] * p.volumes_m3[row],
+            12000.0,
+            1e-9,
+        );
     }
 }
 
@@ -76,7 +81,12 @@ fn the_demo_feed_fills_the_vessel_and_conserves_the_fed_moles() {
     let q = 0.5 / 3600.0;
     for (row, &t) in p.times_s.iter().enumerate().skip(1) {
         let fed_time = t.min(7200.0);
-        close(&format!("V({t})"), p.volumes_m3[row], 2.0 + q * fed_time, 1e-9);
+        close(
+            &format!("V({t})"),
+            p.volumes_m3[row],
+            2.0 + q * fed_time,
+            1e-9,
+        );
         let c = &p.concentrations_mol_per_m3[row];
         close(
             &format!("n_A + n_P at {t}"),
@@ -129,6 +139,11 @@ fn argon_in_a_closed_constant_pressure_jacket_cools_by_newtons_law() {
             (temp - expected).abs() <= 1e-4 * 800.0,
             "T({t}) = {temp}, expected {expected}"
         );
-        close(&format!("V({t})"), p.volumes_m3[row], 1e-3 * temp / 1100.0, 1e-8);
+        close(
+            &format!("V({t})"),
+            p.volumes_m3[row],
+            1e-3 * temp / 1100.0,
+            1e-8,
+        );
     }
 }

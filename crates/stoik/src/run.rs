@@ -361,10 +361,14 @@ fn summary_lines(
     }
     if !profiles.volumes_m3.is_empty() {
         let temperatures = &profiles.temperatures_k;
-        let (hottest_row, hottest) = temperatures
-            .iter()
-            .enumerate()
-            .fold((0, f64::NEG_INFINITY), |m, (i, &t)| if t > m.1 { (i, t) } else { m });
+        let (hottest_row, hottest) =
+            temperatures
+                .iter()
+                .enumerate()
+                .fold(
+                    (0, f64::NEG_INFINITY),
+                    |m, (i, &t)| if t > m.1 { (i, t) } else { m },
+                );
         lines.push(format!(
             "hottest: T = {hottest:.2} K at t = {:.6e} s",
             profiles.times_s[hottest_row]
@@ -478,7 +482,9 @@ fn describe_energy(model: &stoik::reactor::ReactorModel, held: &str, t: f64) -> 
                 many => format!("coolant temperature through {} points", many.len()),
             };
             match x.ua_total_w_per_k() {
-                Some(ua) => format!("jacketed {held}, starting at {t} K, U A = {ua} W/K, {coolant}"),
+                Some(ua) => {
+                    format!("jacketed {held}, starting at {t} K, U A = {ua} W/K, {coolant}")
+                }
                 None => format!(
                     "jacketed {held}, starting at {t} K, U A / V = {} W/(m3 K), {coolant}",
                     x.ua_per_volume_w_per_m3_k()

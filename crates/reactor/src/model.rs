@@ -69,8 +69,9 @@ pub enum Energy {
     Prescribed(TemperatureHistory),
     /// Exchanges heat with a coolant (a jacketed vessel): the temperature is solved from the
     /// energy balance with the heat flow `U A (T_coolant - T)` into the reactor (species
-    /// thermochemistry needed for every species; constant volume only for a closed reactor,
-    /// either constraint for a stirred tank).
+    /// thermochemistry needed for every species, or a [`LiquidPhase`]; a closed reactor at
+    /// constant pressure needs its volume as a state, a [`SemiBatch`]; either constraint for
+    /// a stirred tank).
     HeatExchange(HeatExchange),
 }
 

@@ -530,6 +530,12 @@ where
         }
         if let Some(t) = time_s {
             *state.t = t;
+            // Starting over: a semi-batch's volume goes back to its initial value.
+            if let Some(semi) = &eqn.model.semi_batch {
+                if let Some(v) = M::slice_mut(state.y).last_mut() {
+                    *v = semi.initial_volume_m3();
+                }
+            }
         }
         let t = *state.t;
         let y = M::slice(state.y);
@@ -1389,7 +1395,7 @@ impl BatchIntegrator<'_> {
 
     /// Starts over from `c_mol_per_m3` (mol/m3) at `time_s` (s, any finite time, also
     /// earlier than the current one), keeping the solver, its buffers and the statistics
-    /// counts (no allocation). Use it to run the same system many times without opening a
+    /// counts (no allocation). A semi-batch's volume starts over at its initial value. Use it to run the same system many times without opening a
     /// new session.
     pub fn reset(&mut self, time_s: f64, c_mol_per_m3: &[f64]) -> Result<(), ReactorError> {
         check_state(self.state().len(), c_mol_per_m3, "new state")?;

@@ -416,3 +416,41 @@ fn feed_schedule_interpolates_and_integrates() {
     assert!((s.delivered_between(0.0, 100.0) - 40.0).abs() < 1e-12);
     assert!((s.delivered_between(15.0, 30.0) - (5.0 * 1.5 + 10.0 * 1.75)).abs() < 1e-12);
 }
+
+/// A stepping session on a semi-batch: the full state ends with the volume, which follows
+/// V0 + q t (the feed's integral), and `reset` starts the volume over.
+#[test]
+fn stepping_session_carries_and_resets_the_volume() {
+    use stoik_reactor::BatchSystem;
+    let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], 1e-3)]);
+    let (q, v0) = (1e-4, 0.5);
+    let feed = Feed::volumetric(
+        vec![100.0, 0.0],
+        FeedSchedule::window(0.0, 1e4, q).unwrap(),
+        T,
+    )
+    .unwrap();
+    let model = ReactorModel {
+        semi_batch: Some(SemiBatch::new(v0, vec![feed]).unwrap()),
+        ..Default::default()
+    };
+    let opts = options(2, 1e-10, 1e-14, LinearAlgebra::Sparse);
+    let mut system = BatchSystem::with_model(&kin, &model, T, &opts).unwrap();
+    // The dilution couples every pair: dense linear algebra whatever was asked.
+    assert_eq!(system.linear_algebra_used(), LinearAlgebra::Dense);
+    let mut session = system.integrator(&[0.0, 0.0]).unwrap();
+    session.advance_to(100.0).unwrap();
+    let first = session.full_state().to_vec();
+    assert_eq!(first.len(), 3);
+    assert_close("V(100)", first[2], v0 + q * 100.0, 1e-10, 0.0);
+    session.reset(0.0, &[0.0, 0.0]).unwrap();
+    assert_eq!(session.full_state()[2], v0);
+    session.advance_to(100.0).unwrap();
+    assert_close(
+        "V(100) again",
+        session.full_state()[2],
+        first[2],
+        1e-12,
+        0.0,
+    );
+}

@@ -101,3 +101,22 @@ fn run_refuses_a_liquid_scenario_with_a_pressure_at_its_line() {
         "{out}"
     );
 }
+
+#[test]
+fn sensitivity_of_a_semi_batch_is_refused_as_not_available() {
+    let dir = common::scratch("semi_batch", "sensitivity");
+    let (status, out) = run(
+        &dir,
+        &[
+            "sensitivity",
+            &demo("semibatch-exotherm-fast.scenario.toml"),
+            "--of",
+            "peak:T",
+        ],
+    );
+    assert_eq!(status, Some(2), "{out}");
+    assert!(
+        out.contains("sensitivities of semi-batch and liquid-phase reactors are not implemented"),
+        "{out}"
+    );
+}

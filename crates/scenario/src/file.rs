@@ -344,6 +344,19 @@ fn mixed_descriptions(r: &mut Report<'_>, root: &DeTable<'_>, reactor: &ReactorS
                 None,
             );
         }
+        if let Some(DeValue::Array(feeds)) = root.get("feed").map(|v| v.get_ref()) {
+            for feed in feeds.iter() {
+                if let DeValue::Table(t) = feed.get_ref() {
+                    if let Some((k, _)) = t.get_key_value("mole_fractions") {
+                        r.error(
+                            k.span().start,
+                            "feed mole fractions convert through the ideal gas; with [liquid] give the feed's `concentrations`",
+                            None,
+                        );
+                    }
+                }
+            }
+        }
         if let Some(p) = span(&["flow"]) {
             r.error(
                 p,

@@ -773,6 +773,7 @@ fn vessel(
                     n,
                     species,
                     scenario.temperature_k,
+                    scenario.pressure_pa,
                     scenario.end_time_s,
                     file,
                     diagnostics,

@@ -10,7 +10,7 @@ use crate::read::{
 use crate::sections::{volumetric_flow_to_m3_per_s, VOLUMETRIC_FLOW_UNITS};
 use stoik_mechanism::{
     nearest_name, show_number, temperature_to_k, time_to_s, ConcentrationUnit, Diagnostic,
-    Mechanism, Report, SourceLocation, SpannedValue as Value, SCENARIO_TIME_UNITS,
+    Mechanism, Report, SourceLocation, SpannedValue as Value, GAS_CONSTANT, SCENARIO_TIME_UNITS,
     TEMPERATURE_UNITS,
 };
 use stoik_reactor::{Feed, FeedSchedule, LiquidPhase};
@@ -22,6 +22,7 @@ const FEED_KEYS: &[&str] = &[
     "molar_volume",
     "concentrations",
     "concentration_unit",
+    "mole_fractions",
     "volumetric_flow",
     "start",
     "stop",
@@ -99,6 +100,9 @@ pub(crate) enum FeedCarrier {
     },
     /// A solution of the given concentrations (mol/m3) at a volumetric flow (m3/s).
     Solution(Vec<NamedValue>),
+    /// An ideal-gas mixture of the given mole fractions at a volumetric flow (m3/s), at the
+    /// reactor's pressure and the feed temperature: c_i = x_i P / (R T_feed).
+    Gas(Vec<NamedValue>),
 }
 
 /// When a feed runs and at what rate (mol/s or m3/s).
@@ -316,7 +320,7 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
     // flow.
     let carrier = match molar {
         Some(true) => {
-            for key in ["concentrations", "concentration_unit"] {
+            for key in ["concentrations", "concentration_unit", "mole_fractions"] {
                 if let Some(v) = t.get(key) {
                     r.error(
                         v.span().start,
@@ -387,16 +391,52 @@ fn read_feed(r: &mut Report<'_>, item: &Value<'_>) -> Option<FeedSpec> {
                 None => Some(ConcentrationUnit::MolPerM3),
                 Some(v) => concentration_unit(r, "concentration_unit", v),
             };
-            match t.get("concentrations") {
-                None => {
+            match (t.get("concentrations"), t.get("mole_fractions")) {
+                (Some(_), Some(v)) => {
+                    r.error(
+                        v.span().start,
+                        "give `concentrations` or `mole_fractions` in a [[feed]], not both",
+                        None,
+                    );
+                    None
+                }
+                (None, Some(v)) => {
+                    let table = r.table("mole_fractions", v)?;
+                    let values = named_values(r, table, |r, name, value| {
+                        let x = r.number(name, value)?;
+                        if !(0.0..=1.0).contains(&x) {
+                            r.error(
+                                value.span().start,
+                                format!(
+                                    "mole fraction of `{name}` is {}; it must be between 0 and 1",
+                                    show_number(x)
+                                ),
+                                None,
+                            );
+                            return None;
+                        }
+                        Some(x)
+                    })?;
+                    let sum: f64 = values.iter().map(|n| n.value).sum();
+                    if (sum - 1.0).abs() > crate::file::MOLE_FRACTION_SUM_TOLERANCE {
+                        r.error(
+                            v.span().start,
+                            format!("feed mole fractions sum to {sum}, not 1"),
+                            None,
+                        );
+                        return None;
+                    }
+                    Some(FeedCarrier::Gas(values))
+                }
+                (None, None) => {
                     r.error(
                         at,
-                        "a [[feed]] with `volumetric_flow` needs `concentrations`",
+                        "a [[feed]] with `volumetric_flow` needs `concentrations` (or, for a gas, `mole_fractions`)",
                         Some(hint.to_string()),
                     );
                     None
                 }
-                Some(v) => {
+                (Some(v), None) => {
                     let factor = unit.map(|u| u.to_si_factor());
                     let table = r.table("concentrations", v)?;
                     named_values(r, table, |r, name, value| {
@@ -776,6 +816,7 @@ impl FeedSpec {
         n_species: usize,
         species: &SpeciesLookup<'_>,
         reactor_temperature_k: f64,
+        pressure_pa: Option<f64>,
         end_time_s: f64,
         file: &str,
         diagnostics: &mut Vec<Diagnostic>,
@@ -814,12 +855,32 @@ impl FeedSpec {
                 let i = species.find(named, "[[feed]] species", diagnostics)?;
                 schedule.and_then(|s| Feed::species(i, *molar_volume_m3_per_mol, s, temperature_k))
             }
-            FeedCarrier::Solution(values) => {
+            FeedCarrier::Solution(values) | FeedCarrier::Gas(values) => {
+                let (what, scale) = match &self.carrier {
+                    FeedCarrier::Gas(_) => match pressure_pa {
+                        Some(p) => (
+                            "[[feed]] mole_fractions",
+                            p / (GAS_CONSTANT * temperature_k),
+                        ),
+                        None => {
+                            diagnostics.push(
+                                Diagnostic::error(
+                                    file,
+                                    Some(self.at),
+                                    "feed `mole_fractions` need `pressure` in [reactor] (c_i = x_i P / (R T_feed))",
+                                )
+                                .with_help("e.g. pressure = \"1 atm\""),
+                            );
+                            return None;
+                        }
+                    },
+                    _ => ("[[feed]] concentrations", 1.0),
+                };
                 let mut c = vec![0.0; n_species];
                 let mut ok = true;
                 for named in values {
-                    match species.find(named, "[[feed]] concentrations", diagnostics) {
-                        Some(i) => c[i] += named.value,
+                    match species.find(named, what, diagnostics) {
+                        Some(i) => c[i] += named.value * scale,
                         None => ok = false,
                     }
                 }

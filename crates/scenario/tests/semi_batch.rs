@@ -147,3 +147,41 @@ fn argon_in_a_closed_constant_pressure_jacket_cools_by_newtons_law() {
         );
     }
 }
+
+/// Hot argon fed by volume (mole fractions at the reactor's pressure and the feed
+/// temperature, c = P / (R T_feed)) into cold argon at constant pressure, adiabatic: the
+/// enthalpy balance of the open system with cp = 5/2 R for both (monatomic ideal gas;
+/// NIST-JANAF 20.786 J/(mol K)) gives the mixing rule T = (n0 T0 + F t T_f) / (n0 + F t),
+/// F = q P / (R T_f), and the ideal gas V = (n0 + F t) R T / P. The bundled AR polynomial
+/// fits cp to about 4e-6, hence the 1e-5 tolerance.
+#[test]
+fn hot_gas_fed_at_constant_pressure_follows_the_mixing_rule() {
+    let text = format!(
+        "stoik_scenario = 1\nmechanism = {:?}\n[reactor]\nkind = \"adiabatic-constant-pressure\"\n\
+         temperature = \"300 K\"\npressure = \"1 atm\"\nvolume = \"1 L\"\n\
+         [initial]\nmole_fractions = {{ AR = 1.0 }}\n[[feed]]\nmole_fractions = {{ AR = 1.0 }}\n\
+         volumetric_flow = \"0.1 L/s\"\ntemperature = \"600 K\"\n[output]\nend_time = \"20 s\"\n\
+         grid = {{ spacing = \"linear\", points = 5 }}\n[solver]\nrelative_tolerance = 1e-10\n\
+         absolute_tolerance = \"1e-16 mol/m3\"\n",
+        mechanisms()
+            .join("hydrogen-oxygen.toml")
+            .display()
+            .to_string()
+    );
+    let outcome = run(&text, "hot-argon");
+    let p = outcome.profiles();
+    let pressure = 101_325.0;
+    let n0 = pressure * 1e-3 / (R * 300.0);
+    let flow = 1e-4 * pressure / (R * 600.0);
+    for (row, &t) in p.times_s.iter().enumerate() {
+        let n = n0 + flow * t;
+        let temp = (n0 * 300.0 + flow * t * 600.0) / n;
+        close(&format!("T({t})"), p.temperatures_k[row], temp, 1e-5);
+        close(
+            &format!("V({t})"),
+            p.volumes_m3[row],
+            n * R * temp / pressure,
+            1e-5,
+        );
+    }
+}

@@ -768,17 +768,7 @@ fn vessel(
         let feeds: Vec<Option<Feed>> = scenario
             .feeds
             .iter()
-            .map(|f| {
-                f.resolve(
-                    n,
-                    species,
-                    scenario.temperature_k,
-                    scenario.pressure_pa,
-                    scenario.end_time_s,
-                    file,
-                    diagnostics,
-                )
-            })
+            .map(|f| f.resolve(scenario, n, species, diagnostics))
             .collect();
         match (
             scenario.volume_m3,

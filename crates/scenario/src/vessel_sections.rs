@@ -2,7 +2,7 @@
 //! read with located diagnostics, then matched against a mechanism into the reactor's
 //! [`Feed`]s and [`LiquidPhase`].
 
-use crate::file::TEMPERATURE_RANGE_K;
+use crate::file::{Scenario, TEMPERATURE_RANGE_K};
 use crate::read::{
     concentration, concentration_unit, named_values, quantity, require_in_range, require_positive,
     Converter, NamedValue, SpeciesLookup,
@@ -809,18 +809,21 @@ impl LiquidSpec {
 
 impl FeedSpec {
     /// The reactor's feed: species matched, the temperature the reactor's when not given, a
-    /// constant rate's window ending at `end_time_s` when `stop` is not given. `None` after
-    /// recording the problems.
+    /// constant rate's window ending at the scenario's end time when `stop` is not given,
+    /// mole fractions at the scenario's pressure. `None` after recording the problems.
     pub(crate) fn resolve(
         &self,
+        scenario: &Scenario,
         n_species: usize,
         species: &SpeciesLookup<'_>,
-        reactor_temperature_k: f64,
-        pressure_pa: Option<f64>,
-        end_time_s: f64,
-        file: &str,
         diagnostics: &mut Vec<Diagnostic>,
     ) -> Option<Feed> {
+        let (reactor_temperature_k, pressure_pa, end_time_s) = (
+            scenario.temperature_k,
+            scenario.pressure_pa,
+            scenario.end_time_s,
+        );
+        let file = scenario.file_label();
         let schedule = match &self.timing {
             FeedTiming::Constant {
                 rate,

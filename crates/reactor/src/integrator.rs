@@ -1447,10 +1447,15 @@ impl BatchIntegrator<'_> {
     }
 
     /// Writes each step's standard reaction enthalpy dH_j (J/mol) at the current temperature
-    /// into `out` (length: the number of steps); an error when a species of the mechanism has
-    /// no thermochemistry. No allocation.
+    /// into `out` (length: the number of steps): the given constants of a [`LiquidPhase`](crate::LiquidPhase),
+    /// else from the species' thermochemistry, an error when a species of the mechanism has
+    /// none. No allocation.
     pub fn step_enthalpies(&self, out: &mut [f64]) -> Result<(), ReactorError> {
         self.check_step_buffer(out)?;
+        if let Some(liquid) = &self.session_model().liquid {
+            out.copy_from_slice(liquid.step_enthalpies_j_per_mol());
+            return Ok(());
+        }
         let kinetics = with_stepper!(&self.session, s => &s.solver.problem().eqn.kinetics);
         if let Some(species) = kinetics.species_thermo().iter().position(Option::is_none) {
             return Err(ReactorError::MissingThermo { species });

@@ -454,3 +454,27 @@ fn stepping_session_carries_and_resets_the_volume() {
         0.0,
     );
 }
+
+/// In the liquid description a stepping session's heat release is the given enthalpy times
+/// the rate: sum_j (-dH_j) q_j = (-dH) k c_A for first-order A -> B (the rate law).
+#[test]
+fn liquid_heat_release_uses_the_given_step_enthalpy() {
+    use stoik_reactor::BatchSystem;
+    let (k, dh) = (1e-3, -8.0e4);
+    let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], k)]);
+    let model = ReactorModel {
+        energy: Energy::Adiabatic,
+        liquid: Some(LiquidPhase::per_volume(1.8e6, vec![dh]).unwrap()),
+        ..Default::default()
+    };
+    let opts = options(2, 1e-10, 1e-14, LinearAlgebra::Dense);
+    let mut system = BatchSystem::with_model(&kin, &model, 300.0, &opts).unwrap();
+    let mut session = system.integrator(&[2000.0, 0.0]).unwrap();
+    session.advance_to(500.0).unwrap();
+    let c_a = session.state()[0];
+    let mut enthalpies = [0.0];
+    session.step_enthalpies(&mut enthalpies).unwrap();
+    assert_eq!(enthalpies[0], dh);
+    let release = session.heat_release_rate_w_per_m3().unwrap();
+    assert_close("heat release", release, -dh * k * c_a, 1e-12, 0.0);
+}

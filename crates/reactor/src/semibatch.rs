@@ -18,7 +18,10 @@
 //! A semi-batch without feeds is a closed batch whose volume is tracked: what a heat
 //! exchange given as a total `U A` (W/K, [`HeatExchange::total`](crate::HeatExchange::total))
 //! needs at constant pressure, where the volume of a closed batch changes with its moles
-//! and temperature.
+//! and temperature. (Design: the exchange `U A (T_c - T) / V` with `V` a state needs no
+//! molar masses, unlike a per-mass form `(U A / m) rho` with `rho = sum_i c_i M_i`, and it is
+//! the same term a semi-batch needs; the volume row adds one dense row and column to a
+//! Jacobian that is dense at constant pressure anyway.)
 //!
 //! The energy balance of a semi-batch is written on enthalpy (constant pressure; pressure
 //! work neglected at constant density, as for liquids). With ideal-gas thermochemistry,

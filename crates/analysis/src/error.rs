@@ -95,6 +95,10 @@ pub enum AnalysisError {
     /// The sensitivity integration failed.
     #[error("sensitivity computation failed: {0}")]
     SensitivityFailed(String),
+    /// The analysis is not available for the scenario's reactor (e.g. sensitivities of a
+    /// semi-batch or liquid-phase reactor); nothing was integrated.
+    #[error("{0}")]
+    NotAvailable(String),
     /// The scenario could not be planned or run.
     #[error(transparent)]
     Scenario(#[from] ScenarioError),

@@ -220,6 +220,9 @@ fn sensitivity_error(e: SensitivityError) -> AnalysisError {
         SensitivityError::StepOutOfRange { step, n_steps } => {
             AnalysisError::StepOutOfRange { step, n_steps }
         }
+        SensitivityError::Reactor(r @ stoik_reactor::ReactorError::NotSupported(_)) => {
+            AnalysisError::NotAvailable(r.to_string())
+        }
         other => AnalysisError::SensitivityFailed(other.to_string()),
     }
 }

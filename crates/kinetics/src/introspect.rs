@@ -88,6 +88,13 @@ impl Kinetics {
         nu
     }
 
+    /// Whether step `step`'s reverse rate constant is taken from thermochemistry
+    /// (`kf / Kc`: a reversible step without explicit reverse parameters); `None` when the
+    /// step is out of range.
+    pub fn reverse_from_thermochemistry(&self, step: usize) -> Option<bool> {
+        self.reverse_from_thermo.get(step).copied()
+    }
+
     /// The concentration orders (forward, reverse) of the rate constants
     /// [`RateConstants`] holds for step `step`: the sum of the reaction orders, plus one
     /// when the constant multiplies a third-body concentration (plain third body, and the

@@ -152,8 +152,9 @@ impl ReactorConservation {
             .chain(b.emissions.iter().map(|e| e.0))
             .chain(b.deposition.iter().map(|d| d.0))
             .collect();
-        if model.flow.is_some() {
-            // A stirred tank exchanges every species with its feed and outflow.
+        if model.flow.is_some() || model.semi_batch.is_some() {
+            // A stirred tank exchanges every species with its feed and outflow; a
+            // semi-batch's feeds and changing volume move every concentration.
             open_species = (0..mechanism.species.len()).collect();
         }
         open_species.sort_unstable();

@@ -376,15 +376,25 @@ impl<M: Backend> BatchEquations<M> {
         }
     }
 
-    /// dT/dt (K/s) at time `t_s` (s), concentrations `c` (mol/m3) and temperature
-    /// `temperature_k` (K); post-processing (allocates, not counted as an evaluation).
-    pub(crate) fn temperature_rate(&self, t_s: f64, c: &[f64], temperature_k: f64) -> f64 {
+    /// dT/dt (K/s) at time `t_s` (s), concentrations `c` (mol/m3), temperature
+    /// `temperature_k` (K) and volume `volume_m3` (m3, for a model that tracks it);
+    /// post-processing (allocates, not counted as an evaluation).
+    pub(crate) fn temperature_rate(
+        &self,
+        t_s: f64,
+        c: &[f64],
+        temperature_k: f64,
+        volume_m3: Option<f64>,
+    ) -> f64 {
         match &self.model.energy {
             Energy::Isothermal => 0.0,
             Energy::Prescribed(history) => history.slope_at(t_s),
             Energy::Adiabatic | Energy::HeatExchange(_) => {
                 let mut y = c.to_vec();
                 y.push(temperature_k);
+                if let Some(v) = volume_m3 {
+                    y.push(v);
+                }
                 let mut f = vec![0.0; y.len()];
                 let mut carry = vec![0.0; c.len()];
                 let mut k = self.kinetics.rate_constants(temperature_k);
@@ -416,6 +426,7 @@ impl<M: Backend> BatchEquations<M> {
         self.model.constraint == Constraint::ConstantVolume
             && !self.model.solves_energy()
             && self.model.flow.is_none()
+            && !self.model.is_extended()
     }
 
     /// Writes the Jacobian at `(t_s, y)` into `values` (state-pattern order).

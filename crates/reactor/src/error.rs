@@ -269,6 +269,17 @@ pub enum ReactorError {
     /// or combined with a model that cannot take it.
     #[error("bad plug flow: {0}")]
     BadPlugFlow(String),
+    /// A semi-batch reactor is malformed (initial volume, feeds, their schedules or
+    /// temperatures) or combined with a model that cannot take it.
+    #[error("bad semi-batch feed: {0}")]
+    BadFeed(String),
+    /// The liquid-phase energy description is malformed (heat capacity, density, reaction
+    /// enthalpies) or combined with a model that cannot take it.
+    #[error("bad liquid phase: {0}")]
+    BadLiquidPhase(String),
+    /// The analysis asked for is not available for this reactor model.
+    #[error("not available for this reactor: {0}")]
+    NotSupported(String),
     /// The temperature follows a prescribed history and cannot be set.
     #[error("the temperature follows a prescribed history and cannot be set")]
     TemperaturePrescribed,

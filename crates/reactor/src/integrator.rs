@@ -588,6 +588,12 @@ where
         }
         if let Some(t) = time_s {
             *state.t = t;
+            // Starting over: a semi-batch's volume goes back to its initial value.
+            if let Some(semi) = &eqn.model.semi_batch {
+                if let Some(v) = M::slice_mut(state.y).last_mut() {
+                    *v = semi.initial_volume_m3();
+                }
+            }
         }
         let t = *state.t;
         let y = M::slice(state.y);
@@ -809,6 +815,9 @@ fn build_problem<M: Backend>(
     if model.plug.is_some() {
         atol.push(DISTANCE_ABSOLUTE_TOLERANCE_M);
     }
+    if let Some(semi) = &model.semi_batch {
+        atol.push(VOLUME_ABSOLUTE_TOLERANCE * semi.initial_volume_m3());
+    }
     let mut problem = OdeBuilder::<M>::new()
         .rtol(options.relative_tolerance)
         .atol(atol)
@@ -831,7 +840,8 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
     let open = !c.fixed_species.is_empty()
         || !c.emissions.is_empty()
         || !c.deposition.is_empty()
-        || model.flow.is_some();
+        || model.flow.is_some()
+        || model.semi_batch.is_some();
     if open || model.constraint != Constraint::ConstantVolume {
         return Vec::new();
     }
@@ -845,6 +855,10 @@ pub(crate) const DISTANCE_ABSOLUTE_TOLERANCE_M: f64 = 1e-9;
 /// Absolute tolerance of the temperature state (K); the relative tolerance times the
 /// temperature is far larger in practice.
 pub(crate) const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
+
+/// Absolute tolerance of the volume state, relative to the initial volume (dimensionless);
+/// the relative tolerance times the volume is far larger in practice.
+pub(crate) const VOLUME_ABSOLUTE_TOLERANCE: f64 = 1e-12;
 
 /// The batch-reactor equations of one compiled mechanism, set up once for repeated use.
 ///
@@ -925,7 +939,7 @@ impl BatchSystem {
             ));
         }
         let mut used = options.linear_algebra.resolve(kinetics);
-        if model.constraint == Constraint::ConstantPressure {
+        if model.constraint == Constraint::ConstantPressure || model.is_extended() {
             used = LinearAlgebra::Dense;
         }
         let temperature_k = match &model.energy {
@@ -1030,11 +1044,19 @@ impl BatchSystem {
     /// solved) and time (s) for the next session.
     pub(crate) fn prepare(&mut self, t0: f64, initial: &[f64]) {
         let temperature = self.model.solves_energy().then(|| self.temperature());
+        let volume = self
+            .model
+            .semi_batch
+            .as_ref()
+            .map(|s| s.initial_volume_m3());
         let set = |initial_state: &mut Vec<f64>, problem_t0: &mut f64| {
             let n = initial.len();
             initial_state[..n].copy_from_slice(initial);
             if let Some(t) = temperature {
                 initial_state[n] = t;
+            }
+            if let (Some(v), Some(last)) = (volume, initial_state.last_mut()) {
+                *last = v;
             }
             *problem_t0 = t0;
         };
@@ -1122,14 +1144,16 @@ impl BatchSystem {
             concentrations_mol_per_m3: Vec::with_capacity(output_times_s.len()),
             temperatures_k: Vec::with_capacity(output_times_s.len()),
             temperature_rates_k_per_s: Vec::new(),
+            volumes_m3: Vec::new(),
             stats: SolverStats::default(),
             linear_algebra_used: integrator.linear_algebra_used,
             located: Vec::new(),
         };
-        let (times, rows, temperatures) = (
+        let (times, rows, temperatures, volumes) = (
             &mut profiles.times_s,
             &mut profiles.concentrations_mol_per_m3,
             &mut profiles.temperatures_k,
+            &mut profiles.volumes_m3,
         );
         let last = std::cell::Cell::new(t0);
         let mut record = |t: f64, y: &[f64]| {
@@ -1137,6 +1161,9 @@ impl BatchSystem {
             times.push(t);
             rows.push(y[..n].to_vec());
             temperatures.push(model.temperature(t, y, n, held_k));
+            if let Some(v) = model.volume(y, n) {
+                volumes.push(v);
+            }
         };
         record(t0, integrator.full_state());
         integrator.watch(&watches);
@@ -1172,13 +1199,15 @@ impl BatchSystem {
             .times_s
             .iter()
             .zip(&profiles.concentrations_mol_per_m3)
-            .zip(&profiles.temperatures_k);
+            .zip(&profiles.temperatures_k)
+            .enumerate();
+        let volume = |row: usize| profiles.volumes_m3.get(row).copied();
         match &self.problem {
             Problem::Dense(p) => rows
-                .map(|((&t, c), &temp)| p.eqn.temperature_rate(t, c, temp))
+                .map(|(r, ((&t, c), &temp))| p.eqn.temperature_rate(t, c, temp, volume(r)))
                 .collect(),
             Problem::Sparse(p) => rows
-                .map(|((&t, c), &temp)| p.eqn.temperature_rate(t, c, temp))
+                .map(|(r, ((&t, c), &temp))| p.eqn.temperature_rate(t, c, temp, volume(r)))
                 .collect(),
         }
     }
@@ -1278,6 +1307,7 @@ impl BatchIntegrator<'_> {
                         concentrations_mol_per_m3: vec![self.state().to_vec()],
                         temperatures_k: vec![self.temperature()],
                         temperature_rates_k_per_s: Vec::new(),
+                        volumes_m3: Vec::new(),
                         stats: self.stats,
                         linear_algebra_used: self.linear_algebra_used,
                         located: Vec::new(),
@@ -1303,8 +1333,9 @@ impl BatchIntegrator<'_> {
     /// Steps through `outputs` (strictly after the current time, increasing), recording each;
     /// updates the statistics also on failure.
     ///
-    /// A prescribed temperature history's breakpoints inside the interval become stop
-    /// times (the slope dT/dt jumps there): the solver stops exactly on each and restarts.
+    /// A prescribed temperature history's and the feed schedules' breakpoints inside the
+    /// interval become stop times (a slope jumps there): the solver stops exactly on each
+    /// and restarts.
     fn run(
         &mut self,
         outputs: &[f64],
@@ -1312,11 +1343,9 @@ impl BatchIntegrator<'_> {
     ) -> Result<(), Diagnosis> {
         let now = self.time();
         self.deadline = with_stepper!(&self.session, s => deadline(s.wall_time_limit_s));
-        let breakpoints: Vec<f64> = match (&self.session_model().energy, outputs.last()) {
-            (Energy::Prescribed(history), Some(&end)) => {
-                history.breakpoints_between(now, end).collect()
-            }
-            _ => Vec::new(),
+        let breakpoints: Vec<f64> = match outputs.last() {
+            Some(&end) => self.session_model().breakpoints_between(now, end),
+            None => Vec::new(),
         };
         let mut result = Ok(());
         let mut from = 0;
@@ -1474,7 +1503,7 @@ impl BatchIntegrator<'_> {
 
     /// Starts over from `c_mol_per_m3` (mol/m3) at `time_s` (s, any finite time, also
     /// earlier than the current one), keeping the solver, its buffers and the statistics
-    /// counts (no allocation). Use it to run the same system many times without opening a
+    /// counts (no allocation). A semi-batch's volume starts over at its initial value. Use it to run the same system many times without opening a
     /// new session.
     pub fn reset(&mut self, time_s: f64, c_mol_per_m3: &[f64]) -> Result<(), ReactorError> {
         check_state(self.state().len(), c_mol_per_m3, "new state")?;
@@ -1526,10 +1555,15 @@ impl BatchIntegrator<'_> {
     }
 
     /// Writes each step's standard reaction enthalpy dH_j (J/mol) at the current temperature
-    /// into `out` (length: the number of steps); an error when a species of the mechanism has
-    /// no thermochemistry. No allocation.
+    /// into `out` (length: the number of steps): the given constants of a [`LiquidPhase`](crate::LiquidPhase),
+    /// else from the species' thermochemistry, an error when a species of the mechanism has
+    /// none. No allocation.
     pub fn step_enthalpies(&self, out: &mut [f64]) -> Result<(), ReactorError> {
         self.check_step_buffer(out)?;
+        if let Some(liquid) = &self.session_model().liquid {
+            out.copy_from_slice(liquid.step_enthalpies_j_per_mol());
+            return Ok(());
+        }
         let kinetics = with_stepper!(&self.session, s => &s.solver.problem().eqn.kinetics);
         if let Some(species) = kinetics.species_thermo().iter().position(Option::is_none) {
             return Err(ReactorError::MissingThermo { species });

@@ -24,6 +24,11 @@
 //!   totals and moieties, with a box model's open species left out; per unit mass at
 //!   constant pressure) and measures their drift along a profile against the allowance of
 //!   the tolerances ([`ConservationDrift`]).
+//! - A [`SemiBatch`] in the model makes the volume (m3) the last state and feeds species or
+//!   solutions into the batch over time ([`Feed`], [`FeedSchedule`]); the same volume state
+//!   lets a closed jacketed batch at constant pressure exchange heat through a total U A
+//!   ([`HeatExchange::total`]). A [`LiquidPhase`] replaces the species' thermochemistry by a
+//!   mixture heat capacity and a reaction enthalpy per step. Their Jacobian is dense.
 //! - [`steady_state`] solves for the steady state of a stirred tank (damped Newton,
 //!   pseudo-transient continuation, time integration as fall-back; dense LU) with the
 //!   eigenvalues of its Jacobian; [`continuation`] follows steady states against the
@@ -54,6 +59,7 @@ mod batch;
 mod conservation;
 mod equations;
 mod error;
+mod extended;
 mod failure;
 mod fixed_lu;
 mod ignition;
@@ -65,6 +71,7 @@ mod options;
 mod owned;
 mod plug;
 mod profiles;
+mod semibatch;
 mod sensitivity;
 mod steady;
 mod watch;
@@ -93,6 +100,7 @@ pub use plug::{
     simulate_plug_flow, AxialProfile, PlugFlow, PlugFlowProfiles, PlugOutputs, WallExchange,
 };
 pub use profiles::{element_balance, ElementBalance, Profiles};
+pub use semibatch::{Feed, FeedSchedule, FeedStream, LiquidPhase, SemiBatch};
 pub use sensitivity::{
     adjoint_parameter_sensitivity, adjoint_sensitivity, forward_parameter_sensitivities,
     forward_sensitivities, AdjointSensitivity, ForwardSensitivities, Parameter, SensitivityError,

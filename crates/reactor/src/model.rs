@@ -46,6 +46,7 @@ use stoik_thermo::Nasa7;
 
 use crate::atmosphere::BoxConditions;
 use crate::plug::{PlugFlow, PlugTerms};
+use crate::semibatch::{LiquidPhase, SemiBatch};
 use crate::ReactorError;
 
 // The molar gas constant R in J/(mol K), under its short name in the formulas below.
@@ -74,8 +75,9 @@ pub enum Energy {
     Prescribed(TemperatureHistory),
     /// Exchanges heat with a coolant (a jacketed vessel): the temperature is solved from the
     /// energy balance with the heat flow `U A (T_coolant - T)` into the reactor (species
-    /// thermochemistry needed for every species; constant volume only for a closed reactor,
-    /// either constraint for a stirred tank).
+    /// thermochemistry needed for every species, or a [`LiquidPhase`]; a closed reactor at
+    /// constant pressure needs its volume as a state, a [`SemiBatch`]; either constraint for
+    /// a stirred tank).
     HeatExchange(HeatExchange),
 }
 
@@ -168,11 +170,15 @@ impl StirredFlow {
 /// The heat exchange of a jacketed vessel: heat flows into the reactor at
 /// `ua_per_volume (T_coolant(t) - T)` per unit volume (W/m3), with `ua_per_volume` the
 /// product of the overall heat-transfer coefficient U (W/(m2 K)) and the exchange area A
-/// (m2) over the reactor volume V (m3).
+/// (m2) over the reactor volume V (m3); or, given as a total U A (W/K,
+/// [`HeatExchange::total`]), at `U A (T_coolant(t) - T)` in all (W), divided by the
+/// volume state of a [`SemiBatch`](crate::SemiBatch).
 #[derive(Debug, Clone, PartialEq)]
 pub struct HeatExchange {
     ua_per_volume_w_per_m3_k: f64,
     coolant: TemperatureHistory,
+    /// U A in W/K when the exchange is given as a total (then `ua_per_volume` is 0).
+    ua_total_w_per_k: Option<f64>,
 }
 
 impl HeatExchange {
@@ -191,12 +197,40 @@ impl HeatExchange {
         Ok(HeatExchange {
             ua_per_volume_w_per_m3_k,
             coolant,
+            ua_total_w_per_k: None,
         })
     }
 
-    /// U A / V in W/(m3 K).
+    /// Heat exchange with a total `ua_w_per_k` = U A in W/K (finite, not negative) and a
+    /// coolant following `coolant`: the heat flow `U A (T_coolant - T)` (W) is divided by
+    /// the volume state, so the model needs a [`SemiBatch`](crate::SemiBatch) (with or
+    /// without feeds). The form for a closed batch at constant pressure, whose volume
+    /// changes.
+    pub fn total(
+        ua_w_per_k: f64,
+        coolant: TemperatureHistory,
+    ) -> Result<HeatExchange, ReactorError> {
+        if !(ua_w_per_k.is_finite() && ua_w_per_k >= 0.0) {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "U A must be finite and not negative, got {ua_w_per_k:e} W/K"
+            )));
+        }
+        Ok(HeatExchange {
+            ua_per_volume_w_per_m3_k: 0.0,
+            coolant,
+            ua_total_w_per_k: Some(ua_w_per_k),
+        })
+    }
+
+    /// U A / V in W/(m3 K) of an exchange given per volume; 0 for one given as a total (see
+    /// [`ua_total_w_per_k`](Self::ua_total_w_per_k)).
     pub fn ua_per_volume_w_per_m3_k(&self) -> f64 {
         self.ua_per_volume_w_per_m3_k
+    }
+
+    /// U A in W/K of an exchange given as a total; `None` for one given per volume.
+    pub fn ua_total_w_per_k(&self) -> Option<f64> {
+        self.ua_total_w_per_k
     }
 
     /// The coolant temperature history.
@@ -212,9 +246,18 @@ impl HeatExchange {
     }
 
     /// Heat flow into the reactor per unit volume (W/m3) at time `t_s` (s) and reactor
-    /// temperature `temperature_k` (K).
+    /// temperature `temperature_k` (K), for an exchange given per volume (0 for a total).
     pub fn heat_flow_w_per_m3(&self, t_s: f64, temperature_k: f64) -> f64 {
         self.ua_per_volume_w_per_m3_k * (self.coolant.temperature_at(t_s) - temperature_k)
+    }
+
+    /// `U A / V` (W/(m3 K)) at volume `volume_m3` (m3): the per-volume value, or the total
+    /// over the volume.
+    pub(crate) fn ua_over_volume(&self, volume_m3: f64) -> f64 {
+        match self.ua_total_w_per_k {
+            Some(ua) => ua / volume_m3,
+            None => self.ua_per_volume_w_per_m3_k,
+        }
     }
 }
 
@@ -335,6 +378,14 @@ pub struct ReactorModel {
     /// [`crate::PlugFlow`]): the distance is appended to the state; constant pressure only,
     /// no stirred flow. `None` for a batch or stirred reactor.
     pub plug: Option<PlugFlow>,
+    /// The volume state and feeds of a semi-batch reactor (`None`: the volume is not a
+    /// state). With it, [`Constraint::ConstantVolume`] means constant density (the volume
+    /// grows with the feeds). See the `semibatch` module's equations.
+    pub semi_batch: Option<SemiBatch>,
+    /// The liquid-phase energy description (a mixture heat capacity and a reaction
+    /// enthalpy per step) instead of the species' ideal-gas thermochemistry; `None` for the
+    /// ideal-gas description.
+    pub liquid: Option<LiquidPhase>,
 }
 
 impl ReactorModel {
@@ -344,10 +395,10 @@ impl ReactorModel {
     }
 
     /// The thermochemistry the energy balance is written on: internal energy and cv for a
-    /// closed constant-volume reactor, enthalpy and cp otherwise (constant pressure, and every
-    /// stirred tank).
-    fn energy_basis(&self) -> Constraint {
-        if self.flow.is_some() || self.plug.is_some() {
+    /// closed constant-volume reactor, enthalpy and cp otherwise (constant pressure, every
+    /// stirred tank, every plug flow and every semi-batch).
+    pub(crate) fn energy_basis(&self) -> Constraint {
+        if self.flow.is_some() || self.plug.is_some() || self.semi_batch.is_some() {
             Constraint::ConstantPressure
         } else {
             self.constraint
@@ -359,11 +410,27 @@ impl ReactorModel {
         matches!(self.energy, Energy::Adiabatic | Energy::HeatExchange(_))
     }
 
+    /// Whether the volume (m3) is a state of the integration (the last one): with a
+    /// [`SemiBatch`].
+    pub fn tracks_volume(&self) -> bool {
+        self.semi_batch.is_some()
+    }
+
+    /// Whether the model's equations are those of the `semibatch` module (a semi-batch or
+    /// the liquid-phase description), with a dense Jacobian.
+    pub(crate) fn is_extended(&self) -> bool {
+        self.semi_batch.is_some() || self.liquid.is_some()
+    }
+
     /// Number of integrated states for `n_species` species: `n_species`, plus one for the
     /// temperature when the energy balance is solved, plus one for the distance (m) of a plug
-    /// flow (the last state).
+    /// flow or the volume (m3) of a semi-batch when it is tracked (the last state; a model
+    /// has at most one of the two).
     pub fn n_states(&self, n_species: usize) -> usize {
-        n_species + usize::from(self.solves_energy()) + usize::from(self.plug.is_some())
+        n_species
+            + usize::from(self.solves_energy())
+            + usize::from(self.plug.is_some())
+            + usize::from(self.tracks_volume())
     }
 
     /// The temperature (K) at time `t_s` (s) for a state `y` (concentrations, then the
@@ -377,22 +444,52 @@ impl ReactorModel {
             Energy::Prescribed(history) => history.temperature_at(t_s),
         }
     }
+
+    /// The volume (m3) of a state `y` of a model that tracks it (the last state), `None`
+    /// otherwise.
+    pub(crate) fn volume(&self, y: &[f64], n_species: usize) -> Option<f64> {
+        if self.tracks_volume() {
+            y.get(self.n_states(n_species) - 1).copied()
+        } else {
+            None
+        }
+    }
+
+    /// Times strictly inside `(from_s, to_s)` (s) where the right-hand side jumps or bends
+    /// (a prescribed history's points, a feed schedule's points), sorted, without repeats.
+    pub(crate) fn breakpoints_between(&self, from_s: f64, to_s: f64) -> Vec<f64> {
+        let mut out: Vec<f64> = Vec::new();
+        if let Energy::Prescribed(history) = &self.energy {
+            out.extend(history.breakpoints_between(from_s, to_s));
+        }
+        if let Some(semi) = &self.semi_batch {
+            out.extend(semi.breakpoints_between(from_s, to_s));
+        }
+        out.sort_by(f64::total_cmp);
+        out.dedup();
+        out
+    }
 }
 
-/// Per-species thermochemistry of the energy balance, one entry per species, checked.
+/// Per-species thermochemistry of the energy balance, one entry per species, checked
+/// (empty when the energy balance is not solved or the liquid description replaces it).
+/// Also refuses the combinations of a semi-batch, the liquid description and the heat
+/// exchange that have no equations.
 pub(crate) fn energy_thermo(
     kinetics: &Kinetics,
     model: &ReactorModel,
 ) -> Result<Vec<Nasa7>, ReactorError> {
-    if !model.solves_energy() {
+    crate::extended::check_model(kinetics, model)?;
+    if !model.solves_energy() || model.liquid.is_some() {
         return Ok(Vec::new());
     }
     if matches!(model.energy, Energy::HeatExchange(_))
         && model.constraint != Constraint::ConstantVolume
         && model.flow.is_none()
+        && model.semi_batch.is_none()
     {
         return Err(ReactorError::BadHeatExchange(
-            "heat exchange is for constant-volume reactors and stirred tanks (U A / V is per fixed volume)"
+            "heat exchange at constant pressure needs the volume: give the batch a volume state (a semi-batch without feeds); U A / V is per fixed volume"
                 .to_string(),
         ));
     }
@@ -419,6 +516,21 @@ pub(crate) fn state_pattern(
     let (starts, rows) = (kin.column_starts(), kin.row_indices());
     let n = kin.n();
     let m = model.n_states(n);
+    if model.is_extended() {
+        // Semi-batch and liquid-phase models: dense (the dilution couples every pair).
+        let pattern = JacobianPattern::from_compressed(
+            m,
+            (0..=m).map(|j| j * m).collect(),
+            (0..m * m).map(|p| p % m).collect(),
+        )?;
+        let mut map = Vec::with_capacity(kin.nnz());
+        for col in 0..n {
+            for &row in &rows[starts[col]..starts[col + 1]] {
+                map.push(col * m + row);
+            }
+        }
+        return Ok((pattern, map));
+    }
     Ok(match (model.constraint, model.solves_energy()) {
         (Constraint::ConstantVolume, false) => (kin.clone(), (0..kin.nnz()).collect()),
         (Constraint::ConstantVolume, true) => {
@@ -462,17 +574,26 @@ pub(crate) fn state_pattern(
 #[derive(Debug, Clone)]
 pub(crate) struct ModelScratch {
     /// Kinetics Jacobian values (kinetics pattern order).
-    kin_values: Vec<f64>,
+    pub(crate) kin_values: Vec<f64>,
     /// Rate-constant slopes dk/dT.
-    slopes: RateConstants,
+    pub(crate) slopes: RateConstants,
     /// dw/dT per species.
-    dw_dt: Vec<f64>,
+    pub(crate) dw_dt: Vec<f64>,
     /// Energy weight e_i (J/mol) and heat capacity k_i (J/(mol K)) per species.
-    energy: Vec<f64>,
-    capacity: Vec<f64>,
+    pub(crate) energy: Vec<f64>,
+    pub(crate) capacity: Vec<f64>,
     /// Per column k: sum_i dw_i/dc_k and sum_i e_i dw_i/dc_k.
-    column_sum: Vec<f64>,
-    column_energy: Vec<f64>,
+    pub(crate) column_sum: Vec<f64>,
+    pub(crate) column_energy: Vec<f64>,
+    /// Per species: the feeds' molar flows over the volume (mol/(m3 s)), and the energy
+    /// row's derivatives (semi-batch and liquid-phase models).
+    pub(crate) feed: Vec<f64>,
+    pub(crate) energy_row: Vec<f64>,
+    /// Per step: dq_j/dT (liquid-phase models).
+    pub(crate) step_slopes: Vec<f64>,
+    /// Per species: the production rates w (mol/(m3 s)) (semi-batch and liquid-phase
+    /// models).
+    pub(crate) production: Vec<f64>,
 }
 
 impl ModelScratch {
@@ -491,6 +612,10 @@ impl ModelScratch {
             capacity: vec![0.0; n],
             column_sum: vec![0.0; n],
             column_energy: vec![0.0; n],
+            feed: vec![0.0; n],
+            energy_row: vec![0.0; n],
+            step_slopes: vec![0.0; kinetics.n_steps()],
+            production: vec![0.0; n],
         }
     }
 }
@@ -499,7 +624,7 @@ impl ModelScratch {
 /// `thermo` at `t` (K): internal energy and cv at constant volume, enthalpy and cp at constant
 /// pressure.
 #[inline]
-fn energy_terms(thermo: &Nasa7, t: f64, constraint: Constraint) -> (f64, f64) {
+pub(crate) fn energy_terms(thermo: &Nasa7, t: f64, constraint: Constraint) -> (f64, f64) {
     let h = R * t * thermo.h_over_rt(t);
     let cp = R * thermo.cp_over_r(t);
     match constraint {
@@ -742,6 +867,10 @@ impl ModelEquations<'_> {
         f: &mut [f64],
         carry: &mut [f64],
     ) {
+        if self.model.is_extended() {
+            self.extended_rhs(k, t_s, temperature_k, y, f, carry);
+            return;
+        }
         let n = self.kinetics.n_species();
         let plug = self.plug_terms(y);
         let (c, w) = (&y[..n], &mut f[..n]);
@@ -794,6 +923,10 @@ impl ModelEquations<'_> {
         scratch: &mut ModelScratch,
         values: &mut [f64],
     ) {
+        if self.model.is_extended() {
+            self.extended_jacobian(k, t_s, temperature_k, y, map, scratch, values);
+            return;
+        }
         let kinetics = self.kinetics;
         let n = kinetics.n_species();
         let m = self.model.n_states(n);

@@ -499,6 +499,11 @@ pub(crate) fn validate(model: &crate::ReactorModel, n_species: usize) -> Result<
     if model.flow.is_some() {
         return refuse("a reactor is a stirred tank or a plug flow, not both");
     }
+    if model.semi_batch.is_some() || model.liquid.is_some() {
+        return refuse(
+            "a plug flow of ideal gas is not a semi-batch and has no liquid-phase description",
+        );
+    }
     if !model.conditions.fixed_species.is_empty()
         || !model.conditions.emissions.is_empty()
         || !model.conditions.deposition.is_empty()

@@ -17,6 +17,9 @@ pub struct Profiles {
     /// dT/dt (K/s) at each output time, from the model's equations (0 when isothermal);
     /// empty for the one-row partial profile of a stepping session.
     pub temperature_rates_k_per_s: Vec<f64>,
+    /// Volume (m3) at each output time for a model that tracks it (a
+    /// [`SemiBatch`](crate::SemiBatch)); empty otherwise.
+    pub volumes_m3: Vec<f64>,
     /// Solver statistics of the run.
     pub stats: SolverStats,
     /// The linear algebra actually used ([`LinearAlgebra::Dense`] or
@@ -48,6 +51,9 @@ impl Profiles {
         check("temperatures", self.temperatures_k.len())?;
         if !self.temperature_rates_k_per_s.is_empty() {
             check("temperature rates", self.temperature_rates_k_per_s.len())?;
+        }
+        if !self.volumes_m3.is_empty() {
+            check("volumes", self.volumes_m3.len())?;
         }
         let width = self.concentrations_mol_per_m3.first().map_or(0, Vec::len);
         match self

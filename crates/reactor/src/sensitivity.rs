@@ -496,6 +496,11 @@ fn core(
             "sensitivities are not available for a plug flow".into(),
         ));
     }
+    if model.is_extended() {
+        return Err(ReactorError::NotSupported(
+            "sensitivities of semi-batch and liquid-phase reactors are not implemented".into(),
+        ));
+    }
     model
         .conditions
         .validate(kinetics.n_species(), kinetics.n_steps())?;

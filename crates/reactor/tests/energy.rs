@@ -337,6 +337,7 @@ fn ignition_delay_criteria_recover_known_times() {
             .iter()
             .map(|&t| 1500.0 * logistic(t) * (1.0 - logistic(t)) / w)
             .collect(),
+        volumes_m3: Vec::new(),
         stats: SolverStats::default(),
         linear_algebra_used: Default::default(),
         located: Vec::new(),

@@ -10,7 +10,9 @@ use crate::box_sections::{read_box, BoxSpec};
 use crate::read::NamedValue;
 use crate::sections::{
     read_flow, read_ignition, read_initial, read_output, read_reactor, read_solver, FlowSpec,
+    ReactorSection,
 };
+use crate::vessel_sections::{read_feeds, read_liquid, FeedSpec, LiquidSpec};
 use std::path::{Path, PathBuf};
 use stoik_mechanism::ConcentrationUnit;
 use stoik_mechanism::{parse_document, Diagnostics, LoadError, Report, SourceLocation};
@@ -162,6 +164,13 @@ pub struct Scenario {
     pub(crate) flow: Option<FlowSpec>,
     /// `[plug_flow]`: a steady plug-flow tube (`None`: not a plug flow).
     pub(crate) plug: Option<crate::plug_section::PlugSpec>,
+    /// `[[feed]]`: the feeds of a semi-batch reactor (empty: none).
+    pub(crate) feeds: Vec<FeedSpec>,
+    /// `[liquid]`: the liquid-phase energy description (`None`: ideal-gas thermochemistry).
+    pub(crate) liquid: Option<LiquidSpec>,
+    /// `[reactor] volume` (m3) when the volume is a state (semi-batch, closed
+    /// constant-pressure jacketed batch) or a jacket's U A / V needs it.
+    pub(crate) volume_m3: Option<f64>,
     pub(crate) file: String,
     /// Where the output times are asked for (diagnostics about them point there).
     pub(crate) output_at: Option<SourceLocation>,
@@ -245,6 +254,8 @@ const TOP_KEYS: &[&str] = &[
     "box",
     "sun",
     "photolysis",
+    "feed",
+    "liquid",
 ];
 
 /// Reads every section (each reports its own problems) and assembles the scenario when all
@@ -261,7 +272,8 @@ fn read_scenario(
         .get("title")
         .and_then(|v| r.string("title", v).map(str::to_string));
     let mechanism_path = read_mechanism_path(r, root, base_dir);
-    let reactor = read_reactor(r, root);
+    let has_feeds = root.contains_key("feed");
+    let reactor = read_reactor(r, root, has_feeds, root.contains_key("flow"));
     let initial = read_initial(r, root, reactor.pressure_given);
     let plug = crate::plug_section::read_plug_flow(r, root);
     let plug_given = root.contains_key("plug_flow");
@@ -270,6 +282,9 @@ fn read_scenario(
     let ignition = read_ignition(r, root);
     let box_spec = read_box(r, root);
     let flow = read_flow(r, root, reactor.pressure_given);
+    let feeds = read_feeds(r, root);
+    let liquid = read_liquid(r, root);
+    mixed_descriptions(r, root, &reactor);
     let energy = reactor.energy?;
     Some(Scenario {
         title,
@@ -281,6 +296,9 @@ fn read_scenario(
         box_spec: box_spec?,
         flow: flow?,
         plug: plug?,
+        feeds: feeds?,
+        liquid: liquid?,
+        volume_m3: reactor.volume_m3,
         pressure_pa: if reactor.pressure_given {
             Some(reactor.pressure_pa?)
         } else {
@@ -302,6 +320,74 @@ fn read_scenario(
         file: file.to_string(),
         locations: locations(r, root),
     })
+}
+
+/// Refuses, at their keys, the settings that mix the liquid-phase description with the
+/// ideal gas (a constant-pressure kind, a pressure, mole fractions) or that have no
+/// equations (feeds or a liquid phase with a stirred tank's `[flow]`).
+fn mixed_descriptions(r: &mut Report<'_>, root: &DeTable<'_>, reactor: &ReactorSection) {
+    let span = |path: &[&str]| -> Option<usize> {
+        let (last, tables) = path.split_last()?;
+        let mut table = root;
+        for key in tables {
+            match table.get(*key)?.get_ref() {
+                DeValue::Table(t) => table = t,
+                _ => return None,
+            }
+        }
+        table.get_key_value(*last).map(|(k, _)| k.span().start)
+    };
+    if root.contains_key("liquid") {
+        let liquid = span(&["liquid"]).unwrap_or(0);
+        if reactor.constraint == Some(Constraint::ConstantPressure) {
+            r.error(
+                span(&["reactor", "kind"]).unwrap_or(liquid),
+                "[liquid] describes a constant-density mixture: the reactor kind must be a constant-volume one (constant density with [[feed]]), not constant pressure, which is for ideal gases",
+                Some("e.g. kind = \"adiabatic-constant-volume\" or \"jacketed-constant-volume\"".to_string()),
+            );
+        }
+        if let Some(p) = span(&["reactor", "pressure"]) {
+            r.error(
+                p,
+                "`pressure` is an ideal-gas setting; a scenario with [liquid] has no pressure (give [initial] concentrations)",
+                None,
+            );
+        }
+        if let Some(p) = span(&["initial", "mole_fractions"]) {
+            r.error(
+                p,
+                "mole fractions convert to concentrations through the ideal gas (P / (R T)); with [liquid] give [initial] concentrations",
+                None,
+            );
+        }
+        if let Some(DeValue::Array(feeds)) = root.get("feed").map(|v| v.get_ref()) {
+            for feed in feeds.iter() {
+                if let DeValue::Table(t) = feed.get_ref() {
+                    if let Some((k, _)) = t.get_key_value("mole_fractions") {
+                        r.error(
+                            k.span().start,
+                            "feed mole fractions convert through the ideal gas; with [liquid] give the feed's `concentrations`",
+                            None,
+                        );
+                    }
+                }
+            }
+        }
+        if let Some(p) = span(&["flow"]) {
+            r.error(
+                p,
+                "[liquid] is not available for stirred tanks ([flow]); use the ideal-gas description or a batch",
+                None,
+            );
+        }
+    }
+    if let (Some(p), true) = (span(&["flow"]), root.contains_key("feed")) {
+        r.error(
+            p,
+            "a reactor with [[feed]] is a semi-batch without outflow; [flow] makes a stirred tank: give one or the other",
+            None,
+        );
+    }
 }
 
 /// The location of the key `path` (a chain of table keys from the root), if written.

@@ -41,6 +41,7 @@ mod plug_section;
 mod read;
 mod run;
 mod sections;
+mod vessel_sections;
 
 pub use error::ScenarioError;
 pub use file::{

@@ -18,8 +18,8 @@ use stoik_mechanism::{
     Mechanism, MechanismFile, GAS_CONSTANT,
 };
 use stoik_reactor::{
-    BatchCase, Energy, IgnitionCriterion, IntegrationOptions, LinearAlgebra, ReactorModel,
-    RunMonitor, StirredFlow, Watch,
+    BatchCase, Energy, Feed, IgnitionCriterion, IntegrationOptions, LinearAlgebra, LiquidPhase,
+    ReactorModel, RunMonitor, SemiBatch, StirredFlow, Watch,
 };
 
 /// An initial composition given in place of a scenario's ([`RunPlan::set_initial_composition`]),
@@ -635,8 +635,12 @@ fn resolve(
             find(named, "[ignition] species").map(IgnitionCriterion::SpeciesMaximum)
         }
         Some(IgnitionSpec::TemperatureRise(k)) => Some(IgnitionCriterion::TemperatureRise(*k)),
+        // Semi-batch and liquid-phase runs report no ignition delay unless asked for
+        // ([ignition]): a maximum of dT/dt there is the feed's pace, not an ignition.
         None if scenario.plug.is_none()
-            && matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_)) =>
+            && matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_))
+            && scenario.feeds.is_empty()
+            && scenario.liquid.is_none() =>
         {
             Some(IgnitionCriterion::MaxTemperatureRate)
         }
@@ -714,12 +718,15 @@ fn resolve(
         .plug
         .as_ref()
         .map_or_else(Vec::new, |spec| spec.distances_m.clone());
+    let (semi_batch, liquid) = vessel(scenario, mechanism, &species, &mut diagnostics);
     let model = ReactorModel {
         constraint: scenario.constraint,
         energy: scenario.energy.clone(),
         conditions,
         flow,
         plug,
+        semi_batch,
+        liquid,
     };
     model_problems(scenario, mechanism, &model, &mut diagnostics);
     if !diagnostics.is_empty() {
@@ -814,7 +821,7 @@ fn model_problems(
     diagnostics: &mut Vec<Diagnostic>,
 ) {
     let file = scenario.file.as_str();
-    if model.solves_energy() {
+    if model.solves_energy() && scenario.liquid.is_none() {
         let missing: Vec<&str> = mechanism
             .species
             .iter()
@@ -836,21 +843,31 @@ fn model_problems(
                             .join(", ")
                     ),
                 )
-                .with_help("give those species `thermo` or a `thermo_files` entry in the mechanism, or use an isothermal kind"),
+                .with_help("give those species `thermo` or a `thermo_files` entry in the mechanism, use an isothermal kind, or describe a liquid phase with [liquid] (mixture heat capacity and reaction enthalpies)"),
             );
         }
     }
-    if matches!(model.energy, Energy::HeatExchange(_))
-        && model.constraint != stoik_reactor::Constraint::ConstantVolume
-        && model.flow.is_none()
+    let needs_volume_state = !scenario.feeds.is_empty()
+        || (matches!(model.energy, Energy::HeatExchange(_))
+            && model.constraint != stoik_reactor::Constraint::ConstantVolume
+            && model.flow.is_none());
+    if needs_volume_state && model.semi_batch.is_none() && scenario.volume_m3.is_none() {
+        diagnostics.push(Diagnostic::error(
+            file,
+            scenario.locations.reactor,
+            "this reactor's volume is a state: give its initial `volume` in [reactor]",
+        ));
+    }
+    if model.semi_batch.is_some()
+        && (!model.conditions.fixed_species.is_empty()
+            || !model.conditions.emissions.is_empty()
+            || !model.conditions.deposition.is_empty())
     {
-        diagnostics.push(
-            Diagnostic::error(
-                file,
-                scenario.locations.reactor,
-                "the `jacketed-constant-pressure` kind is for stirred tanks (U A / V is per fixed volume): add a [flow] section or use `jacketed-constant-volume`",
-            ),
-        );
+        diagnostics.push(Diagnostic::error(
+            file,
+            scenario.locations.box_section.or(scenario.locations.reactor),
+            "fixed species, emissions and deposition do not go with [[feed]] (a semi-batch reactor)",
+        ));
     }
     let c = &model.conditions;
     let needs_closed_volume =
@@ -867,6 +884,53 @@ fn model_problems(
             ),
         ));
     }
+}
+
+/// The volume state and feeds (`[[feed]]`, or a closed constant-pressure jacketed batch)
+/// and the liquid phase (`[liquid]`) of `scenario`; problems recorded in `diagnostics`.
+fn vessel(
+    scenario: &Scenario,
+    mechanism: &Mechanism,
+    species: &SpeciesLookup<'_>,
+    diagnostics: &mut Vec<Diagnostic>,
+) -> (Option<SemiBatch>, Option<LiquidPhase>) {
+    let file = scenario.file.as_str();
+    let n = mechanism.species.len();
+    let jacketed_closed_constant_pressure = matches!(scenario.energy, Energy::HeatExchange(_))
+        && scenario.constraint == stoik_reactor::Constraint::ConstantPressure
+        && scenario.flow.is_none();
+    let semi_batch = if !scenario.feeds.is_empty() || jacketed_closed_constant_pressure {
+        let feeds: Vec<Option<Feed>> = scenario
+            .feeds
+            .iter()
+            .map(|f| f.resolve(scenario, n, species, diagnostics))
+            .collect();
+        match (
+            scenario.volume_m3,
+            feeds.into_iter().collect::<Option<Vec<_>>>(),
+        ) {
+            (Some(v), Some(feeds)) => match SemiBatch::new(v, feeds) {
+                Ok(s) => Some(s),
+                Err(e) => {
+                    diagnostics.push(Diagnostic::error(
+                        file,
+                        scenario.locations.reactor,
+                        e.to_string(),
+                    ));
+                    None
+                }
+            },
+            _ => None,
+        }
+    } else {
+        None
+    };
+    let energy_solved = matches!(scenario.energy, Energy::Adiabatic | Energy::HeatExchange(_));
+    let liquid = scenario
+        .liquid
+        .as_ref()
+        .and_then(|l| l.resolve(mechanism, energy_solved, file, diagnostics));
+    (semi_batch, liquid)
 }
 
 /// The stirred-tank flow of `[flow]`: inlet concentrations (mole fractions at the pressure

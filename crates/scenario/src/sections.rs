@@ -86,16 +86,28 @@ pub(crate) struct ReactorSection {
     pub(crate) temperature_k: Option<f64>,
     pub(crate) pressure_pa: Option<f64>,
     pub(crate) pressure_given: bool,
+    /// `[reactor] volume` (m3): the initial volume of a semi-batch or of a closed
+    /// constant-pressure jacketed batch (their volume is a state).
+    pub(crate) volume_m3: Option<f64>,
 }
 
-/// Reads `[reactor]`: kind, temperature (or history), pressure.
-pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSection {
+/// Reads `[reactor]`: kind, temperature (or history), pressure, and the volume and heat
+/// exchange of jacketed kinds. With `[[feed]]` (`has_feeds`) the volume is required (the
+/// initial volume of the semi-batch) and a jacket's U A is a total over the volume state, as
+/// for a closed constant-pressure jacketed batch (without `[flow]`, `has_flow`).
+pub(crate) fn read_reactor(
+    r: &mut Report<'_>,
+    root: &DeTable<'_>,
+    has_feeds: bool,
+    has_flow: bool,
+) -> ReactorSection {
     let mut out = ReactorSection {
         constraint: Some(Constraint::ConstantVolume),
         energy: Some(Energy::Isothermal),
         temperature_k: None,
         pressure_pa: None,
         pressure_given: false,
+        volume_m3: None,
     };
     let Some(t) = section(r, root, "reactor", REACTOR_KEYS) else {
         if !root.contains_key("reactor") {
@@ -133,9 +145,34 @@ pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSec
     }
     let jacket = if thermal == Some(Thermal::Jacketed) {
         let at = t.get("kind").map_or(0, |v| v.span().start);
-        read_jacket(r, t, at)
+        read_jacket(r, t, at).and_then(|(ua, volume, coolant)| {
+            out.volume_m3 = Some(volume);
+            let closed_constant_pressure =
+                out.constraint == Some(Constraint::ConstantPressure) && !has_flow;
+            if has_feeds || closed_constant_pressure {
+                HeatExchange::total(ua, coolant).ok()
+            } else {
+                HeatExchange::new(ua / volume, coolant).ok()
+            }
+        })
     } else {
+        if has_feeds {
+            match t.get("volume") {
+                Some(v) => {
+                    out.volume_m3 = quantity(r, "volume", v, "m3", volume_to_m3, VOLUME_UNITS)
+                        .and_then(|x| require_positive(r, "volume", v, x));
+                }
+                None => r.error(
+                    t.get("kind").map_or(0, |v| v.span().start),
+                    "missing `volume` in [reactor]: a reactor with [[feed]] needs its initial volume",
+                    Some("e.g. volume = \"0.5 m3\"".to_string()),
+                ),
+            }
+        }
         for key in JACKET_KEYS {
+            if has_feeds && *key == "volume" {
+                continue;
+            }
             if let Some(v) = t.get(*key) {
                 r.error(
                     v.span().start,
@@ -196,7 +233,11 @@ pub(crate) fn read_reactor(r: &mut Report<'_>, root: &DeTable<'_>) -> ReactorSec
 /// The heat exchange of a jacketed reactor: `ua` and `volume` (U A / V), and the coolant's
 /// temperature, fixed (`coolant_temperature`) or as a history
 /// (`coolant_temperature_history`, as `temperature_history`).
-fn read_jacket(r: &mut Report<'_>, t: &DeTable<'_>, at: usize) -> Option<HeatExchange> {
+fn read_jacket(
+    r: &mut Report<'_>,
+    t: &DeTable<'_>,
+    at: usize,
+) -> Option<(f64, f64, TemperatureHistory)> {
     let hint = "e.g. ua = \"250 W/K\", volume = \"50 L\", coolant_temperature = \"300 K\"";
     let positive = |r: &mut Report<'_>, key: &str, unit: &str, convert: Converter, units| {
         let Some(v) = t.get(key) else {
@@ -266,7 +307,7 @@ fn read_jacket(r: &mut Report<'_>, t: &DeTable<'_>, at: usize) -> Option<HeatExc
             None
         }
     };
-    HeatExchange::new(ua? / volume?, coolant?).ok()
+    Some((ua?, volume?, coolant?))
 }
 
 /// A temperature difference in K (`"400 K"`; only kelvin: a Celsius offset would be wrong).
@@ -553,11 +594,11 @@ const FLOW_KEYS: &[&str] = &[
     "concentration_unit",
 ];
 /// Units of a volumetric flow.
-const VOLUMETRIC_FLOW_UNITS: &[&str] = &["m3/s", "L/s", "L/min", "mL/min", "m3/h"];
+pub(crate) const VOLUMETRIC_FLOW_UNITS: &[&str] = &["m3/s", "L/s", "L/min", "mL/min", "m3/h"];
 /// Units of a mass flow.
 const MASS_FLOW_UNITS: &[&str] = &["kg/s", "g/s", "kg/h"];
 
-fn volumetric_flow_to_m3_per_s(value: f64, unit: &str) -> Option<f64> {
+pub(crate) fn volumetric_flow_to_m3_per_s(value: f64, unit: &str) -> Option<f64> {
     let factor = match unit {
         "m3/s" => 1.0,
         "L/s" => 1e-3,

@@ -150,11 +150,12 @@ fn flow_mistakes_are_all_reported_at_their_keys() {
         err("residence_time = \"-2 s\"\ninlet_concentrations = { XE = 1.0, AR = \"3 furlongs\" }");
     assert!(e.contains("f.toml:10:"), "{e}");
     assert!(e.contains("f.toml:11:"), "{e}");
-    // The jacketed kind at constant pressure needs a tank.
+    // The jacketed kind at constant pressure without a tank is a closed batch whose volume
+    // is a state (tests/semi_batch.rs): it needs the volume at the start.
     let text = format!(
         "stoik_scenario = 1\nmechanism = {:?}\n[reactor]\n\
         kind = \"jacketed-constant-pressure\"\ntemperature = \"1100 K\"\npressure = \"1 atm\"\n\
-        ua = \"2 W/K\"\nvolume = \"1 L\"\ncoolant_temperature = \"300 K\"\n\
+        ua = \"2 W/K\"\ncoolant_temperature = \"300 K\"\n\
         [initial]\nmole_fractions = {{ AR = 1.0 }}\n[output]\nend_time = \"1 s\"\n",
         mechanisms()
             .join("hydrogen-oxygen.toml")
@@ -162,5 +163,5 @@ fn flow_mistakes_are_all_reported_at_their_keys() {
             .to_string()
     );
     let e = load(&text, "j.toml").err().unwrap();
-    assert!(e.contains("stirred tanks") && e.contains("j.toml:"), "{e}");
+    assert!(e.contains("j.toml:4:8: error: missing `volume`"), "{e}");
 }

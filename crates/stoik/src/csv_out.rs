@@ -102,7 +102,8 @@ impl CsvNotes {
 }
 
 /// Writes the header and rows: time, every species' concentration (SI mol/m3 divided by
-/// `si_per_unit`, labelled `unit_label`), then the temperature, the ideal-gas pressure
+/// `si_per_unit`, labelled `unit_label`), then the temperature, the volume `volume [m3]`
+/// when the profile has one (a semi-batch), the ideal-gas pressure
 /// P = sum(c) R T ([`Profiles::pressure_pa`]), the mass density sum(c_i M_i) when every species
 /// has a composition, and every species' mole fraction c_i / sum(c)
 /// ([`Profiles::mole_fractions`]).
@@ -159,6 +160,10 @@ fn write_rows(
             .map(|s| format!("{} [{unit_label}]", s.name)),
     );
     header.push("temperature [K]".to_string());
+    let with_volume = !profiles.volumes_m3.is_empty();
+    if with_volume {
+        header.push("volume [m3]".to_string());
+    }
     header.push("pressure [Pa]".to_string());
     if masses.is_some() {
         header.push("density [kg/m3]".to_string());
@@ -191,6 +196,9 @@ fn write_rows(
         cells.push(t);
         cells.extend(row.iter().map(|c| c / si_per_unit));
         cells.push(temperature_k);
+        if with_volume {
+            cells.push(profiles.volumes_m3.get(i).copied().unwrap_or(f64::NAN));
+        }
         cells.push(profiles.pressure_pa(i).unwrap_or(f64::NAN));
         if let Some(m) = &masses {
             cells.push(row.iter().zip(m).map(|(c, m)| c * m).sum());
@@ -307,6 +315,7 @@ mod tests {
             concentrations_mol_per_m3: rows,
             temperatures_k: vec![300.0; n],
             temperature_rates_k_per_s: vec![0.0; n],
+            volumes_m3: Vec::new(),
             stats: SolverStats::default(),
             linear_algebra_used: LinearAlgebra::Dense,
             located: Vec::new(),

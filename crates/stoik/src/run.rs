@@ -293,7 +293,11 @@ pub fn ignition_lines(plan: &RunPlan, outcome: &RunOutcome) -> Vec<String> {
         .iter()
         .fold(f64::NEG_INFINITY, |m, &t| m.max(t))
         - temperatures.first().copied().unwrap_or(0.0);
-    if plan.model().solves_energy() && rise > RUNAWAY_RISE_K {
+    if plan.model().solves_energy() && rise > RUNAWAY_RISE_K && plan.model().liquid.is_some() {
+        lines.push(format!(
+            "CAUTION: thermal runaway detected (temperature rise {rise:.0} K): the heat released outgrew the cooling under these conditions."
+        ));
+    } else if plan.model().solves_energy() && rise > RUNAWAY_RISE_K {
         let has = |name: &str| mechanism.species.iter().any(|s| s.name == name);
         let hydrogen = if has("H2") && has("O2") {
             " Hydrogen-oxygen mixtures are explosive."
@@ -389,12 +393,40 @@ fn summary_lines(
         Some(z) => format!("z = {z:.6e} m (residence time {t_end:.6e} s)"),
         None => format!("t = {t_end:.6e} s"),
     };
-    lines.push(format!(
-        "final state at {place}: T = {:.2} K, P = {:.6e} Pa; concentrations [{}]:",
-        profiles.temperatures_k.last().copied().unwrap_or(f64::NAN),
-        profiles.pressure_pa(rows - 1).unwrap_or(f64::NAN),
-        unit.label()
-    ));
+    let final_temperature = profiles.temperatures_k.last().copied().unwrap_or(f64::NAN);
+    let final_volume = profiles
+        .volumes_m3
+        .last()
+        .map(|v| format!(", V = {v:.6e} m3"))
+        .unwrap_or_default();
+    if plan.model().liquid.is_some() {
+        // A liquid phase has no ideal-gas pressure.
+        lines.push(format!(
+            "final state at {place}: T = {final_temperature:.2} K{final_volume}; concentrations [{}]:",
+            unit.label()
+        ));
+    } else {
+        lines.push(format!(
+            "final state at {place}: T = {final_temperature:.2} K{final_volume}, P = {:.6e} Pa; concentrations [{}]:",
+            profiles.pressure_pa(rows - 1).unwrap_or(f64::NAN),
+            unit.label()
+        ));
+    }
+    if !profiles.volumes_m3.is_empty() {
+        let temperatures = &profiles.temperatures_k;
+        let (hottest_row, hottest) =
+            temperatures
+                .iter()
+                .enumerate()
+                .fold(
+                    (0, f64::NEG_INFINITY),
+                    |m, (i, &t)| if t > m.1 { (i, t) } else { m },
+                );
+        lines.push(format!(
+            "hottest: T = {hottest:.2} K at t = {:.6e} s",
+            profiles.times_s[hottest_row]
+        ));
+    }
     let mut order: Vec<usize> = (0..last.len()).collect();
     order.sort_by(|&a, &b| last[b].total_cmp(&last[a]));
     for &i in order.iter().take(12) {
@@ -439,11 +471,12 @@ fn summary_lines(
         "wrote {} ({} rows, {} columns)",
         output.display(),
         profiles.times_s.len(),
-        // time (and distance), species, temperature, pressure, and density when every
-        // species has atoms
+        // time (and distance), species, temperature, volume (semi-batch), pressure, and
+        // density when every species has atoms
         2 * mechanism.species.len()
             + 3
             + usize::from(distances_m.is_some())
+            + usize::from(!profiles.volumes_m3.is_empty())
             + usize::from(mechanism.species.iter().all(|s| s.composition.is_some()))
     ));
     lines
@@ -482,8 +515,31 @@ pub fn describe_reactor(plan: &RunPlan) -> String {
             plug.mass_flow_kg_per_s()
         );
     }
+    let held = match (&model.semi_batch, model.constraint) {
+        (Some(_), Constraint::ConstantVolume) => "constant density",
+        _ => held,
+    };
+    let liquid = match &model.liquid {
+        Some(l) => format!(
+            "; liquid phase, rho cp = {} J/(m3 K), reaction enthalpies per step",
+            l.heat_capacity_j_per_m3_k()
+        ),
+        None => String::new(),
+    };
+    let batch = match &model.semi_batch {
+        Some(s) if s.feeds().is_empty() => {
+            format!("; volume {} m3 at the start", s.initial_volume_m3())
+        }
+        Some(s) => format!(
+            "; semi-batch, {} m3 at the start, {} feed{}",
+            s.initial_volume_m3(),
+            s.feeds().len(),
+            if s.feeds().len() == 1 { "" } else { "s" }
+        ),
+        None => String::new(),
+    };
     match &model.flow {
-        None => describe_energy(model, held, t),
+        None => format!("{}{batch}{liquid}", describe_energy(model, held, t)),
         Some(flow) => format!(
             "stirred tank, {}; residence time {} s, feed at {} K",
             describe_energy(model, held, t),
@@ -504,10 +560,15 @@ fn describe_energy(model: &stoik::reactor::ReactorModel, held: &str, t: f64) -> 
                 [one] => format!("coolant at {one} K"),
                 many => format!("coolant temperature through {} points", many.len()),
             };
-            format!(
-                "jacketed {held}, starting at {t} K, U A / V = {} W/(m3 K), {coolant}",
-                x.ua_per_volume_w_per_m3_k()
-            )
+            match x.ua_total_w_per_k() {
+                Some(ua) => {
+                    format!("jacketed {held}, starting at {t} K, U A = {ua} W/K, {coolant}")
+                }
+                None => format!(
+                    "jacketed {held}, starting at {t} K, U A / V = {} W/(m3 K), {coolant}",
+                    x.ua_per_volume_w_per_m3_k()
+                ),
+            }
         }
         Energy::Prescribed(history) => format!(
             "{held}, temperature prescribed through {} points",

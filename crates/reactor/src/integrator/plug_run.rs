@@ -4,11 +4,11 @@
 use diffsol::{DiffsolError, OdeSolverConfig, OdeSolverMethod, OdeSolverStopReason};
 
 use super::{
-    check_state, meaningfully_negative, minimum_step, most_negative, BatchSystem, Session,
-    MAX_NEGATIVE_REJECTIONS, NEGATIVE_STEP_SHRINK,
+    check_state, deadline, meaningfully_negative, minimum_step, most_negative, BatchSystem,
+    Control, Session, MAX_NEGATIVE_REJECTIONS, NEGATIVE_STEP_SHRINK,
 };
 use crate::equations::{Backend, BatchEquations};
-use crate::failure::Diagnosis;
+use crate::failure::{Diagnosis, Halt};
 use crate::plug::{PlugFlowProfiles, PlugOutputs};
 use crate::{IntegrationError, IntegrationFailure, Profiles, ReactorError, SolverStats};
 
@@ -33,7 +33,9 @@ impl BatchSystem {
         let by_distance = matches!(outputs, PlugOutputs::Distances(_));
         let targets = outputs.values()[1..].to_vec();
         let n = self.n_species;
-        let max_steps = self.max_steps;
+        let max_steps = self.limits.max_steps;
+        let monitor = self.limits.monitor.clone();
+        let deadline = deadline(self.limits.wall_time_limit_s);
         let mut integrator = self.open(0.0, initial_mol_per_m3)?;
         let mut rows: Vec<(f64, Vec<f64>)> = vec![(0.0, integrator.full_state().to_vec())];
         let mut record = |t: f64, y: &[f64]| rows.push((t, y.to_vec()));
@@ -42,11 +44,15 @@ impl BatchSystem {
         let result = with_stepper!(&mut integrator.session, s => {
             let budget = s.solver.get_statistics().number_of_steps.saturating_add(max_steps);
             *s.solver.config_mut().as_base_mut().maximum_number_timesteps = budget;
-            let r = drive_plug::<_, _>(&mut s.solver, &targets, by_distance, &mut s.buffer, &mut record, negative, rejections);
-            r.map_err(|e| {
-                let fastest = s.fastest_component();
-                let nonfinite = s.nonfinite_steps();
-                Diagnosis::new(&e, fastest, nonfinite)
+            let control = Control { monitor: monitor.as_ref(), deadline };
+            let r = drive_plug::<_, _>(&mut s.solver, &targets, by_distance, &mut s.buffer, &mut record, negative, rejections, control);
+            r.map_err(|e| match e {
+                Halt::Solver(_) => {
+                    let fastest = s.fastest_component();
+                    let nonfinite = s.nonfinite_steps();
+                    Diagnosis::of_halt(&e, fastest, nonfinite)
+                }
+                _ => Diagnosis::of_halt(&e, None, Vec::new()),
             })
         });
         integrator.refresh_stats();
@@ -64,7 +70,7 @@ impl BatchSystem {
                 fastest: d.fastest.map(|f| *f),
                 nonfinite_steps: d.nonfinite_steps,
                 partial: out.profiles,
-                source: Some(d.source),
+                source: d.source,
             }
             .into()),
         }
@@ -89,6 +95,7 @@ impl BatchSystem {
                 stats,
                 linear_algebra_used,
                 located: Vec::new(),
+                volumes_m3: Vec::new(),
             },
         };
         for (t, y) in rows {
@@ -112,6 +119,7 @@ impl BatchSystem {
     }
 }
 
+#[allow(clippy::too_many_arguments)]
 /// Steps `solver` until the last of `targets` is passed (distances in m when `by_distance`,
 /// else residence times in s; increasing, after the current state) and hands each target's
 /// residence time and state to `record`, from the solver's interpolant. Distances are placed
@@ -124,7 +132,8 @@ fn drive_plug<'a, M, S>(
     record: &mut dyn FnMut(f64, &[f64]),
     negative: &mut f64,
     rejections: &mut usize,
-) -> Result<(), DiffsolError>
+    control: Control<'_>,
+) -> Result<(), Halt>
 where
     M: Backend + 'a,
     S: OdeSolverMethod<'a, BatchEquations<M>>,
@@ -199,6 +208,7 @@ where
             next += 1;
         }
         z_before = z_after;
+        control.after_step(t, stopped || next >= targets.len())?;
         if stopped {
             break;
         }

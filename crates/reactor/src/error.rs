@@ -35,7 +35,8 @@ pub enum FailureKind {
 }
 
 /// The state component that changed fastest relative to its error weight when an
-/// integration failed: the largest |dy_i/dt| / (atol_i + rtol |y_i|).
+/// integration failed: the largest |dy_i/dt| / (atol_i + rtol |y_i|), with the requested
+/// tolerances.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct FastestComponent {
     /// Species index (mechanism order), or `None` for the temperature state.
@@ -44,11 +45,13 @@ pub struct FastestComponent {
     pub value: f64,
     /// Its time derivative (mol/(m3 s), or K/s).
     pub rate_per_s: f64,
-    /// Its absolute tolerance (mol/m3 or K).
+    /// Its requested absolute tolerance (mol/m3 or K).
     pub absolute_tolerance: f64,
     /// |rate| / (atol + rtol |value|): tolerance units per second (1/s).
     pub relative_rate_per_s: f64,
-    /// Whether the component's error weight, atol + rtol |value|, is within a few units of
+    /// Whether the component's error weight in the solver, atol + rtol |value| with the
+    /// solver's tolerances (the requested ones over
+    /// [`TOLERANCE_SAFETY_FACTOR`](crate::TOLERANCE_SAFETY_FACTOR)), is within a few units of
     /// round-off of its value (below 8 machine epsilons times |value|): no step can meet
     /// such a tolerance.
     pub tolerance_unreachable: bool,

@@ -37,7 +37,7 @@ use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
 use crate::watch::{gauss_legendre_3_nodes, Quantity, Watch, Watcher};
 use crate::{
     FastestComponent, IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra,
-    Profiles, ReactorError, RunMonitor, SolverError, SolverStats,
+    Profiles, ReactorError, RunMonitor, SolverError, SolverStats, TOLERANCE_SAFETY_FACTOR,
 };
 use std::time::{Duration, Instant};
 
@@ -620,7 +620,9 @@ where
     }
 
     /// The state component changing fastest relative to its error weight at the current
-    /// state: the largest |f_i| / (atol_i + rtol |y_i|), with its value and rate.
+    /// state: the largest |f_i| / (atol_i + rtol |y_i|), with its value and rate, reported
+    /// with the requested tolerances (the solver's times [`TOLERANCE_SAFETY_FACTOR`], exact
+    /// for a power of two).
     fn fastest_component(&mut self) -> Option<FastestComponent> {
         let t = self.time();
         let problem = self.solver.problem();
@@ -640,8 +642,9 @@ where
                 index: (i < n).then_some(i),
                 value: y[i],
                 rate_per_s: self.probe_w[i],
-                absolute_tolerance: atol[i],
-                relative_rate_per_s: r,
+                absolute_tolerance: atol[i] * TOLERANCE_SAFETY_FACTOR,
+                relative_rate_per_s: r / TOLERANCE_SAFETY_FACTOR,
+                // The weight the solver itself must meet.
                 tolerance_unreachable: atol[i] + rtol * y[i].abs()
                     <= 8.0 * f64::EPSILON * y[i].abs(),
                 driving_step: (i < n)
@@ -808,6 +811,8 @@ fn build_problem<M: Backend>(
     if !eqn.has_valid_structure() {
         return Err(ReactorError::BadPattern);
     }
+    // The solver works to the requested tolerances over TOLERANCE_SAFETY_FACTOR (see there);
+    // everything reported keeps the requested ones.
     let mut atol = options.absolute_tolerances_mol_per_m3.clone();
     if model.solves_energy() {
         atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
@@ -818,8 +823,10 @@ fn build_problem<M: Backend>(
     if let Some(semi) = &model.semi_batch {
         atol.push(VOLUME_ABSOLUTE_TOLERANCE * semi.initial_volume_m3());
     }
+    atol.iter_mut().for_each(|a| *a /= TOLERANCE_SAFETY_FACTOR);
+    let rtol = options.relative_tolerance / TOLERANCE_SAFETY_FACTOR;
     let mut problem = OdeBuilder::<M>::new()
-        .rtol(options.relative_tolerance)
+        .rtol(rtol)
         .atol(atol)
         .build_from_eqn(eqn)
         .map_err(|e| ReactorError::Setup(SolverError::new(e)))?;
@@ -827,7 +834,7 @@ fn build_problem<M: Backend>(
     problem.ode_options.min_timestep = ABSOLUTE_MINIMUM_STEP_S;
     problem.ode_options.nonlinear_solver_tolerance = options
         .newton_tolerance
-        .unwrap_or_else(|| default_newton_tolerance(options.relative_tolerance));
+        .unwrap_or_else(|| default_newton_tolerance(rtol));
     Ok(problem)
 }
 
@@ -849,15 +856,18 @@ fn state_laws(kinetics: &Kinetics, model: &ReactorModel) -> Vec<Vec<f64>> {
 }
 
 /// Absolute tolerance of the distance state of a plug flow (m): a nanometre; the relative
-/// tolerance times the distance takes over after the first steps.
+/// tolerance times the distance takes over after the first steps. Divided like the others by
+/// [`TOLERANCE_SAFETY_FACTOR`] for the solver.
 pub(crate) const DISTANCE_ABSOLUTE_TOLERANCE_M: f64 = 1e-9;
 
-/// Absolute tolerance of the temperature state (K); the relative tolerance times the
-/// temperature is far larger in practice.
+/// Requested absolute tolerance of the temperature state (K), divided like the others by
+/// [`TOLERANCE_SAFETY_FACTOR`] for the solver; the relative tolerance times the temperature
+/// is far larger in practice.
 pub(crate) const TEMPERATURE_ABSOLUTE_TOLERANCE_K: f64 = 1e-6;
 
-/// Absolute tolerance of the volume state, relative to the initial volume (dimensionless);
-/// the relative tolerance times the volume is far larger in practice.
+/// Absolute tolerance of the volume state, relative to the initial volume (dimensionless),
+/// divided like the others by [`TOLERANCE_SAFETY_FACTOR`] for the solver; the relative
+/// tolerance times the volume is far larger in practice.
 pub(crate) const VOLUME_ABSOLUTE_TOLERANCE: f64 = 1e-12;
 
 /// The batch-reactor equations of one compiled mechanism, set up once for repeated use.

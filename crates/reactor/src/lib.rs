@@ -94,6 +94,7 @@ pub use model::{Constraint, Energy, HeatExchange, ReactorModel, StirredFlow, Tem
 pub use monitor::RunMonitor;
 pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
+    TOLERANCE_SAFETY_FACTOR,
 };
 pub use owned::OwnedIntegrator;
 pub use plug::{

@@ -52,7 +52,7 @@ use crate::integrator::{
     TEMPERATURE_ABSOLUTE_TOLERANCE_K,
 };
 use crate::model::{energy_thermo, Energy, ReactorModel};
-use crate::{IntegrationOptions, ReactorError};
+use crate::{IntegrationOptions, ReactorError, TOLERANCE_SAFETY_FACTOR};
 
 type Core = BatchEquations<FaerSparseMat<f64>>;
 
@@ -526,13 +526,21 @@ fn core(
     Ok((eqn, initial))
 }
 
-/// The state's absolute tolerances (mol/m3 per species, K).
+/// The solver's absolute tolerances of the state (mol/m3 per species, K): the requested ones
+/// over [`TOLERANCE_SAFETY_FACTOR`], as in a plain run.
 fn state_atol(model: &ReactorModel, options: &IntegrationOptions) -> Vec<f64> {
     let mut atol = options.absolute_tolerances_mol_per_m3.clone();
     if model.solves_energy() {
         atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
     }
+    atol.iter_mut().for_each(|a| *a /= TOLERANCE_SAFETY_FACTOR);
     atol
+}
+
+/// The solver's relative tolerance: the requested one over [`TOLERANCE_SAFETY_FACTOR`], as in
+/// a plain run.
+fn solver_rtol(options: &IntegrationOptions) -> f64 {
+    options.relative_tolerance / TOLERANCE_SAFETY_FACTOR
 }
 
 fn check_target(
@@ -972,7 +980,7 @@ where
     problem.ode_options.min_timestep = ABSOLUTE_MINIMUM_STEP_S;
     problem.ode_options.nonlinear_solver_tolerance = options
         .newton_tolerance
-        .unwrap_or_else(|| default_newton_tolerance(options.relative_tolerance));
+        .unwrap_or_else(|| default_newton_tolerance(solver_rtol(options)));
 }
 
 fn failed(time_s: f64, e: DiffsolError) -> SensitivityError {
@@ -1125,7 +1133,7 @@ pub fn forward_parameter_sensitivities(
     let p = set.len();
     let params = ParamEquations::new(eqn, set, &initial);
     let builder = OdeBuilder::<FaerSparseMat<f64>>::new()
-        .rtol(options.relative_tolerance)
+        .rtol(solver_rtol(options))
         .atol(atol_state.clone())
         .t0(t0)
         .p(vec![0.0; p]);
@@ -1135,7 +1143,7 @@ pub fn forward_parameter_sensitivities(
             sens_atol.extend_from_slice(&atol_state);
         }
         builder
-            .sens_rtol(options.relative_tolerance)
+            .sens_rtol(solver_rtol(options))
             .sens_atol(sens_atol)
     } else {
         builder
@@ -1626,7 +1634,7 @@ pub fn adjoint_parameter_sensitivity(
     // Forward pass.
     let (eqn, trajectory, forward_steps, forward_evaluations) = {
         let mut problem = OdeBuilder::<FaerSparseMat<f64>>::new()
-            .rtol(options.relative_tolerance)
+            .rtol(solver_rtol(options))
             .atol(atol_state.clone())
             .t0(t0)
             .build_from_eqn(eqn)
@@ -1747,10 +1755,10 @@ pub fn adjoint_parameter_sensitivity(
         .iter()
         .fold(0.0f64, |a, x| a.max(x.abs()))
         .max(1e-300);
-    let atol_adjoint = vec![scale * options.relative_tolerance * 1e-3; m];
+    let atol_adjoint = vec![scale * solver_rtol(options) * 1e-3; m];
     let adjoint = AdjointEquations::new(eqn, trajectory, t_star, terminal);
     let mut problem = OdeBuilder::<FaerSparseMat<f64>>::new()
-        .rtol(options.relative_tolerance)
+        .rtol(solver_rtol(options))
         .atol(atol_adjoint)
         .t0(0.0)
         .build_from_eqn(adjoint)

@@ -24,6 +24,16 @@
 //! - [`plot`]: profiles, signed bar charts and flux graphs as SVG (plotters, in-process), and
 //!   the self-contained HTML report page.
 //!
+//! ## Depending on the library alone
+//!
+//! The default feature `cli` builds the `stoik` binary and its command-line crates (clap,
+//! indicatif, ctrlc, csv). A program that only embeds the library turns it off:
+//!
+//! ```toml
+//! [dependencies]
+//! stoik = { version = "0.1", default-features = false }
+//! ```
+//!
 //! A process model compiles a mechanism once and integrates it many times:
 //!
 //! ```
@@ -54,13 +64,23 @@
 
 #![warn(missing_docs)]
 
+#[doc(inline)]
 pub use stoik_analysis as analysis;
+#[doc(inline)]
 pub use stoik_diff as diff;
+#[doc(inline)]
 pub use stoik_fit as fit;
+#[doc(inline)]
 pub use stoik_kinetics as kinetics;
+#[doc(inline)]
 pub use stoik_mechanism as mechanism;
+#[doc(inline)]
 pub use stoik_plot as plot;
+#[doc(inline)]
 pub use stoik_reactor as reactor;
+#[doc(inline)]
 pub use stoik_scenario as scenario;
+#[doc(inline)]
 pub use stoik_suite as suite;
+#[doc(inline)]
 pub use stoik_thermo as thermo;

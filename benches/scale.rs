@@ -4,7 +4,7 @@
 //!
 //! Cases: Robertson to t = 1e5 and to t = 1e11 and HIRES (the bundled `mechanisms/`), and the
 //! converted benchmark mechanisms that `benches/compare/prepare.sh` writes to
-//! `target/bench-mech/mech/` (synth50 ... synth10000, random1000); missing ones are skipped
+//! `target/bench-mech/mech/` (synth20 ... synth10000, random1000); missing ones are skipped
 //! with a note, so a clean clone still builds and runs this bench.
 //!
 //! Loading and compiling happen once, outside the timing. Before timing, each case is also run
@@ -96,6 +96,7 @@ fn cases() -> Vec<Case> {
     ];
     let dir = bench_mech_dir().join("mech");
     for name in [
+        "synth20",
         "synth50",
         "synth200",
         "synth1000",

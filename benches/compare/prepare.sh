@@ -51,6 +51,16 @@ mech.save(m, '$MECH_DIR')
 print(m['name'], 'N', m['n_species'], 'M', len(m['reactions']))
 "
 fi
+# synth20: the small generated case of the LSODA comparison (issue 16's per-run overhead).
+if [ ! -f "$MECH_DIR/synth20.json" ]; then
+    "$PY" -c "
+import sys; sys.path.insert(0, '$SHARED/bench')
+import mech
+m = mech.synthetic(20)
+mech.save(m, '$MECH_DIR')
+print(m['name'], 'N', m['n_species'], 'M', len(m['reactions']))
+"
+fi
 if [ ! -f "$MECH_DIR/random1000.json" ]; then
     "$PY" "$HERE/random_partners.py" 1000
 fi

@@ -109,6 +109,8 @@ struct TankSpec {
     energy: Energy,
     temperature_k: f64,
     initial: Vec<NamedValue>,
+    /// Whether every value could be read (otherwise defaults stand in).
+    complete: bool,
 }
 
 /// A stream as written.
@@ -122,6 +124,8 @@ struct StreamSpec {
     flow_at: SourceLocation,
     feed_temperature_k: Option<f64>,
     feed: Option<Vec<NamedValue>>,
+    /// Whether every value could be read (otherwise the flow may be NaN).
+    complete: bool,
 }
 
 /// A parsed network scenario (SI units, species still named). Resolve it against its
@@ -280,10 +284,20 @@ fn read(
         .into_iter()
         .map(|(at, t)| read_stream(r, at, t, unit_factor))
         .collect();
-    let tanks: Option<Vec<TankSpec>> = tanks.into_iter().collect();
-    let streams: Option<Vec<StreamSpec>> = streams.into_iter().collect();
-    let (tanks, streams) = (tanks?, streams?);
+    // The topology is checked on what could be read (a stream whose flow could not be read
+    // counts with a NaN flow: its tanks are connected, their balance is not judged), so that
+    // every problem is reported at once.
+    // A tank with a name takes part even when another of its values could not be read.
+    let complete = streams
+        .iter()
+        .all(|s| s.as_ref().is_some_and(|s| s.complete))
+        && tanks.iter().all(|t| t.as_ref().is_some_and(|t| t.complete));
+    let streams: Vec<StreamSpec> = streams.into_iter().flatten().collect();
+    let tanks: Vec<TankSpec> = tanks.into_iter().flatten().collect();
     check_topology(r, &tanks, &streams);
+    if !complete {
+        return None;
+    }
     Some(NetworkScenario {
         title,
         mechanism_path: mechanism_path?,
@@ -437,15 +451,18 @@ fn read_tank(
         None => Some(Vec::new()),
     };
     let (name, name_byte) = name?;
+    let complete =
+        volume.is_some() && energy.is_some() && temperature_k.is_some() && initial.is_some();
     Some(TankSpec {
         name,
         at: r.location(name_byte),
         at_byte: name_byte,
         energy_at: r.location(energy_value.map_or(name_byte, |v| v.span().start)),
-        volume_m3: volume?,
-        energy: energy?,
-        temperature_k: temperature_k?,
-        initial: initial?,
+        volume_m3: volume.unwrap_or(f64::NAN),
+        energy: energy.unwrap_or(Energy::Isothermal),
+        temperature_k: temperature_k.unwrap_or(f64::NAN),
+        initial: initial.unwrap_or_default(),
+        complete,
     })
 }
 
@@ -486,8 +503,10 @@ fn read_stream(
         }
     };
     let (from, to) = (from?, to?);
+    let mut complete = true;
     let is_feed = from.is_none();
     if from.is_none() && to.is_none() {
+        complete = false;
         r.error(
             at,
             "[[stream]] needs `from` (the tank it leaves), `to` (the tank it enters), or both",
@@ -497,20 +516,32 @@ fn read_stream(
     let (mut feed_temperature_k, mut feed) = (None, None);
     if is_feed {
         match t.get("temperature") {
-            Some(v) => feed_temperature_k = Some(temperature(r, "temperature", v)?),
-            None => r.error(
-                at,
-                "a feed (a stream without `from`) needs its `temperature`",
-                Some("e.g. temperature = \"300 K\"".into()),
-            ),
+            Some(v) => {
+                feed_temperature_k = temperature(r, "temperature", v);
+                complete &= feed_temperature_k.is_some();
+            }
+            None => {
+                complete = error_false(
+                    r,
+                    at,
+                    "a feed (a stream without `from`) needs its `temperature`",
+                    Some("e.g. temperature = \"300 K\"".into()),
+                )
+            }
         }
         match t.get("concentrations") {
-            Some(v) => feed = Some(concentrations(r, "concentrations", v, factor)?),
-            None => r.error(
-                at,
-                "a feed (a stream without `from`) needs its `concentrations`",
-                Some("e.g. concentrations = { A = \"2 mol/L\" }".into()),
-            ),
+            Some(v) => {
+                feed = concentrations(r, "concentrations", v, factor);
+                complete &= feed.is_some();
+            }
+            None => {
+                complete = error_false(
+                    r,
+                    at,
+                    "a feed (a stream without `from`) needs its `concentrations`",
+                    Some("e.g. concentrations = { A = \"2 mol/L\" }".into()),
+                )
+            }
         }
     } else {
         for key in ["temperature", "concentrations"] {
@@ -523,8 +554,15 @@ fn read_stream(
             }
         }
     }
-    let (flow_m3_per_s, flow_at) = flow?;
+    let (flow_m3_per_s, flow_at) = match flow {
+        Some(f) => f,
+        None => {
+            complete = false;
+            (f64::NAN, r.location(at))
+        }
+    };
     Some(StreamSpec {
+        complete,
         at: r.location(at),
         from,
         to,
@@ -533,6 +571,12 @@ fn read_stream(
         feed_temperature_k,
         feed,
     })
+}
+
+/// Records an error and gives `false` (the stream is incomplete).
+fn error_false(r: &mut Report<'_>, at: usize, message: &str, help: Option<String>) -> bool {
+    r.error(at, message, help);
+    false
 }
 
 /// Undefined and duplicate tank names, unconnected tanks and volumetric flow imbalances.
@@ -554,13 +598,18 @@ fn check_topology(r: &mut Report<'_>, tanks: &[TankSpec], streams: &[StreamSpec]
     let mut inflow = vec![0.0; tanks.len()];
     let mut outflow = vec![0.0; tanks.len()];
     let mut touched = vec![false; tanks.len()];
+    let mut judged = vec![true; tanks.len()];
     for s in streams {
         for (end, flows) in [(&s.from, &mut outflow), (&s.to, &mut inflow)] {
             if let Some((name, at)) = end {
                 match index(name) {
                     Some(j) => {
                         touched[j] = true;
-                        flows[j] += s.flow_m3_per_s;
+                        if s.flow_m3_per_s.is_finite() {
+                            flows[j] += s.flow_m3_per_s;
+                        } else {
+                            judged[j] = false;
+                        }
                     }
                     None => {
                         let names: Vec<&str> = tanks.iter().map(|t| t.name.as_str()).collect();
@@ -584,8 +633,8 @@ fn check_topology(r: &mut Report<'_>, tanks: &[TankSpec], streams: &[StreamSpec]
                 ),
                 Some("give it a stream `to` it and one `from` it, or remove it".into()),
             ));
-        } else if (inflow[j] - outflow[j]).abs()
-            > FLOW_BALANCE_TOLERANCE * inflow[j].max(outflow[j])
+        } else if judged[j]
+            && (inflow[j] - outflow[j]).abs() > FLOW_BALANCE_TOLERANCE * inflow[j].max(outflow[j])
         {
             errors.push((
                 tank.at_byte,

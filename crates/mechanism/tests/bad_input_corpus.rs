@@ -98,12 +98,13 @@ fn every_corpus_file_reports_exactly_its_expected_problems() {
             .to_string();
         let text = std::fs::read_to_string(path).expect("readable corpus file");
         let expected = expectations(&text, &file);
-        let diagnostics = if file.ends_with(".scenario.toml") {
+        // Scenario and network-scenario files are checked by the scenario crate's tests.
+        let diagnostics = if file.ends_with(".scenario.toml") || file.ends_with(".network.toml") {
             continue;
         } else if file.ends_with(".mech.toml") {
             check_mechanism(&text, &file, &dir)
         } else {
-            panic!("{file}: corpus files end in .mech.toml or .scenario.toml");
+            panic!("{file}: corpus files end in .mech.toml, .scenario.toml or .network.toml");
         };
         let expected_errors = expected
             .iter()

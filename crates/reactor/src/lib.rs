@@ -67,6 +67,9 @@ mod integrator;
 mod invariants;
 mod model;
 mod monitor;
+mod network;
+mod network_run;
+mod network_steady;
 mod options;
 mod owned;
 mod plug;
@@ -92,6 +95,12 @@ pub use ignition::{ignition_delay, IgnitionCriterion, IgnitionDelay};
 pub use integrator::{BatchIntegrator, BatchSystem};
 pub use model::{Constraint, Energy, HeatExchange, ReactorModel, StirredFlow, TemperatureHistory};
 pub use monitor::RunMonitor;
+pub use network::{
+    NetworkError, NetworkProblem, NetworkProfiles, NetworkTank, Stream, TankNetwork, TankProfile,
+    FLOW_BALANCE_TOLERANCE,
+};
+pub use network_run::simulate_network;
+pub use network_steady::{network_steady_state, NetworkSteadyState, TankSteadyState};
 pub use options::{
     IntegrationOptions, LinearAlgebra, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL,
     TOLERANCE_SAFETY_FACTOR,

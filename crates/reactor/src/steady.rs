@@ -437,14 +437,6 @@ impl Tank {
         &self.eq.model
     }
 
-    fn residence_time_s(&self) -> f64 {
-        self.eq
-            .model
-            .flow
-            .as_ref()
-            .map_or(self.tau0, |f| f.residence_time_s())
-    }
-
     /// The temperature of state `y` (K).
     fn temperature(&self, y: &[f64]) -> f64 {
         self.eq.temperature_at(self.t_eval, y)
@@ -494,28 +486,6 @@ impl Tank {
         j
     }
 
-    /// The function solved: `f`, with the replaced row at constant pressure.
-    fn residual(&self, y: &[f64]) -> Vec<f64> {
-        let mut f = self.rhs(y);
-        if let Some((k, i0)) = self.invariant {
-            f[k] = (self.invariant_value(y) / i0 - 1.0) * y[k] / self.tau0;
-        }
-        f
-    }
-
-    /// The Jacobian of [`residual`](Self::residual).
-    fn residual_jacobian(&mut self, y: &[f64]) -> DMatrix<f64> {
-        let mut j = self.jacobian(y);
-        if let Some((k, i0)) = self.invariant {
-            let g = self.invariant_gradient(y);
-            for (col, gc) in g.iter().enumerate() {
-                j[(k, col)] = y[k] * gc / (i0 * self.tau0);
-            }
-            j[(k, k)] += (self.invariant_value(y) / i0 - 1.0) / self.tau0;
-        }
-        j
-    }
-
     /// Eigenvalues of the Jacobian of `f` at `y` (restricted to the invariant's level set at
     /// constant pressure).
     fn stability(&mut self, y: &[f64]) -> Stability {
@@ -533,28 +503,7 @@ impl Tank {
                 })
             }
         };
-        // The Schur iteration's test on the subdiagonal is relative to the diagonal.
-        // A stalled iteration is retried with a looser test (1e-12 and 1e-9 relative: the
-        // eigenvalues then carry that relative error).
-        let mut eigen: Vec<(f64, f64)> = [f64::EPSILON, 1e-12, 1e-9]
-            .into_iter()
-            .find_map(|eps| nalgebra::Schur::try_new(matrix.clone(), eps, 10_000))
-            .map_or_else(
-                || vec![(f64::NAN, 0.0)],
-                |s| {
-                    s.complex_eigenvalues()
-                        .iter()
-                        .map(|z| (z.re, z.im))
-                        .collect()
-                },
-            );
-        eigen.sort_by(|a, b| b.0.total_cmp(&a.0));
-        let largest = eigen.first().map_or(f64::NAN, |e| e.0);
-        Stability {
-            stable: largest < 0.0,
-            largest_real_part_per_s: largest,
-            eigenvalues_per_s: eigen,
-        }
+        eigen_stability(matrix)
     }
 
     /// Sets the continuation parameter to `value` (s or K).
@@ -647,6 +596,80 @@ impl Tank {
         }
         cp / dh
     }
+}
+
+/// A system whose steady state `F(y) = 0` is solved by [`newton`] and [`pseudo_transient`]:
+/// one stirred tank or a network of tanks.
+pub(crate) trait SteadyProblem {
+    /// Number of states.
+    fn size(&self) -> usize;
+
+    /// The time scale of the residual's scaling and of the pseudo time step (s): a residence
+    /// time.
+    fn residence_time_s(&self) -> f64;
+
+    /// The function solved.
+    fn residual(&self, y: &[f64]) -> Vec<f64>;
+
+    /// The dense Jacobian of [`residual`](Self::residual).
+    fn residual_jacobian(&mut self, y: &[f64]) -> DMatrix<f64>;
+
+    /// Error weights `rtol |y_i| + atol_i`.
+    fn weights(&self, y: &[f64], options: &SteadyOptions) -> Vec<f64>;
+
+    /// Whether `y` is a physical state.
+    fn admissible(&self, y: &[f64]) -> bool;
+
+    /// `max_i tau |f_i| / w_i`.
+    fn scaled_residual(&self, f: &[f64], w: &[f64]) -> f64 {
+        let tau = self.residence_time_s();
+        f.iter()
+            .zip(w)
+            .fold(0.0f64, |a, (f, w)| a.max(tau * f.abs() / w))
+    }
+
+    /// Root mean square of `tau f_i / w_i` (the merit function of the line search).
+    fn merit(&self, f: &[f64], w: &[f64]) -> f64 {
+        let tau = self.residence_time_s();
+        let s: f64 = f.iter().zip(w).map(|(f, w)| (tau * f / w).powi(2)).sum();
+        (s / f.len().max(1) as f64).sqrt()
+    }
+}
+
+impl SteadyProblem for Tank {
+    fn size(&self) -> usize {
+        self.m
+    }
+
+    fn residence_time_s(&self) -> f64 {
+        self.eq
+            .model
+            .flow
+            .as_ref()
+            .map_or(self.tau0, |f| f.residence_time_s())
+    }
+
+    /// The function solved: `f`, with the replaced row at constant pressure.
+    fn residual(&self, y: &[f64]) -> Vec<f64> {
+        let mut f = self.rhs(y);
+        if let Some((k, i0)) = self.invariant {
+            f[k] = (self.invariant_value(y) / i0 - 1.0) * y[k] / self.tau0;
+        }
+        f
+    }
+
+    /// The Jacobian of [`residual`](SteadyProblem::residual).
+    fn residual_jacobian(&mut self, y: &[f64]) -> DMatrix<f64> {
+        let mut j = self.jacobian(y);
+        if let Some((k, i0)) = self.invariant {
+            let g = self.invariant_gradient(y);
+            for (col, gc) in g.iter().enumerate() {
+                j[(k, col)] = y[k] * gc / (i0 * self.tau0);
+            }
+            j[(k, k)] += (self.invariant_value(y) / i0 - 1.0) / self.tau0;
+        }
+        j
+    }
 
     /// Error weights `rtol |y_i| + atol_i`.
     fn weights(&self, y: &[f64], options: &SteadyOptions) -> Vec<f64> {
@@ -666,21 +689,6 @@ impl Tank {
             .collect()
     }
 
-    /// `max_i tau |f_i| / w_i`.
-    fn scaled_residual(&self, f: &[f64], w: &[f64]) -> f64 {
-        let tau = self.residence_time_s();
-        f.iter()
-            .zip(w)
-            .fold(0.0f64, |a, (f, w)| a.max(tau * f.abs() / w))
-    }
-
-    /// Root mean square of `tau f_i / w_i` (the merit function of the line search).
-    fn merit(&self, f: &[f64], w: &[f64]) -> f64 {
-        let tau = self.residence_time_s();
-        let s: f64 = f.iter().zip(w).map(|(f, w)| (tau * f / w).powi(2)).sum();
-        (s / f.len().max(1) as f64).sqrt()
-    }
-
     /// Whether `y` is a physical state: finite, concentrations above minus a millionth of
     /// the total, temperature positive.
     fn admissible(&self, y: &[f64]) -> bool {
@@ -693,16 +701,47 @@ impl Tank {
     }
 }
 
+/// Eigenvalues of `matrix` (1/s), largest real part first, and the stability they imply.
+pub(crate) fn eigen_stability(matrix: DMatrix<f64>) -> Stability {
+    // The Schur iteration's test on the subdiagonal is relative to the diagonal.
+    // A stalled iteration is retried with a looser test (1e-12 and 1e-9 relative: the
+    // eigenvalues then carry that relative error).
+    let mut eigen: Vec<(f64, f64)> = [f64::EPSILON, 1e-12, 1e-9]
+        .into_iter()
+        .find_map(|eps| nalgebra::Schur::try_new(matrix.clone(), eps, 10_000))
+        .map_or_else(
+            || vec![(f64::NAN, 0.0)],
+            |s| {
+                s.complex_eigenvalues()
+                    .iter()
+                    .map(|z| (z.re, z.im))
+                    .collect()
+            },
+        );
+    eigen.sort_by(|a, b| b.0.total_cmp(&a.0));
+    let largest = eigen.first().map_or(f64::NAN, |e| e.0);
+    Stability {
+        stable: largest < 0.0,
+        largest_real_part_per_s: largest,
+        eigenvalues_per_s: eigen,
+    }
+}
+
 /// The result of one Newton attempt.
-struct NewtonRun {
-    iterations: usize,
-    converged: bool,
-    correction: f64,
-    reason: String,
+pub(crate) struct NewtonRun {
+    pub(crate) iterations: usize,
+    pub(crate) converged: bool,
+    pub(crate) correction: f64,
+    pub(crate) reason: String,
 }
 
 /// Damped Newton on `F(y) = 0` from `y` (updated in place).
-fn newton(tank: &mut Tank, y: &mut [f64], options: &SteadyOptions, max_iter: usize) -> NewtonRun {
+pub(crate) fn newton<P: SteadyProblem>(
+    tank: &mut P,
+    y: &mut [f64],
+    options: &SteadyOptions,
+    max_iter: usize,
+) -> NewtonRun {
     let mut run = NewtonRun {
         iterations: 0,
         converged: false,
@@ -767,8 +806,8 @@ fn newton(tank: &mut Tank, y: &mut [f64], options: &SteadyOptions, max_iter: usi
 
 /// Pseudo-transient continuation from `y`, handing over to Newton once the pseudo time step
 /// exceeds ten residence times. Returns (steps, Newton iterations, converged, reason).
-fn pseudo_transient(
-    tank: &mut Tank,
+pub(crate) fn pseudo_transient<P: SteadyProblem>(
+    tank: &mut P,
     y: &mut [f64],
     options: &SteadyOptions,
 ) -> (usize, usize, bool, String) {
@@ -783,7 +822,7 @@ fn pseudo_transient(
         steps += 1;
         let mut a = tank.residual_jacobian(y);
         a.neg_mut();
-        for i in 0..tank.m {
+        for i in 0..tank.size() {
             a[(i, i)] += 1.0 / dt;
         }
         let rhs = DVector::from_column_slice(&f);

@@ -36,6 +36,7 @@
 mod box_sections;
 mod error;
 mod file;
+mod network_file;
 mod plan;
 mod plug_section;
 mod read;
@@ -49,6 +50,10 @@ pub use file::{
     profile_bytes, OutputTimes, Scenario, LINEAR_ALGEBRA_NAMES, MAX_END_TIME_S, MAX_GRID_POINTS,
     MAX_PROFILE_BYTES, MOLE_FRACTION_SUM_TOLERANCE, PRESSURE_RANGE_PA, REACTOR_KINDS,
     SCENARIO_FORMAT_VERSION, TEMPERATURE_RANGE_K,
+};
+pub use network_file::{
+    is_network_scenario_text, load_network_scenario, parse_network_scenario, NetworkPlan,
+    NetworkScenario, TANK_ENERGY_NAMES,
 };
 pub use plan::{Composition, RunPlan};
 pub use run::{

@@ -455,65 +455,70 @@ impl Scenario {
     /// Output times in s for the current `end_time_s` and `output`: 0.0 first, end_time last,
     /// strictly increasing; `Err` with a message if the settings are inconsistent.
     pub fn output_times_s(&self) -> Result<Vec<f64>, String> {
-        let end = self.end_time_s;
-        if positive_finite_problem(end).is_some() {
-            return Err(format!("end time {end} s must be positive and finite"));
-        }
-        let mut times = vec![0.0];
-        match &self.output {
-            OutputTimes::List(list) => {
-                for &t in list {
-                    if !(t.is_finite() && (0.0..=end).contains(&t)) {
-                        return Err(format!("output time {t} s is outside [0, {end}] s"));
-                    }
-                    let last = *times.last().unwrap_or(&0.0);
-                    if t < last || (t == last && t != 0.0) {
-                        return Err(format!(
-                            "output times must be strictly increasing ({t} s after {last} s)"
-                        ));
-                    }
-                    if t > last {
-                        times.push(t);
-                    }
+        output_times(self.end_time_s, &self.output)
+    }
+}
+
+/// Output times in s for end time `end` (s) and the `output` setting: 0.0 first, `end`
+/// last, strictly increasing; `Err` with a message if the settings are inconsistent.
+pub(crate) fn output_times(end: f64, output: &OutputTimes) -> Result<Vec<f64>, String> {
+    if positive_finite_problem(end).is_some() {
+        return Err(format!("end time {end} s must be positive and finite"));
+    }
+    let mut times = vec![0.0];
+    match output {
+        OutputTimes::List(list) => {
+            for &t in list {
+                if !(t.is_finite() && (0.0..=end).contains(&t)) {
+                    return Err(format!("output time {t} s is outside [0, {end}] s"));
                 }
-                if *times.last().unwrap_or(&0.0) < end {
-                    times.push(end);
-                }
-            }
-            OutputTimes::Linear { points } => {
-                let n = (*points).max(2);
-                // i/(n-1) first: end * i could overflow for an end time near f64::MAX.
-                times.extend((1..n).map(|i| end * (i as f64 / (n - 1) as f64)));
-                if let Some(last) = times.last_mut() {
-                    *last = end;
-                }
-            }
-            OutputTimes::Logarithmic { first_s, points } => {
-                let first = *first_s;
-                if !(first > 0.0 && first < end) {
+                let last = *times.last().unwrap_or(&0.0);
+                if t < last || (t == last && t != 0.0) {
                     return Err(format!(
-                        "first log output time {first} s must be in (0, {end}) s"
+                        "output times must be strictly increasing ({t} s after {last} s)"
                     ));
                 }
-                let n = (*points).max(2);
-                let ratio = (end / first).ln();
-                times.extend((0..n).map(|i| first * (ratio * i as f64 / (n - 1) as f64).exp()));
-                if let Some(last) = times.last_mut() {
-                    *last = end;
+                if t > last {
+                    times.push(t);
                 }
             }
+            if *times.last().unwrap_or(&0.0) < end {
+                times.push(end);
+            }
         }
-        if let Some(w) = times
-            .windows(2)
-            .find(|w| !(w[1].is_finite() && w[1] > w[0]))
-        {
-            return Err(format!(
+        OutputTimes::Linear { points } => {
+            let n = (*points).max(2);
+            // i/(n-1) first: end * i could overflow for an end time near f64::MAX.
+            times.extend((1..n).map(|i| end * (i as f64 / (n - 1) as f64)));
+            if let Some(last) = times.last_mut() {
+                *last = end;
+            }
+        }
+        OutputTimes::Logarithmic { first_s, points } => {
+            let first = *first_s;
+            if !(first > 0.0 && first < end) {
+                return Err(format!(
+                    "first log output time {first} s must be in (0, {end}) s"
+                ));
+            }
+            let n = (*points).max(2);
+            let ratio = (end / first).ln();
+            times.extend((0..n).map(|i| first * (ratio * i as f64 / (n - 1) as f64).exp()));
+            if let Some(last) = times.last_mut() {
+                *last = end;
+            }
+        }
+    }
+    if let Some(w) = times
+        .windows(2)
+        .find(|w| !(w[1].is_finite() && w[1] > w[0]))
+    {
+        return Err(format!(
                 "the output times are not distinct in double precision ({} s then {} s); use fewer output points or a longer end time",
                 w[0], w[1]
             ));
-        }
-        Ok(times)
     }
+    Ok(times)
 }
 
 /// Initial concentrations (mol/m3, species order) of `scenario`: mole fractions become

@@ -38,12 +38,12 @@ const JACKET_KEYS: &[&str] = &[
     "coolant_temperature_history",
 ];
 /// Units of U A (heat-transfer coefficient times area).
-const UA_UNITS: &[&str] = &["W/K", "kW/K"];
+pub(crate) const UA_UNITS: &[&str] = &["W/K", "kW/K"];
 /// Units of a reactor volume.
-const VOLUME_UNITS: &[&str] = &["m3", "L", "mL", "cm3"];
+pub(crate) const VOLUME_UNITS: &[&str] = &["m3", "L", "mL", "cm3"];
 
 /// Converts U A in `unit` (W/K, kW/K) to W/K.
-fn ua_to_w_per_k(value: f64, unit: &str) -> Option<f64> {
+pub(crate) fn ua_to_w_per_k(value: f64, unit: &str) -> Option<f64> {
     match unit {
         "W/K" => Some(value),
         "kW/K" => Some(value * 1e3),
@@ -52,7 +52,7 @@ fn ua_to_w_per_k(value: f64, unit: &str) -> Option<f64> {
 }
 
 /// Converts a volume in `unit` (m3, L, mL, cm3) to m3.
-fn volume_to_m3(value: f64, unit: &str) -> Option<f64> {
+pub(crate) fn volume_to_m3(value: f64, unit: &str) -> Option<f64> {
     let factor = match unit {
         "m3" => 1.0,
         "L" => 1e-3,

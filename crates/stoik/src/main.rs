@@ -10,6 +10,7 @@ mod energetics;
 mod error;
 mod fit_rate;
 mod fit_thermo;
+mod network_run;
 mod out_file;
 mod progress;
 mod report;
@@ -596,7 +597,13 @@ fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match cli.command {
         Command::Check { file, strict } => check::check(&file, strict),
-        Command::Run(args) => run::run(&args),
+        Command::Run(args) => {
+            if is_network_scenario(&args.scenario) {
+                network_run::run(&args)
+            } else {
+                run::run(&args)
+            }
+        }
         Command::Batch(args) => batch::batch(&args),
         Command::FitThermo(args) => fit_thermo::fit_thermo(&args),
         Command::Energetics(args) => energetics::energetics(&args),
@@ -622,4 +629,12 @@ fn main() -> ExitCode {
             ExitCode::from(e.exit_code())
         }
     }
+}
+
+/// Whether the file at `path` reads as a network scenario (`[[tank]]`); an unreadable file
+/// is left to the ordinary scenario path, which reports it.
+fn is_network_scenario(path: &std::path::Path) -> bool {
+    std::fs::read_to_string(path)
+        .map(|text| stoik::scenario::is_network_scenario_text(&text))
+        .unwrap_or(false)
 }

@@ -15,7 +15,10 @@ use crate::integrator::{
     ABSOLUTE_MINIMUM_STEP_S, TEMPERATURE_ABSOLUTE_TOLERANCE_K,
 };
 use crate::network::{NetworkError, NetworkProfiles, NetworkSystem, TankNetwork, TankProfile};
-use crate::{IntegrationOptions, LinearAlgebra, ReactorError, SolverError, SolverStats};
+use crate::{
+    IntegrationOptions, LinearAlgebra, ReactorError, SolverError, SolverStats,
+    TOLERANCE_SAFETY_FACTOR,
+};
 use stoik_kinetics::Kinetics;
 
 /// The network's equations for diffsol on backend `M`.
@@ -207,8 +210,11 @@ const MAX_NEGATIVE_REJECTIONS: usize = 10;
 macro_rules! run {
     ($M:ty, $LS:ty, $eqn:expr, $atol:expr, $t0:expr, $outputs:expr, $options:expr) => {{
         let (outputs, options, t0): (&[f64], &IntegrationOptions, f64) = ($outputs, $options, $t0);
+        // The solver's tolerances: the requested ones over TOLERANCE_SAFETY_FACTOR, as in a
+        // single reactor.
+        let rtol = options.relative_tolerance / TOLERANCE_SAFETY_FACTOR;
         let mut problem = OdeBuilder::<$M>::new()
-            .rtol(options.relative_tolerance)
+            .rtol(rtol)
             .atol($atol)
             .build_from_eqn($eqn)
             .map_err(|e| ReactorError::Setup(SolverError::new(e)))?;
@@ -217,7 +223,7 @@ macro_rules! run {
         problem.ode_options.min_timestep = ABSOLUTE_MINIMUM_STEP_S;
         problem.ode_options.nonlinear_solver_tolerance = options
             .newton_tolerance
-            .unwrap_or_else(|| default_newton_tolerance(options.relative_tolerance));
+            .unwrap_or_else(|| default_newton_tolerance(rtol));
         let mut solver = problem
             .bdf::<$LS>()
             .map_err(|e| ReactorError::Setup(SolverError::new(e)))?;
@@ -271,6 +277,7 @@ pub fn simulate_network(
             atol.push(TEMPERATURE_ABSOLUTE_TOLERANCE_K);
         }
     }
+    atol.iter_mut().for_each(|a| *a /= TOLERANCE_SAFETY_FACTOR);
     if choice.is_sparse() {
         let eqn =
             NetworkEquations::<FaerSparseMat<f64>>::new(system, initial, options.non_negative);

@@ -1142,9 +1142,7 @@ pub fn forward_parameter_sensitivities(
         for _ in 0..p {
             sens_atol.extend_from_slice(&atol_state);
         }
-        builder
-            .sens_rtol(solver_rtol(options))
-            .sens_atol(sens_atol)
+        builder.sens_rtol(solver_rtol(options)).sens_atol(sens_atol)
     } else {
         builder
     };

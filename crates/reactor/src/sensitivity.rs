@@ -40,9 +40,9 @@ use std::cell::{Cell, RefCell};
 
 use diffsol::{
     ConstantOp, DiffsolError, FaerContext, FaerSparseMat, FaerVec, Matrix, NonLinearOp,
-    NonLinearOpJacobian, OdeBuilder, OdeEquations, OdeEquationsRef,
-    OdeSolverConfig, OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op, ParameterisedOp,
-    UnitCallable, Vector, VectorCommon,
+    NonLinearOpJacobian, OdeBuilder, OdeEquations, OdeEquationsRef, OdeSolverConfig,
+    OdeSolverMethod, OdeSolverProblem, OdeSolverStopReason, Op, ParameterisedOp, UnitCallable,
+    Vector, VectorCommon,
 };
 use faer::sparse::SymbolicSparseColMat;
 use stoik_kinetics::{FalloffLimit, Kinetics, GAS_CONSTANT};
@@ -1003,9 +1003,27 @@ const NDF_KAPPA: [f64; MAX_ORDER + 1] = [0.0, -0.1850, -1.0 / 9.0, -0.0823, -0.0
 ///
 /// `(I - c J(t_n+1, y_n+1)) s_n+1 = H + c df/dp(t_n+1, y_n+1)`,
 ///
-/// one block triangular solve for all parameters (`m x P`, row-major). The state's Newton
-/// matrix cannot be used for it: it is evaluated at an earlier state and step size, so a
-/// solve with it is only a preconditioned iteration.
+/// one block triangular solve for all parameters (`m x P`, row-major), `H = D_0 + sum_(j=1..k)
+/// (1 - alpha_k gamma_j) D_j` from the backward differences `D_j` (the prediction minus
+/// diffsol's `psi`) and `c = h alpha_k`. The differences are updated, rescaled at a change of
+/// step size (`D <- D R U`) and interpolated as diffsol does for the state.
+///
+/// Why not diffsol's own forward sensitivities: its staggered corrector solves the same
+/// equations by iteration with the state's Newton matrix, which is evaluated at an earlier
+/// state and step size, and its convergence test needs a second update to measure a rate, so
+/// every step costs two block products with `J` and two block solves (2,186 of each for 1,087
+/// steps on the benchmark case; a looser derivative tolerance hardly changes that). Here a
+/// step costs one evaluation of `J`, one sparse factorization and one block solve, no block
+/// product (the history enters through `H`), and the sensitivities are exact up to rounding
+/// at every step rather than to the derivative tolerance: 3.7 times a plain run against 9.2
+/// (benches/README.md). diffsol's options offer no single-iteration corrector, so patching
+/// it was the alternative.
+///
+/// The history is kept as differences, not as values on the step grid: values would save
+/// memory traffic (one pass over `k + 1` blocks per step) but their formula weights alternate
+/// in sign and reach tens, and the rounding that puts into an undamped mode (a conserved total
+/// of the sensitivities) was measured ten times larger (`A <=> B` at equilibrium: 2.4e-15
+/// against 4.6e-16 mol/m3 in `d(c_A + c_B)/d ln k`, exactly zero).
 struct DirectSensitivities {
     m: usize,
     p: usize,
@@ -1023,6 +1041,8 @@ struct DirectSensitivities {
     t: f64,
     /// Row-major `m x p` block: right-hand sides, then the solution.
     block: Vec<f64>,
+    /// The order whose history `H` the block holds, made ahead by the last step's update.
+    prepared: Option<usize>,
     /// Jacobian values (state pattern).
     jac: Vec<f64>,
     /// `I - c J` on the pattern of `lu` (the state pattern with every diagonal entry).
@@ -1034,6 +1054,18 @@ struct DirectSensitivities {
     alpha: [f64; MAX_ORDER + 1],
     /// Scratch of a rescale: one state's differences.
     row: Vec<f64>,
+}
+
+/// `out = sum_(j<=order) weights_j D_j` for one state's differences `d` (`DIFFERENCES` blocks
+/// of `out.len()` lanes).
+fn history_row(out: &mut [f64], d: &[f64], weights: &[f64; MAX_ORDER + 1], order: usize) {
+    let p = out.len();
+    out.copy_from_slice(&d[..p]);
+    for (j, &w) in weights.iter().enumerate().take(order + 1).skip(1) {
+        for (o, x) in out.iter_mut().zip(&d[j * p..(j + 1) * p]) {
+            *o += w * x;
+        }
+    }
 }
 
 impl DirectSensitivities {
@@ -1076,12 +1108,13 @@ impl DirectSensitivities {
             }
             newton_starts.push(newton_rows.len());
         }
-        let lu = crate::fixed_lu::shared_analysis(m, &newton_starts, &newton_rows).ok_or_else(
-            || SensitivityError::Failed {
-                time_s: t0,
-                reason: "the sparse analysis of the sensitivity matrix failed".into(),
-            },
-        )?;
+        let lu =
+            crate::fixed_lu::shared_analysis(m, &newton_starts, &newton_rows).ok_or_else(|| {
+                SensitivityError::Failed {
+                    time_s: t0,
+                    reason: "the sparse analysis of the sensitivity matrix failed".into(),
+                }
+            })?;
         let mut gamma = [0.0; MAX_ORDER + 1];
         let mut alpha = [0.0; MAX_ORDER + 1];
         for i in 1..=MAX_ORDER {
@@ -1105,6 +1138,7 @@ impl DirectSensitivities {
             last_order: order,
             t: t0,
             block: vec![0.0; m * p],
+            prepared: None,
             jac: vec![0.0; rows.len()],
             newton: vec![0.0; newton_rows.len()],
             jac_to_newton,
@@ -1121,12 +1155,14 @@ impl DirectSensitivities {
     /// 1997, section 3.2; the rescale diffsol applies to the state).
     fn rescale(&mut self, order: usize, factor: f64) {
         let n = order + 1;
+        // r[i][j] = prod_(l=1..i) (l - 1 - f j) / l.
         let r = |f: f64| {
             let mut r = [[0.0; MAX_ORDER + 1]; MAX_ORDER + 1];
-            for j in 0..n {
-                r[0][j] = 1.0;
-                for i in 1..n {
-                    r[i][j] = r[i - 1][j] * ((i - 1) as f64 - f * j as f64) / i as f64;
+            r[0] = [1.0; MAX_ORDER + 1];
+            for i in 1..n {
+                let (above, rows) = r.split_at_mut(i);
+                for (j, (x, &previous)) in rows[0].iter_mut().zip(&above[i - 1]).enumerate() {
+                    *x = previous * ((i - 1) as f64 - f * j as f64) / i as f64;
                 }
             }
             r
@@ -1180,6 +1216,7 @@ impl DirectSensitivities {
         if h != self.h {
             self.rescale(order, h / self.h);
             self.h = h;
+            self.prepared = None;
         }
         let c = h * self.alpha[order];
         // I - c J at the end of the step, factorized.
@@ -1198,41 +1235,39 @@ impl DirectSensitivities {
         self.lu
             .factorize(&self.newton)
             .map_err(|e| failure(&e.to_string()))?;
-        // Right-hand side: the prediction minus psi, sum_j D_j - alpha sum_(j>=1) gamma_j D_j,
-        // plus c df/dp.
-        let mut weights = [0.0; MAX_ORDER + 1];
-        weights[0] = 1.0;
-        for j in 1..=order {
-            weights[j] = 1.0 - self.alpha[order] * self.gamma[j];
-        }
-        for (out, d) in self
-            .block
-            .chunks_exact_mut(p)
-            .zip(self.diff.chunks_exact(DIFFERENCES * p))
-        {
-            out.copy_from_slice(&d[..p]);
-            for (j, &w) in weights.iter().enumerate().take(order + 1).skip(1) {
-                for (o, x) in out.iter_mut().zip(&d[j * p..(j + 1) * p]) {
-                    *o += w * x;
-                }
+        // Right-hand side: the history H (made by the last step's update when it knew this
+        // step's order and step size), plus c df/dp.
+        if self.prepared != Some(order) {
+            let weights = self.history_weights(order);
+            for (out, d) in self
+                .block
+                .chunks_exact_mut(p)
+                .zip(self.diff.chunks_exact(DIFFERENCES * p))
+            {
+                history_row(out, d, &weights, order);
             }
         }
+        self.prepared = None;
         // + c df/dp (a rate constant's column is sparse in a constant-volume reactor).
         let block = &mut self.block;
         params.for_each_entry(after, y, |b, i, v| block[i * p + b] += c * v);
         self.lu
             .solve_rows_in_place(&mut self.block, p)
             .map_err(|e| failure(&e.to_string()))?;
-        if !self.block.iter().all(|v| v.is_finite()) {
-            return Err(failure("the sensitivities are not finite"));
-        }
         // The differences at the new point: with the correction d = s_new - sum_(j<=order) D_j,
         // D_(order+2) = d - D_(order+1), then D_j += D_(j+1) from j = order + 1 down to 0.
+        // When the solver's next step keeps the step size, its history H is made in the same
+        // pass, while each state's differences are in cache (one pass over them per step).
+        let next_order = order_next.clamp(1, MAX_ORDER);
+        let prepare = h_next == self.h;
+        let next_weights = self.history_weights(next_order);
+        let mut finite = true;
         for (d, s_new) in self
             .diff
             .chunks_exact_mut(DIFFERENCES * p)
-            .zip(self.block.chunks_exact(p))
+            .zip(self.block.chunks_exact_mut(p))
         {
+            finite &= s_new.iter().all(|v| v.is_finite());
             let (head, tail) = d.split_at_mut((order + 2) * p);
             let last = &mut tail[..p];
             last.copy_from_slice(s_new);
@@ -1247,12 +1282,30 @@ impl DirectSensitivities {
                     *x += y;
                 }
             }
+            if prepare {
+                history_row(s_new, d, &next_weights, next_order);
+            }
         }
+        if !finite {
+            return Err(failure("the sensitivities are not finite"));
+        }
+        self.prepared = prepare.then_some(next_order);
         self.last_order = order;
         self.order = order_next;
         self.h_next = h_next;
         self.t = after;
         Ok(())
+    }
+
+    /// Weights of `D_0..D_order` in the history `H` of an order-`order` step: the prediction
+    /// `sum_j D_j` minus `psi = alpha_k sum_(j>=1) gamma_j D_j`.
+    fn history_weights(&self, order: usize) -> [f64; MAX_ORDER + 1] {
+        let mut weights = [0.0; MAX_ORDER + 1];
+        weights[0] = 1.0;
+        for (w, &gamma) in weights.iter_mut().zip(&self.gamma).take(order + 1).skip(1) {
+            *w = 1.0 - self.alpha[order] * gamma;
+        }
+        weights
     }
 
     /// The sensitivities (per parameter, over the state) at `t` inside the last step, from

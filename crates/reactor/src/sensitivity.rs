@@ -1015,9 +1015,10 @@ const NDF_KAPPA: [f64; MAX_ORDER + 1] = [0.0, -0.1850, -1.0 / 9.0, -0.0823, -0.0
 /// steps on the benchmark case; a looser derivative tolerance hardly changes that). Here a
 /// step costs one evaluation of `J`, one sparse factorization and one block solve, no block
 /// product (the history enters through `H`), and the sensitivities are exact up to rounding
-/// at every step rather than to the derivative tolerance: 3.7 times a plain run against 9.2
-/// (benches/README.md). diffsol's options offer no single-iteration corrector, so patching
-/// it was the alternative.
+/// at every step rather than to the derivative tolerance: 5.2 times a plain run against 10.5
+/// (medians of five alternating runs in one loaded session, the forward run 1.8 to 2.2 times
+/// faster; benches/README.md). diffsol's options offer no single-iteration corrector, so
+/// patching it was the alternative.
 ///
 /// The history is kept as differences, not as values on the step grid: values would save
 /// memory traffic (one pass over `k + 1` blocks per step) but their formula weights alternate

@@ -109,21 +109,31 @@ impl FixedPatternSolver {
     fn analyse(matrix: &FaerSparseMat<f64>) -> Option<FixedPatternLu> {
         let block = matrix.inner().first()?;
         let symbolic = block.symbolic();
-        let (n, columns, rows) = (block.ncols(), symbolic.col_ptr(), symbolic.row_idx());
-        let entry = cache_entry(pattern_hash(n, columns, rows));
-        let mut slot = entry.analysis.lock().unwrap_or_else(|p| p.into_inner());
-        let template = slot.get_or_insert_with(|| {
-            entry.analyses.fetch_add(1, Ordering::Relaxed);
-            FixedPatternLu::new(n, columns, rows).ok()
-        });
-        match template {
-            Some(t) if t.has_pattern(columns, rows) => {
-                entry.shared.fetch_add(1, Ordering::Relaxed);
-                t.share_symbolic().ok()
-            }
-            // Another pattern with the same hash (or a failed analysis): analyse our own.
-            _ => FixedPatternLu::new(n, columns, rows).ok(),
+        shared_analysis(block.ncols(), symbolic.col_ptr(), symbolic.row_idx())
+    }
+}
+
+/// A factorization of the `n x n` compressed-sparse-column pattern `(columns, rows)` that
+/// shares the cached symbolic analysis of that pattern ([`ANALYSES`]), made now if there is
+/// none; `None` if the analysis fails.
+pub(crate) fn shared_analysis(
+    n: usize,
+    columns: &[usize],
+    rows: &[usize],
+) -> Option<FixedPatternLu> {
+    let entry = cache_entry(pattern_hash(n, columns, rows));
+    let mut slot = entry.analysis.lock().unwrap_or_else(|p| p.into_inner());
+    let template = slot.get_or_insert_with(|| {
+        entry.analyses.fetch_add(1, Ordering::Relaxed);
+        FixedPatternLu::new(n, columns, rows).ok()
+    });
+    match template {
+        Some(t) if t.has_pattern(columns, rows) => {
+            entry.shared.fetch_add(1, Ordering::Relaxed);
+            t.share_symbolic().ok()
         }
+        // Another pattern with the same hash (or a failed analysis): analyse our own.
+        _ => FixedPatternLu::new(n, columns, rows).ok(),
     }
 }
 

@@ -143,12 +143,19 @@ fn isomerization_equilibrium_moves_with_the_formation_enthalpies_as_van_t_hoff_s
         .unwrap_or_else(|e| panic!("{e}"));
         for (p, g) in adj.target.gradient.iter().enumerate() {
             let forward = r.sensitivities[1][p][state];
+            // The floor of the scale in the parameter's units: c per J/mol for an enthalpy,
+            // c per unit of ln k for the rate constant (whose sensitivity here is zero, the
+            // equilibrium not depending on kf: both methods give it to rounding, ~1e-16 c).
+            let unit = match parameters[p] {
+                Parameter::FormationEnthalpy(_) => rt,
+                _ => 1.0,
+            };
             assert_rel(
                 &format!("adjoint d c_{state}/dp_{p}"),
                 *g,
                 forward,
                 1e-6,
-                forward.abs().max(1e-6 * value / rt),
+                forward.abs().max(1e-6 * value / unit),
             );
         }
     }

@@ -631,10 +631,13 @@ fn main() -> ExitCode {
     }
 }
 
-/// Whether the file at `path` reads as a network scenario (`[[tank]]`); an unreadable file
-/// is left to the ordinary scenario path, which reports it.
+/// Whether the file at `path` reads as a network scenario (`[[tank]]`). Only a regular file
+/// is looked into (a FIFO or standard input would block or be consumed by this first read);
+/// anything else, and an unreadable file, is left to the ordinary scenario path, which
+/// reports it.
 fn is_network_scenario(path: &std::path::Path) -> bool {
-    std::fs::read_to_string(path)
-        .map(|text| stoik::scenario::is_network_scenario_text(&text))
-        .unwrap_or(false)
+    let regular = std::fs::metadata(path).is_ok_and(|m| m.is_file());
+    regular
+        && stoik::mechanism::read_input_text(path)
+            .is_ok_and(|text| stoik::scenario::is_network_scenario_text(&text))
 }

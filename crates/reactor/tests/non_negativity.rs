@@ -36,16 +36,12 @@ fn loose_robertson_blows_up_without_the_guard_and_stays_bounded_with_it() {
         p.stats.most_negative_concentration_mol_per_m3
     );
 
-    // Today's defaults without the guard: the total y1 + y2 + y3 = 1 is kept, so nothing
-    // runs away, though values below -atol may still be accepted.
-    let mut defaults = options(3, rtol, atol, LinearAlgebra::Dense);
-    defaults.non_negative = false;
-    let p = integrate(&kinetics, 300.0, &[1.0, 0.0, 0.0], &[0.0, 1e11], &defaults).unwrap();
-    let y = &p.concentrations_mol_per_m3[1];
-    assert!(
-        y.iter().all(|v| v.abs() <= 1.0 + 10.0 * atol),
-        "unguarded run with the invariant kept: {y:?}"
-    );
+    // Without the guard, keeping the conserved total y1 + y2 + y3 = 1 by projection does not
+    // prevent the blow-up: with the solver's tolerances four times tighter than the requested
+    // ones (TOLERANCE_SAFETY_FACTOR) the total stays at 1 while y1 and y3 run off to -4.7e7
+    // and +4.7e7 (measured 2026-12-03; at the requested tolerances it happened to stay
+    // bounded, which this test used to assert). The guard, on by default, is what keeps the
+    // run bounded.
 
     for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
         // The guard, exercised in the configuration that goes negative without it.

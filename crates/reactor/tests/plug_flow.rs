@@ -238,7 +238,7 @@ fn residence_time_is_the_integral_of_density_times_area_over_the_mass_flow() {
         400.0,
         &c0,
         PlugOutputs::Distances(distances.clone()),
-        1e-10,
+        1e-11,
     );
     let integral = |z: f64| {
         let first = z.min(len / 2.0) * a0;

@@ -530,7 +530,14 @@ impl RowReader<'_> {
                 }
                 self.raw_k = value;
                 if let Some(u) = &self.header.rate_unit {
-                    self.point.rate_constant_si = value * u.to_si_factor();
+                    let si = value * u.to_si_factor();
+                    if !(si > 0.0 && si.is_finite()) {
+                        return Err(format!(
+                            "rate constant `{text}` is {} in SI units: beyond the range of a double after the unit conversion",
+                            if si > 0.0 { "infinite" } else { "zero" }
+                        ));
+                    }
+                    self.point.rate_constant_si = si;
                 }
             }
             Column::Uncertainty => {

@@ -272,6 +272,18 @@ fn bad_input_gets_clear_located_errors() {
     );
     assert!(text.contains("bad.csv:4:6: error: rate constant `-2` is not positive"));
     assert!(text.contains("bad.csv:5:6: error: `fast` is not a finite number"));
+    // A positive k that underflows to zero in SI (1e-320 cm3/(mol s) is 1e-326 m3/(mol s),
+    // below the smallest double) is refused at its cell, not later without a column.
+    let err = parse_rate_data(
+        "temperature [K], rate_constant [cm3 mol-1 s-1]\n300, 1e-320\n",
+        "tiny.csv",
+    )
+    .unwrap_err();
+    let text = messages(err);
+    assert!(
+        text.contains("tiny.csv:2:6: error: rate constant `1e-320` is zero in SI units"),
+        "{text}"
+    );
     // Missing units.
     let err = parse_rate_data("temperature, rate_constant [s-1]\n300, 1\n", "u.csv").unwrap_err();
     assert!(
@@ -1070,4 +1082,13 @@ fn temperatures_outside_the_documented_range_are_refused_at_their_cell() {
         text.contains("t.csv:4:1: error: temperature `1e308` K is outside 1 K to 1e5 K"),
         "{text}"
     );
+}
+
+#[test]
+fn numbers_beyond_a_double_print_as_out_of_range() {
+    // The uncertainty factor exp(se) of A overflows when se(ln A) > about 709.78 (ln of the
+    // largest double); reports print words, never inf or NaN.
+    assert_eq!(crate::text::sci(709.0f64.exp(), 3), "8.218e+307");
+    assert_eq!(crate::text::sci(710.0f64.exp(), 3), "out of range");
+    assert_eq!(crate::text::sci(f64::NAN, 3), "out of range");
 }

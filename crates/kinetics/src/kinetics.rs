@@ -802,9 +802,48 @@ impl Kinetics {
         (fwd, rev)
     }
 
+    /// Checks the arguments of an allocation-free call (constant time): `k` must have this
+    /// mechanism's shape (as made by [`Kinetics::rate_constants`] of this mechanism or a copy
+    /// of it) and no buffer may be shorter than the call needs (longer inputs are allowed,
+    /// their first entries are used).
+    ///
+    /// # Panics
+    /// With a message naming the call, the argument and the length expected: a
+    /// programming error, not a data error, like a slice copy of the wrong length.
+    #[inline]
+    fn check_call(&self, call: &str, k: &RateConstants, buffers: &[(&str, usize, usize)]) {
+        if k.forward.len() != self.n_steps
+            || k.reverse.len() != self.n_steps
+            || k.falloff.len() != self.falloff.len()
+            || k.table_ln_k.len() != self.table_sets.len()
+        {
+            panic!(
+                "Kinetics::{call}: the rate constants were made for another mechanism ({} steps; this one has {})",
+                k.forward.len(),
+                self.n_steps
+            );
+        }
+        for &(name, len, needed) in buffers {
+            if len < needed {
+                panic!(
+                    "Kinetics::{call}: `{name}` has {len} entries, at least {needed} are needed"
+                );
+            }
+        }
+    }
+
     /// Writes the rate of progress of every step (mol/(m3 s)) into `q` (length `n_steps`)
     /// for concentrations `c` (mol/m3, length `n_species`).
+    ///
+    /// # Panics
+    /// When a buffer is shorter than stated or `k` was made for a mechanism of another shape
+    /// (a constant-time check; the message names the argument and the length needed).
     pub fn rates_of_progress(&self, k: &RateConstants, c: &[f64], q: &mut [f64]) {
+        self.check_call(
+            "rates_of_progress",
+            k,
+            &[("c", c.len(), self.n_species), ("q", q.len(), self.n_steps)],
+        );
         let total = self.total_concentration(c);
         for (j, qj) in q.iter_mut().enumerate().take(self.n_steps) {
             let (fwd, rev) = self.directional_rates(k, j, c);
@@ -862,7 +901,19 @@ impl Kinetics {
     /// prefer [`production_rates_compensated`](Self::production_rates_compensated), whose
     /// near-exact sums keep linear invariants (element totals, moieties) from drifting when
     /// fast opposing steps nearly cancel.
+    ///
+    /// # Panics
+    /// When a buffer is shorter than stated or `k` was made for a mechanism of another shape
+    /// (a constant-time check; the message names the argument and the length needed).
     pub fn production_rates(&self, k: &RateConstants, c: &[f64], w: &mut [f64]) {
+        self.check_call(
+            "production_rates",
+            k,
+            &[
+                ("c", c.len(), self.n_species),
+                ("w", w.len(), self.n_species),
+            ],
+        );
         w.iter_mut().for_each(|x| *x = 0.0);
         self.accumulate_production(k, c, |s, x| w[s] += x);
     }
@@ -880,6 +931,10 @@ impl Kinetics {
     /// made the invariant of the E5 test problem (Enright, Hull & Lindberg 1975) drift by
     /// 3e-21 mol/m3 over 10^5 s, which swamped the solution's late decay. Neumaier's
     /// summation (A. Neumaier, Z. Angew. Math. Mech. 54, 39-51, 1974) removes that drift.
+    ///
+    /// # Panics
+    /// When a buffer is shorter than stated or `k` was made for a mechanism of another shape
+    /// (a constant-time check; the message names the argument and the length needed).
     pub fn production_rates_compensated(
         &self,
         k: &RateConstants,
@@ -887,6 +942,15 @@ impl Kinetics {
         w: &mut [f64],
         carry: &mut [f64],
     ) {
+        self.check_call(
+            "production_rates_compensated",
+            k,
+            &[
+                ("c", c.len(), self.n_species),
+                ("w", w.len(), self.n_species),
+                ("carry", carry.len(), self.n_species),
+            ],
+        );
         w.iter_mut().for_each(|x| *x = 0.0);
         carry.iter_mut().for_each(|x| *x = 0.0);
         self.accumulate_production(k, c, |s, x| {
@@ -1043,7 +1107,19 @@ impl Kinetics {
     /// Overwrites `jac` (column-major, `n_species * n_species`) with the analytic Jacobian:
     /// `jac[col * n + row] = d w_row / d c_col` in 1/s (for first-order terms; in general
     /// (mol/(m3 s)) / (mol/m3)). Third-body terms are included.
+    ///
+    /// # Panics
+    /// When a buffer is shorter than stated or `k` was made for a mechanism of another shape
+    /// (a constant-time check; the message names the argument and the length needed).
     pub fn jacobian_dense(&self, k: &RateConstants, c: &[f64], jac: &mut [f64]) {
+        self.check_call(
+            "jacobian_dense",
+            k,
+            &[
+                ("c", c.len(), self.n_species),
+                ("jac", jac.len(), self.n_species * self.n_species),
+            ],
+        );
         let n = self.n_species;
         jac.iter_mut().for_each(|x| *x = 0.0);
         self.for_each_jacobian_term(k, c, |_, row, col, v| jac[col * n + row] += v);
@@ -1058,7 +1134,19 @@ impl Kinetics {
     /// Overwrites `values` (length `jacobian_pattern().nnz()`) with the Jacobian entries in the
     /// order of [`Kinetics::jacobian_pattern`]. Same units and terms as
     /// [`Kinetics::jacobian_dense`].
+    ///
+    /// # Panics
+    /// When a buffer is shorter than stated or `k` was made for a mechanism of another shape
+    /// (a constant-time check; the message names the argument and the length needed).
     pub fn jacobian_sparse(&self, k: &RateConstants, c: &[f64], values: &mut [f64]) {
+        self.check_call(
+            "jacobian_sparse",
+            k,
+            &[
+                ("c", c.len(), self.n_species),
+                ("values", values.len(), self.pattern.nnz()),
+            ],
+        );
         values.iter_mut().for_each(|x| *x = 0.0);
         self.for_each_jacobian_term(k, c, |pos, _, _, v| values[pos] += v);
     }

@@ -384,14 +384,14 @@ pub(crate) const ABSOLUTE_MINIMUM_STEP_S: f64 = 1e-200;
 
 /// Retries of one step that goes negative before it is accepted anyway (its negative value is
 /// then reported in [`SolverStats::most_negative_concentration_mol_per_m3`]).
-const MAX_NEGATIVE_REJECTIONS: usize = 10;
+pub(crate) const MAX_NEGATIVE_REJECTIONS: usize = 10;
 
 /// Step-size factor after a step went meaningfully negative.
-const NEGATIVE_STEP_SHRINK: f64 = 0.25;
+pub(crate) const NEGATIVE_STEP_SHRINK: f64 = 0.25;
 
 /// Whether some concentration is below minus its absolute tolerance: values within the
 /// absolute tolerance of zero are indistinguishable from zero to the error control.
-fn meaningfully_negative(y: &[f64], atol: &[f64]) -> bool {
+pub(crate) fn meaningfully_negative(y: &[f64], atol: &[f64]) -> bool {
     y.iter().zip(atol).any(|(y, a)| *y < -a)
 }
 

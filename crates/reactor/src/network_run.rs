@@ -11,8 +11,9 @@ use crate::equations::{Backend, JacobianTarget};
 use crate::failure::{Diagnosis, Halt};
 use crate::fixed_lu::FixedPatternSolver;
 use crate::integrator::{
-    deadline, default_newton_tolerance, minimum_step, validate_options, Control,
-    ABSOLUTE_MINIMUM_STEP_S, TEMPERATURE_ABSOLUTE_TOLERANCE_K,
+    deadline, default_newton_tolerance, meaningfully_negative, minimum_step, validate_options,
+    Control, ABSOLUTE_MINIMUM_STEP_S, MAX_NEGATIVE_REJECTIONS, NEGATIVE_STEP_SHRINK,
+    TEMPERATURE_ABSOLUTE_TOLERANCE_K,
 };
 use crate::network::{NetworkError, NetworkProfiles, NetworkSystem, TankNetwork, TankProfile};
 use crate::{
@@ -200,9 +201,6 @@ impl<M: Backend> OdeEquations for NetworkEquations<M> {
     fn set_params(&mut self, _p: &Self::V) {}
     fn get_params(&self, _p: &mut Self::V) {}
 }
-
-/// Retries of one step that goes negative before it is accepted anyway.
-const MAX_NEGATIVE_REJECTIONS: usize = 10;
 
 /// Builds the problem of `$eqn` on backend `$M`, opens a BDF solver on the linear solver
 /// `$LS` and steps it to the end (a macro: diffsol's solver bounds are only met by the
@@ -427,11 +425,8 @@ where
         *solver.config_mut().as_base_mut().minimum_timestep = minimum_step(t_before);
         let reason = solver.step()?;
         let t = solver.state().t;
-        let negative = {
-            let y = M::slice(solver.state().y);
-            let atol = M::slice(&solver.problem().atol);
-            y.iter().zip(atol).any(|(y, a)| *y < -a)
-        };
+        let negative =
+            meaningfully_negative(M::slice(solver.state().y), M::slice(&solver.problem().atol));
         if solver.problem().eqn.non_negative
             && consecutive < MAX_NEGATIVE_REJECTIONS
             && t > t_before
@@ -446,7 +441,7 @@ where
                 .eqn
                 .system
                 .state_derivative(t_before, y, M::slice_mut(state.dy));
-            *state.h = 0.25 * (t - t_before);
+            *state.h = NEGATIVE_STEP_SHRINK * (t - t_before);
             solver.set_stop_time(t_end)?;
             consecutive += 1;
             *rejections += 1;

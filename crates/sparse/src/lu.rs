@@ -537,70 +537,93 @@ impl FixedPatternLu {
                 Ok(())
             }
             Active::Static => {
-                let mut work = self.block_work.borrow_mut();
-                let (w, t) = &mut *work;
-                w.clear();
-                let s = &self.symbolic;
-                for &old in &s.perm {
-                    w.extend_from_slice(&rows[old * ncols..(old + 1) * ncols]);
+                #[cfg(target_arch = "x86_64")]
+                if std::arch::is_x86_feature_detected!("avx2") {
+                    // SAFETY: the processor has AVX2 (checked on the line above).
+                    unsafe { self.solve_rows_static_avx2(rows, ncols) };
+                    return Ok(());
                 }
-                let k0 = s.dense_start;
-                // L: unit lower, by columns; rows of the dense block receive - L21 w1.
-                for j in 0..k0 {
-                    let (head, tail) = w.split_at_mut((j + 1) * ncols);
-                    let wj = &head[j * ncols..];
-                    let (start, end) = (s.diagonal_positions[j] + 1, s.lu_column_starts[j + 1]);
-                    for (&i, &l) in s.lu_row_indices[start..end]
-                        .iter()
-                        .zip(&self.lu_values[start..end])
-                    {
-                        let wi = &mut tail[(i - j - 1) * ncols..(i - j) * ncols];
-                        for (x, y) in wi.iter_mut().zip(wj) {
-                            *x -= l * y;
-                        }
-                    }
-                }
-                self.dense.solve_rows(&mut w[k0 * ncols..], ncols, t);
-                // U: the dense block's columns subtract U12 w2, then the sparse columns.
-                for j in (k0..s.n).rev() {
-                    let (head, tail) = w.split_at_mut(j * ncols);
-                    let wj = &tail[..ncols];
-                    let (start, end) = (s.lu_column_starts[j], s.lu_column_starts[j + 1]);
-                    for (&k, &u) in s.lu_row_indices[start..end]
-                        .iter()
-                        .zip(&self.lu_values[start..end])
-                    {
-                        if k < j {
-                            let wk = &mut head[k * ncols..(k + 1) * ncols];
-                            for (x, y) in wk.iter_mut().zip(wj) {
-                                *x -= u * y;
-                            }
-                        }
-                    }
-                }
-                for j in (0..k0).rev() {
-                    let diag = s.diagonal_positions[j];
-                    let inv = 1.0 / self.lu_values[diag];
-                    let (head, tail) = w.split_at_mut(j * ncols);
-                    let wj = &mut tail[..ncols];
-                    wj.iter_mut().for_each(|x| *x *= inv);
-                    let start = s.lu_column_starts[j];
-                    for (&k, &u) in s.lu_row_indices[start..diag]
-                        .iter()
-                        .zip(&self.lu_values[start..diag])
-                    {
-                        let wk = &mut head[k * ncols..(k + 1) * ncols];
-                        for (x, y) in wk.iter_mut().zip(wj.iter()) {
-                            *x -= u * y;
-                        }
-                    }
-                }
-                for (k, &old) in s.perm.iter().enumerate() {
-                    rows[old * ncols..(old + 1) * ncols]
-                        .copy_from_slice(&w[k * ncols..(k + 1) * ncols]);
-                }
+                self.solve_rows_static(rows, ncols);
                 Ok(())
             }
+        }
+    }
+
+    /// [`Self::solve_rows_static`] compiled for AVX2 (4 lanes per instruction instead of
+    /// SSE2's 2). The same operations in the same order on every lane: results are bitwise
+    /// identical to the portable build (no fused multiply-add is enabled).
+    ///
+    /// # Safety
+    /// The processor must support AVX2.
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    unsafe fn solve_rows_static_avx2(&self, rows: &mut [f64], ncols: usize) {
+        self.solve_rows_static(rows, ncols)
+    }
+
+    /// The block solve with the static-pivot factors; `rows` has `n * ncols` entries.
+    #[inline(always)]
+    fn solve_rows_static(&self, rows: &mut [f64], ncols: usize) {
+        let mut work = self.block_work.borrow_mut();
+        let (w, t) = &mut *work;
+        w.clear();
+        let s = &self.symbolic;
+        for &old in &s.perm {
+            w.extend_from_slice(&rows[old * ncols..(old + 1) * ncols]);
+        }
+        let k0 = s.dense_start;
+        // L: unit lower, by columns; rows of the dense block receive - L21 w1.
+        for j in 0..k0 {
+            let (head, tail) = w.split_at_mut((j + 1) * ncols);
+            let wj = &head[j * ncols..];
+            let (start, end) = (s.diagonal_positions[j] + 1, s.lu_column_starts[j + 1]);
+            for (&i, &l) in s.lu_row_indices[start..end]
+                .iter()
+                .zip(&self.lu_values[start..end])
+            {
+                let wi = &mut tail[(i - j - 1) * ncols..(i - j) * ncols];
+                for (x, y) in wi.iter_mut().zip(wj) {
+                    *x -= l * y;
+                }
+            }
+        }
+        self.dense.solve_rows(&mut w[k0 * ncols..], ncols, t);
+        // U: the dense block's columns subtract U12 w2, then the sparse columns.
+        for j in (k0..s.n).rev() {
+            let (head, tail) = w.split_at_mut(j * ncols);
+            let wj = &tail[..ncols];
+            let (start, end) = (s.lu_column_starts[j], s.lu_column_starts[j + 1]);
+            for (&k, &u) in s.lu_row_indices[start..end]
+                .iter()
+                .zip(&self.lu_values[start..end])
+            {
+                if k < j {
+                    let wk = &mut head[k * ncols..(k + 1) * ncols];
+                    for (x, y) in wk.iter_mut().zip(wj) {
+                        *x -= u * y;
+                    }
+                }
+            }
+        }
+        for j in (0..k0).rev() {
+            let diag = s.diagonal_positions[j];
+            let inv = 1.0 / self.lu_values[diag];
+            let (head, tail) = w.split_at_mut(j * ncols);
+            let wj = &mut tail[..ncols];
+            wj.iter_mut().for_each(|x| *x *= inv);
+            let start = s.lu_column_starts[j];
+            for (&k, &u) in s.lu_row_indices[start..diag]
+                .iter()
+                .zip(&self.lu_values[start..diag])
+            {
+                let wk = &mut head[k * ncols..(k + 1) * ncols];
+                for (x, y) in wk.iter_mut().zip(wj.iter()) {
+                    *x -= u * y;
+                }
+            }
+        }
+        for (k, &old) in s.perm.iter().enumerate() {
+            rows[old * ncols..(old + 1) * ncols].copy_from_slice(&w[k * ncols..(k + 1) * ncols]);
         }
     }
 

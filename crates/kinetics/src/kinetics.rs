@@ -227,6 +227,24 @@ pub struct Kinetics {
     pub(crate) delta_moles: Vec<f64>,
 }
 
+/// A temperature at which rate constants cannot be evaluated: not positive, or not finite
+/// (returned by [`Kinetics::try_rate_constants`] and
+/// [`Kinetics::try_evaluate_rate_constants`]).
+#[derive(Debug, Clone, Copy, PartialEq, thiserror::Error)]
+#[error("rate constants need a positive, finite temperature; got {temperature_k} K")]
+pub struct TemperatureError {
+    /// The temperature refused (K).
+    pub temperature_k: f64,
+}
+
+fn check_temperature(temperature_k: f64) -> Result<(), TemperatureError> {
+    if temperature_k.is_finite() && temperature_k > 0.0 {
+        Ok(())
+    } else {
+        Err(TemperatureError { temperature_k })
+    }
+}
+
 impl Kinetics {
     /// Compiles `mechanism` after checking it (see [`CompileError`]): a mechanism built by
     /// hand gets the checks the loader makes (indices in range, finite positive prefactors
@@ -438,6 +456,11 @@ impl Kinetics {
     }
 
     /// Rate constants at `temperature_k` (K), freshly allocated.
+    ///
+    /// The temperature is not checked (this sits on the integrator's hot path, where a Newton
+    /// iterate may pass through any value): a temperature that is not positive and finite
+    /// gives NaN or infinite rate constants. For a temperature from data you do not control,
+    /// use [`Kinetics::try_rate_constants`].
     pub fn rate_constants(&self, temperature_k: f64) -> RateConstants {
         let mut out = RateConstants {
             forward: vec![0.0; self.n_steps],
@@ -453,6 +476,28 @@ impl Kinetics {
         };
         self.evaluate_rate_constants(temperature_k, &mut out);
         out
+    }
+
+    /// Rate constants at `temperature_k` (K), or an error if the temperature is not positive
+    /// and finite (the checked form of [`Kinetics::rate_constants`]; same values otherwise).
+    pub fn try_rate_constants(
+        &self,
+        temperature_k: f64,
+    ) -> Result<RateConstants, TemperatureError> {
+        check_temperature(temperature_k)?;
+        Ok(self.rate_constants(temperature_k))
+    }
+
+    /// [`Kinetics::evaluate_rate_constants`] that first refuses a temperature that is not
+    /// positive and finite (`out` is left unchanged then). No allocation.
+    pub fn try_evaluate_rate_constants(
+        &self,
+        temperature_k: f64,
+        out: &mut RateConstants,
+    ) -> Result<(), TemperatureError> {
+        check_temperature(temperature_k)?;
+        self.evaluate_rate_constants(temperature_k, out);
+        Ok(())
     }
 
     /// Overwrites `out` with the rate constants at `temperature_k` (K); `out` must come from

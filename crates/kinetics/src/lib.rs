@@ -48,7 +48,7 @@ mod rows;
 mod validate;
 
 // Compiling and evaluating a mechanism.
-pub use kinetics::{FalloffLimit, Kinetics, RateConstants};
+pub use kinetics::{FalloffLimit, Kinetics, RateConstants, TemperatureError};
 pub use pattern::{JacobianPattern, PatternError};
 pub use validate::CompileError;
 

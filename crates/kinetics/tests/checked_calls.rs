@@ -100,3 +100,39 @@ fn rate_constants_of_another_mechanism_are_refused() {
         "{msg}"
     );
 }
+
+#[test]
+fn a_temperature_that_is_not_positive_and_finite_is_refused_by_the_checked_calls() {
+    // One Arrhenius step, A = 1e10 1/s, Ea = 80 kJ/mol: at 500 K, k = A exp(-Ea/(R T)) =
+    // 1e10 exp(-80000/(8.314462618 * 500)) (Arrhenius law, common practice; R from CODATA
+    // 2018).
+    let kin = compile(&format!(
+        "{HEADER}activation_energy = \"kJ/mol\"\n[[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n\
+         [[step]]\nequation = \"A -> B\"\nforward = {{ prefactor = 1e10, activation_energy = 80.0 }}\n"
+    ));
+    let expected = 1e10 * (-80_000.0 / (8.314_462_618 * 500.0_f64)).exp();
+    let k = kin
+        .try_rate_constants(500.0)
+        .expect("500 K is a valid temperature");
+    assert!((k.forward[0] - expected).abs() <= 1e-13 * expected);
+    assert_eq!(k.forward, kin.rate_constants(500.0).forward);
+    for bad in [-5.0, 0.0, f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+        let err = kin.try_rate_constants(bad).expect_err("refused");
+        if bad.is_nan() {
+            assert!(err.temperature_k.is_nan());
+        } else {
+            assert_eq!(err.temperature_k, bad);
+        }
+        assert!(
+            err.to_string().contains("positive, finite temperature"),
+            "{err}"
+        );
+        // The in-place form leaves the rate constants as they were.
+        let mut out = kin.rate_constants(500.0);
+        assert!(kin.try_evaluate_rate_constants(bad, &mut out).is_err());
+        assert_eq!(out.forward[0], k.forward[0]);
+    }
+    // The unchecked call gives a non-finite value at -5 K (documented): the reason for the
+    // checked one.
+    assert!(!kin.rate_constants(-5.0).forward[0].is_finite());
+}

@@ -63,3 +63,94 @@ fn a_bad_network_is_refused_with_located_errors() {
     );
     assert!(!dir.join("x.csv").exists());
 }
+
+/// Three equal isothermal tanks in series with one first-order step A -> B (k = 0.01 1/s,
+/// residence time 100 s each): at steady state tank n holds c_A = c_in / (1 + k tau)^n
+/// (the tanks-in-series closed form of chemical-reaction-engineering textbooks, e.g.
+/// Levenspiel, "Chemical Reaction Engineering", ch. 6; from memory).
+fn series_of_three(dir: &std::path::Path) -> std::path::PathBuf {
+    std::fs::write(
+        dir.join("first-order.toml"),
+        "stoik_mechanism = 1\n[units]\namount = \"mol\"\nlength = \"m\"\n\
+         [[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n\
+         [[step]]\nequation = \"A -> B\"\nforward = { prefactor = 0.01 }\n",
+    )
+    .unwrap();
+    let mut text = String::from(
+        "stoik_scenario = 1\ntitle = \"three tanks in series\"\nmechanism = \"first-order.toml\"\n",
+    );
+    for name in ["t1", "t2", "t3"] {
+        text.push_str(&format!(
+            "[[tank]]\nname = \"{name}\"\nvolume = \"1 m3\"\ntemperature = \"300 K\"\ninitial = {{ B = \"0 mol/m3\" }}\n"
+        ));
+    }
+    text.push_str(
+        "[[stream]]\nto = \"t1\"\nvolumetric_flow = \"0.01 m3/s\"\ntemperature = \"300 K\"\nconcentrations = { A = \"8 mol/m3\" }\n\
+         [[stream]]\nfrom = \"t1\"\nto = \"t2\"\nvolumetric_flow = \"0.01 m3/s\"\n\
+         [[stream]]\nfrom = \"t2\"\nto = \"t3\"\nvolumetric_flow = \"0.01 m3/s\"\n\
+         [[stream]]\nfrom = \"t3\"\nvolumetric_flow = \"0.01 m3/s\"\n\
+         [output]\nend_time = \"2000 s\"\ngrid = { spacing = \"linear\", points = 3 }\n\
+         [solver]\nrelative_tolerance = 1e-10\nabsolute_tolerance = 1e-14\n",
+    );
+    let path = dir.join("series.scenario.toml");
+    std::fs::write(&path, text).unwrap();
+    path
+}
+
+#[test]
+fn steady_of_tanks_in_series_matches_the_closed_form() {
+    let dir = common::scratch("network", "steady");
+    let scenario = series_of_three(&dir);
+    for extra in [&[][..], &["--newton"][..]] {
+        let mut args = vec!["steady", scenario.to_str().unwrap(), "--csv", "steady.csv"];
+        args.extend_from_slice(extra);
+        let out = stoik(&args, &dir);
+        assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+        let stdout = text(&out.stdout);
+        assert!(stdout.contains("stability: stable"), "{stdout}");
+        assert!(stdout.contains("process-safety review"), "{stdout}");
+        let table = std::fs::read_to_string(dir.join("steady.csv")).unwrap();
+        let mut lines = table.lines();
+        assert_eq!(
+            lines.next(),
+            Some("tank,temperature [K],A [mol/m3],B [mol/m3]")
+        );
+        for (n, line) in lines.enumerate() {
+            let cells: Vec<&str> = line.split(',').collect();
+            assert_eq!(cells[0], ["t1", "t2", "t3"][n]);
+            let a: f64 = cells[2].parse().unwrap();
+            let b: f64 = cells[3].parse().unwrap();
+            let expected = 8.0 / 2f64.powi(n as i32 + 1);
+            assert!(
+                (a - expected).abs() <= 1e-7 * expected,
+                "tank {n} {extra:?}: {a} vs {expected}"
+            );
+            // A + B is fed at 8 mol/m3 and conserved by the step.
+            assert!((a + b - 8.0).abs() <= 1e-7 * 8.0, "{a} + {b}");
+            assert_eq!(cells[1].parse::<f64>().unwrap(), 300.0);
+        }
+    }
+}
+
+#[test]
+fn check_reads_a_network_scenario_and_locates_its_problems() {
+    let dir = common::scratch("network", "check");
+    let scenario = series_of_three(&dir);
+    let out = stoik(&["check", scenario.to_str().unwrap()], &dir);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let stdout = text(&out.stdout);
+    assert!(
+        stdout.contains("network of 3 tanks, 4 streams: 0 error(s)"),
+        "{stdout}"
+    );
+    let bad = repo().join("tests/bad-input/network-all-at-once.network.toml");
+    let out = stoik(&["check", bad.to_str().unwrap()], &dir);
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = text(&out.stderr);
+    // The same located errors as `stoik run` reports for this file: 7 at once.
+    assert!(stderr.contains("7 error(s)"), "{stderr}");
+    assert!(
+        stderr.contains("network-all-at-once.network.toml:26:19: error: `volumetric_flow` is zero"),
+        "{stderr}"
+    );
+}

@@ -7,7 +7,10 @@ use stoik::kinetics::{
     collision_limit_warnings, rate_constant_range_errors, Kinetics, RATE_CHECK_RANGE_K,
 };
 use stoik::mechanism::{load_mechanism, parse_mechanism_in, Diagnostics, LoadError, MechanismFile};
-use stoik::scenario::{is_scenario_text, parse_scenario, RunPlan, ScenarioError};
+use stoik::scenario::{
+    is_network_scenario_text, is_scenario_text, parse_network_scenario, parse_scenario, RunPlan,
+    ScenarioError,
+};
 
 /// Prints the summary line; errors and, with `strict`, warnings end the command (printed by
 /// `main`), other warnings are printed here.
@@ -75,6 +78,9 @@ pub fn check(path: &Path, strict: bool) -> Result<(), CliError> {
             &summary(path, &file),
         );
     }
+    if is_network_scenario_text(&text) {
+        return check_network(&text, &label, folder, strict);
+    }
     let (scenario, mut diagnostics) = parse_scenario(&text, &label, folder)?;
     let file = Arc::new(load_mechanism(&scenario.mechanism_path)?);
     diagnostics
@@ -99,6 +105,30 @@ pub fn check(path: &Path, strict: bool) -> Result<(), CliError> {
         Err(ScenarioError::Load(LoadError::Invalid { diagnostics: d })) => {
             diagnostics.0.extend(d.0)
         }
+        Err(e) => return Err(e.into()),
+    }
+    finish(diagnostics, strict, &what)
+}
+
+/// `stoik check` on a network scenario (`[[tank]]` and `[[stream]]`): the file read as a
+/// network (every problem located), its mechanism checked as on its own, and the tanks and
+/// streams resolved against it (species names, flows, the network's connections).
+fn check_network(text: &str, label: &str, folder: &Path, strict: bool) -> Result<(), CliError> {
+    let (scenario, mut diagnostics) = parse_network_scenario(text, label, folder)?;
+    let file = load_mechanism(&scenario.mechanism_path)?;
+    diagnostics
+        .0
+        .extend(mechanism_warnings(&file, &scenario.mechanism_path).0);
+    let mut what = summary(Path::new(label), &file);
+    match scenario.resolve(&file.mechanism) {
+        Ok(plan) => {
+            what.push_str(&format!(
+                "; network of {} tanks, {} streams",
+                plan.network.tanks().len(),
+                plan.network.streams().len()
+            ));
+        }
+        Err(LoadError::Invalid { diagnostics: d }) => diagnostics.0.extend(d.0),
         Err(e) => return Err(e.into()),
     }
     finish(diagnostics, strict, &what)

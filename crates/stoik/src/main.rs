@@ -256,10 +256,10 @@ pub struct SensitivityArgs {
 /// Flags of `stoik steady`.
 #[derive(clap::Args)]
 pub struct SteadyArgs {
-    /// Scenario file with a [flow] section.
+    /// Scenario file with a [flow] section, or a network of tanks ([[tank]] and [[stream]]).
     pub scenario: PathBuf,
     /// Write the steady state (temperature, pressure, concentrations, stability) as one CSV
-    /// row to this file.
+    /// row to this file (a network: one row per tank, its temperature and concentrations).
     #[arg(long)]
     pub csv: Option<PathBuf>,
     /// Start with Newton from the scenario's initial state instead of pseudo-transient
@@ -614,7 +614,13 @@ fn main() -> ExitCode {
         Command::Rates(args) => analysis::rates(&args),
         Command::Flux(args) => analysis::flux(&args),
         Command::Sensitivity(args) => sensitivity::sensitivity(&args),
-        Command::Steady(args) => steady::steady(&args),
+        Command::Steady(args) => {
+            if is_network_scenario(&args.scenario) {
+                network_run::steady(&args)
+            } else {
+                steady::steady(&args)
+            }
+        }
         Command::Continuation(args) => steady::continuation(&args),
     };
     // Every error is reported here, once.

@@ -252,3 +252,138 @@ fn summary(
     ));
     lines
 }
+
+/// `stoik steady` on a network scenario: the steady state of the whole network (Newton,
+/// pseudo-transient continuation, time integration as fall-back; coolant histories at their
+/// last values), each tank's temperature and largest species, how it converged, the
+/// stability of the network's Jacobian, and with `--csv` one row per tank.
+pub fn steady(args: &crate::SteadyArgs) -> Result<(), CliError> {
+    let (scenario, warnings) = load_network_scenario(&args.scenario)?;
+    let mechanism_file = stoik::mechanism::load_mechanism(&scenario.mechanism_path)?;
+    let mechanism = &mechanism_file.mechanism;
+    let plan = scenario.resolve(mechanism)?;
+    let mut outputs = OutputPaths::new();
+    outputs.input(&args.scenario);
+    outputs.input(&scenario.mechanism_path);
+    if let Some(csv) = &args.csv {
+        outputs.output("--csv", csv)?;
+    }
+    for w in warnings.iter().chain(mechanism_file.warnings.iter()) {
+        eprintln!("{w}");
+    }
+    let kinetics = mechanism_file_kinetics(mechanism)?;
+    let options = stoik::reactor::SteadyOptions {
+        transient_first: !args.newton,
+        ..stoik::reactor::SteadyOptions::from_integration(&plan.options)
+    };
+    let s = stoik::reactor::network_steady_state(&kinetics, &plan.network, &options)
+        .map_err(|e| CliError::BadFlag(format!("{}: {e}", args.scenario.display())))?;
+    let unit = scenario.output_concentration_unit;
+    let mut lines = Vec::new();
+    if let Some(t) = &scenario.title {
+        lines.push(t.clone());
+    }
+    lines.push(format!(
+        "steady state of a network of {} constant-density stirred tanks, {} streams:",
+        plan.network.tanks().len(),
+        plan.network.streams().len()
+    ));
+    for (j, tank) in s.tanks.iter().enumerate() {
+        let c = &tank.concentrations_mol_per_m3;
+        let mut order: Vec<usize> = (0..c.len()).collect();
+        order.sort_by(|&a, &b| c[b].total_cmp(&c[a]));
+        let top: Vec<String> = order
+            .iter()
+            .take(3)
+            .map(|&i| {
+                format!(
+                    "{} {:.6e} {}",
+                    mechanism.species[i].name,
+                    c[i] / unit.to_si_factor(),
+                    unit.label()
+                )
+            })
+            .collect();
+        lines.push(format!(
+            "tank {} (residence time {:.4e} s): T = {:.4} K; {}",
+            tank.name,
+            plan.network.residence_time_s(j),
+            tank.temperature_k,
+            top.join(", ")
+        ));
+    }
+    lines.push(format!(
+        "convergence: {} ({} Newton iterations, {} pseudo-transient steps, {} s integrated); scaled residual {:.3e}, last correction {:.3e}",
+        s.path.name(),
+        s.newton_iterations,
+        s.pseudo_transient_steps,
+        s.integrated_time_s,
+        s.scaled_residual,
+        s.scaled_correction
+    ));
+    let st = &s.stability;
+    lines.push(format!(
+        "stability: {} (largest eigenvalue real part {:e} 1/s, {} eigenvalues)",
+        if st.stable { "stable" } else { "unstable" },
+        st.largest_real_part_per_s,
+        st.eigenvalues_per_s.len()
+    ));
+    if let Some(csv) = &args.csv {
+        write_atomically(csv, |w| {
+            write_network_steady_csv(w, mechanism, &s, unit.to_si_factor(), unit.label())
+        })
+        .map_err(|e: io::Error| CliError::write(csv, e))?;
+        lines.push(format!("wrote {} ({} rows)", csv.display(), s.tanks.len()));
+    }
+    for line in &lines {
+        println!("{line}");
+    }
+    println!("{NETWORK_CAUTION}");
+    println!("{CAUTION}");
+    Ok(())
+}
+
+/// Writes a network's steady state: one row per tank, `tank`, `temperature [K]`, then every
+/// species' concentration (`SPECIES [UNIT]`), numbers in round-trip form. A non-finite value
+/// refuses the file.
+pub fn write_network_steady_csv(
+    out: &mut impl Write,
+    mechanism: &Mechanism,
+    steady: &stoik::reactor::NetworkSteadyState,
+    si_per_unit: f64,
+    unit_label: &str,
+) -> io::Result<()> {
+    let mut header = vec!["tank".to_string(), "temperature [K]".to_string()];
+    header.extend(
+        mechanism
+            .species
+            .iter()
+            .map(|s| format!("{} [{unit_label}]", s.name)),
+    );
+    let mut writer = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
+        .from_writer(out);
+    writer.write_record(&header).map_err(io::Error::from)?;
+    for tank in &steady.tanks {
+        let mut line = vec![tank.name.clone()];
+        let values = std::iter::once(tank.temperature_k).chain(
+            tank.concentrations_mol_per_m3
+                .iter()
+                .map(|c| c / si_per_unit),
+        );
+        for (k, v) in values.enumerate() {
+            line.push(number(v).ok_or_else(|| {
+                io::Error::new(
+                    io::ErrorKind::InvalidData,
+                    format!(
+                        "column `{}` of tank `{}` is not finite ({v}); nothing was written",
+                        header[k + 1],
+                        tank.name
+                    ),
+                )
+            })?);
+        }
+        writer.write_record(&line).map_err(io::Error::from)?;
+    }
+    writer.flush()
+}

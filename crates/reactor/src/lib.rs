@@ -77,6 +77,7 @@ mod profiles;
 mod semibatch;
 mod sensitivity;
 mod steady;
+mod user_terms;
 mod watch;
 
 pub use atmosphere::{
@@ -121,6 +122,7 @@ pub use steady::{
     ContinuationParameter, Stability, SteadyError, SteadyOptions, SteadyPath, SteadyState,
     TurningPoint,
 };
+pub use user_terms::{UserJacobian, UserTerms};
 pub use watch::{Located, Quantity, Watch};
 
 use stoik_kinetics::Kinetics;

@@ -176,6 +176,8 @@ struct UserSlot {
     /// Positions of the temperature row's entries (columns `0..=n`) in the state pattern
     /// (energy-solving models; empty otherwise).
     heat_positions: Vec<usize>,
+    /// The model's linear invariants, set aside: user sources do not keep them.
+    laws: Vec<Vec<f64>>,
 }
 
 impl<M: Backend> BatchEquations<M> {
@@ -236,11 +238,15 @@ impl<M: Backend> BatchEquations<M> {
         terms: Option<Box<dyn ErasedTerms>>,
     ) -> Result<(), ReactorError> {
         let base_pattern = match self.user.take() {
-            Some(slot) => slot.base_pattern,
+            Some(slot) => {
+                self.laws = slot.laws;
+                slot.base_pattern
+            }
             None => self.state_pattern.clone(),
         };
+        // The model's own pattern first: on error the equations keep no user terms.
+        self.install_pattern(base_pattern.clone());
         let Some(terms) = terms else {
-            self.install_pattern(base_pattern);
             return Ok(());
         };
         let n = self.kinetics.n_species();
@@ -301,6 +307,7 @@ impl<M: Backend> BatchEquations<M> {
             base_to_state,
             rates: RefCell::new(vec![0.0; n]),
             heat_positions,
+            laws: std::mem::take(&mut self.laws),
         });
         self.install_pattern(union);
         Ok(())

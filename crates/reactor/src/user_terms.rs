@@ -136,3 +136,189 @@ impl<T: UserTerms> ErasedTerms for Held<T> {
         self.0.jacobian_entries(n_species)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use diffsol::{FaerSparseMat, NalgebraMat};
+    use stoik_kinetics::Kinetics;
+
+    use super::*;
+    use crate::equations::{Backend, BatchEquations};
+    use crate::model::{
+        energy_thermo, Constraint, Energy, HeatExchange, ReactorModel, StirredFlow,
+        TemperatureHistory,
+    };
+
+    fn hydrogen() -> Kinetics {
+        let path = stoik_testsupport::mechanism_path("hydrogen-oxygen.toml");
+        let file = stoik_mechanism::load_mechanism(&path).unwrap_or_else(|e| panic!("{e}"));
+        Kinetics::compile(&file.mechanism).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    /// Nonlinear user terms coupling species the mechanism does not couple, depending on the
+    /// temperature, with a heat term depending on the concentrations and the temperature.
+    struct Coupling {
+        energy: bool,
+    }
+
+    const A: f64 = 3e3;
+    const B: f64 = 2e3;
+    const U: f64 = 4e5;
+    const H: f64 = 2e6;
+
+    impl UserTerms for Coupling {
+        fn jacobian_entries(&self, n: usize) -> Vec<(usize, usize)> {
+            let mut entries = vec![(0, 1), (2, 0), (2, 3)];
+            if self.energy {
+                entries.extend([(0, n), (n, n), (n, 4), (n, 0)]);
+            }
+            entries
+        }
+        fn add_rates(&mut self, _t: f64, c: &[f64], temp: f64, s: &mut [f64], q: &mut f64) {
+            s[0] += A * c[1] * (-B / temp).exp();
+            s[2] -= A * c[0] * c[3];
+            *q += U * (900.0 - temp) + H * c[4] * c[0];
+        }
+        fn add_jacobian(&mut self, _t: f64, c: &[f64], temp: f64, jac: &mut UserJacobian<'_>) {
+            let n = jac.n_species();
+            let e = (-B / temp).exp();
+            jac.add(0, 1, A * e);
+            jac.add(0, n, A * c[1] * e * B / (temp * temp));
+            jac.add(2, 0, -A * c[3]);
+            jac.add(2, 3, -A * c[0]);
+            jac.add(n, n, -U);
+            jac.add(n, 4, H * c[0]);
+            jac.add(n, 0, H * c[4]);
+        }
+    }
+
+    fn models(n: usize) -> Vec<ReactorModel> {
+        let coolant = TemperatureHistory::new(vec![0.0], vec![800.0]).unwrap();
+        let exchange = HeatExchange::new(5e4, coolant).unwrap();
+        let inlet: Vec<f64> = (0..n).map(|i| 0.02 + 0.3 * ((i * 3) % 5) as f64).collect();
+        let flow = StirredFlow::new(2e-4, inlet, 700.0).unwrap();
+        let mut out = Vec::new();
+        for energy in [
+            Energy::Isothermal,
+            Energy::Adiabatic,
+            Energy::HeatExchange(exchange),
+        ] {
+            for flow in [None, Some(flow.clone())] {
+                out.push(ReactorModel {
+                    constraint: Constraint::ConstantVolume,
+                    energy: energy.clone(),
+                    flow,
+                    ..Default::default()
+                });
+            }
+        }
+        out
+    }
+
+    /// The worst relative difference between the combined analytic Jacobian (model plus
+    /// user terms) and five-point central differences of the combined right-hand side.
+    fn worst_error<M: Backend>(kinetics: &Kinetics, model: &ReactorModel) -> f64 {
+        let n = kinetics.n_species();
+        let m = model.n_states(n);
+        let thermo = energy_thermo(kinetics, model).unwrap();
+        let mut eq = BatchEquations::<M>::new(
+            kinetics.clone(),
+            model.clone(),
+            thermo,
+            1500.0,
+            vec![0.0; m],
+        )
+        .unwrap();
+        let energy = model.solves_energy();
+        eq.set_user_terms(Some(Box::new(Held(Coupling { energy }))))
+            .unwrap();
+        let pattern = eq.state_pattern().clone();
+        // The declared entries are in the pattern the solver sees.
+        for (r, c) in (Coupling { energy }).jacobian_entries(n) {
+            assert!(
+                pattern.position(r, c).is_some(),
+                "({r}, {c}) not in the pattern"
+            );
+        }
+        let mut y: Vec<f64> = (0..n)
+            .map(|i| 0.05 + 0.9 * ((i * 7 + 3) % 11) as f64 / 11.0)
+            .collect();
+        if model.solves_energy() {
+            y.push(1500.0);
+        }
+        let t_s = 1e-3;
+        let mut values = vec![0.0; pattern.nnz()];
+        eq.jacobian_values(t_s, &y, &mut values);
+        let f = |y: &[f64]| {
+            let mut out = vec![0.0; m];
+            eq.state_derivative(t_s, y, &mut out);
+            out
+        };
+        let largest = values.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+        let mut worst: f64 = 0.0;
+        for col in 0..m {
+            // Five-point central difference (Abramowitz & Stegun 25.3.6), as the model's own
+            // Jacobian test in `model`.
+            let h = 1e-4 * y[col].abs().max(1e-3);
+            let at = |offset: f64| {
+                let mut shifted = y.clone();
+                shifted[col] += offset;
+                f(&shifted)
+            };
+            let (f2p, f1p, f1m, f2m) = (at(2.0 * h), at(h), at(-h), at(-2.0 * h));
+            for row in 0..m {
+                let fd = (8.0 * (f1p[row] - f1m[row]) - (f2p[row] - f2m[row])) / (12.0 * h);
+                let analytic = pattern.position(row, col).map_or(0.0, |p| values[p]);
+                let scale = fd.abs().max(analytic.abs()).max(1e-9 * largest);
+                worst = worst.max((fd - analytic).abs() / scale);
+            }
+        }
+        worst
+    }
+
+    /// The combined Jacobian (the model's analytic one plus the user's contributions, the
+    /// heat row divided by the mixture heat capacity with its state derivatives) against
+    /// central differences of the combined right-hand side, to 1e-6 relative, on the dense
+    /// and the sparse backend, for closed and stirred, isothermal, adiabatic and cooled
+    /// models.
+    #[test]
+    fn combined_jacobian_matches_central_differences() {
+        let kinetics = hydrogen();
+        for model in models(kinetics.n_species()) {
+            let dense = worst_error::<NalgebraMat<f64>>(&kinetics, &model);
+            let sparse = worst_error::<FaerSparseMat<f64>>(&kinetics, &model);
+            eprintln!(
+                "flow {} {:?}: worst relative error dense {dense:.1e}, sparse {sparse:.1e}",
+                model.flow.is_some(),
+                model.energy
+            );
+            assert!(dense < 1e-6, "{model:?}: dense {dense:e}");
+            assert!(sparse < 1e-6, "{model:?}: sparse {sparse:e}");
+        }
+    }
+
+    /// Entries outside the state are refused, all named at once; the heat row without an
+    /// energy balance too.
+    #[test]
+    fn entries_outside_the_state_are_refused_together() {
+        let kinetics = hydrogen();
+        let n = kinetics.n_species();
+        let model = ReactorModel::default();
+        let mut eq = BatchEquations::<NalgebraMat<f64>>::new(
+            kinetics,
+            model,
+            Vec::new(),
+            1000.0,
+            vec![0.0; n],
+        )
+        .unwrap();
+        let err = eq
+            .set_user_terms(Some(Box::new(Held(Coupling { energy: true }))))
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains(&format!("(0, {n})")), "{err}");
+        assert!(err.contains(&format!("({n}, {n})")), "{err}");
+        assert!(err.contains("does not solve the energy balance"), "{err}");
+        assert!(!eq.has_user_terms());
+    }
+}

@@ -1164,6 +1164,7 @@ impl BatchSystem {
             extents: None,
             step_scratch: vec![0.0; 2 * n_steps],
             deadline: None,
+            keep_history_on_box_changes: false,
         };
         integrator.refresh_stats();
         Ok(integrator)
@@ -1330,6 +1331,8 @@ pub struct BatchIntegrator<'a> {
     step_scratch: Vec<f64>,
     /// The wall-clock deadline of the current call, with its limit (s).
     deadline: Option<(Instant, f64)>,
+    /// Whether a changed box condition keeps the integration history (else: a restart).
+    keep_history_on_box_changes: bool,
 }
 
 /// The limits of every call of a system's integrators: the step budget, the wall-clock
@@ -1563,7 +1566,8 @@ impl BatchIntegrator<'_> {
     /// step, the Jacobian re-evaluated (no allocation). For changes the solver cannot see,
     /// e.g. made through shared state of user code between advances, and after a change of
     /// the box conditions ([`set_residence_time_s`](Self::set_residence_time_s) and the
-    /// other setters, which keep the integration history) when a fresh start is wanted.
+    /// other setters) when [`keep_history_on_box_changes`](Self::keep_history_on_box_changes)
+    /// is on and a fresh start is wanted after all.
     pub fn restart(&mut self) {
         with_stepper!(&mut self.session, s => s.restart(None, None));
         self.refresh_stats();
@@ -1598,12 +1602,14 @@ impl BatchIntegrator<'_> {
     ///
     /// - the value already in force, bit for bit: nothing changes and nothing is computed
     ///   (the solver's statistics are those of a run without the call);
-    /// - otherwise the equations change from the current time on, while the state stays
-    ///   continuous: the solver keeps its integration history (step size, order, difference
-    ///   table) and its error test and Newton iteration adapt on the next step (a rejected
-    ///   step, a Jacobian refreshed when Newton's convergence test asks for it). Call
-    ///   [`restart`](Self::restart) after the setter for a first-order restart with a
-    ///   fresh starting step instead; docs/embedding.md compares the two;
+    /// - otherwise the equations change from the current time on and the solver restarts
+    ///   from the current state as [`restart`](Self::restart) does (first order, a fresh
+    ///   starting step, the Jacobian re-evaluated for the new equations), as
+    ///   [`set_temperature`](Self::set_temperature) does for a changed temperature. With
+    ///   [`keep_history_on_box_changes(true)`](Self::keep_history_on_box_changes) the solver
+    ///   keeps its integration history instead (step size, order, difference table; the state
+    ///   is continuous) and its error test adapts on the next steps: measured slower and less
+    ///   accurate for a step change (docs/embedding.md, "Changing the box conditions");
     /// - the change lasts for this session: the [`BatchSystem`]'s model keeps the values it
     ///   was given, and the next session starts from them;
     /// - an error, changing nothing, for a value out of range or a model without a stirred
@@ -1697,11 +1703,27 @@ impl BatchIntegrator<'_> {
     }
 
     /// The attached user terms, if they are of type `T`: changing their parameters changes
-    /// the equations from the current time on, the integration history kept as with
-    /// [`set_residence_time_s`](Self::set_residence_time_s) (call [`restart`](Self::restart)
-    /// for a fresh start). No allocation.
+    /// the equations from the current time on, which the solver cannot see: call
+    /// [`restart`](Self::restart) after a change that puts a jump into the right-hand side
+    /// (the box-condition setters do it themselves; docs/embedding.md measures why). No
+    /// allocation.
     pub fn user_terms_mut<T: UserTerms>(&mut self) -> Option<std::cell::RefMut<'_, T>> {
         with_stepper!(&self.session, s => s.solver.problem().eqn.user_terms_as::<T>())
+    }
+
+    /// Chooses what a changed box condition does to the solver from now on in this session:
+    /// `false` (the default) restarts it from the current state at first order with a fresh
+    /// starting step; `true` keeps its integration history (docs/embedding.md compares the
+    /// two). Same-value calls cost nothing either way.
+    pub fn keep_history_on_box_changes(&mut self, keep: bool) {
+        self.keep_history_on_box_changes = keep;
+    }
+
+    /// After a box condition changed: the restart unless the history is kept.
+    fn after_box_change(&mut self, changed: bool) {
+        if changed && !self.keep_history_on_box_changes {
+            self.restart();
+        }
     }
 
     /// Applies `change` to the live stirred-tank flow (it returns whether anything changed).
@@ -1709,15 +1731,17 @@ impl BatchIntegrator<'_> {
         &mut self,
         change: impl FnOnce(&mut StirredFlow) -> Result<bool, ReactorError>,
     ) -> Result<(), ReactorError> {
-        with_stepper!(&self.session, s => {
+        let changed = with_stepper!(&self.session, s => {
             let Some(flow) = &s.solver.problem().eqn.live.flow else {
                 return Err(ReactorError::BadFlow(
                     "the reactor has no stirred-tank flow to change".into(),
                 ));
             };
             let mut flow = flow.borrow_mut();
-            change(&mut flow).map(|_| ())
-        })
+            change(&mut flow)
+        })?;
+        self.after_box_change(changed);
+        Ok(())
     }
 
     /// Applies `change` to the live heat exchange (it returns whether anything changed).
@@ -1725,15 +1749,17 @@ impl BatchIntegrator<'_> {
         &mut self,
         change: impl FnOnce(&mut HeatExchange) -> Result<bool, ReactorError>,
     ) -> Result<(), ReactorError> {
-        with_stepper!(&self.session, s => {
+        let changed = with_stepper!(&self.session, s => {
             let Some(x) = &s.solver.problem().eqn.live.exchange else {
                 return Err(ReactorError::BadHeatExchange(
                     "the reactor has no heat exchange to change".into(),
                 ));
             };
             let mut x = x.borrow_mut();
-            change(&mut x).map(|_| ())
-        })
+            change(&mut x)
+        })?;
+        self.after_box_change(changed);
+        Ok(())
     }
 
     fn after_change(&mut self, c: &[f64]) {

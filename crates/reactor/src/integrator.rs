@@ -1318,7 +1318,9 @@ pub(crate) fn integrate(
 /// sized by its symbolic phase and never allocates afterwards, except the first time a
 /// diagonal pivot is rejected (its pivoting fallback is built then). With a prescribed temperature history, each call that spans breakpoints allocates their
 /// list. The test `tests/allocations.rs` counts allocations on both paths: zero per round
-/// of `advance_to` + `set_state` + `set_temperature` after the first.
+/// of `advance_to` + `set_state` + `set_temperature` after the first, and zero per round of
+/// `advance_to` + the box-condition setters + a change of [`UserTerms`] + `restart` (the
+/// user terms' own code must not allocate either).
 pub struct BatchIntegrator<'a> {
     session: Session<'a>,
     linear_algebra_used: LinearAlgebra,

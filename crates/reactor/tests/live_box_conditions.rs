@@ -165,7 +165,7 @@ fn same_value_setters_cost_nothing() {
     // piecewise closed form (Fogler ch. 5, interval by interval).
     let (tau, inlet) = (0.5, [3.0, 0.0]);
     let model = tank(tau, inlet);
-    let tau_at = |i: usize| if i % 2 == 0 { tau } else { 1.01 * tau };
+    let tau_at = |i: usize| if i.is_multiple_of(2) { tau } else { 1.01 * tau };
     let mut expected = (0.0, 0.0);
     for i in 1..=200 {
         // Interval i runs with the residence time set at stop i - 1 (tau at the start).

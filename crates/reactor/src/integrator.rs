@@ -1639,18 +1639,21 @@ impl BatchIntegrator<'_> {
     }
 
     /// Changes the inlet temperature (K, finite and positive) of a stirred tank from the
-    /// current time on (it enters the energy balance of an energy-solving model only); no
-    /// allocation. See [`set_residence_time_s`](Self::set_residence_time_s).
+    /// current time on; no allocation. It enters the energy balance of an energy-solving
+    /// model only: elsewhere a change is recorded and costs nothing. See
+    /// [`set_residence_time_s`](Self::set_residence_time_s).
     pub fn set_inlet_temperature_k(
         &mut self,
         inlet_temperature_k: f64,
     ) -> Result<(), ReactorError> {
+        // Without the energy balance the inlet temperature enters no equation: no restart.
+        let matters = self.session_model().solves_energy();
         self.change_flow(|flow| {
             if flow.inlet_temperature_k() == inlet_temperature_k {
                 return Ok(false);
             }
             flow.set_inlet_temperature_k(inlet_temperature_k)
-                .map(|()| true)
+                .map(|()| matters)
         })
     }
 

@@ -297,6 +297,42 @@ mod tests {
         }
     }
 
+    /// `UserJacobian::add` writes declared entries (the heat row scaled by 1/C) and drops
+    /// the others, returning whether it wrote.
+    #[test]
+    fn sink_writes_declared_entries_only() {
+        // States 0, 1 and the temperature 2; pattern: the diagonal plus (0, 1) and (2, 0).
+        let pattern = JacobianPattern::from_entries(3, vec![(0, 1), (2, 0)]).unwrap();
+        let mut values = vec![0.0; pattern.nnz()];
+        let mut sink = UserJacobian {
+            values: &mut values,
+            pattern: &pattern,
+            n_species: 2,
+            heat_scale: Some(0.5),
+        };
+        assert!(sink.add(0, 1, 3.0));
+        assert!(sink.add(2, 0, 4.0));
+        assert!(sink.add(2, 2, -6.0));
+        assert!(!sink.add(1, 0, 1.0), "not declared");
+        assert!(!sink.add(3, 0, 1.0), "outside the state");
+        let at = |r: usize, c: usize| values[pattern.position(r, c).unwrap()];
+        assert_eq!(at(0, 1), 3.0);
+        assert_eq!(at(2, 0), 2.0);
+        assert_eq!(at(2, 2), -3.0);
+        assert_eq!(values.iter().filter(|v| **v != 0.0).count(), 3);
+        // Without the energy balance the temperature index is refused.
+        let mut values = vec![0.0; pattern.nnz()];
+        let mut sink = UserJacobian {
+            values: &mut values,
+            pattern: &pattern,
+            n_species: 2,
+            heat_scale: None,
+        };
+        assert!(!sink.add(2, 2, 1.0));
+        assert!(!sink.add(0, 2, 1.0));
+        assert!(sink.add(0, 1, 1.0));
+    }
+
     /// Entries outside the state are refused, all named at once; the heat row without an
     /// energy balance too.
     #[test]

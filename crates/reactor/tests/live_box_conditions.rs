@@ -372,3 +372,89 @@ fn bad_changes_are_refused_and_change_nothing() {
     ));
     assert!(it.stirred_flow().is_none());
 }
+
+/// A species with the constant heat capacity of a monatomic ideal gas, cp = 5/2 R (kinetic
+/// theory), and no heat of formation.
+fn monatomic() -> stoik_thermo::Nasa7 {
+    let a = [2.5, 0.0, 0.0, 0.0, 0.0, 0.0, 4.0];
+    stoik_thermo::Nasa7::new(200.0, 1000.0, 6000.0, a, a).unwrap()
+}
+
+#[test]
+fn inlet_temperature_step_follows_the_first_order_lag() {
+    // An adiabatic stirred tank holding its feed (40 mol/m3 of an inert gas of constant
+    // cp = 5/2 R, the step A -> B idle without A): the steady-flow energy balance
+    // C cp dT/dt = C_in cp (T_in - T) / tau reduces to dT/dt = (T_in - T) / tau, so T follows
+    // T_in with the first-order lag T = T_in + (T(t_i) - T_in) exp(-(t - t_i) / tau) (Fogler
+    // ch. 8, unsteady energy balance of a stirred tank). T_in steps from 450 to 350 K at
+    // t1 = 2 s. On an isothermal tank the same setter changes no equation and costs
+    // nothing.
+    let mut m = mechanism(&["A", "B", "D"], vec![step(&[(0, 1.0)], &[(1, 1.0)], K)]);
+    for species in &mut m.species {
+        species.thermo = Some(monatomic());
+    }
+    let kin = Kinetics::compile(&m).unwrap();
+    let (tau, t0, t_in1, t_in2, t1) = (1.0, 400.0, 450.0, 350.0, 2.0);
+    let feed = vec![0.0, 0.0, 40.0];
+    let model = ReactorModel {
+        energy: Energy::Adiabatic,
+        flow: Some(StirredFlow::new(tau, feed.clone(), t_in1).unwrap()),
+        ..Default::default()
+    };
+    for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
+        let mut system =
+            BatchSystem::with_model(&kin, &model, t0, &options(3, 1e-10, 1e-14, la)).unwrap();
+        let mut it = system.integrator(&feed).unwrap();
+        it.advance_to(t1).unwrap();
+        let temp1 = it.temperature();
+        let lag = |from: f64, t_in: f64, dt: f64| t_in + (from - t_in) * (-dt / tau).exp();
+        assert_close(
+            &format!("{la:?} T(t1)"),
+            temp1,
+            lag(t0, t_in1, t1),
+            1e-8,
+            0.0,
+        );
+        it.set_inlet_temperature_k(t_in2).unwrap();
+        for dt in [0.1, 1.0, 5.0] {
+            it.advance_to(t1 + dt).unwrap();
+            let expected = lag(temp1, t_in2, dt);
+            assert_close(
+                &format!("{la:?} T(t1 + {dt})"),
+                it.temperature(),
+                expected,
+                1e-8,
+                0.0,
+            );
+        }
+    }
+    // Isothermal: the inlet temperature enters no equation.
+    let isothermal = tank(0.5, [3.0, 0.0]);
+    let run = |change: bool| {
+        let mut system = BatchSystem::with_model(
+            &first_order(),
+            &isothermal,
+            T,
+            &options(2, 1e-8, 1e-12, LinearAlgebra::Dense),
+        )
+        .unwrap();
+        let mut it = system.integrator(&[0.0, 0.0]).unwrap();
+        for i in 1..=50 {
+            it.advance_to(0.02 * i as f64).unwrap();
+            if change {
+                it.set_inlet_temperature_k(300.0 + i as f64).unwrap();
+            }
+        }
+        assert_eq!(
+            it.stirred_flow().unwrap().inlet_temperature_k(),
+            if change { 350.0 } else { 300.0 }
+        );
+        (*it.stats(), it.state()[0])
+    };
+    let (without, a_without) = run(false);
+    let (with, a_with) = run(true);
+    assert_same_work("isothermal inlet temperature", &with, &without);
+    assert_eq!(a_with, a_without);
+    let (a, _) = tank_closed_form(0.0, 0.0, 0.5, [3.0, 0.0], 1.0);
+    assert_close("isothermal c_A(1 s)", a_without, a, 1e-6, 0.0);
+}

@@ -41,6 +41,51 @@ use stoik_kinetics::JacobianPattern;
 ///
 /// `Send` so that an [`OwnedIntegrator`](crate::OwnedIntegrator) holding them can move to a
 /// worker thread.
+///
+/// A closed batch with A -> B (k = 2 1/s) made a stirred tank by a user throughflow
+/// `S_i = (c_in,i - c_i) / tau`; after many residence times the conversion is the
+/// first-order design equation's `k tau / (1 + k tau)` (O. Levenspiel, *Chemical Reaction
+/// Engineering*, 3rd ed., ch. 5):
+///
+/// ```
+/// use stoik_kinetics::Kinetics;
+/// use stoik_mechanism::parse_mechanism;
+/// use stoik_reactor::{BatchSystem, IntegrationOptions, UserJacobian, UserTerms};
+///
+/// struct Throughflow {
+///     rate_per_s: f64,
+///     inlet_mol_per_m3: Vec<f64>,
+/// }
+///
+/// impl UserTerms for Throughflow {
+///     fn jacobian_entries(&self, n_species: usize) -> Vec<(usize, usize)> {
+///         (0..n_species).map(|i| (i, i)).collect()
+///     }
+///     fn add_rates(&mut self, _t: f64, c: &[f64], _t_k: f64, rates: &mut [f64], _q: &mut f64) {
+///         for ((r, c), c_in) in rates.iter_mut().zip(c).zip(&self.inlet_mol_per_m3) {
+///             *r += self.rate_per_s * (c_in - c);
+///         }
+///     }
+///     fn add_jacobian(&mut self, _t: f64, c: &[f64], _t_k: f64, jac: &mut UserJacobian<'_>) {
+///         for i in 0..c.len() {
+///             jac.add(i, i, -self.rate_per_s);
+///         }
+///     }
+/// }
+///
+/// let text = "stoik_mechanism = 1\n[units]\nactivation_energy = \"K\"\n\
+///     [[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n\
+///     [[step]]\nequation = \"A -> B\"\nforward = { prefactor = 2.0 }\n";
+/// let kinetics = Kinetics::compile(&parse_mechanism(text, "a.toml").unwrap().mechanism).unwrap();
+/// let mut system = BatchSystem::new(&kinetics, 300.0, &IntegrationOptions::new(2)).unwrap();
+/// let tau = 0.5;
+/// system
+///     .set_user_terms(Throughflow { rate_per_s: 1.0 / tau, inlet_mol_per_m3: vec![1.0, 0.0] })
+///     .unwrap();
+/// let p = system.integrate(&[0.0, 0.0], &[0.0, 20.0]).unwrap();
+/// let conversion = 1.0 - p.concentrations_mol_per_m3[1][0] / 1.0;
+/// assert!((conversion - 2.0 * tau / (1.0 + 2.0 * tau)).abs() < 1e-5);
+/// ```
 pub trait UserTerms: Send + 'static {
     /// The Jacobian entries the terms may write, as `(row, column)` state indices (species
     /// `0..n_species`, `n_species` the heat row and the temperature column of an

@@ -18,7 +18,11 @@ use stoik_kinetics::{JacobianPattern, Kinetics, RateConstants};
 use stoik_thermo::Nasa7;
 
 use crate::fixed_lu::FixedPatternSolver;
-use crate::model::{state_pattern, Constraint, Energy, ModelEquations, ModelScratch, ReactorModel};
+use crate::model::{
+    energy_terms, state_pattern, Constraint, Energy, LiveConditions, ModelEquations, ModelScratch,
+    ReactorModel,
+};
+use crate::user_terms::{ErasedTerms, UserJacobian, UserTerms};
 use crate::watch::Quantity;
 use crate::{DrivingStep, ReactorError};
 
@@ -151,6 +155,29 @@ pub(crate) struct BatchEquations<M: Backend> {
     pub(crate) laws: Vec<Vec<f64>>,
     sparsity: Option<M::Sparsity>,
     ctx: M::C,
+    /// The stirred-tank flow and heat exchange in force (changeable on a live solver).
+    pub(crate) live: LiveConditions,
+    /// The user's terms, when attached.
+    user: Option<UserSlot>,
+}
+
+/// The user's terms with the scratch and positions their evaluation needs (allocated when
+/// they are attached).
+struct UserSlot {
+    terms: RefCell<Box<dyn ErasedTerms>>,
+    /// The model's own pattern, and the position of each of its entries in the state
+    /// pattern (which adds the user's entries).
+    base_pattern: JacobianPattern,
+    base_to_state: Vec<usize>,
+    /// Model Jacobian values in base-pattern order.
+    base_values: RefCell<Vec<f64>>,
+    /// Scratch species rates for the heat term's value inside a Jacobian evaluation.
+    rates: RefCell<Vec<f64>>,
+    /// Positions of the temperature row's entries (columns `0..=n`) in the state pattern
+    /// (energy-solving models; empty otherwise).
+    heat_positions: Vec<usize>,
+    /// The model's linear invariants, set aside: user sources do not keep them.
+    laws: Vec<Vec<f64>>,
 }
 
 impl<M: Backend> BatchEquations<M> {
@@ -177,6 +204,7 @@ impl<M: Backend> BatchEquations<M> {
         let diagonal_positions = (0..state_pattern.n())
             .map(|i| state_pattern.position(i, i).unwrap_or(usize::MAX))
             .collect();
+        let live = LiveConditions::of(&model);
         Ok(Self {
             fixed_mask,
             diagonal_positions,
@@ -198,7 +226,192 @@ impl<M: Backend> BatchEquations<M> {
             non_negative: true,
             sparsity,
             ctx: M::C::default(),
+            live,
+            user: None,
         })
+    }
+
+    /// Attaches `terms` (replacing any), extending the Jacobian pattern by their declared
+    /// entries; `None` detaches. Allocates.
+    pub(crate) fn set_user_terms(
+        &mut self,
+        terms: Option<Box<dyn ErasedTerms>>,
+    ) -> Result<(), ReactorError> {
+        let base_pattern = match self.user.take() {
+            Some(slot) => {
+                self.laws = slot.laws;
+                slot.base_pattern
+            }
+            None => self.state_pattern.clone(),
+        };
+        // The model's own pattern first: on error the equations keep no user terms.
+        self.install_pattern(base_pattern.clone());
+        let Some(terms) = terms else {
+            return Ok(());
+        };
+        let n = self.kinetics.n_species();
+        let energy = self.model.solves_energy();
+        if self.model.plug.is_some() {
+            return Err(ReactorError::BadUserTerms(
+                "a plug flow runs whole and takes no user terms".into(),
+            ));
+        }
+        if self.model.constraint == Constraint::ConstantPressure {
+            return Err(ReactorError::BadUserTerms(
+                "user terms need a constant-volume (or constant-density) model: at constant pressure the expansion would couple every user source into every species row".into(),
+            ));
+        }
+        let entries = terms.entries(n);
+        let limit = if energy { n } else { n.saturating_sub(1) };
+        let bad: Vec<String> = entries
+            .iter()
+            .filter(|&&(r, c)| r > limit || c > limit)
+            .map(|(r, c)| format!("({r}, {c})"))
+            .collect();
+        if !bad.is_empty() {
+            let what = if energy {
+                format!("species 0..{n} and the temperature {n}")
+            } else {
+                format!("species 0..{n} (the model does not solve the energy balance)")
+            };
+            return Err(ReactorError::BadUserTerms(format!(
+                "Jacobian entries {} are outside the state indices: expected {what}",
+                bad.join(", ")
+            )));
+        }
+        let m = self.state_pattern.n();
+        let mut all: Vec<(usize, usize)> = Vec::with_capacity(base_pattern.nnz() + entries.len());
+        let (starts, rows) = (base_pattern.column_starts(), base_pattern.row_indices());
+        for col in 0..m {
+            all.extend(rows[starts[col]..starts[col + 1]].iter().map(|&r| (r, col)));
+        }
+        all.extend(entries);
+        let union = JacobianPattern::from_entries(m, all).map_err(|_| ReactorError::BadPattern)?;
+        let mut base_to_state = Vec::with_capacity(base_pattern.nnz());
+        for col in 0..m {
+            for &r in &rows[starts[col]..starts[col + 1]] {
+                base_to_state.push(union.position(r, col).ok_or(ReactorError::BadPattern)?);
+            }
+        }
+        let heat_positions = if energy {
+            (0..=n)
+                .map(|k| union.position(n, k).ok_or(ReactorError::BadPattern))
+                .collect::<Result<Vec<_>, _>>()?
+        } else {
+            Vec::new()
+        };
+        self.user = Some(UserSlot {
+            terms: RefCell::new(terms),
+            base_values: RefCell::new(vec![0.0; base_pattern.nnz()]),
+            base_pattern,
+            base_to_state,
+            rates: RefCell::new(vec![0.0; n]),
+            heat_positions,
+            laws: std::mem::take(&mut self.laws),
+        });
+        self.install_pattern(union);
+        Ok(())
+    }
+
+    /// Makes `pattern` the state pattern the solver sees, with everything sized from it.
+    fn install_pattern(&mut self, pattern: JacobianPattern) {
+        self.diagonal_positions = (0..pattern.n())
+            .map(|i| pattern.position(i, i).unwrap_or(usize::MAX))
+            .collect();
+        self.jac_values = RefCell::new(vec![0.0; pattern.nnz()]);
+        self.sparsity = M::pattern_sparsity(&pattern);
+        self.state_pattern = pattern;
+    }
+
+    /// The attached user terms as `T`, if they are of that type.
+    pub(crate) fn user_terms_as<T: UserTerms>(&self) -> Option<std::cell::RefMut<'_, T>> {
+        let slot = self.user.as_ref()?;
+        std::cell::RefMut::filter_map(slot.terms.borrow_mut(), |t| t.any_mut().downcast_mut::<T>())
+            .ok()
+    }
+
+    /// Whether user terms are attached.
+    pub(crate) fn has_user_terms(&self) -> bool {
+        self.user.is_some()
+    }
+
+    /// The mixture heat capacity per volume of the energy balance (J/(m3 K)) at
+    /// concentrations `c` (mol/m3) and temperature `temperature_k` (K).
+    fn heat_capacity(&self, c: &[f64], temperature_k: f64) -> f64 {
+        if let Some(liquid) = &self.model.liquid {
+            return liquid.heat_capacity_j_per_m3_k();
+        }
+        let basis = self.model.energy_basis();
+        self.thermo
+            .iter()
+            .zip(c)
+            .map(|(thermo, &ci)| ci * energy_terms(thermo, temperature_k, basis).1)
+            .sum()
+    }
+
+    /// Adds the user's sources at `(t_s, y)` (temperature `temperature_k`) to `f`. No
+    /// allocation.
+    fn add_user_rates(&self, t_s: f64, temperature_k: f64, y: &[f64], f: &mut [f64]) {
+        let Some(slot) = &self.user else {
+            return;
+        };
+        let n = self.kinetics.n_species();
+        let mut heat = 0.0;
+        slot.terms.borrow_mut().terms().add_rates(
+            t_s,
+            &y[..n],
+            temperature_k,
+            &mut f[..n],
+            &mut heat,
+        );
+        if self.model.solves_energy() && heat != 0.0 {
+            f[n] += heat / self.heat_capacity(&y[..n], temperature_k);
+        }
+    }
+
+    /// Adds the user's Jacobian contributions at `(t_s, y)` to `values` (state-pattern
+    /// order). No allocation.
+    fn add_user_jacobian(&self, slot: &UserSlot, t_s: f64, y: &[f64], values: &mut [f64]) {
+        let n = self.kinetics.n_species();
+        let temperature_k = self.temperature_at(t_s, y);
+        let c = &y[..n];
+        let energy = self.model.solves_energy();
+        let capacity = if energy {
+            self.heat_capacity(c, temperature_k)
+        } else {
+            1.0
+        };
+        let mut terms = slot.terms.borrow_mut();
+        let terms = terms.terms();
+        let mut sink = UserJacobian {
+            values: &mut *values,
+            pattern: &self.state_pattern,
+            n_species: n,
+            heat_scale: energy.then(|| 1.0 / capacity),
+        };
+        terms.add_jacobian(t_s, c, temperature_k, &mut sink);
+        if !energy || self.model.liquid.is_some() {
+            return;
+        }
+        // The heat capacity depends on the state: d(Q/C)/dy_k gains -Q/C^2 dC/dy_k.
+        let mut rates = slot.rates.borrow_mut();
+        rates.iter_mut().for_each(|r| *r = 0.0);
+        let mut heat = 0.0;
+        terms.add_rates(t_s, c, temperature_k, &mut rates, &mut heat);
+        if heat == 0.0 {
+            return;
+        }
+        let factor = heat / (capacity * capacity);
+        let basis = self.model.energy_basis();
+        let mut capacity_slope = 0.0;
+        for (k, (thermo, &ck)) in self.thermo.iter().zip(c).enumerate() {
+            let (_, cap) = energy_terms(thermo, temperature_k, basis);
+            values[slot.heat_positions[k]] -= factor * cap;
+            // dk_i/dT = dcp_i/dT for cv = cp - R and for cp alike.
+            capacity_slope +=
+                ck * stoik_mechanism::GAS_CONSTANT * thermo.cp_slope_over_r(temperature_k);
+        }
+        values[slot.heat_positions[n]] -= factor * capacity_slope;
     }
 
     /// Number of states (species, plus the temperature when it is solved).
@@ -266,6 +479,7 @@ impl<M: Backend> BatchEquations<M> {
             kinetics: &self.kinetics,
             model: &self.model,
             thermo: &self.thermo,
+            live: Some(&self.live),
         }
     }
 
@@ -282,6 +496,8 @@ impl<M: Backend> BatchEquations<M> {
             self.model_equations()
                 .rhs(&k, t_s, temperature_k, y, f, carry);
         }
+        drop(k);
+        self.add_user_rates(t_s, temperature_k, y, f);
         let n = self.kinetics.n_species();
         self.model.conditions.apply_to_rhs(&y[..n], &mut f[..n]);
     }
@@ -401,6 +617,7 @@ impl<M: Backend> BatchEquations<M> {
                 self.model.conditions.apply_photolysis(t_s, &mut k.forward);
                 self.model_equations()
                     .rhs(&k, t_s, temperature_k, &y, &mut f, &mut carry);
+                self.add_user_rates(t_s, temperature_k, &y, &mut f);
                 f[c.len()]
             }
         }
@@ -417,23 +634,48 @@ impl<M: Backend> BatchEquations<M> {
         self.model.conditions.apply_photolysis(t_s, &mut k.forward);
         self.model_equations()
             .rhs(&k, t_s, temperature_k, y, &mut f, &mut carry);
+        self.add_user_rates(t_s, temperature_k, y, &mut f);
         self.model.conditions.apply_to_rhs(&y[..n], &mut f[..n]);
         (temperature_k, f)
     }
 
     /// Constant volume without an energy state: the Jacobian is the kinetics' own.
     fn is_plain(&self) -> bool {
-        self.model.constraint == Constraint::ConstantVolume
+        self.user.is_none()
+            && self.model.constraint == Constraint::ConstantVolume
             && !self.model.solves_energy()
             && self.model.flow.is_none()
             && !self.model.is_extended()
     }
 
-    /// Writes the Jacobian at `(t_s, y)` into `values` (state-pattern order).
+    /// Writes the Jacobian at `(t_s, y)` into `values` (state-pattern order): the model's,
+    /// then the user's terms, then the box conditions.
     pub(crate) fn jacobian_values(&self, t_s: f64, y: &[f64], values: &mut [f64]) {
+        match &self.user {
+            None => self.model_jacobian(t_s, y, values),
+            Some(slot) => {
+                let mut base = slot.base_values.borrow_mut();
+                self.model_jacobian(t_s, y, &mut base);
+                values.iter_mut().for_each(|v| *v = 0.0);
+                for (&p, &v) in slot.base_to_state.iter().zip(base.iter()) {
+                    values[p] = v;
+                }
+                drop(base);
+                self.add_user_jacobian(slot, t_s, y, values);
+            }
+        }
+        self.box_jacobian(values, None);
+    }
+
+    /// Writes the model's own Jacobian at `(t_s, y)` into `values` (the model's pattern).
+    fn model_jacobian(&self, t_s: f64, y: &[f64], values: &mut [f64]) {
         let temperature_k = self.rates_for(t_s, y);
         let k = self.rate_constants.borrow();
-        if self.is_plain() {
+        if self.model.constraint == Constraint::ConstantVolume
+            && !self.model.solves_energy()
+            && self.model.flow.is_none()
+            && !self.model.is_extended()
+        {
             self.kinetics.jacobian_sparse(&k, y, values);
         } else {
             self.model_equations().jacobian(
@@ -446,8 +688,6 @@ impl<M: Backend> BatchEquations<M> {
                 values,
             );
         }
-        drop(k);
-        self.box_jacobian(values, None);
     }
 
     /// Writes the Jacobian at `(t_s, y)` into `jac`; `false` if `jac` has an unexpected shape.

@@ -280,6 +280,10 @@ pub enum ReactorError {
     /// enthalpies) or combined with a model that cannot take it.
     #[error("bad liquid phase: {0}")]
     BadLiquidPhase(String),
+    /// User terms ([`UserTerms`](crate::UserTerms)) that the model cannot take, or whose
+    /// declared Jacobian entries lie outside the state.
+    #[error("bad user terms: {0}")]
+    BadUserTerms(String),
     /// The analysis asked for is not available for this reactor model.
     #[error("not available for this reactor: {0}")]
     NotSupported(String),

@@ -112,15 +112,15 @@ impl ModelEquations<'_> {
         volume: Option<f64>,
     ) -> Heat {
         let t = temperature_k;
-        let (exchanged, exchanged_slope) = match &self.model.energy {
-            Energy::HeatExchange(x) => {
+        let (exchanged, exchanged_slope) = match self.exchange() {
+            Some(x) => {
                 let ua = match volume {
                     Some(v) => x.ua_over_volume(v),
                     None => x.ua_per_volume_w_per_m3_k(),
                 };
                 (ua * (x.coolant().temperature_at(t_s) - t), -ua)
             }
-            _ => (0.0, 0.0),
+            None => (0.0, 0.0),
         };
         let feeds = self
             .model
@@ -524,6 +524,7 @@ mod tests {
             kinetics,
             model,
             thermo: &thermo,
+            live: None,
         };
         let n = kinetics.n_species();
         let m = model.n_states(n);

@@ -33,7 +33,8 @@ use crate::equations::{Backend, BatchEquations};
 use crate::failure::{Diagnosis, Halt};
 use crate::fixed_lu::FixedPatternSolver;
 use crate::invariants::Invariants;
-use crate::model::{energy_thermo, Constraint, Energy, ReactorModel};
+use crate::model::{energy_thermo, Constraint, Energy, HeatExchange, ReactorModel, StirredFlow};
+use crate::user_terms::{Held, UserTerms};
 use crate::watch::{gauss_legendre_3_nodes, Quantity, Watch, Watcher};
 use crate::{
     FastestComponent, IntegrationError, IntegrationFailure, IntegrationOptions, LinearAlgebra,
@@ -1040,9 +1041,57 @@ impl BatchSystem {
         self.open(0.0, initial_mol_per_m3)
     }
 
-    /// The reactor model of the system.
+    /// The reactor model of the system (as given: changes of the flow or the heat exchange
+    /// on a live [`BatchIntegrator`] last for that session only).
     pub fn model(&self) -> &ReactorModel {
         &self.model
+    }
+
+    /// Attaches `terms`, the user's sources in the species and energy balances with their
+    /// Jacobian contributions (see [`UserTerms`] for the equations and units), replacing
+    /// any attached before. Every integration and session that follows sees them in every
+    /// right-hand side and Jacobian evaluation. Allocates once: the Jacobian pattern is
+    /// extended by the terms' declared entries ([`UserTerms::jacobian_entries`]) and the
+    /// sparse factorization is analysed afresh for it.
+    ///
+    /// Errors: a model at constant pressure or a plug flow; declared entries outside the
+    /// state (all listed at once). On error the system keeps no user terms.
+    pub fn set_user_terms(&mut self, terms: impl UserTerms) -> Result<(), ReactorError> {
+        let boxed = || -> Box<dyn crate::user_terms::ErasedTerms> { Box::new(Held(terms)) };
+        let result = match &mut self.problem {
+            Problem::Dense(p) => p.eqn.set_user_terms(Some(boxed())),
+            Problem::Sparse(p) => p.eqn.set_user_terms(Some(boxed())),
+        };
+        if result.is_err() {
+            self.clear_user_terms();
+        }
+        result
+    }
+
+    /// Detaches the user terms (the Jacobian pattern goes back to the model's own).
+    pub fn clear_user_terms(&mut self) {
+        // Detaching cannot fail.
+        let _ = match &mut self.problem {
+            Problem::Dense(p) => p.eqn.set_user_terms(None),
+            Problem::Sparse(p) => p.eqn.set_user_terms(None),
+        };
+    }
+
+    /// The attached user terms, if they are of type `T` (to change their parameters
+    /// between integrations).
+    pub fn user_terms_mut<T: UserTerms>(&mut self) -> Option<std::cell::RefMut<'_, T>> {
+        match &self.problem {
+            Problem::Dense(p) => p.eqn.user_terms_as::<T>(),
+            Problem::Sparse(p) => p.eqn.user_terms_as::<T>(),
+        }
+    }
+
+    /// Whether user terms are attached.
+    pub fn has_user_terms(&self) -> bool {
+        match &self.problem {
+            Problem::Dense(p) => p.eqn.has_user_terms(),
+            Problem::Sparse(p) => p.eqn.has_user_terms(),
+        }
     }
 
     fn open(&mut self, t0: f64, initial: &[f64]) -> Result<BatchIntegrator<'_>, ReactorError> {
@@ -1070,9 +1119,16 @@ impl BatchSystem {
             }
             *problem_t0 = t0;
         };
+        // A session starts from the model's flow and heat exchange as given.
         match &mut self.problem {
-            Problem::Dense(p) => set(&mut p.eqn.initial, &mut p.t0),
-            Problem::Sparse(p) => set(&mut p.eqn.initial, &mut p.t0),
+            Problem::Dense(p) => {
+                p.eqn.live.reset(&self.model);
+                set(&mut p.eqn.initial, &mut p.t0)
+            }
+            Problem::Sparse(p) => {
+                p.eqn.live.reset(&self.model);
+                set(&mut p.eqn.initial, &mut p.t0)
+            }
         }
     }
 
@@ -1108,6 +1164,7 @@ impl BatchSystem {
             extents: None,
             step_scratch: vec![0.0; 2 * n_steps],
             deadline: None,
+            keep_history_on_box_changes: false,
         };
         integrator.refresh_stats();
         Ok(integrator)
@@ -1261,7 +1318,9 @@ pub(crate) fn integrate(
 /// sized by its symbolic phase and never allocates afterwards, except the first time a
 /// diagonal pivot is rejected (its pivoting fallback is built then). With a prescribed temperature history, each call that spans breakpoints allocates their
 /// list. The test `tests/allocations.rs` counts allocations on both paths: zero per round
-/// of `advance_to` + `set_state` + `set_temperature` after the first.
+/// of `advance_to` + `set_state` + `set_temperature` after the first, and zero per round of
+/// `advance_to` + the box-condition setters + a change of [`UserTerms`] + `restart` (the
+/// user terms' own code must not allocate either).
 pub struct BatchIntegrator<'a> {
     session: Session<'a>,
     linear_algebra_used: LinearAlgebra,
@@ -1274,6 +1333,8 @@ pub struct BatchIntegrator<'a> {
     step_scratch: Vec<f64>,
     /// The wall-clock deadline of the current call, with its limit (s).
     deadline: Option<(Instant, f64)>,
+    /// Whether a changed box condition keeps the integration history (else: a restart).
+    keep_history_on_box_changes: bool,
 }
 
 /// The limits of every call of a system's integrators: the step budget, the wall-clock
@@ -1505,7 +1566,10 @@ impl BatchIntegrator<'_> {
 
     /// Restarts the solver at the current time and state: first order, a fresh starting
     /// step, the Jacobian re-evaluated (no allocation). For changes the solver cannot see,
-    /// e.g. made through shared state of user code between advances.
+    /// e.g. made through shared state of user code between advances, and after a change of
+    /// the box conditions ([`set_residence_time_s`](Self::set_residence_time_s) and the
+    /// other setters) when [`keep_history_on_box_changes`](Self::keep_history_on_box_changes)
+    /// is on and a fresh start is wanted after all.
     pub fn restart(&mut self) {
         with_stepper!(&mut self.session, s => s.restart(None, None));
         self.refresh_stats();
@@ -1525,6 +1589,181 @@ impl BatchIntegrator<'_> {
         }
         with_stepper!(&mut self.session, s => s.restart(Some(time_s), Some(c_mol_per_m3)));
         self.after_change(c_mol_per_m3);
+        Ok(())
+    }
+
+    /// Changes the residence time `V / q` (s, finite and positive) of a stirred tank from
+    /// the current time on; no allocation.
+    ///
+    /// The box-condition setters (this one,
+    /// [`set_inlet_mol_per_m3`](Self::set_inlet_mol_per_m3),
+    /// [`set_inlet_temperature_k`](Self::set_inlet_temperature_k),
+    /// [`set_coolant_temperature_k`](Self::set_coolant_temperature_k),
+    /// [`set_ua_per_volume_w_per_m3_k`](Self::set_ua_per_volume_w_per_m3_k),
+    /// [`set_ua_total_w_per_k`](Self::set_ua_total_w_per_k)) share one behaviour:
+    ///
+    /// - the value already in force, bit for bit: nothing changes and nothing is computed
+    ///   (the solver's statistics are those of a run without the call);
+    /// - otherwise the equations change from the current time on and the solver restarts
+    ///   from the current state as [`restart`](Self::restart) does (first order, a fresh
+    ///   starting step, the Jacobian re-evaluated for the new equations), as
+    ///   [`set_temperature`](Self::set_temperature) does for a changed temperature. With
+    ///   [`keep_history_on_box_changes(true)`](Self::keep_history_on_box_changes) the solver
+    ///   keeps its integration history instead (step size, order, difference table; the state
+    ///   is continuous) and its error test adapts on the next steps: measured slower and less
+    ///   accurate for a step change (docs/embedding.md, "Changing the box conditions");
+    /// - the change lasts for this session: the [`BatchSystem`]'s model keeps the values it
+    ///   was given, and the next session starts from them;
+    /// - an error, changing nothing, for a value out of range or a model without a stirred
+    ///   tank flow ([`ReactorError::BadFlow`]) or heat exchange
+    ///   ([`ReactorError::BadHeatExchange`]).
+    pub fn set_residence_time_s(&mut self, residence_time_s: f64) -> Result<(), ReactorError> {
+        self.change_flow(|flow| {
+            if flow.residence_time_s() == residence_time_s {
+                return Ok(false);
+            }
+            flow.set_residence_time_s(residence_time_s).map(|()| true)
+        })
+    }
+
+    /// Changes the inlet concentrations (mol/m3, one per species, finite and not negative)
+    /// of a stirred tank from the current time on; no allocation. See
+    /// [`set_residence_time_s`](Self::set_residence_time_s) for the cost and the history.
+    pub fn set_inlet_mol_per_m3(&mut self, inlet_mol_per_m3: &[f64]) -> Result<(), ReactorError> {
+        self.change_flow(|flow| {
+            if flow.inlet_mol_per_m3() == inlet_mol_per_m3 {
+                return Ok(false);
+            }
+            flow.set_inlet_mol_per_m3(inlet_mol_per_m3).map(|()| true)
+        })
+    }
+
+    /// Changes the inlet temperature (K, finite and positive) of a stirred tank from the
+    /// current time on; no allocation. It enters the energy balance of an energy-solving
+    /// model only: elsewhere a change is recorded and costs nothing. See
+    /// [`set_residence_time_s`](Self::set_residence_time_s).
+    pub fn set_inlet_temperature_k(
+        &mut self,
+        inlet_temperature_k: f64,
+    ) -> Result<(), ReactorError> {
+        // Without the energy balance the inlet temperature enters no equation: no restart.
+        let matters = self.session_model().solves_energy();
+        self.change_flow(|flow| {
+            if flow.inlet_temperature_k() == inlet_temperature_k {
+                return Ok(false);
+            }
+            flow.set_inlet_temperature_k(inlet_temperature_k)
+                .map(|()| matters)
+        })
+    }
+
+    /// Holds the coolant of a jacketed vessel at `temperature_k` (K, finite and positive)
+    /// from the current time on, replacing its history; no allocation when the coolant is
+    /// already held at one temperature. See
+    /// [`set_residence_time_s`](Self::set_residence_time_s).
+    pub fn set_coolant_temperature_k(&mut self, temperature_k: f64) -> Result<(), ReactorError> {
+        self.change_exchange(|x| {
+            let c = x.coolant();
+            if c.times_s().len() == 1 && c.temperatures_k()[0] == temperature_k {
+                return Ok(false);
+            }
+            x.set_coolant_temperature_k(temperature_k).map(|()| true)
+        })
+    }
+
+    /// Changes U A / V (W/(m3 K), finite, not negative) of a heat exchange given per volume,
+    /// from the current time on; no allocation. See
+    /// [`set_residence_time_s`](Self::set_residence_time_s).
+    pub fn set_ua_per_volume_w_per_m3_k(&mut self, ua_per_volume: f64) -> Result<(), ReactorError> {
+        self.change_exchange(|x| {
+            if x.ua_total_w_per_k().is_none() && x.ua_per_volume_w_per_m3_k() == ua_per_volume {
+                return Ok(false);
+            }
+            x.set_ua_per_volume_w_per_m3_k(ua_per_volume).map(|()| true)
+        })
+    }
+
+    /// Changes U A (W/K, finite, not negative) of a heat exchange given as a total, from the
+    /// current time on; no allocation. See
+    /// [`set_residence_time_s`](Self::set_residence_time_s).
+    pub fn set_ua_total_w_per_k(&mut self, ua_w_per_k: f64) -> Result<(), ReactorError> {
+        self.change_exchange(|x| {
+            if x.ua_total_w_per_k() == Some(ua_w_per_k) {
+                return Ok(false);
+            }
+            x.set_ua_total_w_per_k(ua_w_per_k).map(|()| true)
+        })
+    }
+
+    /// The stirred-tank flow in force (with the changes made in this session), `None` for a
+    /// closed reactor. Allocates (a copy).
+    pub fn stirred_flow(&self) -> Option<StirredFlow> {
+        with_stepper!(&self.session, s => s.solver.problem().eqn.live.flow.as_ref().map(|f| f.borrow().clone()))
+    }
+
+    /// The heat exchange in force (with the changes made in this session), `None` without
+    /// one. Allocates (a copy).
+    pub fn heat_exchange(&self) -> Option<HeatExchange> {
+        with_stepper!(&self.session, s => s.solver.problem().eqn.live.exchange.as_ref().map(|x| x.borrow().clone()))
+    }
+
+    /// The attached user terms, if they are of type `T`: changing their parameters changes
+    /// the equations from the current time on, which the solver cannot see: call
+    /// [`restart`](Self::restart) after a change that puts a jump into the right-hand side
+    /// (the box-condition setters do it themselves; docs/embedding.md measures why). No
+    /// allocation.
+    pub fn user_terms_mut<T: UserTerms>(&mut self) -> Option<std::cell::RefMut<'_, T>> {
+        with_stepper!(&self.session, s => s.solver.problem().eqn.user_terms_as::<T>())
+    }
+
+    /// Chooses what a changed box condition does to the solver from now on in this session:
+    /// `false` (the default) restarts it from the current state at first order with a fresh
+    /// starting step; `true` keeps its integration history (docs/embedding.md compares the
+    /// two). Same-value calls cost nothing either way.
+    pub fn keep_history_on_box_changes(&mut self, keep: bool) {
+        self.keep_history_on_box_changes = keep;
+    }
+
+    /// After a box condition changed: the restart unless the history is kept.
+    fn after_box_change(&mut self, changed: bool) {
+        if changed && !self.keep_history_on_box_changes {
+            self.restart();
+        }
+    }
+
+    /// Applies `change` to the live stirred-tank flow (it returns whether anything changed).
+    fn change_flow(
+        &mut self,
+        change: impl FnOnce(&mut StirredFlow) -> Result<bool, ReactorError>,
+    ) -> Result<(), ReactorError> {
+        let changed = with_stepper!(&self.session, s => {
+            let Some(flow) = &s.solver.problem().eqn.live.flow else {
+                return Err(ReactorError::BadFlow(
+                    "the reactor has no stirred-tank flow to change".into(),
+                ));
+            };
+            let mut flow = flow.borrow_mut();
+            change(&mut flow)
+        })?;
+        self.after_box_change(changed);
+        Ok(())
+    }
+
+    /// Applies `change` to the live heat exchange (it returns whether anything changed).
+    fn change_exchange(
+        &mut self,
+        change: impl FnOnce(&mut HeatExchange) -> Result<bool, ReactorError>,
+    ) -> Result<(), ReactorError> {
+        let changed = with_stepper!(&self.session, s => {
+            let Some(x) = &s.solver.problem().eqn.live.exchange else {
+                return Err(ReactorError::BadHeatExchange(
+                    "the reactor has no heat exchange to change".into(),
+                ));
+            };
+            let mut x = x.borrow_mut();
+            change(&mut x)
+        })?;
+        self.after_box_change(changed);
         Ok(())
     }
 

@@ -20,6 +20,13 @@
 //! - [`BatchIntegrator`], opened on a [`BatchSystem`], is the stepping interface for process
 //!   models (operator splitting): advance to a time, change the state (e.g. add a feed) or the
 //!   temperature, continue. It keeps one live solver and does not allocate in steady use.
+//!   A stirred tank's residence time and inlet and a jacket's coolant temperature and U A
+//!   change on the live session too ([`BatchIntegrator::set_residence_time_s`] and its
+//!   siblings; the value in force costs nothing).
+//! - [`UserTerms`], attached to a [`BatchSystem`] ([`BatchSystem::set_user_terms`]), add the
+//!   user's own sources to the species balances (mol/(m3 s)) and heat to the energy balance
+//!   (W/m3), with their Jacobian contributions ([`UserJacobian`]): a unit operation's feeds,
+//!   transfers and heat exchange inside the integrator instead of operator splitting.
 //! - [`ReactorConservation`] holds the conservation laws of a mechanism in a reactor (element
 //!   totals and moieties, with a box model's open species left out; per unit mass at
 //!   constant pressure) and measures their drift along a profile against the allowance of
@@ -77,6 +84,7 @@ mod profiles;
 mod semibatch;
 mod sensitivity;
 mod steady;
+mod user_terms;
 mod watch;
 
 pub use atmosphere::{
@@ -121,6 +129,7 @@ pub use steady::{
     ContinuationParameter, Stability, SteadyError, SteadyOptions, SteadyPath, SteadyState,
     TurningPoint,
 };
+pub use user_terms::{UserJacobian, UserTerms};
 pub use watch::{Located, Quantity, Watch};
 
 use stoik_kinetics::Kinetics;

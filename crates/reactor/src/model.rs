@@ -41,6 +41,8 @@
 //! slopes of the rate constants, the energy row from differentiating the quotient above, and
 //! at constant pressure the dense rank-one term `-c_i dg/dc_k`.
 
+use std::cell::{Ref, RefCell};
+
 use stoik_kinetics::{JacobianPattern, Kinetics, PatternError, RateConstants};
 use stoik_thermo::Nasa7;
 
@@ -142,6 +144,29 @@ impl StirredFlow {
         &self.inlet_mol_per_m3
     }
 
+    /// Changes the inlet concentrations (mol/m3; as many as now, each finite and not
+    /// negative), in place (no allocation).
+    pub fn set_inlet_mol_per_m3(&mut self, inlet_mol_per_m3: &[f64]) -> Result<(), ReactorError> {
+        if inlet_mol_per_m3.len() != self.inlet_mol_per_m3.len() {
+            return Err(ReactorError::BadFlow(format!(
+                "the inlet has {} concentrations, {} given",
+                self.inlet_mol_per_m3.len(),
+                inlet_mol_per_m3.len()
+            )));
+        }
+        if let Some((i, c)) = inlet_mol_per_m3
+            .iter()
+            .enumerate()
+            .find(|(_, c)| !(c.is_finite() && **c >= 0.0))
+        {
+            return Err(ReactorError::BadFlow(format!(
+                "inlet concentration {c:e} mol/m3 of species {i} must be finite and not negative"
+            )));
+        }
+        self.inlet_mol_per_m3.copy_from_slice(inlet_mol_per_m3);
+        Ok(())
+    }
+
     /// Inlet temperature (K).
     pub fn inlet_temperature_k(&self) -> f64 {
         self.inlet_temperature_k
@@ -241,7 +266,53 @@ impl HeatExchange {
     /// Holds the coolant at `temperature_k` (K, finite and positive) at all times, replacing
     /// its history (the parameter of a steady-state continuation).
     pub fn set_coolant_temperature_k(&mut self, temperature_k: f64) -> Result<(), ReactorError> {
+        if self.coolant.times_s.len() == 1 {
+            // A held coolant already: overwrite in place (no allocation).
+            if !(temperature_k.is_finite() && temperature_k > 0.0) {
+                return Err(ReactorError::BadTemperatureHistory(format!(
+                    "temperatures must be finite and positive: temperature 1 is {temperature_k} K"
+                )));
+            }
+            self.coolant.temperatures_k[0] = temperature_k;
+            return Ok(());
+        }
         self.coolant = TemperatureHistory::new(vec![0.0], vec![temperature_k])?;
+        Ok(())
+    }
+
+    /// Changes U A / V (W/(m3 K), finite, not negative) of an exchange given per volume; an
+    /// error for one given as a total (its U A is changed with
+    /// [`set_ua_total_w_per_k`](Self::set_ua_total_w_per_k)).
+    pub fn set_ua_per_volume_w_per_m3_k(&mut self, ua_per_volume: f64) -> Result<(), ReactorError> {
+        if self.ua_total_w_per_k.is_some() {
+            return Err(ReactorError::BadHeatExchange(
+                "this exchange is given as a total U A (W/K): set the total, not U A / V".into(),
+            ));
+        }
+        if !(ua_per_volume.is_finite() && ua_per_volume >= 0.0) {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "U A / V must be finite and not negative, got {ua_per_volume:e} W/(m3 K)"
+            )));
+        }
+        self.ua_per_volume_w_per_m3_k = ua_per_volume;
+        Ok(())
+    }
+
+    /// Changes U A (W/K, finite, not negative) of an exchange given as a total; an error
+    /// for one given per volume (see
+    /// [`set_ua_per_volume_w_per_m3_k`](Self::set_ua_per_volume_w_per_m3_k)).
+    pub fn set_ua_total_w_per_k(&mut self, ua_w_per_k: f64) -> Result<(), ReactorError> {
+        if self.ua_total_w_per_k.is_none() {
+            return Err(ReactorError::BadHeatExchange(
+                "this exchange is given per volume (W/(m3 K)): set U A / V, not a total".into(),
+            ));
+        }
+        if !(ua_w_per_k.is_finite() && ua_w_per_k >= 0.0) {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "U A must be finite and not negative, got {ua_w_per_k:e} W/K"
+            )));
+        }
+        self.ua_total_w_per_k = Some(ua_w_per_k);
         Ok(())
     }
 
@@ -633,11 +704,82 @@ pub(crate) fn energy_terms(thermo: &Nasa7, t: f64, constraint: Constraint) -> (f
     }
 }
 
+/// The stirred-tank flow and the heat exchange of a live solver's equations, changeable
+/// through a shared reference while the solver holds the equations (the setters of
+/// [`BatchIntegrator`](crate::BatchIntegrator)); `None` where the model has none.
+#[derive(Debug, Default)]
+pub(crate) struct LiveConditions {
+    pub(crate) flow: Option<RefCell<StirredFlow>>,
+    pub(crate) exchange: Option<RefCell<HeatExchange>>,
+}
+
+impl LiveConditions {
+    /// The model's flow and heat exchange, as given. Allocates.
+    pub(crate) fn of(model: &ReactorModel) -> LiveConditions {
+        LiveConditions {
+            flow: model.flow.clone().map(RefCell::new),
+            exchange: match &model.energy {
+                Energy::HeatExchange(x) => Some(RefCell::new(x.clone())),
+                _ => None,
+            },
+        }
+    }
+
+    /// Puts the model's values back (a new session starts from the model as given).
+    pub(crate) fn reset(&self, model: &ReactorModel) {
+        if let (Some(live), Some(flow)) = (&self.flow, &model.flow) {
+            live.borrow_mut().clone_from(flow);
+        }
+        if let (Some(live), Energy::HeatExchange(x)) = (&self.exchange, &model.energy) {
+            live.borrow_mut().clone_from(x);
+        }
+    }
+}
+
+/// A model parameter read from the model itself or from the live copy.
+pub(crate) enum Held<'a, T> {
+    Model(&'a T),
+    Live(Ref<'a, T>),
+}
+
+impl<T> std::ops::Deref for Held<'_, T> {
+    type Target = T;
+    fn deref(&self) -> &T {
+        match self {
+            Held::Model(x) => x,
+            Held::Live(x) => x,
+        }
+    }
+}
+
 /// The model's equations on flat slices.
 pub(crate) struct ModelEquations<'a> {
     pub kinetics: &'a Kinetics,
     pub model: &'a ReactorModel,
     pub thermo: &'a [Nasa7],
+    /// The live flow and heat exchange (`None`: the model's own).
+    pub live: Option<&'a LiveConditions>,
+}
+
+impl<'a> ModelEquations<'a> {
+    /// The stirred-tank flow in force, if any.
+    pub(crate) fn flow(&self) -> Option<Held<'a, StirredFlow>> {
+        match self.live.and_then(|l| l.flow.as_ref()) {
+            Some(live) => Some(Held::Live(live.borrow())),
+            None => self.model.flow.as_ref().map(Held::Model),
+        }
+    }
+
+    /// The heat exchange in force, if the model exchanges heat.
+    pub(crate) fn exchange(&self) -> Option<Held<'a, HeatExchange>> {
+        let Energy::HeatExchange(x) = &self.model.energy else {
+            return None;
+        };
+        match self.live.and_then(|l| l.exchange.as_ref()) {
+            Some(live) => Some(Held::Live(live.borrow())),
+            None => Some(Held::Model(x)),
+        }
+    }
 }
 
 impl ModelEquations<'_> {
@@ -653,10 +795,9 @@ impl ModelEquations<'_> {
             release += e * wi;
             capacity += ci * k;
         }
-        let exchanged = match &self.model.energy {
-            Energy::HeatExchange(x) => x.heat_flow_w_per_m3(t_s, temperature_k),
-            _ => 0.0,
-        };
+        let exchanged = self
+            .exchange()
+            .map_or(0.0, |x| x.heat_flow_w_per_m3(t_s, temperature_k));
         let fed = self.feed_enthalpy(temperature_k);
         ((exchanged + fed - release) / capacity, capacity)
     }
@@ -664,7 +805,7 @@ impl ModelEquations<'_> {
     /// The enthalpy the feed brings per unit volume and time, relative to the tank's
     /// temperature: `sum_i c_in,i (h_i(T_in) - h_i(T)) / tau` (W/m3); 0 without flow.
     fn feed_enthalpy(&self, temperature_k: f64) -> f64 {
-        let Some(flow) = &self.model.flow else {
+        let Some(flow) = self.flow() else {
             return 0.0;
         };
         let (t_in, t) = (flow.inlet_temperature_k, temperature_k);
@@ -680,7 +821,7 @@ impl ModelEquations<'_> {
 
     /// d(feed enthalpy)/dT (W/(m3 K)): `-sum_i c_in,i cp_i(T) / tau`; 0 without flow.
     fn feed_enthalpy_slope(&self, temperature_k: f64) -> f64 {
-        let Some(flow) = &self.model.flow else {
+        let Some(flow) = self.flow() else {
             return 0.0;
         };
         let sum: f64 = self
@@ -695,15 +836,13 @@ impl ModelEquations<'_> {
     /// The feed's share of the relative expansion rate at constant pressure, `C_in / (tau C)`
     /// (1/s), for total concentration `total` (mol/m3); 0 without flow.
     fn feed_expansion(&self, total: f64) -> f64 {
-        self.model
-            .flow
-            .as_ref()
+        self.flow()
             .map_or(0.0, |f| f.inlet_total() / (f.residence_time_s * total))
     }
 
     /// Adds the feed and, at constant volume, the outflow to the species rows `f`.
     fn add_flow(&self, c: &[f64], f: &mut [f64]) {
-        let Some(flow) = &self.model.flow else {
+        let Some(flow) = self.flow() else {
             return;
         };
         let rate = 1.0 / flow.residence_time_s;
@@ -718,10 +857,8 @@ impl ModelEquations<'_> {
 
     /// d(heat flow per volume)/dT in W/(m3 K): `-U A / V` with heat exchange, else 0.
     fn exchange_slope(&self) -> f64 {
-        match &self.model.energy {
-            Energy::HeatExchange(x) => -x.ua_per_volume_w_per_m3_k(),
-            _ => 0.0,
-        }
+        self.exchange()
+            .map_or(0.0, |x| -x.ua_per_volume_w_per_m3_k())
     }
 
     /// Energy weights e_i (J/mol) over the total heat capacity (J/(m3 K)) at `(c, t)`:
@@ -942,7 +1079,7 @@ impl ModelEquations<'_> {
         }
         // The outflow of a constant-volume stirred tank, -1/tau on the species diagonal; the
         // kinetics pattern always holds the diagonal.
-        if let (Some(flow), Constraint::ConstantVolume) = (&self.model.flow, constraint) {
+        if let (Some(flow), Constraint::ConstantVolume) = (self.flow(), constraint) {
             let kin = kinetics.jacobian_pattern();
             for i in 0..n {
                 if let Some(p) = kin.position(i, i) {
@@ -1222,6 +1359,7 @@ mod tests {
                 kinetics: &kinetics,
                 model: &model,
                 thermo: &thermo,
+                live: None,
             };
             let m = model.n_states(n);
             let t_s = 0.6e-3;
@@ -1301,6 +1439,7 @@ mod tests {
                 kinetics: &kinetics,
                 model: &model,
                 thermo: &thermo,
+                live: None,
             };
             let k = kinetics.rate_constants(temp);
             let mut r = vec![0.0; kinetics.n_steps()];
@@ -1310,6 +1449,7 @@ mod tests {
                     kinetics: kin,
                     model: &model,
                     thermo: &thermo,
+                    live: None,
                 };
                 let k = kin.rate_constants(temp);
                 let mut out = vec![0.0; m];

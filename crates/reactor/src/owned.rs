@@ -52,7 +52,8 @@ pub struct OwnedIntegrator {
 // `&mut self` borrow of this value, which pins it to the borrowing thread. Moving the whole
 // cell to another thread therefore moves the referents with the references; no two threads
 // can reach the caches at once. The other parts (vectors, matrices, LU factors, the
-// shared sparse analyses behind `Arc`) are `Send`. `OwnedIntegrator` is not `Sync`.
+// shared sparse analyses behind `Arc`) are `Send`, and so are the user terms a system may
+// hold (`UserTerms: Send`). `OwnedIntegrator` is not `Sync`.
 unsafe impl Send for OwnedIntegrator {}
 
 impl OwnedIntegrator {

@@ -531,6 +531,8 @@ impl Tank {
                 }
             }
         }
+        // The equations evaluate the flow and the exchange in force: the model's, now.
+        self.eq.live.reset(&self.eq.model);
         Ok(())
     }
 

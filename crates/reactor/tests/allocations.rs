@@ -1,6 +1,7 @@
 //! Steady-state stepping does not allocate: after a warm-up, rounds of
 //! `advance_to` + `set_state` + `set_temperature` on one [`BatchIntegrator`] make zero heap
-//! allocations, on the dense and on the sparse path.
+//! allocations, on the dense and on the sparse path; so do rounds of a stirred tank with
+//! user terms whose inlet, residence time and user parameters change between advances.
 //!
 //! A counting global allocator (this test binary only) counts allocation calls (`alloc`,
 //! `alloc_zeroed`, `realloc`) made on the current thread while counting is switched on, so
@@ -14,7 +15,9 @@ use std::cell::Cell;
 use common::*;
 use stoik_kinetics::Kinetics;
 use stoik_mechanism::{Arrhenius, Step};
-use stoik_reactor::{BatchIntegrator, BatchSystem, LinearAlgebra};
+use stoik_reactor::{
+    BatchIntegrator, BatchSystem, LinearAlgebra, ReactorModel, StirredFlow, UserJacobian, UserTerms,
+};
 
 struct CountingAllocator;
 
@@ -168,6 +171,95 @@ fn steady_stepping_allocates_nothing() {
             &format!("{la:?}: total concentration"),
             total,
             1.0 + FEED * feeds as f64,
+            1e-6,
+            0.0,
+        );
+    }
+}
+
+/// A user transfer of every species to the one two places on (entries the chain's pattern
+/// does not have): `S_i -= r c_i`, `S_{i+2} += r c_i`.
+struct Skip {
+    rate_per_s: f64,
+}
+
+impl UserTerms for Skip {
+    fn jacobian_entries(&self, n: usize) -> Vec<(usize, usize)> {
+        (0..n - 2).flat_map(|i| [(i, i), (i + 2, i)]).collect()
+    }
+    fn add_rates(&mut self, _t: f64, c: &[f64], _temp: f64, rates: &mut [f64], _q: &mut f64) {
+        for i in 0..c.len() - 2 {
+            rates[i] -= self.rate_per_s * c[i];
+            rates[i + 2] += self.rate_per_s * c[i];
+        }
+    }
+    fn add_jacobian(&mut self, _t: f64, c: &[f64], _temp: f64, jac: &mut UserJacobian<'_>) {
+        for i in 0..c.len() - 2 {
+            jac.add(i, i, -self.rate_per_s);
+            jac.add(i + 2, i, self.rate_per_s);
+        }
+    }
+}
+
+/// One round of a stirred tank with user terms: advance by 0.5 s, switch the inlet between
+/// two compositions, set the residence time to the value in force, change the user's rate
+/// and restart.
+fn tank_round(stepper: &mut BatchIntegrator<'_>, k: usize, inlets: &[[f64; N]; 2]) {
+    let t = stepper.time() + 0.5;
+    stepper.advance_to(t).unwrap();
+    stepper.set_inlet_mol_per_m3(&inlets[k % 2]).unwrap();
+    stepper.set_residence_time_s(2.0).unwrap();
+    if let Some(mut skip) = stepper.user_terms_mut::<Skip>() {
+        skip.rate_per_s = if k.is_multiple_of(2) { 0.5 } else { 0.25 };
+    }
+    stepper.restart();
+}
+
+#[test]
+fn user_terms_and_box_changes_allocate_nothing() {
+    let kin = chain();
+    let mut inlets = [[0.0; N]; 2];
+    inlets[0][0] = 1.0;
+    inlets[1][1] = 0.5;
+    let model = ReactorModel {
+        flow: Some(StirredFlow::new(2.0, inlets[0].to_vec(), 300.0).unwrap()),
+        ..Default::default()
+    };
+    for la in [LinearAlgebra::Dense, LinearAlgebra::Sparse] {
+        let mut system =
+            BatchSystem::with_model(&kin, &model, 300.0, &options(N, 1e-7, 1e-12, la)).unwrap();
+        system.set_user_terms(Skip { rate_per_s: 0.5 }).unwrap();
+        let mut stepper = system.integrator(&[0.0; N]).unwrap();
+        assert_eq!(stepper.linear_algebra_used(), la);
+        for k in 0..20 {
+            tank_round(&mut stepper, k, &inlets);
+        }
+        let steps_before = stepper.stats().steps;
+        let rounds = 100;
+        let (_, in_rounds) = allocations_in(|| {
+            for k in 0..rounds {
+                tank_round(&mut stepper, k, &inlets);
+            }
+        });
+        let steps = stepper.stats().steps - steps_before;
+        println!("{la:?}: {rounds} rounds ({steps} steps) {in_rounds} allocations");
+        assert_eq!(in_rounds, 0, "{la:?}: allocations in {rounds} rounds");
+        assert!(steps > rounds, "{steps} steps");
+        // The work was real: every step and the user's transfer keep the number of
+        // molecules, so the total follows the stirred tank's dC/dt = (C_in - C)/tau, round
+        // by round with the inlet in force (mass balance of a stirred tank; common
+        // practice): C <- C_in + (C - C_in) exp(-0.5 s / tau).
+        let inlet_totals = [1.0, 0.5];
+        let (mut total, mut inlet) = (0.0, inlet_totals[0]);
+        for k in (0..20).chain(0..rounds) {
+            total = inlet + (total - inlet) * (-0.5f64 / 2.0).exp();
+            inlet = inlet_totals[k % 2];
+        }
+        let sum: f64 = stepper.state().iter().sum();
+        assert_close(
+            &format!("{la:?}: total concentration"),
+            sum,
+            total,
             1e-6,
             0.0,
         );

@@ -9,7 +9,9 @@
 //! - [`kinetics`]: a mechanism compiled to flat arrays (rates, production rates, Jacobians),
 //!   and its conservation laws ([`kinetics::conservation_laws`]);
 //! - [`reactor`]: reactors and time integration (diffsol BDF), profiles and solver statistics,
-//!   the drift of the conservation laws along a profile ([`reactor::ReactorConservation`]);
+//!   the drift of the conservation laws along a profile ([`reactor::ReactorConservation`]),
+//!   the stepping session for process models ([`reactor::BatchIntegrator`]) with the user's
+//!   own sources inside the integrator ([`reactor::UserTerms`]);
 //! - [`scenario`]: the scenario file (what to run) resolved into reactor terms, and scenario
 //!   runs as library calls ([`scenario::run_scenario`], [`scenario::run_batch`]) with every
 //!   warning;

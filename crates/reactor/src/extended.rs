@@ -707,7 +707,14 @@ mod tests {
             .unwrap_or_else(|e| panic!("{e}"));
         let coolant = TemperatureHistory::new(vec![0.0], vec![300.0]).unwrap();
         let prescribed = TemperatureHistory::new(vec![0.0, 1.0], vec![330.0, 360.0]).unwrap();
-        for energy in energies(&coolant, &prescribed) {
+        // A jacket losing its cooling: U A / V falls linearly from 5e4 to 1e3 W/(m3 K)
+        // around the evaluation time 0.6e-3 s.
+        let failing = HeatExchange::new(5e4, coolant.clone())
+            .and_then(|x| x.with_ua_history(vec![0.0, 0.4e-3, 0.8e-3], vec![5e4, 5e4, 1e3]))
+            .unwrap_or_else(|e| panic!("{e}"));
+        let mut laws = energies(&coolant, &prescribed);
+        laws.push(Energy::HeatExchange(failing));
+        for energy in laws {
             if matches!(&energy, Energy::HeatExchange(x) if x.ua_total_w_per_k().is_some()) {
                 continue;
             }

@@ -254,8 +254,8 @@ impl HeatExchange {
                 times_s[0]
             )));
         }
-        if let Some(i) = (1..times_s.len())
-            .find(|&i| !(times_s[i].is_finite() && times_s[i] > times_s[i - 1]))
+        if let Some(i) =
+            (1..times_s.len()).find(|&i| !(times_s[i].is_finite() && times_s[i] > times_s[i - 1]))
         {
             return Err(ReactorError::BadHeatExchange(format!(
                 "U A history times must be finite and strictly increasing: time {} is {:e} s",
@@ -1244,6 +1244,15 @@ mod tests {
         out.push(ReactorModel {
             energy: Energy::HeatExchange(
                 HeatExchange::new(5e4, coolant.clone()).unwrap_or_else(|e| panic!("{e}")),
+            ),
+            ..Default::default()
+        });
+        // A jacket losing its cooling: U A / V falling around the test time 0.6e-3 s.
+        out.push(ReactorModel {
+            energy: Energy::HeatExchange(
+                HeatExchange::new(5e4, coolant.clone())
+                    .and_then(|x| x.with_ua_history(vec![0.0, 0.4e-3, 0.8e-3], vec![5e4, 5e4, 0.0]))
+                    .unwrap_or_else(|e| panic!("{e}")),
             ),
             ..Default::default()
         });

@@ -365,11 +365,7 @@ fn read_jacket(
         (_, None) => positive(r, "ua", "W/K", ua_to_w_per_k, UA_UNITS).map(Ua::Constant),
         (None, Some(v)) => read_ua_history(r, v),
         (Some(_), Some(v)) => {
-            r.error(
-                v.span().start,
-                "give `ua` or `ua_history`, not both",
-                None,
-            );
+            r.error(v.span().start, "give `ua` or `ua_history`, not both", None);
             None
         }
     };

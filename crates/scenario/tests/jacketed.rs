@@ -132,7 +132,7 @@ fn liquid_batch(reactor: &str, end: &str, points: usize) -> String {
     format!(
         "stoik_scenario = 1\nmechanism = {:?}\n[reactor]\nkind = \"jacketed-constant-volume\"\n\
          temperature = \"360 K\"\nvolume = \"2 m3\"\ncoolant_temperature = \"290 K\"\n{reactor}\n\
-         [initial]\nconcentrations = {{ R = 1.0, S = 10.0 }}\n\
+         [initial]\nconcentrations = {{ R = 1.0 }}\n\
          [liquid]\nheat_capacity = \"2 MJ/(m3 K)\"\nreaction_enthalpies = {{ \"R -> Q\" = \"0 kJ/mol\" }}\n\
          [output]\nend_time = \"{end}\"\ngrid = {{ spacing = \"linear\", points = {points} }}\n\
          [solver]\nrelative_tolerance = 1e-11\nabsolute_tolerance = \"1e-12 mol/m3\"\n",

@@ -240,3 +240,32 @@ fn u_a_history_mistakes_are_all_reported_at_their_items() {
         .to_string();
     assert!(err.contains("x.toml:8:") && err.contains("W/K"), "{err}");
 }
+
+#[test]
+fn a_liquid_stirred_tank_refuses_ideal_gas_feed_settings_at_their_keys() {
+    // [liquid] with [flow] is a constant-density tank; inlet mole fractions and a mass flow
+    // convert through the ideal gas or the species' molar masses and are refused where
+    // they stand (lines 15 and 16 below), the rest of the file being valid.
+    let mechanism = mechanisms().join("cooled-tank.toml");
+    let text = format!(
+        "stoik_scenario = 1\nmechanism = {:?}\n[reactor]\nkind = \"jacketed-constant-volume\"\n\
+         temperature = \"300 K\"\nvolume = \"2 m3\"\nua = \"1 kW/K\"\ncoolant_temperature = \"290 K\"\n\
+         [initial]\nconcentrations = {{ R = 1.0 }}\n\
+         [liquid]\nheat_capacity = \"2 MJ/(m3 K)\"\nreaction_enthalpies = {{ \"R -> Q\" = \"-50 kJ/mol\" }}\n\
+         [flow]\ninlet_mole_fractions = {{ R = 1.0 }}\nmass_flow = \"1 kg/s\"\nvolume = \"2 m3\"\n\
+         inlet_temperature = \"300 K\"\n\
+         [output]\nend_time = \"1 h\"\n",
+        mechanism.display().to_string()
+    );
+    let err = parse_scenario(&text, "l.toml", &mechanisms())
+        .unwrap_err()
+        .to_string();
+    assert!(
+        err.contains("l.toml:15:") && err.contains("inlet_concentrations"),
+        "{err}"
+    );
+    assert!(
+        err.contains("l.toml:16:") && err.contains("residence_time"),
+        "{err}"
+    );
+}

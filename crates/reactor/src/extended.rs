@@ -10,6 +10,12 @@
 //! `V`: `d(dT/dt)/dy = (dS/dy - (dT/dt) dK/dy) / K`, and at constant pressure
 //! `dD/dy = (sum_i dw_i/dy + dPhi/dy) / C - (W + Phi) dC/dy / C^2 + d(dT/dt)/dy / T -
 //! (dT/dt) dT/dy / T^2`.
+//!
+//! A liquid-phase stirred tank (a [`crate::StirredFlow`] with the liquid description, at
+//! constant volume) adds its feed and outflow, `(c_in,i - c_i) / tau` to each species and
+//! `rho cp (T_in - T) / tau` to `S`: the Jacobian gains `-1/tau` on the species diagonal and
+//! in `d(dT/dt)/dT`. A jacket's U A may follow a history in time (the heat flow is
+//! `U A(t) / V (T_coolant(t) - T)`, its slope in `T` `-U A(t) / V`).
 
 use stoik_kinetics::{Kinetics, RateConstants};
 
@@ -695,6 +701,7 @@ mod tests {
             }
         }
     }
+
     /// The liquid-phase stirred tank (constant density: inflow and outflow at 1/tau, the
     /// feed's rho cp (T_in - T) / tau) in the analytic Jacobian against central
     /// differences, for every energy law.

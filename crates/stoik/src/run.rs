@@ -555,7 +555,7 @@ pub fn describe_reactor(plan: &RunPlan) -> String {
     match &model.flow {
         None => format!("{}{batch}{liquid}", describe_energy(model, held, t)),
         Some(flow) => format!(
-            "stirred tank, {}; residence time {} s, feed at {} K",
+            "stirred tank, {}; residence time {} s, feed at {} K{liquid}",
             describe_energy(model, held, t),
             flow.residence_time_s(),
             flow.inlet_temperature_k()

@@ -10,6 +10,12 @@
 //! `V`: `d(dT/dt)/dy = (dS/dy - (dT/dt) dK/dy) / K`, and at constant pressure
 //! `dD/dy = (sum_i dw_i/dy + dPhi/dy) / C - (W + Phi) dC/dy / C^2 + d(dT/dt)/dy / T -
 //! (dT/dt) dT/dy / T^2`.
+//!
+//! A liquid-phase stirred tank (a [`crate::StirredFlow`] with the liquid description, at
+//! constant volume) adds its feed and outflow, `(c_in,i - c_i) / tau` to each species and
+//! `rho cp (T_in - T) / tau` to `S`: the Jacobian gains `-1/tau` on the species diagonal and
+//! in `d(dT/dt)/dT`. A jacket's U A may follow a history in time (the heat flow is
+//! `U A(t) / V (T_coolant(t) - T)`, its slope in `T` `-U A(t) / V`).
 
 use stoik_kinetics::{Kinetics, RateConstants};
 
@@ -52,11 +58,6 @@ pub(crate) fn check_model(kinetics: &Kinetics, model: &ReactorModel) -> Result<(
             return Err(ReactorError::BadLiquidPhase(
                 "a liquid phase has constant density: the reactor must be at constant volume (constant density with a semi-batch), not constant pressure"
                     .into(),
-            ));
-        }
-        if model.flow.is_some() {
-            return Err(ReactorError::BadLiquidPhase(
-                "the liquid-phase description is not available for stirred tanks".into(),
             ));
         }
         if box_model {
@@ -115,8 +116,8 @@ impl ModelEquations<'_> {
         let (exchanged, exchanged_slope) = match self.exchange() {
             Some(x) => {
                 let ua = match volume {
-                    Some(v) => x.ua_over_volume(v),
-                    None => x.ua_per_volume_w_per_m3_k(),
+                    Some(v) => x.ua_over_volume(t_s, v),
+                    None => x.ua_per_volume_at(t_s),
                 };
                 (ua * (x.coolant().temperature_at(t_s) - t), -ua)
             }
@@ -142,8 +143,12 @@ impl ModelEquations<'_> {
                     .map(|f| f.volume_rate_m3_per_s(t_s) * capacity * (f.temperature_k() - t))
                     .sum::<f64>()
                     / v;
+                // A stirred tank's feed brings rho cp (T_in - T) / tau (constant density).
+                let flowed = self.model.flow.as_ref().map_or(0.0, |f| {
+                    capacity * (f.inlet_temperature_k() - t) / f.residence_time_s()
+                });
                 Heat {
-                    source: release + fed + exchanged,
+                    source: release + fed + flowed + exchanged,
                     capacity,
                     fed,
                     exchanged,
@@ -226,6 +231,7 @@ impl ModelEquations<'_> {
         for (fi, ci) in f[..n].iter_mut().zip(c) {
             *fi -= ci * dilution;
         }
+        self.add_flow(c, &mut f[..n]);
         if let (Some(semi), Some(v)) = (&self.model.semi_batch, volume) {
             for feed in semi.feeds() {
                 feed.for_each_molar_flow(t_s, |i, flow| f[i] += flow / v);
@@ -345,7 +351,13 @@ impl ModelEquations<'_> {
                     } else {
                         0.0
                     };
-                    let source_slope = release_slope + feed_slope + heat.exchanged_slope;
+                    let flow_slope = self
+                        .model
+                        .flow
+                        .as_ref()
+                        .map_or(0.0, |f| -heat.capacity / f.residence_time_s());
+                    let source_slope =
+                        release_slope + feed_slope + flow_slope + heat.exchanged_slope;
                     row.iter_mut().for_each(|x| *x /= heat.capacity);
                     a_t = source_slope / heat.capacity;
                     a_v = source_volume_slope / heat.capacity;
@@ -395,6 +407,13 @@ impl ModelEquations<'_> {
             }
         };
         let tracks = volume.is_some();
+        // A stirred tank at constant volume (the only kind with a liquid phase) loses each
+        // species at c_i / tau.
+        let outflow = self
+            .model
+            .flow
+            .as_ref()
+            .map_or(0.0, |f| 1.0 / f.residence_time_s());
         for col in 0..n {
             let dilution_c = if tracks && constant_pressure {
                 scratch.column_sum[col] / total - (w_total + fed_total) / (total * total)
@@ -406,7 +425,7 @@ impl ModelEquations<'_> {
             for (x, ci) in column[..n].iter_mut().zip(c) {
                 *x -= ci * dilution_c;
             }
-            column[col] -= dilution;
+            column[col] -= dilution + outflow;
             if energy_solved {
                 column[n] = scratch.energy_row[col];
             }
@@ -681,6 +700,45 @@ mod tests {
                 eprintln!("liquid {:?}: worst {worst:.1e}", model.energy);
                 assert!(worst < 1e-6, "{model:?}: worst relative error {worst:e}");
             }
+        }
+    }
+
+    /// The liquid-phase stirred tank (constant density: inflow and outflow at 1/tau, the
+    /// feed's rho cp (T_in - T) / tau) in the analytic Jacobian against central
+    /// differences, for every energy law.
+    #[test]
+    fn liquid_stirred_tank_jacobian_matches_central_differences() {
+        let liquid = liquid_kinetics();
+        let phase = LiquidPhase::per_volume(1.9e6, vec![-9e4, 2.5e4, -4e4])
+            .unwrap_or_else(|e| panic!("{e}"));
+        let flow = crate::StirredFlow::new(2.0e-3, vec![800.0, 600.0, 0.0, 5.0, 0.0], 310.0)
+            .unwrap_or_else(|e| panic!("{e}"));
+        let coolant = TemperatureHistory::new(vec![0.0], vec![300.0]).unwrap();
+        let prescribed = TemperatureHistory::new(vec![0.0, 1.0], vec![330.0, 360.0]).unwrap();
+        // A jacket losing its cooling: U A / V falls linearly from 5e4 to 1e3 W/(m3 K)
+        // around the evaluation time 0.6e-3 s.
+        let failing = HeatExchange::new(5e4, coolant.clone())
+            .and_then(|x| x.with_ua_history(vec![0.0, 0.4e-3, 0.8e-3], vec![5e4, 5e4, 1e3]))
+            .unwrap_or_else(|e| panic!("{e}"));
+        let mut laws = energies(&coolant, &prescribed);
+        laws.push(Energy::HeatExchange(failing));
+        for energy in laws {
+            if matches!(&energy, Energy::HeatExchange(x) if x.ua_total_w_per_k().is_some()) {
+                continue;
+            }
+            let model = ReactorModel {
+                energy,
+                flow: Some(flow.clone()),
+                liquid: Some(phase.clone()),
+                ..Default::default()
+            };
+            let mut y = vec![900.0, 700.0, 300.0, 150.0, 40.0];
+            if model.solves_energy() {
+                y.push(350.0);
+            }
+            let worst = worst_jacobian_error(&liquid, &model, 0.6e-3, &y);
+            eprintln!("liquid tank {:?}: worst {worst:.1e}", model.energy);
+            assert!(worst < 1e-6, "{model:?}: worst relative error {worst:e}");
         }
     }
 }

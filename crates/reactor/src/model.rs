@@ -204,6 +204,10 @@ pub struct HeatExchange {
     coolant: TemperatureHistory,
     /// U A in W/K when the exchange is given as a total (then `ua_per_volume` is 0).
     ua_total_w_per_k: Option<f64>,
+    /// U A changing in time (a jacket losing or regaining its cooling): the points' times
+    /// (s) and values, in the units of the exchange (W/(m3 K) per volume, W/K as a total);
+    /// linear between the points, held before the first and after the last.
+    ua_history: Option<(Vec<f64>, Vec<f64>)>,
 }
 
 impl HeatExchange {
@@ -223,6 +227,7 @@ impl HeatExchange {
             ua_per_volume_w_per_m3_k,
             coolant,
             ua_total_w_per_k: None,
+            ua_history: None,
         })
     }
 
@@ -244,16 +249,115 @@ impl HeatExchange {
             ua_per_volume_w_per_m3_k: 0.0,
             coolant,
             ua_total_w_per_k: Some(ua_w_per_k),
+            ua_history: None,
         })
     }
 
-    /// U A / V in W/(m3 K) of an exchange given per volume; 0 for one given as a total (see
+    /// The exchange with U A following a history instead of the constant: U A is
+    /// `ua_values[i]` at `times_s[i]` (s), linear between the points, held at the first
+    /// value before the first time and at the last after the last time (e.g. a jacket's
+    /// cooling failing: U A falls to 0 at the failure). The values are in the exchange's
+    /// units: U A / V in W/(m3 K) for one made by [`HeatExchange::new`], U A in W/K for one
+    /// made by [`HeatExchange::total`]. At least one point, equal lengths, the first time 0,
+    /// times finite and strictly increasing, values finite and not negative. The constant
+    /// given at construction is replaced by the history's first value.
+    pub fn with_ua_history(
+        mut self,
+        times_s: Vec<f64>,
+        ua_values: Vec<f64>,
+    ) -> Result<HeatExchange, ReactorError> {
+        if times_s.is_empty() || times_s.len() != ua_values.len() {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "a U A history needs the same number (at least one) of times and values, got {} and {}",
+                times_s.len(),
+                ua_values.len()
+            )));
+        }
+        if times_s[0] != 0.0 {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "a U A history starts at 0 s, got {:e} s",
+                times_s[0]
+            )));
+        }
+        if let Some(i) =
+            (1..times_s.len()).find(|&i| !(times_s[i].is_finite() && times_s[i] > times_s[i - 1]))
+        {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "U A history times must be finite and strictly increasing: time {} is {:e} s",
+                i + 1,
+                times_s[i]
+            )));
+        }
+        if let Some(i) = ua_values.iter().position(|x| !(x.is_finite() && *x >= 0.0)) {
+            return Err(ReactorError::BadHeatExchange(format!(
+                "U A history values must be finite and not negative: value {} is {:e}",
+                i + 1,
+                ua_values[i]
+            )));
+        }
+        match &mut self.ua_total_w_per_k {
+            Some(total) => *total = ua_values[0],
+            None => self.ua_per_volume_w_per_m3_k = ua_values[0],
+        }
+        self.ua_history = Some((times_s, ua_values));
+        Ok(self)
+    }
+
+    /// The U A history's points (times in s, values in the exchange's units), if U A
+    /// changes in time.
+    pub fn ua_history(&self) -> Option<(&[f64], &[f64])> {
+        self.ua_history
+            .as_ref()
+            .map(|(t, v)| (t.as_slice(), v.as_slice()))
+    }
+
+    /// The time (s) after which neither the coolant temperature nor U A changes: the last
+    /// point of either history (0 when both are constant). Steady states are taken there.
+    pub fn settled_time_s(&self) -> f64 {
+        let coolant = self.coolant.times_s().last().copied().unwrap_or(0.0);
+        let ua = self
+            .ua_history
+            .as_ref()
+            .and_then(|(t, _)| t.last().copied())
+            .unwrap_or(0.0);
+        coolant.max(ua)
+    }
+
+    /// The exchange's U A value at `t_s` (s), in its units, with `constant` the value
+    /// without a history.
+    fn ua_value_at(&self, constant: f64, t_s: f64) -> f64 {
+        let Some((t, v)) = &self.ua_history else {
+            return constant;
+        };
+        let last = t.len() - 1;
+        if t_s <= t[0] {
+            return v[0];
+        }
+        if t_s >= t[last] {
+            return v[last];
+        }
+        let i = t.partition_point(|&x| x < t_s) - 1;
+        v[i] + (v[i + 1] - v[i]) * (t_s - t[i]) / (t[i + 1] - t[i])
+    }
+
+    /// U A / V in W/(m3 K) of an exchange given per volume (at t = 0 with a U A history,
+    /// see [`ua_per_volume_at`](Self::ua_per_volume_at)); 0 for one given as a total (see
     /// [`ua_total_w_per_k`](Self::ua_total_w_per_k)).
     pub fn ua_per_volume_w_per_m3_k(&self) -> f64 {
         self.ua_per_volume_w_per_m3_k
     }
 
-    /// U A in W/K of an exchange given as a total; `None` for one given per volume.
+    /// U A / V in W/(m3 K) at time `t_s` (s) of an exchange given per volume (following its
+    /// U A history, if any); 0 for one given as a total.
+    pub fn ua_per_volume_at(&self, t_s: f64) -> f64 {
+        if self.ua_total_w_per_k.is_some() {
+            return 0.0;
+        }
+        self.ua_value_at(self.ua_per_volume_w_per_m3_k, t_s)
+    }
+
+    /// U A in W/K of an exchange given as a total (at t = 0 with a U A history); `None` for
+    /// one given per volume.
     pub fn ua_total_w_per_k(&self) -> Option<f64> {
         self.ua_total_w_per_k
     }
@@ -280,8 +384,8 @@ impl HeatExchange {
         Ok(())
     }
 
-    /// Changes U A / V (W/(m3 K), finite, not negative) of an exchange given per volume; an
-    /// error for one given as a total (its U A is changed with
+    /// Changes U A / V (W/(m3 K), finite, not negative) of an exchange given per volume,
+    /// held from now on (a U A history is replaced); an error for one given as a total (its U A is changed with
     /// [`set_ua_total_w_per_k`](Self::set_ua_total_w_per_k)).
     pub fn set_ua_per_volume_w_per_m3_k(&mut self, ua_per_volume: f64) -> Result<(), ReactorError> {
         if self.ua_total_w_per_k.is_some() {
@@ -295,11 +399,13 @@ impl HeatExchange {
             )));
         }
         self.ua_per_volume_w_per_m3_k = ua_per_volume;
+        // A U A history, if any, is replaced by the held value (as the coolant's is).
+        self.ua_history = None;
         Ok(())
     }
 
-    /// Changes U A (W/K, finite, not negative) of an exchange given as a total; an error
-    /// for one given per volume (see
+    /// Changes U A (W/K, finite, not negative) of an exchange given as a total, held from now
+    /// on (a U A history is replaced); an error for one given per volume (see
     /// [`set_ua_per_volume_w_per_m3_k`](Self::set_ua_per_volume_w_per_m3_k)).
     pub fn set_ua_total_w_per_k(&mut self, ua_w_per_k: f64) -> Result<(), ReactorError> {
         if self.ua_total_w_per_k.is_none() {
@@ -313,21 +419,23 @@ impl HeatExchange {
             )));
         }
         self.ua_total_w_per_k = Some(ua_w_per_k);
+        // A U A history, if any, is replaced by the held value (as the coolant's is).
+        self.ua_history = None;
         Ok(())
     }
 
     /// Heat flow into the reactor per unit volume (W/m3) at time `t_s` (s) and reactor
     /// temperature `temperature_k` (K), for an exchange given per volume (0 for a total).
     pub fn heat_flow_w_per_m3(&self, t_s: f64, temperature_k: f64) -> f64 {
-        self.ua_per_volume_w_per_m3_k * (self.coolant.temperature_at(t_s) - temperature_k)
+        self.ua_per_volume_at(t_s) * (self.coolant.temperature_at(t_s) - temperature_k)
     }
 
-    /// `U A / V` (W/(m3 K)) at volume `volume_m3` (m3): the per-volume value, or the total
-    /// over the volume.
-    pub(crate) fn ua_over_volume(&self, volume_m3: f64) -> f64 {
+    /// `U A / V` (W/(m3 K)) at time `t_s` (s) and volume `volume_m3` (m3): the per-volume
+    /// value, or the total over the volume.
+    pub(crate) fn ua_over_volume(&self, t_s: f64, volume_m3: f64) -> f64 {
         match self.ua_total_w_per_k {
-            Some(ua) => ua / volume_m3,
-            None => self.ua_per_volume_w_per_m3_k,
+            Some(ua) => self.ua_value_at(ua, t_s) / volume_m3,
+            None => self.ua_value_at(self.ua_per_volume_w_per_m3_k, t_s),
         }
     }
 }
@@ -527,7 +635,8 @@ impl ReactorModel {
     }
 
     /// Times strictly inside `(from_s, to_s)` (s) where the right-hand side jumps or bends
-    /// (a prescribed history's points, a feed schedule's points), sorted, without repeats.
+    /// (a prescribed history's points, a feed schedule's points, a U A history's points),
+    /// sorted, without repeats.
     pub(crate) fn breakpoints_between(&self, from_s: f64, to_s: f64) -> Vec<f64> {
         let mut out: Vec<f64> = Vec::new();
         if let Energy::Prescribed(history) = &self.energy {
@@ -535,6 +644,11 @@ impl ReactorModel {
         }
         if let Some(semi) = &self.semi_batch {
             out.extend(semi.breakpoints_between(from_s, to_s));
+        }
+        if let Energy::HeatExchange(x) = &self.energy {
+            if let Some((times, _)) = x.ua_history() {
+                out.extend(times.iter().copied().filter(|&t| t > from_s && t < to_s));
+            }
         }
         out.sort_by(f64::total_cmp);
         out.dedup();
@@ -841,7 +955,7 @@ impl ModelEquations<'_> {
     }
 
     /// Adds the feed and, at constant volume, the outflow to the species rows `f`.
-    fn add_flow(&self, c: &[f64], f: &mut [f64]) {
+    pub(crate) fn add_flow(&self, c: &[f64], f: &mut [f64]) {
         let Some(flow) = self.flow() else {
             return;
         };
@@ -855,10 +969,10 @@ impl ModelEquations<'_> {
         }
     }
 
-    /// d(heat flow per volume)/dT in W/(m3 K): `-U A / V` with heat exchange, else 0.
-    fn exchange_slope(&self) -> f64 {
-        self.exchange()
-            .map_or(0.0, |x| -x.ua_per_volume_w_per_m3_k())
+    /// d(heat flow per volume)/dT in W/(m3 K) at `t_s` (s): `-U A / V` with heat exchange,
+    /// else 0.
+    fn exchange_slope(&self, t_s: f64) -> f64 {
+        self.exchange().map_or(0.0, |x| -x.ua_per_volume_at(t_s))
     }
 
     /// Energy weights e_i (J/mol) over the total heat capacity (J/(m3 K)) at `(c, t)`:
@@ -1150,7 +1264,7 @@ impl ModelEquations<'_> {
                 dw_total_dt += d;
             }
             a_t = -(capacity_release + release_slope
-                - self.exchange_slope()
+                - self.exchange_slope(t_s)
                 - self.feed_enthalpy_slope(t)
                 + plug.map_or(0.0, |p| p.k)
                 + temperature_rate * capacity_slope)
@@ -1270,6 +1384,15 @@ mod tests {
         out.push(ReactorModel {
             energy: Energy::HeatExchange(
                 HeatExchange::new(5e4, coolant.clone()).unwrap_or_else(|e| panic!("{e}")),
+            ),
+            ..Default::default()
+        });
+        // A jacket losing its cooling: U A / V falling around the test time 0.6e-3 s.
+        out.push(ReactorModel {
+            energy: Energy::HeatExchange(
+                HeatExchange::new(5e4, coolant.clone())
+                    .and_then(|x| x.with_ua_history(vec![0.0, 0.4e-3, 0.8e-3], vec![5e4, 5e4, 0.0]))
+                    .unwrap_or_else(|e| panic!("{e}")),
             ),
             ..Default::default()
         });

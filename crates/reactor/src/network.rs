@@ -908,7 +908,7 @@ impl NetworkSystem {
         let tank = &self.net.tanks[j];
         match &tank.energy {
             Energy::HeatExchange(x) => {
-                let ua = x.ua_over_volume(tank.volume_m3);
+                let ua = x.ua_over_volume(t_s, tank.volume_m3);
                 (ua * (x.coolant().temperature_at(t_s) - t), -ua)
             }
             _ => (0.0, 0.0),

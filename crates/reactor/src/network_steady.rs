@@ -150,7 +150,7 @@ pub fn network_steady_state(
         .tanks()
         .iter()
         .filter_map(|t| match &t.energy {
-            Energy::HeatExchange(x) => x.coolant().times_s().last().copied(),
+            Energy::HeatExchange(x) => Some(x.settled_time_s()),
             _ => None,
         })
         .fold(0.0, f64::max);

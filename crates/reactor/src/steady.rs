@@ -339,7 +339,7 @@ struct Tank {
     eq: BatchEquations<NalgebraMat<f64>>,
     n: usize,
     m: usize,
-    /// The time the equations are evaluated at (s): the end of a coolant history.
+    /// The time the equations are evaluated at (s): the end of a coolant or U A history.
     t_eval: f64,
     /// Constant pressure: the replaced row and the invariant's value.
     invariant: Option<(usize, f64)>,
@@ -398,7 +398,7 @@ impl Tank {
             initial.push(temperature_k);
         }
         let t_eval = match &model.energy {
-            Energy::HeatExchange(x) => x.coolant().times_s().last().copied().unwrap_or(0.0),
+            Energy::HeatExchange(x) => x.settled_time_s(),
             _ => 0.0,
         };
         let eq = BatchEquations::<NalgebraMat<f64>>::new(

@@ -324,7 +324,7 @@ fn read_scenario(
 
 /// Refuses, at their keys, the settings that mix the liquid-phase description with the
 /// ideal gas (a constant-pressure kind, a pressure, mole fractions) or that have no
-/// equations (feeds or a liquid phase with a stirred tank's `[flow]`).
+/// equations (feeds with a stirred tank's `[flow]`).
 fn mixed_descriptions(r: &mut Report<'_>, root: &DeTable<'_>, reactor: &ReactorSection) {
     let span = |path: &[&str]| -> Option<usize> {
         let (last, tables) = path.split_last()?;
@@ -373,10 +373,17 @@ fn mixed_descriptions(r: &mut Report<'_>, root: &DeTable<'_>, reactor: &ReactorS
                 }
             }
         }
-        if let Some(p) = span(&["flow"]) {
+        if let Some(p) = span(&["flow", "inlet_mole_fractions"]) {
             r.error(
                 p,
-                "[liquid] is not available for stirred tanks ([flow]); use the ideal-gas description or a batch",
+                "inlet mole fractions convert through the ideal gas; with [liquid] give the stirred tank's `inlet_concentrations`",
+                None,
+            );
+        }
+        if let Some(p) = span(&["flow", "mass_flow"]) {
+            r.error(
+                p,
+                "a mass flow converts through the species' molar masses, not the liquid's density; with [liquid] give `residence_time` or `volumetric_flow`",
                 None,
             );
         }

@@ -26,6 +26,7 @@ const REACTOR_KEYS: &[&str] = &[
     "pressure",
     "temperature_history",
     "ua",
+    "ua_history",
     "volume",
     "coolant_temperature",
     "coolant_temperature_history",
@@ -33,6 +34,7 @@ const REACTOR_KEYS: &[&str] = &[
 /// The keys of a jacketed reactor's heat exchange.
 const JACKET_KEYS: &[&str] = &[
     "ua",
+    "ua_history",
     "volume",
     "coolant_temperature",
     "coolant_temperature_history",
@@ -62,6 +64,8 @@ pub(crate) fn volume_to_m3(value: f64, unit: &str) -> Option<f64> {
     Some(value * factor)
 }
 const HISTORY_KEYS: &[&str] = &["times", "temperatures"];
+/// The keys of `ua_history`.
+const UA_HISTORY_KEYS: &[&str] = &["times", "values"];
 const IGNITION_KEYS: &[&str] = &["criterion", "species", "rise"];
 const IGNITION_CRITERIA: &[&str] = &["max-temperature-rate", "species-peak", "temperature-rise"];
 const INITIAL_KEYS: &[&str] = &["concentrations", "concentration_unit", "mole_fractions"];
@@ -149,11 +153,23 @@ pub(crate) fn read_reactor(
             out.volume_m3 = Some(volume);
             let closed_constant_pressure =
                 out.constraint == Some(Constraint::ConstantPressure) && !has_flow;
-            if has_feeds || closed_constant_pressure {
-                HeatExchange::total(ua, coolant).ok()
-            } else {
-                HeatExchange::new(ua / volume, coolant).ok()
-            }
+            let total = has_feeds || closed_constant_pressure;
+            let exchange = match &ua {
+                Ua::Constant(ua) if total => HeatExchange::total(*ua, coolant).ok(),
+                Ua::Constant(ua) => HeatExchange::new(ua / volume, coolant).ok(),
+                Ua::History(times, values) if total => HeatExchange::total(values[0], coolant)
+                    .and_then(|x| x.with_ua_history(times.clone(), values.clone()))
+                    .ok(),
+                Ua::History(times, values) => HeatExchange::new(values[0] / volume, coolant)
+                    .and_then(|x| {
+                        x.with_ua_history(
+                            times.clone(),
+                            values.iter().map(|v| v / volume).collect(),
+                        )
+                    })
+                    .ok(),
+            };
+            exchange
         })
     } else {
         if has_feeds {
@@ -233,11 +249,92 @@ pub(crate) fn read_reactor(
 /// The heat exchange of a jacketed reactor: `ua` and `volume` (U A / V), and the coolant's
 /// temperature, fixed (`coolant_temperature`) or as a history
 /// (`coolant_temperature_history`, as `temperature_history`).
+/// A jacket's U A: constant (W/K) or through a history (times in s, U A in W/K).
+enum Ua {
+    Constant(f64),
+    History(Vec<f64>, Vec<f64>),
+}
+
+/// Reads `ua_history = { times = [...], values = [...] }`: U A (W/K, kW/K) against time,
+/// equal lengths, at least one point, the first time 0, times strictly increasing, values
+/// finite and not negative; every problem at its item.
+fn read_ua_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<Ua> {
+    let key = "ua_history";
+    let table = r.table(key, value)?;
+    r.check_keys(table, UA_HISTORY_KEYS, key);
+    let at = value.span().start;
+    let times = located_list(
+        r,
+        table,
+        at,
+        key,
+        "times",
+        "s",
+        time_to_s,
+        SCENARIO_TIME_UNITS,
+    );
+    let values = located_list(r, table, at, key, "values", "W/K", ua_to_w_per_k, UA_UNITS);
+    let (times, values) = (times?, values?);
+    if times.is_empty() || times.len() != values.len() {
+        r.error(
+            at,
+            format!(
+                "`{key}` needs as many values as times (at least one), got {} and {}",
+                times.len(),
+                values.len()
+            ),
+            Some("e.g. ua_history = { times = [\"0 h\", \"6 h\", \"6.1 h\"], values = [\"2.5 kW/K\", \"2.5 kW/K\", \"0 W/K\"] }".to_string()),
+        );
+        return None;
+    }
+    let mut ok = true;
+    if times[0].0 != 0.0 {
+        r.error(
+            times[0].1,
+            format!("the first time of `{key}` must be 0 s"),
+            None,
+        );
+        ok = false;
+    }
+    for (i, &(t, pos)) in times.iter().enumerate() {
+        if !t.is_finite() || (i > 0 && t <= times[i - 1].0) {
+            r.error(
+                pos,
+                format!(
+                    "`{key}` times must be finite and strictly increasing: {} s",
+                    show_number(t)
+                ),
+                None,
+            );
+            ok = false;
+        }
+    }
+    for &(x, pos) in &values {
+        if !(x.is_finite() && x >= 0.0) {
+            r.error(
+                pos,
+                format!(
+                    "`{key}` values must be finite and not negative, got {} W/K",
+                    show_number(x)
+                ),
+                None,
+            );
+            ok = false;
+        }
+    }
+    ok.then(|| {
+        Ua::History(
+            times.iter().map(|t| t.0).collect(),
+            values.iter().map(|v| v.0).collect(),
+        )
+    })
+}
+
 fn read_jacket(
     r: &mut Report<'_>,
     t: &DeTable<'_>,
     at: usize,
-) -> Option<(f64, f64, TemperatureHistory)> {
+) -> Option<(Ua, f64, TemperatureHistory)> {
     let hint = "e.g. ua = \"250 W/K\", volume = \"50 L\", coolant_temperature = \"300 K\"";
     let positive = |r: &mut Report<'_>, key: &str, unit: &str, convert: Converter, units| {
         let Some(v) = t.get(key) else {
@@ -264,7 +361,14 @@ fn read_jacket(
         }
         Some(x)
     };
-    let ua = positive(r, "ua", "W/K", ua_to_w_per_k, UA_UNITS);
+    let ua = match (t.get("ua"), t.get("ua_history")) {
+        (_, None) => positive(r, "ua", "W/K", ua_to_w_per_k, UA_UNITS).map(Ua::Constant),
+        (None, Some(v)) => read_ua_history(r, v),
+        (Some(_), Some(v)) => {
+            r.error(v.span().start, "give `ua` or `ua_history`, not both", None);
+            None
+        }
+    };
     let volume = positive(r, "volume", "m3", volume_to_m3, VOLUME_UNITS);
     let coolant = match (
         t.get("coolant_temperature"),

@@ -18,6 +18,20 @@ pub const RUNAWAY_RISE_K: f64 = 50.0;
 
 /// The caution printed with every run.
 pub const CAUTION: &str = "Caution: simulation is no substitute for local codes, standards and licensed engineering review.";
+/// The caution printed with every liquid-phase run that solves the energy balance (jacketed or
+/// adiabatic process vessels, the ground of thermal-runaway studies).
+pub const PROCESS_SAFETY_CAUTION: &str = "Caution: an exothermic process vessel can run away; simulation is no substitute for process-safety review (measured kinetics, calorimetry) and local codes.";
+
+/// The caution lines every run of `plan` ends with: the process-safety line for a liquid
+/// phase solving its energy balance, then the general caution.
+pub fn closing_cautions(model: &stoik::reactor::ReactorModel) -> Vec<String> {
+    let mut lines = Vec::new();
+    if model.liquid.is_some() && model.solves_energy() {
+        lines.push(PROCESS_SAFETY_CAUTION.to_string());
+    }
+    lines.push(CAUTION.to_string());
+    lines
+}
 
 /// Applies an override, naming its flag when the plan refuses it.
 fn flag(name: &'static str, result: Result<(), ScenarioError>) -> Result<(), CliError> {
@@ -152,7 +166,7 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         &conservation.lines,
     );
     lines.extend(ignition_lines(&plan, &outcome));
-    lines.push(CAUTION.to_string());
+    lines.extend(closing_cautions(plan.model()));
     if !args.quiet {
         for line in &lines {
             println!("{line}");
@@ -541,7 +555,7 @@ pub fn describe_reactor(plan: &RunPlan) -> String {
     match &model.flow {
         None => format!("{}{batch}{liquid}", describe_energy(model, held, t)),
         Some(flow) => format!(
-            "stirred tank, {}; residence time {} s, feed at {} K",
+            "stirred tank, {}; residence time {} s, feed at {} K{liquid}",
             describe_energy(model, held, t),
             flow.residence_time_s(),
             flow.inlet_temperature_k()
@@ -560,6 +574,24 @@ fn describe_energy(model: &stoik::reactor::ReactorModel, held: &str, t: f64) -> 
                 [one] => format!("coolant at {one} K"),
                 many => format!("coolant temperature through {} points", many.len()),
             };
+            if let Some((times, values)) = x.ua_history() {
+                let unit = if x.ua_total_w_per_k().is_some() {
+                    "W/K"
+                } else {
+                    "W/(m3 K)"
+                };
+                let what = if x.ua_total_w_per_k().is_some() {
+                    "U A"
+                } else {
+                    "U A / V"
+                };
+                return format!(
+                    "jacketed {held}, starting at {t} K, {what} from {} {unit} through {} points to {} {unit}, {coolant}",
+                    values[0],
+                    times.len(),
+                    values[values.len() - 1]
+                );
+            }
             match x.ua_total_w_per_k() {
                 Some(ua) => {
                     format!("jacketed {held}, starting at {t} K, U A = {ua} W/K, {coolant}")

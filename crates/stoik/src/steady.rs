@@ -5,7 +5,7 @@
 use crate::csv_out::number;
 use crate::error::CliError;
 use crate::out_file::{write_atomically, write_text, OutputPaths};
-use crate::run::{describe_reactor, record_inputs, CAUTION, RUNAWAY_RISE_K};
+use crate::run::{closing_cautions, describe_reactor, record_inputs, RUNAWAY_RISE_K};
 use crate::{ContinuationArgs, ParameterArg, SteadyArgs};
 use std::io::Write;
 use std::path::Path;
@@ -45,7 +45,14 @@ fn tank_plan(scenario: &Path, command: &str) -> Result<(RunPlan, Kinetics), CliE
 /// above the feed (energy balance solved), then the general caution.
 fn caution_lines(plan: &RunPlan, hottest_rise_k: f64) -> Vec<String> {
     let mut lines = Vec::new();
-    if plan.model().solves_energy() && hottest_rise_k > RUNAWAY_RISE_K {
+    if plan.model().solves_energy()
+        && hottest_rise_k > RUNAWAY_RISE_K
+        && plan.model().liquid.is_some()
+    {
+        lines.push(format!(
+            "CAUTION: thermal runaway possible (steady temperature {hottest_rise_k:.0} K above the feed): the tank has hot steady states, reached when the heat released outgrows the cooling."
+        ));
+    } else if plan.model().solves_energy() && hottest_rise_k > RUNAWAY_RISE_K {
         let mechanism = plan.mechanism();
         let has = |name: &str| mechanism.species.iter().any(|s| s.name == name);
         let hydrogen = if has("H2") && has("O2") {
@@ -57,7 +64,7 @@ fn caution_lines(plan: &RunPlan, hottest_rise_k: f64) -> Vec<String> {
             "CAUTION: ignition or thermal runaway detected (steady temperature {hottest_rise_k:.0} K above the feed). This mixture is flammable or explosive under these conditions.{hydrogen}"
         ));
     }
-    lines.push(CAUTION.to_string());
+    lines.extend(closing_cautions(plan.model()));
     lines
 }
 
@@ -99,12 +106,21 @@ pub fn steady(args: &SteadyArgs) -> Result<(), CliError> {
         mechanism.steps.len(),
         describe_reactor(&plan)
     )];
-    lines.push(format!(
-        "steady state: T = {:.4} K, P = {:.6e} Pa; concentrations [{}]:",
-        s.temperature_k,
-        pressure,
-        unit.label()
-    ));
+    // A liquid's pressure is not sum(c) R T: left out.
+    lines.push(if plan.model().liquid.is_some() {
+        format!(
+            "steady state: T = {:.4} K; concentrations [{}]:",
+            s.temperature_k,
+            unit.label()
+        )
+    } else {
+        format!(
+            "steady state: T = {:.4} K, P = {:.6e} Pa; concentrations [{}]:",
+            s.temperature_k,
+            pressure,
+            unit.label()
+        )
+    });
     let mut order: Vec<usize> = (0..c.len()).collect();
     order.sort_by(|&a, &b| c[b].total_cmp(&c[a]));
     for &i in order.iter().take(12) {

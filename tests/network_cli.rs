@@ -154,3 +154,43 @@ fn check_reads_a_network_scenario_and_locates_its_problems() {
         "{stderr}"
     );
 }
+
+#[test]
+fn commands_for_single_reactors_refuse_a_network_by_name() {
+    let dir = common::scratch("network", "single-only");
+    let scenario = series_of_three(&dir);
+    let s = scenario.to_str().unwrap();
+    for (command, args) in [
+        ("batch", vec!["batch", s, "--output-dir", "out"]),
+        ("rates", vec!["rates", s, "--species", "A", "--times", "1"]),
+        ("flux", vec!["flux", s, "--element", "C", "--time", "1"]),
+        ("sensitivity", vec!["sensitivity", s, "--of", "final:A"]),
+        (
+            "continuation",
+            vec![
+                "continuation",
+                s,
+                "--parameter",
+                "residence-time",
+                "--from",
+                "1",
+                "--to",
+                "2",
+            ],
+        ),
+    ] {
+        let out = stoik(&args, &dir);
+        assert_eq!(out.status.code(), Some(2), "{command}");
+        let stderr = text(&out.stderr);
+        assert!(
+            stderr.contains("series.scenario.toml:4:1: error: a network scenario")
+                && stderr.contains(&format!("`stoik {command}`")),
+            "{command}: {stderr}"
+        );
+        assert!(!stderr.contains("missing [reactor]"), "{command}: {stderr}");
+    }
+    assert!(
+        !dir.join("out").exists(),
+        "a refused batch leaves no folder"
+    );
+}

@@ -108,6 +108,18 @@ fn plans(args: &BatchArgs) -> Result<Vec<Job>, CliError> {
     };
     let mut jobs = Vec::new();
     let mut errors = Vec::new();
+    // A network scenario is a valid file (`stoik check` passes it) that batch cannot run:
+    // refuse it by name rather than with the single-reactor reader's complaints.
+    let refusals: Vec<_> = args
+        .scenarios
+        .iter()
+        .filter_map(|path| crate::network_refusal(path, "batch"))
+        .collect();
+    if !refusals.is_empty() {
+        return Err(CliError::Load(stoik::mechanism::LoadError::Invalid {
+            diagnostics: stoik::mechanism::Diagnostics(refusals),
+        }));
+    }
     for (path, plan) in args.scenarios.iter().zip(load_plans(&args.scenarios)) {
         let plan = match plan {
             Ok(p) => p,

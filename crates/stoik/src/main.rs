@@ -611,9 +611,14 @@ fn main() -> ExitCode {
         Command::Suite(SuiteCommand::Record(args)) => suite::record(&args),
         Command::Suite(SuiteCommand::Verify(args)) => suite::verify(&args),
         Command::Diff(args) => diff::diff(&args),
-        Command::Rates(args) => analysis::rates(&args),
-        Command::Flux(args) => analysis::flux(&args),
-        Command::Sensitivity(args) => sensitivity::sensitivity(&args),
+        Command::Rates(args) => {
+            not_a_network(&args.scenario, "rates").and_then(|()| analysis::rates(&args))
+        }
+        Command::Flux(args) => {
+            not_a_network(&args.scenario, "flux").and_then(|()| analysis::flux(&args))
+        }
+        Command::Sensitivity(args) => not_a_network(&args.scenario, "sensitivity")
+            .and_then(|()| sensitivity::sensitivity(&args)),
         Command::Steady(args) => {
             if is_network_scenario(&args.scenario) {
                 network_run::steady(&args)
@@ -621,7 +626,9 @@ fn main() -> ExitCode {
                 steady::steady(&args)
             }
         }
-        Command::Continuation(args) => steady::continuation(&args),
+        Command::Continuation(args) => {
+            not_a_network(&args.scenario, "continuation").and_then(|()| steady::continuation(&args))
+        }
     };
     // Every error is reported here, once.
     match result {
@@ -637,11 +644,54 @@ fn main() -> ExitCode {
     }
 }
 
+/// Refuses a network scenario for a command that runs single reactors only, located at its
+/// first `[[tank]]` and naming what to use instead (rather than the single-reactor reader's
+/// complaints about a missing `[reactor]`).
+fn not_a_network(path: &std::path::Path, command: &str) -> Result<(), error::CliError> {
+    match network_refusal(path, command) {
+        Some(d) => Err(error::CliError::Load(
+            stoik::mechanism::LoadError::Invalid {
+                diagnostics: stoik::mechanism::Diagnostics(vec![d]),
+            },
+        )),
+        None => Ok(()),
+    }
+}
+
+/// The located refusal of a network scenario by `stoik command`; `None` for any other file.
+pub(crate) fn network_refusal(
+    path: &std::path::Path,
+    command: &str,
+) -> Option<stoik::mechanism::Diagnostic> {
+    if !is_network_scenario(path) {
+        return None;
+    }
+    let text = stoik::mechanism::read_input_text(path).ok()?;
+    let location = text.lines().enumerate().find_map(|(i, line)| {
+        let trimmed = line.trim_start();
+        trimmed
+            .starts_with("[[tank]]")
+            .then(|| stoik::mechanism::SourceLocation {
+                line: i + 1,
+                column: line.chars().count() - trimmed.chars().count() + 1,
+            })
+    });
+    let mut d = stoik::mechanism::Diagnostic::error(
+        &path.display().to_string(),
+        location,
+        format!(
+            "a network scenario ([[tank]] and [[stream]]): `stoik {command}` takes single-reactor scenarios only"
+        ),
+    );
+    d.help = Some("run a network with `stoik run`, or `stoik steady` for its steady state".into());
+    Some(d)
+}
+
 /// Whether the file at `path` reads as a network scenario (`[[tank]]`). Only a regular file
 /// is looked into (a FIFO or standard input would block or be consumed by this first read);
 /// anything else, and an unreadable file, is left to the ordinary scenario path, which
 /// reports it.
-fn is_network_scenario(path: &std::path::Path) -> bool {
+pub(crate) fn is_network_scenario(path: &std::path::Path) -> bool {
     let regular = std::fs::metadata(path).is_ok_and(|m| m.is_file());
     regular
         && stoik::mechanism::read_input_text(path)

@@ -194,3 +194,73 @@ fn commands_for_single_reactors_refuse_a_network_by_name() {
         "a refused batch leaves no folder"
     );
 }
+
+/// One adiabatic tank of a constant-density liquid (`[liquid]`) running the cooled-tank
+/// demo's first-order step R -> Q (k = 2.1e12 exp(-100 kJ/mol / (R T)) 1/s, -100 kJ/mol,
+/// rho cp = 2.1 kJ/(kg K) x 950 kg/m3): its steady state from `stoik steady` against the
+/// adiabatic stirred-tank construction rho cp (T - T_in) = -dH (c_in - c), c = c_in / (1 +
+/// k(T) tau) (Fogler, "Elements of Chemical Reaction Engineering", ch. 8; from memory),
+/// solved here by bisection on the hot branch.
+#[test]
+fn steady_of_a_liquid_network_matches_the_adiabatic_construction() {
+    let dir = common::scratch("network", "liquid");
+    std::fs::copy(
+        repo().join("mechanisms/cooled-tank.toml"),
+        dir.join("cooled-tank.toml"),
+    )
+    .unwrap();
+    let body = "stoik_scenario = 1\nmechanism = \"cooled-tank.toml\"\n\
+        [[tank]]\nname = \"hot\"\nvolume = \"2 m3\"\nenergy = \"adiabatic\"\ntemperature = \"420 K\"\ninitial = { Q = \"3 mol/L\" }\n\
+        [[stream]]\nto = \"hot\"\nvolumetric_flow = \"1 L/s\"\ntemperature = \"300 K\"\nconcentrations = { R = \"3 mol/L\" }\n\
+        [[stream]]\nfrom = \"hot\"\nvolumetric_flow = \"1 L/s\"\n\
+        [liquid]\nheat_capacity = \"2.1 kJ/(kg K)\"\ndensity = \"950 kg/m3\"\nreaction_enthalpies = { \"R -> Q\" = \"-100 kJ/mol\" }\n\
+        [output]\nend_time = \"1 h\"\ngrid = { spacing = \"linear\", points = 3 }\n\
+        [solver]\nrelative_tolerance = 1e-10\n";
+    let scenario = dir.join("liquid.scenario.toml");
+    std::fs::write(&scenario, body).unwrap();
+    let out = stoik(
+        &["steady", scenario.to_str().unwrap(), "--csv", "s.csv"],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let table = std::fs::read_to_string(dir.join("s.csv")).unwrap();
+    let row: Vec<f64> = table
+        .lines()
+        .nth(1)
+        .unwrap()
+        .split(',')
+        .skip(1)
+        .map(|x| x.parse().unwrap())
+        .collect();
+    assert_eq!(
+        table.lines().next(),
+        Some("tank,temperature [K],R [mol/m3],Q [mol/m3]")
+    );
+    let (t, c_r) = (row[0], row[1]);
+    let (pre, ea, dh, rho_cp) = (2.1e12, 100e3, -100e3, 2.1e3 * 950.0);
+    let (c_in, t_in, tau) = (3000.0, 300.0, 2000.0);
+    let gas = 8.314_462_618;
+    let c_of = |t: f64| c_in / (1.0 + pre * (-ea / (gas * t)).exp() * tau);
+    let g = |t: f64| rho_cp * (t - t_in) + dh * (c_in - c_of(t));
+    let rise = -dh * c_in / rho_cp;
+    let (mut lo, mut hi) = (t_in + 0.5 * rise, t_in + rise + 1.0);
+    assert!(g(lo) < 0.0 && g(hi) > 0.0, "bracket");
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if g(mid) < 0.0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    let expected = 0.5 * (lo + hi);
+    assert!(
+        (t - expected).abs() < 1e-7 * expected,
+        "T {t} against {expected}"
+    );
+    assert!(
+        (c_r - c_of(expected)).abs() < 1e-7 * c_in,
+        "c_R {c_r} against {}",
+        c_of(expected)
+    );
+}

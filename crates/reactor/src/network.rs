@@ -53,6 +53,7 @@ use stoik_mechanism::GAS_CONSTANT as R;
 use stoik_thermo::Nasa7;
 
 use crate::model::{Constraint, Energy};
+use crate::LiquidPhase;
 use crate::{LinearAlgebra, ReactorError, SolverStats, DENSE_MAX_SPECIES, DENSE_MIN_FILL};
 
 /// Relative tolerance of the volumetric flow balance of a tank: `|in - out|` may be at most
@@ -259,6 +260,23 @@ pub enum NetworkProblem {
         /// The first tank that solves its energy balance.
         name: String,
     },
+    /// The liquid description's reaction enthalpies do not match the mechanism's steps.
+    #[error(
+        "the liquid phase gives {found} reaction enthalpies; the mechanism has {expected} steps"
+    )]
+    LiquidEnthalpies {
+        /// Steps of the mechanism.
+        expected: usize,
+        /// Enthalpies given.
+        found: usize,
+    },
+    /// A reversible step whose reverse rate comes from species thermochemistry, which the
+    /// liquid-phase description does not use.
+    #[error("step {} is reversible without explicit reverse parameters: with the liquid-phase description give it explicit reverse parameters or make it irreversible", .step + 1)]
+    LiquidReverseFromThermo {
+        /// Step index (mechanism order).
+        step: usize,
+    },
 }
 
 /// Why a network was refused or its run failed.
@@ -324,6 +342,8 @@ pub struct TankNetwork {
     pub(crate) links: Vec<Link>,
     /// (tank, flow m3/s) of each outlet stream.
     outlets: Vec<(usize, f64)>,
+    /// The liquid-phase energy description of every tank (`None`: species thermochemistry).
+    liquid: Option<LiquidPhase>,
 }
 
 impl TankNetwork {
@@ -504,7 +524,24 @@ impl TankNetwork {
             feeds,
             links,
             outlets,
+            liquid: None,
         })
+    }
+
+    /// Describes the energy of every tank that solves it as a constant-density liquid: a
+    /// mixture heat capacity per volume `rho cp` and one reaction enthalpy per step (see
+    /// [`LiquidPhase`]) instead of the species' ideal-gas thermochemistry. A tank's energy
+    /// balance is then `rho cp dT/dt = sum_in (q/V) rho cp (T_in - T) - sum_k dH_k q_k +
+    /// U A/V (T_c - T)` (W/m3). The number of enthalpies is checked against the mechanism
+    /// when the network is run.
+    pub fn with_liquid(mut self, liquid: LiquidPhase) -> TankNetwork {
+        self.liquid = Some(liquid);
+        self
+    }
+
+    /// The liquid-phase description, if any (see [`with_liquid`](Self::with_liquid)).
+    pub fn liquid(&self) -> Option<&LiquidPhase> {
+        self.liquid.as_ref()
     }
 
     /// The tanks, in the order given.
@@ -773,6 +810,8 @@ struct Scratch {
     kin_values: Vec<f64>,
     slopes: RateConstants,
     dw_dt: Vec<f64>,
+    /// Per step: dq/dT (liquid description).
+    step_slopes: Vec<f64>,
 }
 
 /// The network's equations on flat slices: right-hand side and analytic Jacobian.
@@ -783,6 +822,9 @@ pub(crate) struct NetworkSystem {
     thermo: Vec<Nasa7>,
     /// Per feed: h_i(T_feed) (J/mol), per species (empty without energy).
     feed_enthalpy: Vec<Vec<f64>>,
+    /// The liquid description when some tank solves its energy balance with it: `rho cp`
+    /// (J/(m3 K)) and the reaction enthalpy of each step (J/mol).
+    liquid: Option<(f64, Vec<f64>)>,
     rates: RefCell<Vec<RateConstants>>,
     rates_at: RefCell<Vec<f64>>,
     scratch: RefCell<Scratch>,
@@ -805,8 +847,31 @@ impl NetworkSystem {
             }
             .into());
         }
+        let liquid = match (&net.liquid, net.solves_energy()) {
+            (Some(l), true) => {
+                let dh = l.step_enthalpies_j_per_mol();
+                let mut problems = Vec::new();
+                if dh.len() != kinetics.n_steps() {
+                    problems.push(NetworkProblem::LiquidEnthalpies {
+                        expected: kinetics.n_steps(),
+                        found: dh.len(),
+                    });
+                }
+                problems.extend(
+                    (0..kinetics.n_steps())
+                        .filter(|&j| kinetics.reverse_from_thermochemistry(j) == Some(true))
+                        .map(|step| NetworkProblem::LiquidReverseFromThermo { step }),
+                );
+                if !problems.is_empty() {
+                    return Err(NetworkError::Invalid(problems));
+                }
+                Some((l.heat_capacity_j_per_m3_k(), dh.to_vec()))
+            }
+            _ => None,
+        };
         let thermo: Vec<Nasa7> = match net.tanks.iter().find(|t| t.solves_energy()) {
             None => Vec::new(),
+            Some(_) if liquid.is_some() => Vec::new(),
             Some(tank) => {
                 let missing: Vec<NetworkProblem> = kinetics
                     .species_thermo()
@@ -861,6 +926,7 @@ impl NetworkSystem {
                 kin_values: vec![0.0; kinetics.jacobian_pattern().nnz()],
                 slopes: kinetics.rate_constants(300.0),
                 dw_dt: vec![0.0; n],
+                step_slopes: vec![0.0; kinetics.n_steps()],
             }),
             rates: RefCell::new(rates),
             rates_at: RefCell::new(temperatures),
@@ -868,6 +934,7 @@ impl NetworkSystem {
             net: net.clone(),
             thermo,
             feed_enthalpy,
+            liquid,
             pattern,
             positions,
             rhs_evaluations: Cell::new(0),
@@ -1012,6 +1079,53 @@ impl NetworkSystem {
                     f[self.net.offsets[j] + n] = s.numerator[j] / s.heat_capacity[j];
                 }
             }
+        } else if let Some((capacity, dh)) = &self.liquid {
+            self.liquid_numerators(t_s, y, s, &rates, *capacity, dh);
+            for (j, tank) in self.net.tanks.iter().enumerate() {
+                if tank.solves_energy() {
+                    f[self.net.offsets[j] + n] = s.numerator[j] / capacity;
+                }
+            }
+        }
+    }
+
+    /// The liquid energy numerators `N_j` (W/m3) of the tanks solving their energy: `-sum_k
+    /// dH_k q_k + U A/V (T_c - T) + sum_in (q/V) rho cp (T_in - T)`, into `s.numerator`.
+    fn liquid_numerators(
+        &self,
+        t_s: f64,
+        y: &[f64],
+        s: &mut Scratch,
+        rates: &[RateConstants],
+        capacity: f64,
+        dh: &[f64],
+    ) {
+        for (j, tank) in self.net.tanks.iter().enumerate() {
+            if !tank.solves_energy() {
+                continue;
+            }
+            let c = self.net.concentrations_in(j, y);
+            let mut release = 0.0;
+            for (k, h) in dh.iter().enumerate() {
+                if *h != 0.0 {
+                    release += h * self.kinetics.rate_of_progress(&rates[j], c, k);
+                }
+            }
+            s.numerator[j] = -release + self.exchange(j, t_s, s.temperatures[j]).0;
+        }
+        for feed in &self.net.feeds {
+            let j = feed.to;
+            if self.net.tanks[j].solves_energy() {
+                let a = feed.q / self.net.tanks[j].volume_m3;
+                s.numerator[j] += a * capacity * (feed.t - s.temperatures[j]);
+            }
+        }
+        for l in &self.net.links {
+            let j = l.to;
+            if self.net.tanks[j].solves_energy() {
+                let a = l.q / self.net.tanks[j].volume_m3;
+                s.numerator[j] += a * capacity * (s.temperatures[l.from] - s.temperatures[j]);
+            }
         }
     }
 
@@ -1042,6 +1156,7 @@ impl NetworkSystem {
             }
             self.energy_terms(t_s, y, s);
         }
+        let liquid = self.liquid.as_ref();
         let kin = self.kinetics.jacobian_pattern();
         let (starts, rows) = (kin.column_starts(), kin.row_indices());
         for (j, tank) in self.net.tanks.iter().enumerate() {
@@ -1071,6 +1186,24 @@ impl NetworkSystem {
             for (&p, &d) in pos.temperature_column[j].iter().zip(&s.dw_dt) {
                 values[p] += d;
             }
+            if let Some((capacity, dh)) = liquid {
+                // Energy row over the tank's own concentrations: -sum_k dH_k dq_k/dc_i / C;
+                // corner: (-sum_k dH_k dq_k/dT + d(exchange)/dT) / C (the entering streams'
+                // -q/V are added below).
+                let row = &mut s.w;
+                row.iter_mut().for_each(|x| *x = 0.0);
+                self.kinetics
+                    .for_each_rate_derivative(k, c, |step, i, d| row[i] -= dh[step] * d);
+                for (i, r) in row.iter().enumerate() {
+                    values[pos.energy_row[j][i]] += r / capacity;
+                }
+                self.kinetics
+                    .rates_of_progress_slopes(k, &s.slopes, c, &mut s.step_slopes);
+                let release_slope: f64 = dh.iter().zip(&s.step_slopes).map(|(h, d)| -h * d).sum();
+                values[pos.energy_row[j][n]] +=
+                    (release_slope + self.exchange(j, t_s, t).1) / capacity;
+                continue;
+            }
             // Energy row over the tank's own concentrations: (dN/dc_k - F cp_k) / C, with
             // dN/dc_k = -sum_i h_i dw_i/dc_k.
             for col in 0..n {
@@ -1097,6 +1230,10 @@ impl NetworkSystem {
                 continue;
             }
             let a = feed.q / self.net.tanks[j].volume_m3;
+            if liquid.is_some() {
+                values[pos.energy_row[j][n]] -= a;
+                continue;
+            }
             let cp = &s.capacity[j * n..(j + 1) * n];
             let sum: f64 = feed.c.iter().zip(cp).map(|(c, k)| c * k).sum();
             values[pos.energy_row[j][n]] -= a * sum / s.heat_capacity[j];
@@ -1108,6 +1245,13 @@ impl NetworkSystem {
                 values[p] += a;
             }
             if !self.net.tanks[to].solves_energy() {
+                continue;
+            }
+            if liquid.is_some() {
+                values[pos.energy_row[to][n]] -= a;
+                if self.net.tanks[from].solves_energy() {
+                    values[pos.link_energy[l][n]] += a;
+                }
                 continue;
             }
             let cap = s.heat_capacity[to];
@@ -1207,10 +1351,60 @@ mod tests {
     #[test]
     fn network_jacobian_matches_central_differences() {
         let kinetics = hydrogen();
-        let net = network(&kinetics);
-        let sys = NetworkSystem::new(&kinetics, &net).unwrap_or_else(|e| panic!("{e}"));
+        check_jacobian(&kinetics, &network(&kinetics));
+    }
+
+    /// An invented liquid-phase scheme (Arrhenius steps without thermochemistry, one of
+    /// them second order): A -> B, A + B -> C, C -> A.
+    fn liquid_kinetics() -> Kinetics {
+        let text = "stoik_mechanism = 1\n[units]\namount = \"mol\"\nlength = \"m\"\nactivation_energy = \"kJ/mol\"\n\
+            [[species]]\nname = \"A\"\n[[species]]\nname = \"B\"\n[[species]]\nname = \"C\"\n\
+            [[step]]\nequation = \"A -> B\"\nforward = { prefactor = 1e6, activation_energy = 50.0 }\n\
+            [[step]]\nequation = \"A + B -> C\"\nforward = { prefactor = 1e4, activation_energy = 30.0 }\n\
+            [[step]]\nequation = \"C -> A\"\nforward = { prefactor = 1e7, activation_energy = 70.0 }\n";
+        let file =
+            stoik_mechanism::parse_mechanism(text, "<liquid>").unwrap_or_else(|e| panic!("{e}"));
+        Kinetics::compile(&file.mechanism).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    /// The same three-tank network described as a liquid (rho cp and one enthalpy per step):
+    /// its Jacobian against central differences too.
+    #[test]
+    fn liquid_network_jacobian_matches_central_differences() {
+        let kinetics = liquid_kinetics();
+        let liquid =
+            LiquidPhase::per_volume(4e6, vec![-8e4, -5e4, 2e4]).unwrap_or_else(|e| panic!("{e}"));
+        check_jacobian(&kinetics, &network(&kinetics).with_liquid(liquid));
+    }
+
+    /// A liquid description whose enthalpies do not match the steps, and a step whose
+    /// reverse rate needs thermochemistry, are refused together.
+    #[test]
+    fn a_liquid_network_checks_its_enthalpies_and_reverse_steps() {
+        let kinetics = hydrogen();
+        let liquid = LiquidPhase::per_volume(4e6, vec![-1e4; 2]).unwrap_or_else(|e| panic!("{e}"));
+        let net = network(&kinetics).with_liquid(liquid);
+        match NetworkSystem::new(&kinetics, &net) {
+            Err(NetworkError::Invalid(problems)) => {
+                assert!(problems.contains(&NetworkProblem::LiquidEnthalpies {
+                    expected: kinetics.n_steps(),
+                    found: 2
+                }));
+                assert!(problems
+                    .iter()
+                    .any(|p| matches!(p, NetworkProblem::LiquidReverseFromThermo { .. })));
+            }
+            other => panic!(
+                "expected the liquid description refused, got {:?}",
+                other.err()
+            ),
+        }
+    }
+
+    fn check_jacobian(kinetics: &Kinetics, net: &TankNetwork) {
+        let sys = NetworkSystem::new(kinetics, net).unwrap_or_else(|e| panic!("{e}"));
         let m = net.n_states();
-        let y = state(&net);
+        let y = state(net);
         let t_s = 0.6e-3;
         let mut values = vec![0.0; sys.pattern.nnz()];
         sys.jacobian_values(t_s, &y, &mut values);

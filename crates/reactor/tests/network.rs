@@ -568,3 +568,81 @@ fn networks_the_model_cannot_take_are_refused() {
             if *inflow_m3_per_s == 1.0 && *outflow_m3_per_s == 0.9
     ));
 }
+
+/// Two equal adiabatic tanks in series holding a constant-density liquid with one
+/// first-order exothermic step A -> B, described by `rho cp` and the step's enthalpy.
+/// Each tank's steady state solves, with X the conversion within the tank and the tank's
+/// inlet at (c_in, T_in), the mole balance c = c_in / (1 + k(T) tau) and the adiabatic
+/// energy balance rho cp (T - T_in) = -dH (c_in - c) (the heat-generation / heat-removal
+/// construction of a stirred tank, Fogler, "Elements of Chemical Reaction Engineering",
+/// ch. 8; from memory). The test solves that one-variable equation for T by bisection on a
+/// bracket holding the single (hot) root and compares with the network's steady state.
+#[test]
+fn adiabatic_liquid_tanks_in_series_match_the_energy_balance_construction() {
+    let (pre, ea, dh, rho_cp) = (4e8, 75e3, -6e4, 4.0e6);
+    let (c0, t0, tau) = (2000.0, 330.0, 600.0);
+    let kin = kinetics(
+        &["A", "B"],
+        vec![arrhenius_step(
+            &[(0, 1.0)],
+            &[(1, 1.0)],
+            Arrhenius {
+                pre_exponential_si: pre,
+                temperature_exponent: 0.0,
+                activation_energy_j_per_mol: ea,
+            },
+        )],
+    );
+    let k = |t: f64| pre * (-ea / (R * t)).exp();
+    let volume = 1.0;
+    let q = volume / tau;
+    let tanks = vec![
+        NetworkTank::new("first", volume, vec![c0, 0.0], 400.0).with_energy(Energy::Adiabatic),
+        NetworkTank::new("second", volume, vec![c0, 0.0], 400.0).with_energy(Energy::Adiabatic),
+    ];
+    let streams = vec![
+        feed("first", q, vec![c0, 0.0], t0),
+        transfer("first", "second", q),
+        outlet("second", q),
+    ];
+    let liquid = stoik_reactor::LiquidPhase::per_volume(rho_cp, vec![dh]).unwrap();
+    let net = TankNetwork::new(2, tanks, streams)
+        .unwrap()
+        .with_liquid(liquid);
+    let mut options = steady_options(2);
+    options.absolute_tolerance_k = 1e-9;
+    let s = network_steady_state(&kin, &net, &options).unwrap();
+    // The construction, tank by tank: g(T) = rho cp (T - T_in) + dH (c_in - c(T)).
+    let mut inlet = (c0, t0);
+    for (j, tank) in s.tanks.iter().enumerate() {
+        let (c_in, t_in) = inlet;
+        let c_of = |t: f64| c_in / (1.0 + k(t) * tau);
+        let g = |t: f64| rho_cp * (t - t_in) + dh * (c_in - c_of(t));
+        let rise = -dh * c_in / rho_cp;
+        let (mut lo, mut hi) = (t_in + 0.5 * rise, t_in + rise + 1.0);
+        assert!(g(lo) < 0.0 && g(hi) > 0.0, "tank {j}: bracket");
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            if g(mid) < 0.0 {
+                lo = mid;
+            } else {
+                hi = mid;
+            }
+        }
+        let t = 0.5 * (lo + hi);
+        let c = c_of(t);
+        eprintln!(
+            "tank {j}: T {} against {t}, c_A {} against {c}",
+            tank.temperature_k, tank.concentrations_mol_per_m3[0]
+        );
+        assert!((tank.temperature_k - t).abs() < 1e-7 * t, "tank {j}: T");
+        assert!(
+            (tank.concentrations_mol_per_m3[0] - c).abs() < 1e-7 * c_in,
+            "tank {j}: c_A"
+        );
+        // A + B is conserved through both tanks.
+        let total = tank.concentrations_mol_per_m3.iter().sum::<f64>();
+        assert!((total - c0).abs() < 1e-8 * c0, "tank {j}: A + B = {total}");
+        inlet = (c, t);
+    }
+}

@@ -66,6 +66,7 @@ const TOP_KEYS: &[&str] = &[
     "stream",
     "output",
     "solver",
+    "liquid",
 ];
 const TANK_KEYS: &[&str] = &[
     "name",
@@ -156,6 +157,8 @@ pub struct NetworkScenario {
     pub wall_time_limit_s: Option<f64>,
     tanks: Vec<TankSpec>,
     streams: Vec<StreamSpec>,
+    /// `[liquid]`: every energy-solving tank described as a constant-density liquid.
+    liquid: Option<crate::vessel_sections::LiquidSpec>,
     file: String,
 }
 
@@ -269,6 +272,7 @@ fn read(
     };
     let output = read_output(r, root, false);
     let solver = read_solver(r, root, output.unit);
+    let liquid = crate::vessel_sections::read_liquid(r, root);
     let unit_factor = output.unit.map(|u| u.to_si_factor());
     let tanks: Vec<Option<TankSpec>> = tables(r, root, "tank")
         .into_iter()
@@ -295,6 +299,7 @@ fn read(
     let streams: Vec<StreamSpec> = streams.into_iter().flatten().collect();
     let tanks: Vec<TankSpec> = tanks.into_iter().flatten().collect();
     check_topology(r, &tanks, &streams);
+    let liquid = liquid?;
     if !complete {
         return None;
     }
@@ -312,6 +317,7 @@ fn read(
         wall_time_limit_s: solver.wall_time_limit_s?,
         tanks,
         streams,
+        liquid,
         file: file.to_string(),
     })
 }
@@ -747,7 +753,22 @@ impl NetworkScenario {
                 None
             }
         };
-        if let Some(tank) = self.tanks.iter().find(|t| t.energy != Energy::Isothermal) {
+        let energy_solved = self.tanks.iter().any(|t| t.energy != Energy::Isothermal);
+        let liquid = self
+            .liquid
+            .as_ref()
+            .map(|l| l.resolve(mechanism, energy_solved, file, &mut diagnostics));
+        let network = match (network, liquid) {
+            (Some(net), Some(Some(phase))) => Some(net.with_liquid(phase)),
+            (net, None) => net,
+            (None, Some(_)) | (_, Some(None)) => None,
+        };
+        let ideal_gas = self.liquid.is_none();
+        if let Some(tank) = self
+            .tanks
+            .iter()
+            .find(|t| ideal_gas && t.energy != Energy::Isothermal)
+        {
             for (i, species) in mechanism.species.iter().enumerate() {
                 if species.thermo.is_none() {
                     diagnostics.push(

@@ -264,3 +264,61 @@ fn steady_of_a_liquid_network_matches_the_adiabatic_construction() {
         c_of(expected)
     );
 }
+
+/// A jacketed liquid tank from a network file whose `jacket_ua_history` switches the jacket
+/// off between 2,000 and 2,100 s (no heat of reaction): the run follows Newton's law of
+/// cooling with a feed before and after (two exponentials, common practice), as the library
+/// test in crates/reactor/tests/network.rs.
+#[test]
+fn a_jacket_ua_history_from_a_network_file_switches_the_cooling_off() {
+    let dir = common::scratch("network", "ua-history");
+    std::fs::copy(
+        repo().join("mechanisms/cooled-tank.toml"),
+        dir.join("cooled-tank.toml"),
+    )
+    .unwrap();
+    let body = "stoik_scenario = 1\nmechanism = \"cooled-tank.toml\"\n\
+        [[tank]]\nname = \"vessel\"\nvolume = \"1 m3\"\nenergy = \"jacketed\"\ntemperature = \"340 K\"\n\
+        jacket_ua_history = { times = [\"0 s\", \"2000 s\", \"2100 s\"], values = [\"4 kW/K\", \"4 kW/K\", \"0 W/K\"] }\n\
+        coolant_temperature = \"280 K\"\ninitial = { R = \"1 mol/m3\" }\n\
+        [[stream]]\nto = \"vessel\"\nvolumetric_flow = \"1 L/s\"\ntemperature = \"320 K\"\nconcentrations = { R = \"1 mol/m3\" }\n\
+        [[stream]]\nfrom = \"vessel\"\nvolumetric_flow = \"1 L/s\"\n\
+        [liquid]\nheat_capacity = \"4 MJ/(m3 K)\"\nreaction_enthalpies = { \"R -> Q\" = \"0 kJ/mol\" }\n\
+        [output]\nend_time = \"5000 s\"\ntimes = [1000, 2000, 2100, 3000, 5000]\n\
+        [solver]\nrelative_tolerance = 1e-10\nabsolute_tolerance = 1e-12\n";
+    let scenario = dir.join("switch.scenario.toml");
+    std::fs::write(&scenario, body).unwrap();
+    let out = stoik(
+        &["run", scenario.to_str().unwrap(), "-o", "switch.csv"],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let table = Table::read(&dir.join("switch.csv"));
+    let (tc, temp) = (table.col("time [s]"), table.col("vessel temperature [K]"));
+    let at = |t: f64| {
+        table
+            .rows
+            .iter()
+            .find(|r| r[tc] == t)
+            .unwrap_or_else(|| panic!("no row at {t} s"))[temp]
+    };
+    let (a_on, a_off): (f64, f64) = (1e-3 + 4000.0 / 4e6, 1e-3);
+    let t_ss = (1e-3 * 320.0 + 1e-3 * 280.0) / a_on;
+    for t in [1000.0f64, 2000.0] {
+        let expected = t_ss + (340.0 - t_ss) * (-a_on * t).exp();
+        assert!(
+            (at(t) - expected).abs() < 1e-6,
+            "t = {t}: {} vs {expected}",
+            at(t)
+        );
+    }
+    let t2 = at(2100.0);
+    for t in [3000.0f64, 5000.0] {
+        let expected = 320.0 + (t2 - 320.0) * (-a_off * (t - 2100.0)).exp();
+        assert!(
+            (at(t) - expected).abs() < 1e-6,
+            "t = {t}: {} vs {expected}",
+            at(t)
+        );
+    }
+}

@@ -352,9 +352,28 @@ where
         deadline: deadline(options.wall_time_limit_s),
     };
     let mut rejections = 0;
+    // The jackets' history points (coolant temperature, U A): the solver stops at each, so
+    // no step straddles a kink of the equations.
+    let t_last = outputs.last().copied().unwrap_or(t0);
+    let mut breaks: Vec<f64> = net
+        .tanks()
+        .iter()
+        .filter_map(|t| match &t.energy {
+            crate::Energy::HeatExchange(x) => Some(x),
+            _ => None,
+        })
+        .flat_map(|x| {
+            let ua = x.ua_history().map_or(&[][..], |(times, _)| times);
+            x.coolant().times_s().iter().chain(ua).copied()
+        })
+        .filter(|&t| t > t0 && t < t_last)
+        .collect();
+    breaks.sort_by(f64::total_cmp);
+    breaks.dedup();
     let result = drive(
         solver,
         &outputs[1..],
+        &breaks,
         &mut buffer,
         &mut |t, y| {
             // Temperatures are positive: the minimum over the state is that of the
@@ -405,6 +424,7 @@ where
 fn drive<'a, M, S>(
     solver: &mut S,
     outputs: &[f64],
+    breaks: &[f64],
     buffer: &mut M::V,
     record: &mut dyn FnMut(f64, &[f64]),
     rejections: &mut usize,
@@ -417,7 +437,10 @@ where
     let Some(&t_end) = outputs.last() else {
         return Ok(());
     };
-    solver.set_stop_time(t_end)?;
+    // The solver stops at each break (sorted, inside the run) and at the end.
+    let mut stops = breaks.iter().copied().chain(std::iter::once(t_end));
+    let mut stop = stops.next().unwrap_or(t_end);
+    solver.set_stop_time(stop)?;
     let mut next = 0;
     let mut consecutive = 0;
     while next < outputs.len() {
@@ -442,7 +465,7 @@ where
                 .system
                 .state_derivative(t_before, y, M::slice_mut(state.dy));
             *state.h = NEGATIVE_STEP_SHRINK * (t - t_before);
-            solver.set_stop_time(t_end)?;
+            solver.set_stop_time(stop)?;
             consecutive += 1;
             *rejections += 1;
             continue;
@@ -458,9 +481,15 @@ where
             }
             next += 1;
         }
-        control.after_step(t, stopped)?;
-        if stopped {
+        let at_end = stopped && stop >= t_end;
+        control.after_step(t, at_end)?;
+        if at_end {
             break;
+        }
+        if stopped {
+            // A break reached: on to the next stop.
+            stop = stops.next().unwrap_or(t_end);
+            solver.set_stop_time(stop)?;
         }
     }
     Ok(())

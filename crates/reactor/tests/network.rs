@@ -646,3 +646,60 @@ fn adiabatic_liquid_tanks_in_series_match_the_energy_balance_construction() {
         inlet = (c, t);
     }
 }
+
+/// A jacketed liquid tank (no heat of reaction) whose jacket U A falls from 4 kW/K to zero
+/// between 2,000 and 2,100 s (`with_ua_history`): before, the temperature relaxes as
+/// `T_ss + (T0 - T_ss) exp(-(q/V + U A/(V rho cp)) t)` with `T_ss` the flow- and
+/// jacket-weighted mean of feed and coolant temperatures; after, as `T_f + (T(t2) - T_f)
+/// exp(-(q/V) (t - t2))` (linear first-order ODE, Newton's law of cooling with a feed;
+/// common practice). The history's points are stops of the solver.
+#[test]
+fn a_network_jacket_whose_ua_is_switched_off_follows_the_two_exponentials() {
+    let kin = kinetics(&["A", "B"], vec![step(&[(0, 1.0)], &[(1, 1.0)], 1e-3)]);
+    let (volume, q, rho_cp, ua) = (1.0, 1e-3, 4e6, 4000.0);
+    let (t_feed, t_coolant, t0) = (320.0, 280.0, 340.0);
+    let coolant = TemperatureHistory::new(vec![0.0], vec![t_coolant]).unwrap();
+    let jacket = HeatExchange::total(ua, coolant)
+        .and_then(|x| x.with_ua_history(vec![0.0, 2000.0, 2100.0], vec![ua, ua, 0.0]))
+        .unwrap();
+    let tanks = vec![NetworkTank::new("vessel", volume, vec![1.0, 0.0], t0)
+        .with_energy(Energy::HeatExchange(jacket))];
+    let streams = vec![
+        feed("vessel", q, vec![1.0, 0.0], t_feed),
+        outlet("vessel", q),
+    ];
+    let liquid = stoik_reactor::LiquidPhase::per_volume(rho_cp, vec![0.0]).unwrap();
+    let net = TankNetwork::new(2, tanks, streams)
+        .unwrap()
+        .with_liquid(liquid);
+    let times = [0.0, 1000.0, 2000.0, 2100.0, 3000.0, 5000.0];
+    let p = simulate_network(
+        &kin,
+        &net,
+        &times,
+        &options(2, 1e-10, 1e-12, LinearAlgebra::Dense),
+    )
+    .unwrap();
+    let temps = &p.tanks[0].temperatures_k;
+    let (a_on, a_off) = (q / volume + ua / (volume * rho_cp), q / volume);
+    let t_ss = (q / volume * t_feed + ua / (volume * rho_cp) * t_coolant) / a_on;
+    for (i, &t) in times.iter().enumerate().take(3) {
+        let expected = t_ss + (t0 - t_ss) * (-a_on * t).exp();
+        assert!(
+            (temps[i] - expected).abs() < 1e-7,
+            "t = {t}: {} vs {expected}",
+            temps[i]
+        );
+    }
+    let t2 = temps[3];
+    // The ramp cools less than a held jacket and more than none.
+    assert!(t2 > t_ss + (t0 - t_ss) * (-a_on * 2100.0).exp());
+    for (i, &t) in times.iter().enumerate().skip(4) {
+        let expected = t_feed + (t2 - t_feed) * (-a_off * (t - 2100.0)).exp();
+        assert!(
+            (temps[i] - expected).abs() < 1e-7,
+            "t = {t}: {} vs {expected}",
+            temps[i]
+        );
+    }
+}

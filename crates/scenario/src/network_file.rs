@@ -54,8 +54,8 @@ use crate::read::{
     SpeciesLookup,
 };
 use crate::sections::{
-    read_output, read_solver, ua_to_w_per_k, volume_to_m3, volumetric_flow_to_m3_per_s, UA_UNITS,
-    VOLUMETRIC_FLOW_UNITS, VOLUME_UNITS,
+    read_output, read_solver, read_ua_history_as, ua_to_w_per_k, volume_to_m3,
+    volumetric_flow_to_m3_per_s, Ua, UA_UNITS, VOLUMETRIC_FLOW_UNITS, VOLUME_UNITS,
 };
 
 const TOP_KEYS: &[&str] = &[
@@ -74,6 +74,7 @@ const TANK_KEYS: &[&str] = &[
     "energy",
     "temperature",
     "jacket_ua",
+    "jacket_ua_history",
     "coolant_temperature",
     "initial",
 ];
@@ -400,16 +401,26 @@ fn read_tank(
         }),
         None => Some("isothermal".to_string()),
     };
-    let jacket_keys = ["jacket_ua", "coolant_temperature"];
+    let jacket_keys = ["jacket_ua", "jacket_ua_history", "coolant_temperature"];
     let energy = match energy_name.as_deref() {
         Some("jacketed") => {
-            let ua = match t.get("jacket_ua") {
-                Some(v) => quantity(r, "jacket_ua", v, "W/K", ua_to_w_per_k, UA_UNITS)
-                    .and_then(|x| require_positive(r, "jacket_ua", v, x)),
-                None => {
+            let ua = match (t.get("jacket_ua"), t.get("jacket_ua_history")) {
+                (Some(v), None) => quantity(r, "jacket_ua", v, "W/K", ua_to_w_per_k, UA_UNITS)
+                    .and_then(|x| require_positive(r, "jacket_ua", v, x))
+                    .map(Ua::Constant),
+                (None, Some(v)) => read_ua_history_as(r, v, "jacket_ua_history"),
+                (Some(_), Some(v)) => {
+                    r.error(
+                        v.span().start,
+                        "give `jacket_ua` or `jacket_ua_history`, not both",
+                        None,
+                    );
+                    None
+                }
+                (None, None) => {
                     r.error(
                         at,
-                        "a jacketed tank needs `jacket_ua` (U A of its jacket)",
+                        "a jacketed tank needs `jacket_ua` (U A of its jacket) or `jacket_ua_history`",
                         Some("e.g. jacket_ua = \"5 kW/K\"".into()),
                     );
                     None
@@ -428,7 +439,11 @@ fn read_tank(
             };
             match (ua, coolant) {
                 (Some(ua), Some(tc)) => TemperatureHistory::new(vec![0.0], vec![tc])
-                    .and_then(|h| HeatExchange::total(ua, h))
+                    .and_then(|h| match ua {
+                        Ua::Constant(ua) => HeatExchange::total(ua, h),
+                        Ua::History(times, values) => HeatExchange::total(values[0], h)
+                            .and_then(|x| x.with_ua_history(times, values)),
+                    })
                     .ok()
                     .map(Energy::HeatExchange),
                 _ => None,

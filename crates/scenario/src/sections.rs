@@ -250,7 +250,7 @@ pub(crate) fn read_reactor(
 /// temperature, fixed (`coolant_temperature`) or as a history
 /// (`coolant_temperature_history`, as `temperature_history`).
 /// A jacket's U A: constant (W/K) or through a history (times in s, U A in W/K).
-enum Ua {
+pub(crate) enum Ua {
     Constant(f64),
     History(Vec<f64>, Vec<f64>),
 }
@@ -259,7 +259,11 @@ enum Ua {
 /// equal lengths, at least one point, the first time 0, times strictly increasing, values
 /// finite and not negative; every problem at its item.
 fn read_ua_history(r: &mut Report<'_>, value: &Value<'_>) -> Option<Ua> {
-    let key = "ua_history";
+    read_ua_history_as(r, value, "ua_history")
+}
+
+/// [`read_ua_history`] for the key `key` (messages name it).
+pub(crate) fn read_ua_history_as(r: &mut Report<'_>, value: &Value<'_>, key: &str) -> Option<Ua> {
     let table = r.table(key, value)?;
     r.check_keys(table, UA_HISTORY_KEYS, key);
     let at = value.span().start;

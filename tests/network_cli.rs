@@ -161,7 +161,6 @@ fn commands_for_single_reactors_refuse_a_network_by_name() {
     let scenario = series_of_three(&dir);
     let s = scenario.to_str().unwrap();
     for (command, args) in [
-        ("batch", vec!["batch", s, "--output-dir", "out"]),
         ("rates", vec!["rates", s, "--species", "A", "--times", "1"]),
         ("flux", vec!["flux", s, "--element", "C", "--time", "1"]),
         ("sensitivity", vec!["sensitivity", s, "--of", "final:A"]),
@@ -189,8 +188,55 @@ fn commands_for_single_reactors_refuse_a_network_by_name() {
         );
         assert!(!stderr.contains("missing [reactor]"), "{command}: {stderr}");
     }
+}
+
+/// `stoik batch` runs a network scenario beside single-reactor ones: its CSV is byte for
+/// byte the one `stoik run` writes; `--temperatures-k` is refused for it, naming the file.
+#[test]
+fn batch_runs_a_network_as_run_does() {
+    let dir = common::scratch("network", "batch");
+    let network = repo().join("mechanisms/tank-train.scenario.toml");
+    let single = repo().join("mechanisms/ozone-flask.scenario.toml");
+    let out = stoik(
+        &[
+            "batch",
+            network.to_str().unwrap(),
+            single.to_str().unwrap(),
+            "--output-dir",
+            "out",
+        ],
+        &dir,
+    );
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let stdout = text(&out.stdout);
+    assert!(stdout.contains("2 runs over"), "{stdout}");
+    assert!(stdout.contains("process-safety review"), "{stdout}");
+    let run = stoik(&["run", network.to_str().unwrap(), "-o", "run.csv"], &dir);
+    assert_eq!(run.status.code(), Some(0), "{}", text(&run.stderr));
+    let batch_csv = std::fs::read(dir.join("out/tank-train.csv")).unwrap();
+    let run_csv = std::fs::read(dir.join("run.csv")).unwrap();
+    assert!(batch_csv == run_csv, "batch and run CSVs differ");
+    assert!(dir.join("out/ozone-flask.csv").exists());
+    let refused = stoik(
+        &[
+            "batch",
+            network.to_str().unwrap(),
+            "--temperatures-k",
+            "300",
+            "--output-dir",
+            "out2",
+        ],
+        &dir,
+    );
+    assert_eq!(refused.status.code(), Some(2));
+    let stderr = text(&refused.stderr);
     assert!(
-        !dir.join("out").exists(),
+        stderr.contains("--temperatures-k does not apply to the network scenario")
+            && stderr.contains("tank-train.scenario.toml"),
+        "{stderr}"
+    );
+    assert!(
+        !dir.join("out2").exists(),
         "a refused batch leaves no folder"
     );
 }

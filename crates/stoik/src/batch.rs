@@ -38,6 +38,116 @@ impl Job {
     }
 }
 
+/// One network scenario of a batch (`[[tank]]`): run on its own (after the single-reactor
+/// runs), written with one column per tank and quantity as `stoik run` writes it.
+struct NetworkJob {
+    scenario: PathBuf,
+    mechanism_path: PathBuf,
+    mechanism: stoik::mechanism::Mechanism,
+    plan: stoik::scenario::NetworkPlan,
+    unit: stoik::mechanism::ConcentrationUnit,
+    output: PathBuf,
+}
+
+/// The network scenarios among `paths`, loaded and resolved (every problem reported); an
+/// error for `--temperatures-k`, which does not apply to them.
+fn network_jobs(args: &BatchArgs, paths: &[&PathBuf]) -> Result<Vec<NetworkJob>, CliError> {
+    if paths.is_empty() {
+        return Ok(Vec::new());
+    }
+    if !args.temperatures_k.is_empty() {
+        return Err(CliError::BadFlag(format!(
+            "--temperatures-k does not apply to the network scenario {} (each [[tank]] has its own temperature); run it in a batch without --temperatures-k",
+            paths[0].display()
+        )));
+    }
+    let mut jobs = Vec::new();
+    let mut errors = Vec::new();
+    for &path in paths {
+        let loaded = stoik::scenario::load_network_scenario(path).and_then(|(scenario, _)| {
+            let file = stoik::mechanism::load_mechanism(&scenario.mechanism_path)?;
+            let plan = scenario.resolve(&file.mechanism)?;
+            Ok((scenario, file, plan))
+        });
+        match loaded {
+            Ok((scenario, file, mut plan)) => {
+                plan.options.non_negative = !args.allow_negative;
+                jobs.push(NetworkJob {
+                    scenario: path.clone(),
+                    mechanism_path: scenario.mechanism_path.clone(),
+                    mechanism: file.mechanism,
+                    unit: scenario.output_concentration_unit,
+                    output: args.output_dir.join(format!("{}.csv", scenario_stem(path))),
+                    plan,
+                });
+            }
+            Err(e) => errors.push(CliError::from(e)),
+        }
+    }
+    match errors.len() {
+        0 => Ok(jobs),
+        1 => Err(errors.remove(0)),
+        _ => Err(CliError::Several(errors)),
+    }
+}
+
+/// Runs one network job and writes its CSV (a failed run its partial profile beside it);
+/// `Ok(true)` when the run completed.
+fn run_network_job(
+    job: &NetworkJob,
+    monitor: &stoik::reactor::RunMonitor,
+) -> Result<bool, CliError> {
+    let kinetics = stoik::kinetics::Kinetics::compile(&job.mechanism)
+        .map_err(|e| CliError::Scenario(stoik::scenario::ScenarioError::Compile(e)))?;
+    let mut options = job.plan.options.clone();
+    options.monitor = Some(monitor.clone());
+    let result = stoik::reactor::simulate_network(
+        &kinetics,
+        &job.plan.network,
+        &job.plan.output_times_s,
+        &options,
+    );
+    let (profiles, failure) = match result {
+        Ok(p) => (p, None),
+        Err(stoik::reactor::NetworkError::Failed {
+            time_s,
+            reason,
+            partial,
+        }) => (*partial, Some((time_s, reason))),
+        Err(e) => {
+            return Err(CliError::BadFlag(format!(
+                "{}: {e}",
+                job.scenario.display()
+            )))
+        }
+    };
+    let target = if failure.is_some() {
+        partial_path(&job.output)
+    } else {
+        job.output.clone()
+    };
+    crate::out_file::write_atomically(&target, |w| {
+        crate::network_run::write_network_csv(
+            w,
+            &job.mechanism,
+            &profiles,
+            job.unit.to_si_factor(),
+            job.unit.label(),
+        )
+    })
+    .map_err(|e: std::io::Error| CliError::write(&target, e))?;
+    if let Some((time_s, reason)) = failure {
+        eprintln!(
+            "{}: integration failed at t = {time_s:e} s: {reason}; partial profile written to {} ({} is left as it was)",
+            job.scenario.display(),
+            target.display(),
+            job.output.display()
+        );
+        return Ok(false);
+    }
+    Ok(true)
+}
+
 /// A temperature as it appears in a CSV name: plain digits between 1e-3 and 1e6 K
 /// (`600`, `612.5`), scientific notation outside (`1e300`), so a name stays short. Both are
 /// the shortest digits that read back as the same `f64`, so two temperatures get the same
@@ -52,10 +162,22 @@ fn temperature_name(t: f64) -> String {
 
 /// Checks every CSV path of the batch (and the partial-profile path of a failed run) before
 /// anything runs: none is an input of a run, none repeats another.
-fn check_outputs(jobs: &[Job]) -> Result<(), CliError> {
+fn check_outputs(jobs: &[Job], networks: &[NetworkJob]) -> Result<(), CliError> {
     let mut outputs = OutputPaths::new();
     for job in jobs {
         record_inputs(&mut outputs, &job.scenario, &job.plan);
+    }
+    for job in networks {
+        outputs.input(&job.scenario);
+        outputs.input(&job.mechanism_path);
+    }
+    for job in networks {
+        let what = format!("--output-dir: the run of {}", job.scenario.display());
+        outputs.output(what.clone(), &job.output)?;
+        outputs.output(
+            format!("{what}, partial profile of a failed run"),
+            &partial_path(&job.output),
+        )?;
     }
     for job in jobs {
         let what = format!("--output-dir: the run of {}", job.source());
@@ -110,17 +232,13 @@ fn plans(args: &BatchArgs) -> Result<Vec<Job>, CliError> {
     let mut errors = Vec::new();
     // A network scenario is a valid file (`stoik check` passes it) that batch cannot run:
     // refuse it by name rather than with the single-reactor reader's complaints.
-    let refusals: Vec<_> = args
+    let singles: Vec<PathBuf> = args
         .scenarios
         .iter()
-        .filter_map(|path| crate::network_refusal(path, "batch"))
+        .filter(|p| !crate::is_network_scenario(p))
+        .cloned()
         .collect();
-    if !refusals.is_empty() {
-        return Err(CliError::Load(stoik::mechanism::LoadError::Invalid {
-            diagnostics: stoik::mechanism::Diagnostics(refusals),
-        }));
-    }
-    for (path, plan) in args.scenarios.iter().zip(load_plans(&args.scenarios)) {
+    for (path, plan) in singles.iter().zip(load_plans(&singles)) {
         let plan = match plan {
             Ok(p) => p,
             Err(e) => {
@@ -162,16 +280,27 @@ fn plans(args: &BatchArgs) -> Result<Vec<Job>, CliError> {
 /// Runs the batch: every run's CSV is written; failed runs are reported as they happen.
 pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
     let started = Instant::now();
-    let jobs = plans(args)?;
+    let network_paths: Vec<&PathBuf> = args
+        .scenarios
+        .iter()
+        .filter(|p| crate::is_network_scenario(p))
+        .collect();
+    // Every problem of the batch at once: those of the single-reactor scenarios and those of
+    // the networks.
+    let (jobs, networks) = match (plans(args), network_jobs(args, &network_paths)) {
+        (Ok(jobs), Ok(networks)) => (jobs, networks),
+        (Err(a), Err(b)) => return Err(CliError::Several(vec![a, b])),
+        (Err(e), _) | (_, Err(e)) => return Err(e),
+    };
     let created = create_output_dir(&args.output_dir)?;
-    if let Err(e) = check_outputs(&jobs) {
+    if let Err(e) = check_outputs(&jobs, &networks) {
         if created {
             // Best effort: leave no empty folder behind a refused batch.
             let _ = std::fs::remove_dir(&args.output_dir);
         }
         return Err(e);
     }
-    let total = jobs.len();
+    let total = jobs.len() + networks.len();
     let bar = if args.quiet {
         ProgressBar::hidden()
     } else {
@@ -264,6 +393,23 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
             Err(e) => return Err(CliError::write(output, e)),
         }
     }
+    // The networks, one after the other (each is one stiff system of all its tanks).
+    for job in &networks {
+        if monitor.is_interrupted() {
+            break;
+        }
+        match bar.suspend(|| run_network_job(job, &monitor)) {
+            Ok(true) => complete += 1,
+            Ok(false) => failures += 1,
+            Err(e @ CliError::Write { .. }) => return Err(e),
+            Err(e) => {
+                bar.suspend(|| eprintln!("{}: {e}", job.scenario.display()));
+                failures += 1;
+                refused += 1;
+            }
+        }
+        bar.inc(1);
+    }
     bar.finish_and_clear();
     if !args.quiet {
         let mechanisms: BTreeSet<*const _> = plans
@@ -272,12 +418,15 @@ pub fn batch(args: &BatchArgs) -> Result<(), CliError> {
             .collect();
         println!(
             "{total} runs over {} mechanism(s) on {} threads: {} failed; CSV files in {}; wall time {:.3} s",
-            mechanisms.len(),
+            mechanisms.len() + networks.len(),
             rayon_threads(),
             failures,
             args.output_dir.display(),
             started.elapsed().as_secs_f64()
         );
+        if !networks.is_empty() {
+            println!("{}", crate::network_run::NETWORK_CAUTION);
+        }
         println!("{CAUTION}");
     }
     if monitor.is_interrupted() {

@@ -342,7 +342,7 @@ impl Kinetics {
     }
 
     /// Multiplies one limit of falloff or chemically activated step `step` by `factor`
-    /// (dimensionless): its pre-exponential factor alone, so that Pr = k0 [M]/kinf (and the
+    /// (dimensionless): its pre-exponential factor alone, so that Pr = k0 \[M\]/kinf (and the
     /// broadening F(Pr)) changes. A reverse rate constant from `kf/Kc` follows the step's
     /// forward rate constant; explicit reverse parameters share the step's pressure factor.
     /// The parameter of [`falloff_limit_rates`](Self::falloff_limit_rates). Returns `false`

@@ -15,8 +15,8 @@ use stoik_reactor::{
 
 #[test]
 fn solver_statistics_read_as_the_summary_line() {
-    // The counts of the hydrogen demo's summary line as README.md shows it ("solver: BDF,
-    // Dense linear algebra; 597 steps, 895 right-hand sides, ...").
+    // Counts of an earlier ozone-flask demo run, in the summary line's layout as README.md
+    // shows it ("solver: BDF, Dense linear algebra; 707 steps, 1818 right-hand sides, ...").
     let stats = SolverStats {
         steps: 597,
         rhs_evaluations: 895,

@@ -97,50 +97,24 @@ fn run_network_job(
     job: &NetworkJob,
     monitor: &stoik::reactor::RunMonitor,
 ) -> Result<bool, CliError> {
-    let kinetics = stoik::kinetics::Kinetics::compile(&job.mechanism)
-        .map_err(|e| CliError::Scenario(stoik::scenario::ScenarioError::Compile(e)))?;
     let mut options = job.plan.options.clone();
     options.monitor = Some(monitor.clone());
-    let result = stoik::reactor::simulate_network(
-        &kinetics,
-        &job.plan.network,
-        &job.plan.output_times_s,
+    let written = crate::network_run::simulate_and_write(
+        &job.mechanism,
+        &job.plan,
         &options,
-    );
-    let (profiles, failure) = match result {
-        Ok(p) => (p, None),
-        Err(stoik::reactor::NetworkError::Failed {
-            time_s,
-            reason,
-            partial,
-        }) => (*partial, Some((time_s, reason))),
-        Err(e) => {
-            return Err(CliError::BadFlag(format!(
-                "{}: {e}",
-                job.scenario.display()
-            )))
-        }
-    };
-    let target = if failure.is_some() {
-        partial_path(&job.output)
-    } else {
-        job.output.clone()
-    };
-    crate::out_file::write_atomically(&target, |w| {
-        crate::network_run::write_network_csv(
-            w,
-            &job.mechanism,
-            &profiles,
-            job.unit.to_si_factor(),
-            job.unit.label(),
-        )
-    })
-    .map_err(|e: std::io::Error| CliError::write(&target, e))?;
-    if let Some((time_s, reason)) = failure {
+        job.unit,
+        &job.output,
+    )
+    .map_err(|e| match e {
+        CliError::BadFlag(m) => CliError::BadFlag(format!("{}: {m}", job.scenario.display())),
+        other => other,
+    })?;
+    if let Some((time_s, reason)) = written.failure {
         eprintln!(
             "{}: integration failed at t = {time_s:e} s: {reason}; partial profile written to {} ({} is left as it was)",
             job.scenario.display(),
-            target.display(),
+            written.target.display(),
             job.output.display()
         );
         return Ok(false);

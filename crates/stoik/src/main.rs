@@ -659,7 +659,7 @@ fn not_a_network(path: &std::path::Path, command: &str) -> Result<(), error::Cli
 }
 
 /// The located refusal of a network scenario by `stoik command`; `None` for any other file.
-pub(crate) fn network_refusal(
+fn network_refusal(
     path: &std::path::Path,
     command: &str,
 ) -> Option<stoik::mechanism::Diagnostic> {

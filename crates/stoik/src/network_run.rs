@@ -10,7 +10,7 @@ use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 use stoik::mechanism::Mechanism;
 use stoik::reactor::{simulate_network, NetworkError, NetworkProfiles};
-use stoik::scenario::load_network_scenario;
+use stoik::scenario::{load_network_scenario, NetworkPlan};
 
 /// The caution printed with every network run, before the general one.
 pub const NETWORK_CAUTION: &str = "Caution: a network of tanks with exothermic reactions and recycles can run away; simulation is no substitute for process-safety review.";
@@ -86,31 +86,17 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
         }
     }
     let started = std::time::Instant::now();
-    let result = simulate_network(
-        &mechanism_file_kinetics(mechanism)?,
-        &plan.network,
-        &plan.output_times_s,
+    let Written {
+        profiles,
+        failure,
+        target,
+    } = simulate_and_write(
+        mechanism,
+        &plan,
         &plan.options,
-    );
-    let unit = scenario.output_concentration_unit;
-    let (profiles, failure) = match result {
-        Ok(p) => (p, None),
-        Err(NetworkError::Failed {
-            time_s,
-            reason,
-            partial,
-        }) => (*partial, Some((time_s, reason))),
-        Err(e) => return Err(CliError::BadFlag(e.to_string())),
-    };
-    let target = if failure.is_some() {
-        partial_path(&output)
-    } else {
-        output.clone()
-    };
-    write_atomically(&target, |w| {
-        write_network_csv(w, mechanism, &profiles, unit.to_si_factor(), unit.label())
-    })
-    .map_err(|e: io::Error| CliError::write(&target, e))?;
+        scenario.output_concentration_unit,
+        &output,
+    )?;
     if !args.quiet {
         for line in summary(
             &scenario.title,
@@ -143,6 +129,57 @@ pub fn run(args: &RunArgs) -> Result<(), CliError> {
             target: output,
         }),
     }
+}
+
+/// A network run and where its CSV went.
+pub struct Written {
+    /// The profiles (up to the failure, for a failed run).
+    pub profiles: NetworkProfiles,
+    /// When and why the run failed, if it did (s, reason).
+    pub failure: Option<(f64, String)>,
+    /// The CSV written: `output`, or its `.partial.csv` beside it for a failed run.
+    pub target: PathBuf,
+}
+
+/// Runs the network of `plan` with `options` and writes its CSV (`write_network_csv`,
+/// atomically) to `output`, or for a failed run its partial profile beside it; `output` is
+/// then left as it was. A bad network is an error (nothing written).
+pub fn simulate_and_write(
+    mechanism: &Mechanism,
+    plan: &NetworkPlan,
+    options: &stoik::reactor::IntegrationOptions,
+    unit: stoik::mechanism::ConcentrationUnit,
+    output: &Path,
+) -> Result<Written, CliError> {
+    let result = simulate_network(
+        &mechanism_file_kinetics(mechanism)?,
+        &plan.network,
+        &plan.output_times_s,
+        options,
+    );
+    let (profiles, failure) = match result {
+        Ok(p) => (p, None),
+        Err(NetworkError::Failed {
+            time_s,
+            reason,
+            partial,
+        }) => (*partial, Some((time_s, reason))),
+        Err(e) => return Err(CliError::BadFlag(e.to_string())),
+    };
+    let target = if failure.is_some() {
+        partial_path(output)
+    } else {
+        output.to_path_buf()
+    };
+    write_atomically(&target, |w| {
+        write_network_csv(w, mechanism, &profiles, unit.to_si_factor(), unit.label())
+    })
+    .map_err(|e: io::Error| CliError::write(&target, e))?;
+    Ok(Written {
+        profiles,
+        failure,
+        target,
+    })
 }
 
 fn mechanism_file_kinetics(mechanism: &Mechanism) -> Result<stoik::kinetics::Kinetics, CliError> {

@@ -659,10 +659,7 @@ fn not_a_network(path: &std::path::Path, command: &str) -> Result<(), error::Cli
 }
 
 /// The located refusal of a network scenario by `stoik command`; `None` for any other file.
-fn network_refusal(
-    path: &std::path::Path,
-    command: &str,
-) -> Option<stoik::mechanism::Diagnostic> {
+fn network_refusal(path: &std::path::Path, command: &str) -> Option<stoik::mechanism::Diagnostic> {
     if !is_network_scenario(path) {
         return None;
     }

@@ -30,6 +30,7 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Result<Kinetics, CompileError> {
         forward_orders: RowLists::new(),
         reverse_orders: RowLists::new(),
         net: RowLists::new(),
+        species_terms: RowLists::new(),
         third_body: Vec::with_capacity(n_steps),
         mixtures: RowLists::new(),
         needs_total: false,
@@ -51,7 +52,29 @@ pub(crate) fn compile(mechanism: &Mechanism) -> Result<Kinetics, CompileError> {
     }
     k.pattern = jacobian_pattern(&k);
     k.entries = entry_positions(&k);
+    k.species_terms = species_terms(&k);
     Ok(k)
+}
+
+/// Per species, the (step, nu) of the steps that change it, in the order in which the
+/// scattered production-rate sums add them: the steps without pressure dependence by index,
+/// then the pressure-dependent ones in the order of `pressure_steps`.
+fn species_terms(k: &Kinetics) -> RowLists<(usize, f64)> {
+    let mut per_species: Vec<Vec<(usize, f64)>> = vec![Vec::new(); k.n_species];
+    let mut is_pressure = vec![false; k.n_steps];
+    k.pressure_steps.iter().for_each(|&j| is_pressure[j] = true);
+    let pressure = k.pressure_steps.iter().copied();
+    let plain = (0..k.n_steps).filter(|&j| !is_pressure[j]);
+    for j in plain.chain(pressure) {
+        for &(s, nu) in k.net.row(j) {
+            per_species[s].push((j, nu));
+        }
+    }
+    let mut rows = RowLists::new();
+    for terms in per_species {
+        rows.push_row(terms);
+    }
+    rows
 }
 
 /// Appends step `j` to every per-step list of `k`.

@@ -60,7 +60,7 @@ pub(crate) struct OrderTerm {
 }
 
 impl OrderTerm {
-    #[inline]
+    #[inline(always)]
     fn power(&self, c: f64) -> f64 {
         match self.integer_order {
             Some(1) => c,
@@ -196,6 +196,11 @@ pub struct Kinetics {
     pub(crate) reverse_orders: RowLists<OrderTerm>,
     /// Per step: the nonzero net stoichiometric changes (species, nu).
     pub(crate) net: RowLists<(usize, f64)>,
+    /// Per species: the (step, nu) of every step that changes it, in the order in which
+    /// [`Kinetics::production_rates_compensated`] adds the terms (steps without pressure
+    /// dependence by index, then `pressure_steps` in their order), so that the gathered sums
+    /// of [`Kinetics::production_rates_and_progress`] are the same numbers.
+    pub(crate) species_terms: RowLists<(usize, f64)>,
     /// Per step: how the factor g of its rate of progress is formed.
     pub(crate) third_body: Vec<ThirdBodyKind>,
     /// Per mixture collider: (species, efficiency - default) where they differ.
@@ -832,7 +837,7 @@ impl Kinetics {
     }
 
     /// Forward and reverse rates without the third-body factor, mol/(m3 s) per M.
-    #[inline]
+    #[inline(always)]
     fn directional_rates(&self, k: &RateConstants, step: usize, c: &[f64]) -> (f64, f64) {
         let mut fwd = k.forward[step];
         for t in self.forward_orders.row(step) {
@@ -999,17 +1004,83 @@ impl Kinetics {
         w.iter_mut().for_each(|x| *x = 0.0);
         carry.iter_mut().for_each(|x| *x = 0.0);
         self.accumulate_production(k, c, |s, x| {
+            // The rounding error of `sum + x`, exactly, by Knuth's branch-free TwoSum (The Art
+            // of Computer Programming, vol. 2, section 4.2.2): the same value as Neumaier's
+            // branch on |sum| >= |x| gives, without a branch the processor mispredicts.
             let sum = w[s];
             let t = sum + x;
-            carry[s] += if sum.abs() >= x.abs() {
-                (sum - t) + x
-            } else {
-                (x - t) + sum
-            };
+            let z = t - sum;
+            carry[s] += (sum - (t - z)) + (x - z);
             w[s] = t;
         });
         for (w, carry) in w.iter_mut().zip(carry.iter()) {
             *w += carry;
+        }
+    }
+
+    /// The net production rates `w` (mol/(m3 s), length `n_species`) with compensated sums,
+    /// the same numbers as [`production_rates_compensated`](Self::production_rates_compensated)
+    /// gives, and the rate of progress of every step `q` (mol/(m3 s), length `n_steps`), at
+    /// rate constants `k` and concentrations `c` (mol/m3). No allocation.
+    ///
+    /// The faster form for integrators: the rates of progress are computed in one pass over
+    /// the steps, then each species' sum is gathered from its own steps with the running sum
+    /// and its rounding error (Neumaier's compensation) held in registers, instead of being
+    /// scattered into two arrays term by term.
+    ///
+    /// # Panics
+    /// When a buffer is shorter than stated or `k` was made for a mechanism of another shape
+    /// (a constant-time check; the message names the argument and the length needed).
+    pub fn production_rates_and_progress(
+        &self,
+        k: &RateConstants,
+        c: &[f64],
+        w: &mut [f64],
+        q: &mut [f64],
+    ) {
+        self.check_call(
+            "production_rates_and_progress",
+            k,
+            &[
+                ("c", c.len(), self.n_species),
+                ("w", w.len(), self.n_species),
+                ("q", q.len(), self.n_steps),
+            ],
+        );
+        let total = self.total_concentration(c);
+        let q = &mut q[..self.n_steps];
+        for (j, qj) in q.iter_mut().enumerate() {
+            let m = match self.third_body[j] {
+                ThirdBodyKind::None => 1.0,
+                ThirdBodyKind::Species(s) => c[s],
+                ThirdBodyKind::Mixture {
+                    default_efficiency,
+                    mixture,
+                } => self.mixture_concentration(default_efficiency, mixture, c, total),
+                ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_) => continue,
+            };
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            *qj = m * (fwd - rev);
+        }
+        for &j in &self.pressure_steps {
+            let (fwd, rev) = self.directional_rates(k, j, c);
+            q[j] = self.pressure_factor(k, j, c, total) * (fwd - rev);
+        }
+        for (wi, terms) in w.iter_mut().zip(self.species_terms.rows()) {
+            let mut sum = 0.0;
+            let mut carry = 0.0;
+            for &(j, nu) in terms {
+                let qj = q[j];
+                if qj != 0.0 {
+                    let x = nu * qj;
+                    // Knuth's branch-free TwoSum: the exact rounding error of `sum + x`.
+                    let t = sum + x;
+                    let z = t - sum;
+                    carry += (sum - (t - z)) + (x - z);
+                    sum = t;
+                }
+            }
+            *wi = sum + carry;
         }
     }
 

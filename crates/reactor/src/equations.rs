@@ -145,7 +145,8 @@ pub(crate) struct BatchEquations<M: Backend> {
     /// Scratch for Jacobian values in state-pattern order, allocated once.
     jac_values: RefCell<Vec<f64>>,
     pub(crate) scratch: RefCell<ModelScratch>,
-    /// Compensation terms of the production-rate sums (one per species).
+    /// Scratch of the right-hand side: the rates of progress of the steps (length
+    /// `max(n_species, n_steps)`).
     carry: RefCell<Vec<f64>>,
     pub(crate) rhs_evaluations: Cell<usize>,
     pub(crate) jacobian_evaluations: Cell<usize>,
@@ -214,7 +215,7 @@ impl<M: Backend> BatchEquations<M> {
             initial,
             jac_values: RefCell::new(vec![0.0; state_pattern.nnz()]),
             scratch: RefCell::new(scratch),
-            carry: RefCell::new(vec![0.0; kinetics.n_species()]),
+            carry: RefCell::new(vec![0.0; rhs_scratch_len(&kinetics)]),
             state_pattern,
             pattern_map,
             kinetics,
@@ -491,7 +492,7 @@ impl<M: Backend> BatchEquations<M> {
         let k = self.rate_constants.borrow();
         let carry = &mut self.carry.borrow_mut();
         if self.is_plain() {
-            self.kinetics.production_rates_compensated(&k, y, f, carry);
+            self.kinetics.production_rates_and_progress(&k, y, f, carry);
         } else {
             self.model_equations()
                 .rhs(&k, t_s, temperature_k, y, f, carry);
@@ -612,7 +613,7 @@ impl<M: Backend> BatchEquations<M> {
                     y.push(v);
                 }
                 let mut f = vec![0.0; y.len()];
-                let mut carry = vec![0.0; c.len()];
+                let mut carry = vec![0.0; rhs_scratch_len(&self.kinetics)];
                 let mut k = self.kinetics.rate_constants(temperature_k);
                 self.model.conditions.apply_photolysis(t_s, &mut k.forward);
                 self.model_equations()
@@ -629,7 +630,7 @@ impl<M: Backend> BatchEquations<M> {
         let n = self.kinetics.n_species();
         let temperature_k = self.model.temperature(t_s, y, n, self.held_k.get());
         let mut f = vec![0.0; y.len()];
-        let mut carry = vec![0.0; n];
+        let mut carry = vec![0.0; rhs_scratch_len(&self.kinetics)];
         let mut k = self.kinetics.rate_constants(temperature_k);
         self.model.conditions.apply_photolysis(t_s, &mut k.forward);
         self.model_equations()
@@ -875,4 +876,10 @@ impl<M: Backend> OdeEquations for BatchEquations<M> {
     }
     fn set_params(&mut self, _p: &Self::V) {}
     fn get_params(&self, _p: &mut Self::V) {}
+}
+
+/// Length of the scratch the right-hand side needs ([`ModelEquations::rhs`]): the rates of
+/// progress of the steps, and at least one entry per species.
+pub(crate) fn rhs_scratch_len(kinetics: &Kinetics) -> usize {
+    kinetics.n_species().max(kinetics.n_steps())
 }

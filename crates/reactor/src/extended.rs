@@ -199,7 +199,7 @@ impl ModelEquations<'_> {
         let m = self.model.n_states(n);
         let c = &y[..n];
         self.kinetics
-            .production_rates_compensated(k, c, &mut f[..n], carry);
+            .production_rates_and_progress(k, c, &mut f[..n], carry);
         let volume = self.model.volume(y, n);
         let temperature_rate = match &self.model.energy {
             Energy::Isothermal => 0.0,
@@ -559,7 +559,7 @@ mod tests {
             let temp = model.temperature(t_s, y, n, held);
             let k = kinetics.rate_constants(temp);
             let mut out = vec![0.0; m];
-            let mut carry = vec![0.0; n];
+            let mut carry = vec![0.0; kinetics.n_species().max(kinetics.n_steps())];
             eq.rhs(&k, t_s, temp, y, &mut out, &mut carry);
             out
         };

@@ -1108,7 +1108,7 @@ impl ModelEquations<'_> {
 
     /// The state derivative `f = dy/dt` at time `t_s` for state `y`, given the rate
     /// constants `k` at the model temperature `temperature_k`. `carry` is scratch of length
-    /// `n_species` for the compensated sums of the production rates. No allocation.
+    /// `max(n_species, n_steps)` (the steps' rates of progress). No allocation.
     pub fn rhs(
         &self,
         k: &RateConstants,
@@ -1125,7 +1125,7 @@ impl ModelEquations<'_> {
         let n = self.kinetics.n_species();
         let plug = self.plug_terms(y);
         let (c, w) = (&y[..n], &mut f[..n]);
-        self.kinetics.production_rates_compensated(k, c, w, carry);
+        self.kinetics.production_rates_and_progress(k, c, w, carry);
         let temperature_rate = match &self.model.energy {
             Energy::Isothermal => 0.0,
             Energy::Prescribed(history) => history.slope_at(t_s),
@@ -1497,7 +1497,7 @@ mod tests {
                 let temp = model.temperature(t_s, y, n, 1500.0);
                 let k = kinetics.rate_constants(temp);
                 let mut out = vec![0.0; m];
-                let mut carry = vec![0.0; n];
+                let mut carry = vec![0.0; kinetics.n_species().max(kinetics.n_steps())];
                 eq.rhs(&k, t_s, temp, y, &mut out, &mut carry);
                 out
             };
@@ -1576,7 +1576,7 @@ mod tests {
                 };
                 let k = kin.rate_constants(temp);
                 let mut out = vec![0.0; m];
-                let mut carry = vec![0.0; n];
+                let mut carry = vec![0.0; kin.n_species().max(kin.n_steps())];
                 eq.rhs(&k, t_s, temp, &y, &mut out, &mut carry);
                 out
             };

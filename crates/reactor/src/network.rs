@@ -806,7 +806,8 @@ struct Scratch {
     heat_capacity: Vec<f64>,
     numerator: Vec<f64>,
     w: Vec<f64>,
-    carry: Vec<f64>,
+    /// The steps' rates of progress in one tank (mol/(m3 s)), scratch of the right-hand side.
+    progress: Vec<f64>,
     kin_values: Vec<f64>,
     slopes: RateConstants,
     dw_dt: Vec<f64>,
@@ -922,7 +923,7 @@ impl NetworkSystem {
                 heat_capacity: vec![0.0; n_tanks],
                 numerator: vec![0.0; n_tanks],
                 w: vec![0.0; n],
-                carry: vec![0.0; n],
+                progress: vec![0.0; kinetics.n_steps()],
                 kin_values: vec![0.0; kinetics.jacobian_pattern().nnz()],
                 slopes: kinetics.rate_constants(300.0),
                 dw_dt: vec![0.0; n],
@@ -1044,7 +1045,7 @@ impl NetworkSystem {
             let c = &y[o..o + n];
             let fj = &mut f[o..o + n];
             self.kinetics
-                .production_rates_compensated(&rates[j], c, fj, &mut s.carry);
+                .production_rates_and_progress(&rates[j], c, fj, &mut s.progress);
             if tank.solves_energy() {
                 let release: f64 = fj
                     .iter()

@@ -12,6 +12,8 @@
 #   LSODA_RUNS=1000  calls timed by lsoda_robertson.py
 #   BENCH_MECH_DIR, STOIK_SHARED_DIR: as for prepare.sh
 #   SCALE_BIN      an already built scale bench executable (skips the cargo build)
+#   STOIK_SCALE_LOOSEN=4  passed on to the scale bench: stoik requested 4x looser, so that its
+#                  solver works to CVODE's tolerances (comparison at equal solver tolerances)
 # Each alternation: one stoik measurement (a criterion median of 10 samples, or one plain run),
 # then one CVODE run (`cvode_bench MECH.txt klu|dense 1e-6 1e-10 1 y.txt 0`; when that run
 # fails, the case switches to CONSTR=1, the y >= 0 constraint, for every alternation). The

@@ -87,6 +87,23 @@ fn short_production_buffers_are_refused_by_name() {
 }
 
 #[test]
+fn short_progress_buffer_of_the_gathered_rates_is_refused_by_name() {
+    let kin = three_steps();
+    let k = kin.rate_constants(300.0);
+    let n = kin.n_species();
+    let msg = panic_message(|| {
+        let (mut w, mut q) = (vec![0.0; n], [0.0; 2]);
+        kin.production_rates_and_progress(&k, &vec![1.0; n], &mut w, &mut q);
+    });
+    assert!(
+        msg.contains(
+            "Kinetics::production_rates_and_progress: `q` has 2 entries, at least 3 are needed"
+        ),
+        "{msg}"
+    );
+}
+
+#[test]
 fn rate_constants_of_another_mechanism_are_refused() {
     let kin = two_species();
     let other = three_steps();

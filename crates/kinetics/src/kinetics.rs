@@ -1047,25 +1047,7 @@ impl Kinetics {
                 ("q", q.len(), self.n_steps),
             ],
         );
-        let total = self.total_concentration(c);
-        let q = &mut q[..self.n_steps];
-        for (j, qj) in q.iter_mut().enumerate() {
-            let m = match self.third_body[j] {
-                ThirdBodyKind::None => 1.0,
-                ThirdBodyKind::Species(s) => c[s],
-                ThirdBodyKind::Mixture {
-                    default_efficiency,
-                    mixture,
-                } => self.mixture_concentration(default_efficiency, mixture, c, total),
-                ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_) => continue,
-            };
-            let (fwd, rev) = self.directional_rates(k, j, c);
-            *qj = m * (fwd - rev);
-        }
-        for &j in &self.pressure_steps {
-            let (fwd, rev) = self.directional_rates(k, j, c);
-            q[j] = self.pressure_factor(k, j, c, total) * (fwd - rev);
-        }
+        self.for_each_progress(k, c, |j, qj| q[j] = qj);
         for (wi, terms) in w.iter_mut().zip(self.species_terms.rows()) {
             let mut sum = 0.0;
             let mut carry = 0.0;
@@ -1088,9 +1070,22 @@ impl Kinetics {
     /// of progress `q`.
     #[inline(always)]
     fn accumulate_production(&self, k: &RateConstants, c: &[f64], mut add: impl FnMut(usize, f64)) {
+        self.for_each_progress(k, c, |j, q| {
+            if q != 0.0 {
+                for &(s, nu) in self.net.row(j) {
+                    add(s, nu * q);
+                }
+            }
+        });
+    }
+
+    /// Calls `visit(step, q)` with every step's rate of progress `q` (mol/(m3 s)): the plain
+    /// and third-body steps first, by index, in a loop without calls; then the
+    /// pressure-dependent steps in the order of `pressure_steps` (the order the species' term
+    /// lists `species_terms` follow).
+    #[inline(always)]
+    fn for_each_progress(&self, k: &RateConstants, c: &[f64], mut visit: impl FnMut(usize, f64)) {
         let total = self.total_concentration(c);
-        // Plain and third-body steps first, in a loop without calls; the pressure-dependent
-        // steps (skipped here) after it.
         for j in 0..self.n_steps {
             let m = match self.third_body[j] {
                 ThirdBodyKind::None => 1.0,
@@ -1102,21 +1097,11 @@ impl Kinetics {
                 ThirdBodyKind::Falloff(_) | ThirdBodyKind::Table(_) => continue,
             };
             let (fwd, rev) = self.directional_rates(k, j, c);
-            let q = m * (fwd - rev);
-            if q != 0.0 {
-                for &(s, nu) in self.net.row(j) {
-                    add(s, nu * q);
-                }
-            }
+            visit(j, m * (fwd - rev));
         }
         for &j in &self.pressure_steps {
             let (fwd, rev) = self.directional_rates(k, j, c);
-            let q = self.pressure_factor(k, j, c, total) * (fwd - rev);
-            if q != 0.0 {
-                for &(s, nu) in self.net.row(j) {
-                    add(s, nu * q);
-                }
-            }
+            visit(j, self.pressure_factor(k, j, c, total) * (fwd - rev));
         }
     }
 

@@ -145,9 +145,9 @@ pub(crate) struct BatchEquations<M: Backend> {
     /// Scratch for Jacobian values in state-pattern order, allocated once.
     jac_values: RefCell<Vec<f64>>,
     pub(crate) scratch: RefCell<ModelScratch>,
-    /// Scratch of the right-hand side: the rates of progress of the steps (length
-    /// `max(n_species, n_steps)`).
-    carry: RefCell<Vec<f64>>,
+    /// Scratch of the right-hand side: the rates of progress of the steps (mol/(m3 s), one per
+    /// step).
+    progress: RefCell<Vec<f64>>,
     pub(crate) rhs_evaluations: Cell<usize>,
     pub(crate) jacobian_evaluations: Cell<usize>,
     /// Enforce non-negativity in the step acceptance (see `IntegrationOptions::non_negative`).
@@ -215,7 +215,7 @@ impl<M: Backend> BatchEquations<M> {
             initial,
             jac_values: RefCell::new(vec![0.0; state_pattern.nnz()]),
             scratch: RefCell::new(scratch),
-            carry: RefCell::new(vec![0.0; rhs_scratch_len(&kinetics)]),
+            progress: RefCell::new(vec![0.0; kinetics.n_steps()]),
             state_pattern,
             pattern_map,
             kinetics,
@@ -490,12 +490,13 @@ impl<M: Backend> BatchEquations<M> {
         self.rhs_evaluations.set(self.rhs_evaluations.get() + 1);
         let temperature_k = self.rates_for(t_s, y);
         let k = self.rate_constants.borrow();
-        let carry = &mut self.carry.borrow_mut();
+        let progress = &mut self.progress.borrow_mut();
         if self.is_plain() {
-            self.kinetics.production_rates_and_progress(&k, y, f, carry);
+            self.kinetics
+                .production_rates_and_progress(&k, y, f, progress);
         } else {
             self.model_equations()
-                .rhs(&k, t_s, temperature_k, y, f, carry);
+                .rhs(&k, t_s, temperature_k, y, f, progress);
         }
         drop(k);
         self.add_user_rates(t_s, temperature_k, y, f);
@@ -613,11 +614,11 @@ impl<M: Backend> BatchEquations<M> {
                     y.push(v);
                 }
                 let mut f = vec![0.0; y.len()];
-                let mut carry = vec![0.0; rhs_scratch_len(&self.kinetics)];
+                let mut progress = vec![0.0; self.kinetics.n_steps()];
                 let mut k = self.kinetics.rate_constants(temperature_k);
                 self.model.conditions.apply_photolysis(t_s, &mut k.forward);
                 self.model_equations()
-                    .rhs(&k, t_s, temperature_k, &y, &mut f, &mut carry);
+                    .rhs(&k, t_s, temperature_k, &y, &mut f, &mut progress);
                 self.add_user_rates(t_s, temperature_k, &y, &mut f);
                 f[c.len()]
             }
@@ -630,11 +631,11 @@ impl<M: Backend> BatchEquations<M> {
         let n = self.kinetics.n_species();
         let temperature_k = self.model.temperature(t_s, y, n, self.held_k.get());
         let mut f = vec![0.0; y.len()];
-        let mut carry = vec![0.0; rhs_scratch_len(&self.kinetics)];
+        let mut progress = vec![0.0; self.kinetics.n_steps()];
         let mut k = self.kinetics.rate_constants(temperature_k);
         self.model.conditions.apply_photolysis(t_s, &mut k.forward);
         self.model_equations()
-            .rhs(&k, t_s, temperature_k, y, &mut f, &mut carry);
+            .rhs(&k, t_s, temperature_k, y, &mut f, &mut progress);
         self.add_user_rates(t_s, temperature_k, y, &mut f);
         self.model.conditions.apply_to_rhs(&y[..n], &mut f[..n]);
         (temperature_k, f)
@@ -876,10 +877,4 @@ impl<M: Backend> OdeEquations for BatchEquations<M> {
     }
     fn set_params(&mut self, _p: &Self::V) {}
     fn get_params(&self, _p: &mut Self::V) {}
-}
-
-/// Length of the scratch the right-hand side needs ([`ModelEquations::rhs`]): the rates of
-/// progress of the steps, and at least one entry per species.
-pub(crate) fn rhs_scratch_len(kinetics: &Kinetics) -> usize {
-    kinetics.n_species().max(kinetics.n_steps())
 }

@@ -193,13 +193,13 @@ impl ModelEquations<'_> {
         temperature_k: f64,
         y: &[f64],
         f: &mut [f64],
-        carry: &mut [f64],
+        progress: &mut [f64],
     ) {
         let n = self.kinetics.n_species();
         let m = self.model.n_states(n);
         let c = &y[..n];
         self.kinetics
-            .production_rates_and_progress(k, c, &mut f[..n], carry);
+            .production_rates_and_progress(k, c, &mut f[..n], progress);
         let volume = self.model.volume(y, n);
         let temperature_rate = match &self.model.energy {
             Energy::Isothermal => 0.0,
@@ -559,8 +559,8 @@ mod tests {
             let temp = model.temperature(t_s, y, n, held);
             let k = kinetics.rate_constants(temp);
             let mut out = vec![0.0; m];
-            let mut carry = vec![0.0; kinetics.n_species().max(kinetics.n_steps())];
-            eq.rhs(&k, t_s, temp, y, &mut out, &mut carry);
+            let mut progress = vec![0.0; kinetics.n_steps()];
+            eq.rhs(&k, t_s, temp, y, &mut out, &mut progress);
             out
         };
         let largest = values.iter().fold(0.0f64, |a, v| a.max(v.abs()));

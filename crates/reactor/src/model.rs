@@ -1107,8 +1107,8 @@ impl ModelEquations<'_> {
     }
 
     /// The state derivative `f = dy/dt` at time `t_s` for state `y`, given the rate
-    /// constants `k` at the model temperature `temperature_k`. `carry` is scratch of length
-    /// `max(n_species, n_steps)` (the steps' rates of progress). No allocation.
+    /// constants `k` at the model temperature `temperature_k`. `progress` is scratch of length
+    /// `n_steps` (the steps' rates of progress, mol/(m3 s)). No allocation.
     pub fn rhs(
         &self,
         k: &RateConstants,
@@ -1116,16 +1116,17 @@ impl ModelEquations<'_> {
         temperature_k: f64,
         y: &[f64],
         f: &mut [f64],
-        carry: &mut [f64],
+        progress: &mut [f64],
     ) {
         if self.model.is_extended() {
-            self.extended_rhs(k, t_s, temperature_k, y, f, carry);
+            self.extended_rhs(k, t_s, temperature_k, y, f, progress);
             return;
         }
         let n = self.kinetics.n_species();
         let plug = self.plug_terms(y);
         let (c, w) = (&y[..n], &mut f[..n]);
-        self.kinetics.production_rates_and_progress(k, c, w, carry);
+        self.kinetics
+            .production_rates_and_progress(k, c, w, progress);
         let temperature_rate = match &self.model.energy {
             Energy::Isothermal => 0.0,
             Energy::Prescribed(history) => history.slope_at(t_s),
@@ -1497,8 +1498,8 @@ mod tests {
                 let temp = model.temperature(t_s, y, n, 1500.0);
                 let k = kinetics.rate_constants(temp);
                 let mut out = vec![0.0; m];
-                let mut carry = vec![0.0; kinetics.n_species().max(kinetics.n_steps())];
-                eq.rhs(&k, t_s, temp, y, &mut out, &mut carry);
+                let mut progress = vec![0.0; kinetics.n_steps()];
+                eq.rhs(&k, t_s, temp, y, &mut out, &mut progress);
                 out
             };
             let mut worst: f64 = 0.0;
@@ -1576,8 +1577,8 @@ mod tests {
                 };
                 let k = kin.rate_constants(temp);
                 let mut out = vec![0.0; m];
-                let mut carry = vec![0.0; kin.n_species().max(kin.n_steps())];
-                eq.rhs(&k, t_s, temp, &y, &mut out, &mut carry);
+                let mut progress = vec![0.0; kin.n_steps()];
+                eq.rhs(&k, t_s, temp, &y, &mut out, &mut progress);
                 out
             };
             let d = 0.1;

@@ -291,28 +291,7 @@ pub(crate) fn read_ua_history_as(r: &mut Report<'_>, value: &Value<'_>, key: &st
         );
         return None;
     }
-    let mut ok = true;
-    if times[0].0 != 0.0 {
-        r.error(
-            times[0].1,
-            format!("the first time of `{key}` must be 0 s"),
-            None,
-        );
-        ok = false;
-    }
-    for (i, &(t, pos)) in times.iter().enumerate() {
-        if !t.is_finite() || (i > 0 && t <= times[i - 1].0) {
-            r.error(
-                pos,
-                format!(
-                    "`{key}` times must be finite and strictly increasing: {} s",
-                    show_number(t)
-                ),
-                None,
-            );
-            ok = false;
-        }
-    }
+    let mut ok = check_history_times(r, key, &times);
     for &(x, pos) in &values {
         if !(x.is_finite() && x >= 0.0) {
             r.error(
@@ -423,6 +402,34 @@ fn kelvin_difference(value: f64, unit: &str) -> Option<f64> {
     (unit == "K").then_some(value)
 }
 
+/// Checks the time axis of the history `key` (located times in s, at least one): it starts at
+/// 0 s and is finite and strictly increasing. Reports every problem; true when there is none.
+fn check_history_times(r: &mut Report<'_>, key: &str, times: &[(f64, usize)]) -> bool {
+    let mut ok = true;
+    if times[0].0 != 0.0 {
+        r.error(
+            times[0].1,
+            format!("the first time of `{key}` must be 0 s"),
+            None,
+        );
+        ok = false;
+    }
+    for (i, &(t, pos)) in times.iter().enumerate() {
+        if !t.is_finite() || (i > 0 && t <= times[i - 1].0) {
+            r.error(
+                pos,
+                format!(
+                    "`{key}` times must be finite and strictly increasing: {} s",
+                    show_number(t)
+                ),
+                None,
+            );
+            ok = false;
+        }
+    }
+    ok
+}
+
 /// Reads an array of quantities `key` of `table` (at `at`), each with its byte offset.
 #[allow(clippy::too_many_arguments)]
 pub(crate) fn located_list(
@@ -493,28 +500,7 @@ fn read_history(r: &mut Report<'_>, key: &str, value: &Value<'_>) -> Option<Temp
         );
         return None;
     }
-    let mut ok = true;
-    if times[0].0 != 0.0 {
-        r.error(
-            times[0].1,
-            format!("the first time of `{key}` must be 0 s"),
-            None,
-        );
-        ok = false;
-    }
-    for (i, &(t, pos)) in times.iter().enumerate() {
-        if !t.is_finite() || (i > 0 && t <= times[i - 1].0) {
-            r.error(
-                pos,
-                format!(
-                    "`{key}` times must be finite and strictly increasing: {} s",
-                    show_number(t)
-                ),
-                None,
-            );
-            ok = false;
-        }
-    }
+    let mut ok = check_history_times(r, key, &times);
     for &(x, pos) in &temperatures {
         if require_in_range(r, "temperature", pos, x, TEMPERATURE_RANGE_K, "K").is_none() {
             ok = false;

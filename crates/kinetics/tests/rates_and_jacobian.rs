@@ -2,7 +2,7 @@
 //! Robertson right-hand side and Jacobian, and central finite differences on random mechanisms.
 
 use proptest::prelude::*;
-use stoik_kinetics::Kinetics;
+use stoik_kinetics::{Kinetics, RateConstants};
 use stoik_mechanism::{Arrhenius, Mechanism, Species, Step, StoichTerm, ThirdBody};
 
 fn species(name: &str) -> Species {
@@ -252,6 +252,20 @@ proptest! {
     }
 }
 
+/// The production rates and rates of progress computed both ways: gathered
+/// (`production_rates_and_progress`) as `(w, q)`, and scattered with compensation plus
+/// `rates_of_progress` as `(scattered, progress)`.
+fn gathered_and_scattered(kinetics: &Kinetics, k: &RateConstants, c: &[f64]) -> [Vec<f64>; 4] {
+    let (n, m) = (kinetics.n_species(), kinetics.n_steps());
+    let (mut w, mut q) = (vec![0.0; n], vec![f64::NAN; m]);
+    kinetics.production_rates_and_progress(k, c, &mut w, &mut q);
+    let (mut scattered, mut carry) = (vec![0.0; n], vec![0.0; n]);
+    kinetics.production_rates_compensated(k, c, &mut scattered, &mut carry);
+    let mut progress = vec![0.0; m];
+    kinetics.rates_of_progress(k, c, &mut progress);
+    [w, q, scattered, progress]
+}
+
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(300))]
 
@@ -264,12 +278,7 @@ proptest! {
         let kinetics = Kinetics::compile(&mechanism).unwrap();
         let (n, m) = (kinetics.n_species(), kinetics.n_steps());
         let k = kinetics.rate_constants(1000.0);
-        let (mut w, mut q) = (vec![0.0; n], vec![f64::NAN; m]);
-        kinetics.production_rates_and_progress(&k, &c, &mut w, &mut q);
-        let (mut scattered, mut carry) = (vec![0.0; n], vec![0.0; n]);
-        kinetics.production_rates_compensated(&k, &c, &mut scattered, &mut carry);
-        let mut progress = vec![0.0; m];
-        kinetics.rates_of_progress(&k, &c, &mut progress);
+        let [w, q, scattered, progress] = gathered_and_scattered(&kinetics, &k, &c);
         for j in 0..m {
             prop_assert_eq!(q[j].to_bits(), progress[j].to_bits(), "step {}", j);
         }
@@ -299,12 +308,7 @@ fn gathered_production_rates_of_the_hydrogen_mechanism_are_the_scattered_ones() 
     let c: Vec<f64> = (0..n).map(|i| 0.5 + 0.37 * i as f64).collect();
     for temperature_k in [800.0, 1200.0, 2400.0] {
         let k = kinetics.rate_constants(temperature_k);
-        let (mut w, mut q) = (vec![0.0; n], vec![0.0; m]);
-        kinetics.production_rates_and_progress(&k, &c, &mut w, &mut q);
-        let (mut scattered, mut carry) = (vec![0.0; n], vec![0.0; n]);
-        kinetics.production_rates_compensated(&k, &c, &mut scattered, &mut carry);
-        let mut progress = vec![0.0; m];
-        kinetics.rates_of_progress(&k, &c, &mut progress);
+        let [w, q, scattered, progress] = gathered_and_scattered(&kinetics, &k, &c);
         for j in 0..m {
             assert_eq!(
                 q[j].to_bits(),
